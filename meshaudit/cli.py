@@ -1,0 +1,187 @@
+"""Command line: a thin layer over :func:`meshaudit.audit` and the output modules.
+
+Exit status: 0 no element fails, 1 some element fails, 2 the input cannot be audited
+(one line on stderr, nothing written).
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from collections.abc import Sequence
+from pathlib import Path
+from typing import TYPE_CHECKING
+
+from . import __version__
+from .errors import MeshAuditError
+
+if TYPE_CHECKING:
+    from .outputs.atomic import Renderer
+    from .report import Report
+
+EXIT_PASS, EXIT_FAIL, EXIT_UNUSABLE = 0, 1, 2
+
+
+class _Parser(argparse.ArgumentParser):
+    """argparse that reports a bad option in one line (and exit status 2)."""
+
+    def error(self, message: str) -> None:  # type: ignore[override]
+        raise MeshAuditError(f"{message} (see '{self.prog} --help')")
+
+
+def _positive_int(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a whole number, got {text!r}") from None
+    if value < 0:
+        raise argparse.ArgumentTypeError(f"expected 0 or more, got {value}")
+    return value
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = _Parser(
+        prog="meshaudit",
+        description="Audit the element quality of a 2-D or shell finite-element mesh.",
+    )
+    parser.add_argument("--version", action="version", version=f"meshaudit {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+
+    check = sub.add_parser(
+        "check",
+        help="audit a mesh and gate on the result",
+        description="Audit a mesh against a quality profile. Exit status "
+        "0: no element fails; 1: some element fails; 2: cannot audit.",
+    )
+    check.add_argument("mesh", help="mesh file (any format meshio reads)")
+    check.add_argument(
+        "--format",
+        dest="file_format",
+        metavar="NAME",
+        help="meshio format name, when the extension does not tell it",
+    )
+    check.add_argument(
+        "--profile",
+        default="standard",
+        metavar="NAME|FILE",
+        help="built-in profile (standard, strict, lenient) or a TOML file",
+    )
+    check.add_argument(
+        "--fail-on",
+        choices=("fail", "warn"),
+        default="fail",
+        help="which element verdict fails the mesh (default: fail)",
+    )
+    check.add_argument(
+        "--top",
+        type=_positive_int,
+        default=10,
+        metavar="N",
+        help="how many of the worst elements to list (default 10)",
+    )
+    check.add_argument("--quiet", action="store_true", help="print only the verdict line")
+    check.add_argument("--json", type=Path, metavar="FILE", help="write the JSON report")
+    check.add_argument("--csv", type=Path, metavar="FILE", help="write one CSV row per element")
+    check.add_argument("--junit", type=Path, metavar="FILE", help="write JUnit XML for CI")
+    check.add_argument(
+        "--all",
+        action="store_true",
+        help="list every element in the JSON report, not only those not ok",
+    )
+
+    sub.add_parser("profiles", help="list the built-in profiles with every limit and its source")
+    return parser
+
+
+def _check(args: argparse.Namespace) -> int:
+    from rich.console import Console
+
+    from .api import audit
+    from .outputs import atomic
+
+    mesh_path = Path(args.mesh)
+    wanted = [
+        (p, kind)
+        for p, kind in ((args.json, "json"), (args.csv, "csv"), (args.junit, "junit"))
+        if p is not None
+    ]
+    dests = [p for p, _ in wanted]
+    if len(set(map(str, dests))) != len(dests):
+        raise MeshAuditError("two reports would be written to the same file")
+    for dest in dests:
+        atomic.check_destination(dest, [mesh_path])
+
+    report = audit(
+        mesh_path, profile=args.profile, file_format=args.file_format, fail_on=args.fail_on
+    )
+
+    outputs: list[tuple[Path, atomic.Renderer]] = []
+    for dest, kind in wanted:
+        outputs.append((dest, _renderer(kind, report, args)))
+    atomic.write_all(outputs)
+
+    from .outputs import terminal
+
+    console = Console(highlight=False)
+    if not console.is_terminal:
+        console = Console(highlight=False, width=120)  # logs read better unwrapped
+    terminal.render(report, console, top=args.top, quiet=args.quiet)
+    return EXIT_PASS if report.passed else EXIT_FAIL
+
+
+def _renderer(kind: str, report: Report, args: argparse.Namespace) -> Renderer:
+    from .outputs import atomic, csv_report, json_report, junit_report
+
+    if kind == "json":
+        return lambda p: atomic.write_text(p, json_report.render(report, args.all))
+    if kind == "csv":
+        return lambda p: atomic.write_text(p, csv_report.render(report))
+    return lambda p: atomic.write_text(p, junit_report.render(report))
+
+
+def _profiles() -> int:
+    from rich.console import Console
+    from rich.table import Table
+
+    from .metrics import METRIC_INFO
+    from .profiles import BUILTIN
+
+    console = Console(highlight=False)
+    for prof in BUILTIN.values():
+        t = Table(title=f"{prof.name}: {prof.description}", title_justify="left")
+        for col in ("family", "metric", "worse when", "warn", "fail", "source"):
+            t.add_column(col)
+        for family, limits in prof.limits.items():
+            for metric, lim in limits.items():
+                worse = "above" if METRIC_INFO[metric].worse == "high" else "below"
+                t.add_row(family, metric, worse, f"{lim.warn:g}", f"{lim.fail:g}", lim.source)
+        console.print(t)
+    return EXIT_PASS
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Entry point of the ``meshaudit`` console script; returns the exit status."""
+    parser = build_parser()
+    try:
+        args = parser.parse_args(argv)
+        if args.command == "check":
+            return _check(args)
+        if args.command == "profiles":
+            return _profiles()
+        parser.print_help()
+        return EXIT_UNUSABLE
+    except MeshAuditError as exc:
+        print(f"meshaudit: error: {exc}", file=sys.stderr)
+        return EXIT_UNUSABLE
+    except KeyboardInterrupt:
+        print("meshaudit: interrupted", file=sys.stderr)
+        return 130
+    except BrokenPipeError:
+        return EXIT_UNUSABLE
+    except Exception as exc:  # never show a traceback to a user
+        print(f"meshaudit: internal error: {type(exc).__name__}: {exc}", file=sys.stderr)
+        return EXIT_UNUSABLE
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

@@ -1,0 +1,68 @@
+"""The element arrays every later stage works on.
+
+``read`` produces an :class:`ElementMesh`: the node coordinates and one
+:class:`ElementBlock` per audited cell block. Nothing here computes a metric.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+from dataclasses import dataclass, field
+
+import numpy as np
+
+#: meshio cell type -> (metric family, number of nodes). The family selects the
+#: metric kernel and the profile limits.
+SUPPORTED_CELLS: dict[str, tuple[str, int]] = {
+    "quad": ("quad", 4),
+    "triangle": ("triangle", 3),
+}
+
+
+@dataclass(frozen=True)
+class ElementBlock:
+    """One block of elements of a single cell type, in file order."""
+
+    cell_type: str
+    connectivity: np.ndarray  # (n, k) int64 node indices into ElementMesh.points
+    ids: np.ndarray  # (n,) int64: the file's element label, else 1-based position
+    index: np.ndarray  # (n,) int64: 0-based position among audited elements
+
+    @property
+    def family(self) -> str:
+        return SUPPORTED_CELLS[self.cell_type][0]
+
+    def __len__(self) -> int:
+        return int(self.connectivity.shape[0])
+
+
+@dataclass
+class ElementMesh:
+    """Node coordinates plus the audited element blocks of one mesh."""
+
+    points: np.ndarray  # (n_points, 3) float64
+    blocks: list[ElementBlock]
+    skipped: dict[str, int] = field(default_factory=dict)  # cell type -> count not audited
+    source: str = "<memory>"
+    cell_sets: dict[str, np.ndarray] = field(default_factory=dict)  # name -> element indices
+
+    @property
+    def n_elements(self) -> int:
+        return sum(len(b) for b in self.blocks)
+
+    @property
+    def n_points(self) -> int:
+        return int(self.points.shape[0])
+
+    def element_counts(self) -> dict[str, int]:
+        counts: dict[str, int] = {}
+        for b in self.blocks:
+            counts[b.cell_type] = counts.get(b.cell_type, 0) + len(b)
+        return counts
+
+    def chunks(self, size: int) -> Iterator[tuple[ElementBlock, slice]]:
+        """Yield (block, slice) pairs covering every element, at most ``size`` per chunk."""
+        for block in self.blocks:
+            n = len(block)
+            for start in range(0, n, size):
+                yield block, slice(start, min(start + size, n))

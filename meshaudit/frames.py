@@ -1,0 +1,98 @@
+"""Where each element is measured: the mesh plane or the element's own best-fit plane.
+
+A mesh whose nodes all share one z (or that has two coordinates) is planar 2-D and is
+measured in x-y, so orientation is against +z: a clockwise element has negative det J.
+A mesh whose nodes all lie in one other plane is measured in that plane, its normal
+chosen to agree with the majority of the elements (with +z preferred when the plane is
+x-y). Anything else is a shell surface: each element is measured in its own best-fit
+plane (normal = its area vector), which has no absolute orientation.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .elements import ElementMesh
+
+#: Relative out-of-plane tolerance (of the mesh extent) under which a mesh is planar.
+PLANAR_TOLERANCE = 1e-9
+
+
+@dataclass(frozen=True)
+class Frame:
+    """How elements of a mesh are laid flat before the 2-D metrics are taken."""
+
+    kind: str  # "planar" or "shell"
+    normal: np.ndarray | None = None  # unit normal of the mesh plane (planar only)
+    axes: np.ndarray | None = None  # (2, 3) in-plane unit axes t1, t2 (planar only)
+
+
+def area_vectors(coords: np.ndarray) -> np.ndarray:
+    """Area vector (normal times area) of each polygon in ``coords`` (n, k, 3), k = 3 or 4.
+
+    For a quad it is half the cross product of the diagonals (Newell's normal), which
+    is the best-fit-plane normal of a warped quad and exact for a planar one.
+    """
+    if coords.shape[1] == 3:
+        return 0.5 * np.cross(coords[:, 1] - coords[:, 0], coords[:, 2] - coords[:, 0])
+    return 0.5 * np.cross(coords[:, 2] - coords[:, 0], coords[:, 3] - coords[:, 1])
+
+
+def _unit(v: np.ndarray) -> np.ndarray:
+    n = np.linalg.norm(v, axis=-1, keepdims=True)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return v / n
+
+
+def _plane_axes(normal: np.ndarray) -> np.ndarray:
+    """Two in-plane unit axes completing ``normal`` to a right-handed frame."""
+    helper = np.array([1.0, 0.0, 0.0]) if abs(normal[0]) < 0.9 else np.array([0.0, 1.0, 0.0])
+    t1 = _unit(np.cross(helper, normal))
+    t2 = np.cross(normal, t1)
+    return np.stack([t1, t2])
+
+
+def choose_frame(mesh: ElementMesh) -> Frame:
+    """Decide whether ``mesh`` is planar (and in which plane) or a shell surface."""
+    used = np.unique(np.concatenate([b.connectivity.ravel() for b in mesh.blocks]))
+    pts = mesh.points[used]
+    if np.ptp(pts[:, 2]) == 0.0:
+        return Frame("planar", np.array([0.0, 0.0, 1.0]), np.eye(3)[:2])
+    extent = float(np.ptp(pts, axis=0).max())
+    centre = pts.mean(axis=0)
+    # Smallest principal direction of the node cloud is the candidate plane normal.
+    sample = pts if len(pts) <= 200_000 else pts[:: len(pts) // 200_000 + 1]
+    _, _, vt = np.linalg.svd(sample - centre, full_matrices=False)
+    normal = vt[-1]
+    out_of_plane = float(np.abs((pts - centre) @ normal).max())
+    if out_of_plane > PLANAR_TOLERANCE * extent:
+        return Frame("shell")
+    if abs(normal[2]) > 1.0 - 1e-9:
+        normal = np.array([0.0, 0.0, 1.0])
+    else:
+        votes = 0.0
+        for block in mesh.blocks:
+            av = area_vectors(mesh.points[block.connectivity[:, :4]])
+            votes += float(np.sign(av @ normal).sum())
+        if votes < 0:
+            normal = -normal
+    return Frame("planar", normal, _plane_axes(normal))
+
+
+def to_local(coords: np.ndarray, frame: Frame) -> np.ndarray:
+    """Lay elements ``coords`` (n, k, 3) flat: (n, k, 2) in-plane coordinates.
+
+    Planar meshes use the mesh plane (origin at each element's centroid); shells use each
+    element's own best-fit plane through its centroid, with its area vector as normal.
+    """
+    centroid = coords.mean(axis=1, keepdims=True)
+    rel = coords - centroid
+    if frame.kind == "planar":
+        return rel @ frame.axes.T
+    normal = _unit(area_vectors(coords))
+    t1 = rel[:, 1] - rel[:, 0]
+    t1 = _unit(t1 - (t1 * normal).sum(axis=1, keepdims=True) * normal)
+    t2 = np.cross(normal, t1)
+    return np.stack([(rel * t1[:, None]).sum(-1), (rel * t2[:, None]).sum(-1)], axis=-1)

@@ -1,0 +1,68 @@
+"""Element quality metrics: pure functions over (n_elements, n_nodes, dim) arrays.
+
+:data:`METRICS` is the machine-readable contract: every report uses these names, in
+this order. Each entry says which direction is worse and what the metric means.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+
+import numpy as np
+
+from . import quad, triangle
+
+
+@dataclass(frozen=True)
+class MetricInfo:
+    name: str
+    worse: str  # "high" (larger is worse), "low" (smaller is worse) or "none" (no limit)
+    unit: str
+    meaning: str
+
+
+METRICS: tuple[MetricInfo, ...] = (
+    MetricInfo("area", "low", "length^2", "surface area of the element"),
+    MetricInfo("det_j_min", "low", "length^2", "smallest det J over the Gauss points"),
+    MetricInfo("det_j_max", "none", "length^2", "largest det J over the Gauss points"),
+    MetricInfo("det_j_corner_min", "low", "length^2", "smallest det J over the corner nodes"),
+    MetricInfo("jacobian_ratio", "high", "1", "largest over smallest Gauss-point det J"),
+    MetricInfo("scaled_jacobian", "low", "1", "Knupp's scaled Jacobian, worst corner"),
+    MetricInfo("aspect_ratio", "high", "1", "Robinson's aspect ratio (triangles: edge/altitude)"),
+    MetricInfo("skew", "high", "deg", "Robinson's skew: principal axes off perpendicular"),
+    MetricInfo("taper", "high", "1", "Robinson's taper"),
+    MetricInfo("warp", "high", "deg", "angle between the planes of the two halves"),
+    MetricInfo("min_angle", "low", "deg", "smallest interior angle"),
+    MetricInfo("max_angle", "high", "deg", "largest interior angle (reflex > 180)"),
+    MetricInfo("condition", "high", "1", "Knupp's condition number, worst corner"),
+    MetricInfo("score", "low", "1", "composite shape score, 1 ideal, 0 invalid"),
+)
+METRIC_NAMES: tuple[str, ...] = tuple(m.name for m in METRICS)
+METRIC_INFO: dict[str, MetricInfo] = {m.name: m for m in METRICS}
+
+#: Validity flags, in report order. Any of them makes an element invalid (fail), except
+#: ``reversed``, which only says why an element is inverted.
+VALIDITY_FLAGS: tuple[str, ...] = (
+    "inverted",
+    "reversed",
+    "nonconvex",
+    "self_intersecting",
+    "degenerate",
+)
+
+Kernel = Callable[[np.ndarray, np.ndarray], tuple[dict[str, np.ndarray], dict[str, np.ndarray]]]
+
+#: Metric family -> kernel taking (coords3 (n, k, 3), local (n, k, 2)).
+KERNELS: dict[str, Kernel] = {"quad": quad.measure, "triangle": triangle.measure}
+
+__all__ = [
+    "KERNELS",
+    "METRICS",
+    "METRIC_INFO",
+    "METRIC_NAMES",
+    "VALIDITY_FLAGS",
+    "MetricInfo",
+    "quad",
+    "triangle",
+]

@@ -1,0 +1,1 @@
+"""Report renderers, one module per output format. The core never prints."""

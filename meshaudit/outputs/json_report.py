@@ -1,0 +1,40 @@
+"""Machine-readable JSON report."""
+
+from __future__ import annotations
+
+import json
+from typing import Any
+
+import numpy as np
+
+from .. import __version__
+from ..report import Report
+
+#: Bump when a field is renamed or removed; adding fields keeps the version.
+SCHEMA = "meshaudit.report/1"
+
+
+def to_dict(report: Report, every_element: bool = False) -> dict[str, Any]:
+    """The JSON document as a dict: summary, profile, verdict, counts, statistics, elements.
+
+    Elements are the non-ok ones (worst first) unless ``every_element``; then all of them
+    in read order. Non-finite numbers are written as null.
+    """
+    rows = report.index if every_element else report.worst(only_flagged=True)
+    return {
+        "schema": SCHEMA,
+        "tool": {"name": "meshaudit", "version": __version__},
+        "summary": report.summary.to_dict(),
+        "profile": report.profile.to_dict(),
+        "fail_on": report.fail_on,
+        "verdict": "pass" if report.passed else "fail",
+        "counts": report.verdict_counts(),
+        "flag_counts": report.flag_counts(),
+        "statistics": report.statistics(),
+        "elements_listed": "all" if every_element else "not ok",
+        "elements": [report.element_record(int(i)) for i in np.asarray(rows)],
+    }
+
+
+def render(report: Report, every_element: bool = False) -> str:
+    return json.dumps(to_dict(report, every_element), indent=1, allow_nan=False) + "\n"

@@ -1,0 +1,84 @@
+"""JUnit XML for CI systems: one test case per rule.
+
+Rules are the validity checks (one per flag kind) and every limit of the profile for the
+element families present. A fail-limit rule fails when any element is past it; a
+warn-limit rule fails only when the audit runs with ``fail_on="warn"`` (otherwise it
+passes and reports its count in system-out), so the XML agrees with the exit status.
+"""
+
+from __future__ import annotations
+
+import xml.etree.ElementTree as ET
+
+import numpy as np
+
+from ..metrics import METRIC_INFO
+from ..report import Report
+from ..verdicts import FAIL, INVALID_FLAGS, WARN
+
+#: How many element ids a failure message names.
+WORST_IDS = 10
+
+
+def _ids(report: Report, mask: np.ndarray, key: np.ndarray | None = None) -> str:
+    rows = np.flatnonzero(mask)
+    if key is not None:
+        rows = rows[np.argsort(key[rows], kind="stable")]
+    shown = ", ".join(str(int(report.ids[r])) for r in rows[:WORST_IDS])
+    more = f" and {rows.size - WORST_IDS} more" if rows.size > WORST_IDS else ""
+    return shown + more
+
+
+def _case(suite: ET.Element, classname: str, name: str, failed: bool, message: str) -> None:
+    case = ET.SubElement(suite, "testcase", classname=classname, name=name, time="0")
+    if failed:
+        node = ET.SubElement(case, "failure", message=message, type="meshaudit")
+        node.text = message
+    else:
+        ET.SubElement(case, "system-out").text = message
+
+
+def render(report: Report) -> str:
+    source = report.summary.source
+    suite = ET.Element("testsuite", name=f"meshaudit {source}")
+    for flag in INVALID_FLAGS:
+        mask = report.flag(flag)
+        n = int(mask.sum())
+        msg = f"{n} element(s) {flag.replace('_', '-')}" + (
+            f"; ids: {_ids(report, mask)}" if n else ""
+        )
+        _case(suite, "meshaudit.validity", f"no {flag} elements", n > 0, msg)
+    warn_fails = report.fail_on == "warn"
+    for f_code, family in enumerate(report.cell_families):
+        in_family = report.families == f_code
+        for metric, limit in report.profile.limits.get(family, {}).items():
+            worse = METRIC_INFO[metric].worse
+            sign = "<=" if worse == "high" else ">="
+            values = report.metrics[metric]
+            key = -values if worse == "high" else values
+            lvl = report.levels.get(metric, np.zeros(len(report), dtype=np.int8))
+            for kind, code, threshold in (("fail", FAIL, limit.fail), ("warn", WARN, limit.warn)):
+                if threshold is None:
+                    continue
+                mask = in_family & (lvl >= code)
+                n = int(mask.sum())
+                name = f"{family} {metric} {sign} {threshold:g} ({kind} limit)"
+                msg = f"{n} {family} element(s) past the {kind} limit"
+                if n:
+                    msg += f"; worst ids: {_ids(report, mask, key)}"
+                _case(
+                    suite,
+                    f"meshaudit.{family}",
+                    name,
+                    n > 0 and (kind == "fail" or warn_fails),
+                    msg,
+                )
+    cases = suite.findall("testcase")
+    suite.set("tests", str(len(cases)))
+    suite.set("failures", str(sum(1 for c in cases if c.find("failure") is not None)))
+    suite.set("errors", "0")
+    suite.set("skipped", "0")
+    root = ET.Element("testsuites", name="meshaudit")
+    root.append(suite)
+    ET.indent(root)
+    return '<?xml version="1.0" encoding="UTF-8"?>\n' + ET.tostring(root, encoding="unicode") + "\n"

@@ -1,0 +1,116 @@
+"""Terminal rendering with rich: summary, metric distributions, worst elements, verdict."""
+
+from __future__ import annotations
+
+import math
+
+from rich.console import Console, Group
+from rich.table import Table
+from rich.text import Text
+
+from ..metrics import METRIC_INFO, METRIC_NAMES
+from ..report import PERCENTILES, Report
+
+
+def _fmt(x: float | None) -> str:
+    if x is None:
+        return "-"
+    if math.isinf(x):
+        return "inf" if x > 0 else "-inf"
+    if math.isnan(x):
+        return "-"
+    return f"{x:.4g}"
+
+
+def verdict_line(report: Report) -> Text:
+    counts = report.verdict_counts()
+    n = len(report)
+    word = "PASS" if report.passed else "FAIL"
+    gate = "warn" if report.fail_on == "warn" else "fail"
+    text = Text()
+    text.append(word, style="bold reverse" if not report.passed else "bold")
+    text.append(
+        f"  {report.summary.source}: {counts['fail']} of {n} elements fail, "
+        f"{counts['warn']} warn, {counts['ok']} ok; profile {report.profile.name}, "
+        f"gate on {gate}"
+    )
+    return text
+
+
+def summary_table(report: Report) -> Table:
+    s = report.summary
+    t = Table(title="Mesh", show_header=False, title_justify="left", box=None, pad_edge=False)
+    t.add_column(style="bold")
+    t.add_column()
+    t.add_row("file", s.source)
+    t.add_row("nodes", f"{s.n_points:,}")
+    t.add_row("elements", ", ".join(f"{v:,} {k}" for k, v in s.element_counts.items()))
+    t.add_row("skipped cells", ", ".join(f"{v:,} {k}" for k, v in s.skipped.items()) or "none")
+    geometry = (
+        "planar (orientation against the plane normal)"
+        if s.frame == "planar"
+        else ("shell surface in 3-D (each element in its own best-fit plane)")
+    )
+    t.add_row("geometry", geometry)
+    t.add_row("profile", f"{report.profile.name} ({report.profile.origin})")
+    flags = report.flag_counts()
+    t.add_row("flags", ", ".join(f"{k} {v}" for k, v in flags.items()) or "none")
+    return t
+
+
+def distribution_table(report: Report) -> Table:
+    stats = report.statistics()
+    t = Table(title="Metric distribution", title_justify="left")
+    t.add_column("metric")
+    t.add_column("unit")
+    for key, _ in PERCENTILES:
+        t.add_column(key, justify="right")
+    t.add_column("past warn", justify="right")
+    t.add_column("past fail", justify="right")
+    for name in METRIC_NAMES:
+        st = stats[name]
+        if st["count"] == 0 and st["infinite"] == 0:
+            continue
+        cells = [_fmt(st[key]) for key, _ in PERCENTILES]
+        if st["infinite"]:
+            cells[-1] = f"inf ({st['infinite']})"
+        t.add_row(name, METRIC_INFO[name].unit, *cells, str(st["past_warn"]), str(st["past_fail"]))
+    return t
+
+
+def worst_table(report: Report, top: int) -> Table | None:
+    rows = report.worst(top)
+    if rows.size == 0:
+        return None
+    t = Table(
+        title=f"Worst elements (top {rows.size} of {int((report.verdict > 0).sum())} not ok)",
+        title_justify="left",
+    )
+    for col in ("id", "type", "verdict", "score", "flags", "breached (value / limit)"):
+        t.add_column(col, justify="right" if col in ("id", "score") else "left")
+    for i in rows:
+        rec = report.breached(int(i))
+        breached = ", ".join(f"{m} {_fmt(v)}/{_fmt(lim)}" for m, (v, _lvl, lim) in rec.items())
+        validity = [f for f in report.flags_of(int(i)) if f not in rec]
+        t.add_row(
+            str(int(report.ids[i])),
+            report.cell_types[int(report.type_codes[i])],
+            report.verdict_names[i],
+            _fmt(float(report.score[i])),
+            ", ".join(validity) or "-",
+            breached or "-",
+        )
+    return t
+
+
+def render(report: Report, console: Console, top: int = 10, quiet: bool = False) -> None:
+    """Print the report; with ``quiet`` only the one-line verdict."""
+    if quiet:
+        console.print(verdict_line(report), soft_wrap=True)
+        return
+    parts = [summary_table(report), Text(), distribution_table(report)]
+    worst = worst_table(report, top) if top > 0 else None
+    if worst is not None:
+        parts += [Text(), worst]
+    parts += [Text(), verdict_line(report)]
+    console.print(Group(*parts))

@@ -1,0 +1,158 @@
+"""Read a mesh file (or take a meshio mesh) and build the element arrays.
+
+All file I/O goes through meshio. meshio's own console warnings are captured so they
+never reach the user's terminal; they are returned as reader notes instead.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import io
+import os
+import warnings
+from pathlib import Path
+from typing import TYPE_CHECKING, Any
+
+import numpy as np
+
+from .elements import SUPPORTED_CELLS, ElementBlock, ElementMesh
+from .errors import InputError
+
+if TYPE_CHECKING:
+    import meshio
+
+#: Extensions meshio recognises that meshaudit documents and tests.
+TESTED_EXTENSIONS = (".msh", ".vtu", ".vtk", ".xdmf", ".inp", ".bdf", ".med", ".mesh")
+
+
+def read_meshio(path: str | os.PathLike[str], file_format: str | None = None) -> meshio.Mesh:
+    """Read ``path`` with meshio, turning every failure into an :class:`InputError`.
+
+    Returns the meshio mesh; meshio's console chatter is swallowed.
+    """
+    import meshio
+
+    p = Path(path)
+    if not p.exists():
+        raise InputError(f"{p}: no such file")
+    if p.is_dir():
+        raise InputError(f"{p}: is a directory, not a mesh file")
+    if not os.access(p, os.R_OK):
+        raise InputError(f"{p}: permission denied")
+    if p.stat().st_size == 0:
+        raise InputError(f"{p}: file is empty")
+    sink = io.StringIO()
+    try:
+        with (
+            warnings.catch_warnings(),
+            contextlib.redirect_stdout(sink),
+            contextlib.redirect_stderr(sink),
+        ):
+            warnings.simplefilter("ignore")
+            mesh = meshio.read(p, file_format=file_format)
+    except InputError:
+        raise
+    except meshio.ReadError as exc:
+        raise InputError(f"{p}: cannot read mesh: {_one_line(exc)}") from None
+    except ImportError as exc:
+        raise InputError(f"{p}: reading this format needs a missing library: {exc.name}") from None
+    except MemoryError:
+        raise InputError(f"{p}: not enough memory to read this mesh") from None
+    except Exception as exc:  # corrupt files make format readers fail in many ways
+        kind = type(exc).__name__
+        raise InputError(
+            f"{p}: cannot read mesh (corrupt or not a mesh file: {kind}: {_one_line(exc)})"
+        ) from None
+    return mesh
+
+
+def _one_line(exc: BaseException) -> str:
+    text = " ".join(str(exc).split())
+    return text[:200] if text else type(exc).__name__
+
+
+def _cell_labels(mesh: Any, block_no: int, n: int) -> np.ndarray | None:
+    """The file's own element labels for a block, where the reader kept them."""
+    ids = getattr(mesh, "cells_id", None)  # meshio's Nastran reader
+    if ids is not None and block_no < len(ids) and len(ids[block_no]) == n:
+        return np.asarray(ids[block_no], dtype=np.int64)
+    for key in ("element_id", "element_ids", "cell_id", "ids"):
+        data = mesh.cell_data.get(key)
+        if data is not None and block_no < len(data) and len(data[block_no]) == n:
+            arr = np.asarray(data[block_no])
+            if np.issubdtype(arr.dtype, np.integer):
+                return arr.astype(np.int64)
+    return None
+
+
+def build_elements(mesh: meshio.Mesh, source: str = "<memory>") -> ElementMesh:
+    """Turn a meshio mesh into validated element arrays.
+
+    Raises :class:`InputError` for non-finite coordinates, out-of-range connectivity and
+    meshes without any supported element.
+    """
+    points = np.asarray(mesh.points)
+    if points.ndim != 2 or points.shape[1] not in (2, 3):
+        raise InputError(f"{source}: points must have 2 or 3 coordinates")
+    if not np.issubdtype(points.dtype, np.number):
+        raise InputError(f"{source}: point coordinates are not numbers")
+    points = points.astype(np.float64, copy=False)
+    if points.shape[1] == 2:
+        points = np.hstack([points, np.zeros((points.shape[0], 1))])
+    n_points = points.shape[0]
+
+    blocks: list[ElementBlock] = []
+    skipped: dict[str, int] = {}
+    position = 0
+    labels_seen = False
+    raw_blocks: list[tuple[str, np.ndarray, np.ndarray | None]] = []
+    for block_no, cells in enumerate(mesh.cells):
+        cell_type = cells.type
+        data = np.asarray(cells.data)
+        if cell_type not in SUPPORTED_CELLS:
+            skipped[cell_type] = skipped.get(cell_type, 0) + len(data)
+            continue
+        k = SUPPORTED_CELLS[cell_type][1]
+        if data.ndim != 2 or data.shape[1] != k:
+            raise InputError(f"{source}: {cell_type} block {block_no} does not have {k} nodes")
+        if len(data) == 0:
+            continue
+        if not np.issubdtype(data.dtype, np.integer):
+            raise InputError(f"{source}: {cell_type} connectivity is not integer")
+        labels = _cell_labels(mesh, block_no, len(data))
+        labels_seen |= labels is not None
+        raw_blocks.append((cell_type, data.astype(np.int64, copy=False), labels))
+
+    for cell_type, conn, labels in raw_blocks:
+        n = len(conn)
+        lo, hi = int(conn.min()), int(conn.max())
+        if lo < 0 or hi >= n_points:
+            bad = lo if lo < 0 else hi
+            raise InputError(
+                f"{source}: {cell_type} connectivity refers to node {bad}, "
+                f"but the mesh has nodes 0..{n_points - 1}"
+            )
+        index = np.arange(position, position + n, dtype=np.int64)
+        ids = labels if (labels is not None and labels_seen) else index + 1
+        blocks.append(ElementBlock(cell_type, conn, ids, index))
+        position += n
+
+    if not blocks:
+        found = ", ".join(f"{v} {k}" for k, v in skipped.items()) or "no cells"
+        raise InputError(
+            f"{source}: no supported elements (quad, triangle) to audit; found {found}"
+        )
+    used = np.unique(np.concatenate([b.connectivity.ravel() for b in blocks]))
+    if not np.isfinite(points[used]).all():
+        raise InputError(f"{source}: node coordinates contain NaN or infinity")
+    return ElementMesh(points=points, blocks=blocks, skipped=skipped, source=source)
+
+
+def load(source: Any, file_format: str | None = None) -> ElementMesh:
+    """Read a path (any format meshio reads) or take a meshio mesh already in memory."""
+    if isinstance(source, (str, os.PathLike)):
+        mesh = read_meshio(source, file_format)
+        return build_elements(mesh, str(source))
+    if hasattr(source, "points") and hasattr(source, "cells"):
+        return build_elements(source)
+    raise InputError(f"cannot audit an object of type {type(source).__name__}")

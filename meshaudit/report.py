@@ -1,0 +1,204 @@
+"""The audit result: per-element arrays plus the mesh summary and the profile used.
+
+The report is plain data; it never prints. Output modules render it.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from .metrics import METRIC_INFO, METRIC_NAMES, VALIDITY_FLAGS
+from .profiles import Profile
+from .verdicts import FAIL, VERDICT_NAMES, WARN
+
+#: Every flag an element can carry, in report order: validity flags, then one flag per
+#: metric whose limit it breached (warn or fail). Bit i of ``Report.flag_bits`` is
+#: ``FLAG_NAMES[i]``.
+FLAG_NAMES: tuple[str, ...] = VALIDITY_FLAGS + tuple(
+    m for m in METRIC_NAMES if METRIC_INFO[m].worse != "none"
+)
+FLAG_BIT: dict[str, int] = {name: i for i, name in enumerate(FLAG_NAMES)}
+
+PERCENTILES = (("min", 0.0), ("p5", 5.0), ("median", 50.0), ("p95", 95.0), ("max", 100.0))
+
+
+@dataclass
+class MeshSummary:
+    source: str
+    n_points: int
+    element_counts: dict[str, int]  # cell type -> number audited
+    skipped: dict[str, int]  # cell type -> number not audited
+    frame: str  # "planar" or "shell"
+    normal: list[float] | None = None
+
+    @property
+    def n_elements(self) -> int:
+        return sum(self.element_counts.values())
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "source": self.source,
+            "nodes": self.n_points,
+            "elements": self.n_elements,
+            "elements_by_type": dict(self.element_counts),
+            "skipped_cells": dict(self.skipped),
+            "geometry": self.frame,
+            "plane_normal": self.normal,
+        }
+
+
+@dataclass
+class Report:
+    """Per-element results of one audit, in read order (index 0..n-1)."""
+
+    summary: MeshSummary
+    profile: Profile
+    ids: np.ndarray  # (n,) int64 element labels
+    cell_types: tuple[str, ...]  # names behind type_codes
+    type_codes: np.ndarray  # (n,) int8 index into cell_types
+    families: np.ndarray  # (n,) int8 index into cell_families
+    cell_families: tuple[str, ...]
+    centroids: np.ndarray  # (n, 3)
+    metrics: dict[str, np.ndarray]  # metric name -> (n,) float64
+    flag_bits: np.ndarray  # (n,) uint32, bit i = FLAG_NAMES[i]
+    levels: dict[str, np.ndarray]  # metric -> (n,) int8 breach level 0/1/2
+    verdict: np.ndarray  # (n,) int8: 0 ok, 1 warn, 2 fail
+    fail_on: str = "fail"  # "fail" or "warn": which verdict fails the mesh
+    notes: list[str] = field(default_factory=list)
+
+    # -- sizes and selections -------------------------------------------------
+    def __len__(self) -> int:
+        return int(self.ids.shape[0])
+
+    @property
+    def index(self) -> np.ndarray:
+        return np.arange(len(self), dtype=np.int64)
+
+    @property
+    def score(self) -> np.ndarray:
+        return self.metrics["score"]
+
+    @property
+    def types(self) -> np.ndarray:
+        """Cell type name of every element (object array of str)."""
+        return np.asarray(self.cell_types, dtype=object)[self.type_codes]
+
+    @property
+    def verdict_names(self) -> np.ndarray:
+        return np.asarray(VERDICT_NAMES, dtype=object)[self.verdict]
+
+    def flag(self, name: str) -> np.ndarray:
+        """Boolean array: which elements carry flag ``name``."""
+        return (self.flag_bits >> np.uint32(FLAG_BIT[name])) & np.uint32(1) == 1
+
+    def flags_of(self, i: int) -> list[str]:
+        bits = int(self.flag_bits[i])
+        return [name for k, name in enumerate(FLAG_NAMES) if bits >> k & 1]
+
+    def flag_strings(self, sep: str = ";") -> np.ndarray:
+        """Flags of every element joined by ``sep`` (object array), cheap for large meshes."""
+        uniq, inverse = np.unique(self.flag_bits, return_inverse=True)
+        names = [sep.join(n for k, n in enumerate(FLAG_NAMES) if int(u) >> k & 1) for u in uniq]
+        return np.asarray(names, dtype=object)[inverse.ravel()]
+
+    def position_of(self, element_id: int) -> int:
+        """Index of the element labelled ``element_id``; KeyError if none."""
+        hits = np.flatnonzero(self.ids == element_id)
+        if hits.size == 0:
+            raise KeyError(element_id)
+        return int(hits[0])
+
+    # -- verdicts -----------------------------------------------------------------
+    @property
+    def failing(self) -> np.ndarray:
+        """Elements that fail the mesh under ``fail_on``."""
+        return self.verdict >= (WARN if self.fail_on == "warn" else FAIL)
+
+    @property
+    def passed(self) -> bool:
+        return not bool(self.failing.any())
+
+    def verdict_counts(self) -> dict[str, int]:
+        counts = np.bincount(self.verdict, minlength=3)
+        return {name: int(counts[k]) for k, name in enumerate(VERDICT_NAMES)}
+
+    def flag_counts(self) -> dict[str, int]:
+        """How many elements carry each flag (only flags that occur)."""
+        out = {}
+        for name in FLAG_NAMES:
+            c = int(self.flag(name).sum())
+            if c:
+                out[name] = c
+        return out
+
+    def worst(self, n: int | None = None, only_flagged: bool = True) -> np.ndarray:
+        """Indices ordered worst first: by verdict, then by score (lowest first)."""
+        order = np.lexsort((self.score, -self.verdict.astype(np.int16)))
+        if only_flagged:
+            order = order[self.verdict[order] > 0]
+        return order if n is None else order[:n]
+
+    def breached(self, i: int) -> dict[str, tuple[float, str, float | None]]:
+        """Metrics element ``i`` breached: name -> (value, 'warn'|'fail', limit)."""
+        family = self.cell_families[int(self.families[i])]
+        out = {}
+        for metric, lvl in self.levels.items():
+            code = int(lvl[i])
+            if code:
+                lim = self.profile.limit(family, metric)
+                limit = None if lim is None else (lim.fail if code == FAIL else lim.warn)
+                out[metric] = (float(self.metrics[metric][i]), VERDICT_NAMES[code], limit)
+        return out
+
+    # -- statistics -------------------------------------------------------------
+    def statistics(self) -> dict[str, dict[str, Any]]:
+        """Distribution of each metric over the elements where it is defined.
+
+        min, 5th percentile, median, 95th percentile and max (non-finite values such as
+        an infinite condition number count in 'infinite' and are left out of the
+        percentiles), plus how many elements are past warn and past fail.
+        """
+        stats: dict[str, dict[str, Any]] = {}
+        for name in METRIC_NAMES:
+            values = self.metrics[name]
+            finite = values[np.isfinite(values)]
+            entry: dict[str, Any] = {
+                "count": int(finite.size),
+                "infinite": int(np.isinf(values).sum()),
+            }
+            if finite.size:
+                qs = np.percentile(finite, [q for _, q in PERCENTILES])
+                entry.update({k: float(v) for (k, _), v in zip(PERCENTILES, qs)})
+            else:
+                entry.update({k: None for k, _ in PERCENTILES})
+            lvl = self.levels.get(name)
+            entry["past_warn"] = int((lvl == WARN).sum()) if lvl is not None else 0
+            entry["past_fail"] = int((lvl == FAIL).sum()) if lvl is not None else 0
+            stats[name] = entry
+        return stats
+
+    def element_record(self, i: int) -> dict[str, Any]:
+        """Everything about element ``i`` as plain Python values (non-finite -> None)."""
+        return {
+            "index": int(i),
+            "id": int(self.ids[i]),
+            "type": self.cell_types[int(self.type_codes[i])],
+            "verdict": VERDICT_NAMES[int(self.verdict[i])],
+            "score": finite_or_none(self.metrics["score"][i]),
+            "flags": self.flags_of(i),
+            "centroid": [float(c) for c in self.centroids[i]],
+            "metrics": {m: finite_or_none(self.metrics[m][i]) for m in METRIC_NAMES},
+            "breaches": {
+                m: {"value": finite_or_none(v), "level": lvl, "limit": lim}
+                for m, (v, lvl, lim) in self.breached(i).items()
+            },
+        }
+
+
+def finite_or_none(x: Any) -> float | None:
+    """A float, or None for NaN and infinity (JSON has no such numbers)."""
+    x = float(x)
+    return x if np.isfinite(x) else None

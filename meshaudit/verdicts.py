@@ -1,0 +1,47 @@
+"""Judge measured elements against a profile: breach levels per metric and a verdict."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .metrics import METRIC_INFO, VALIDITY_FLAGS
+from .profiles import Limit, Profile
+
+OK, WARN, FAIL = 0, 1, 2
+VERDICT_NAMES: tuple[str, ...] = ("ok", "warn", "fail")
+
+#: Flags that make an element invalid: it fails whatever the profile says.
+INVALID_FLAGS: tuple[str, ...] = tuple(f for f in VALIDITY_FLAGS if f != "reversed")
+
+
+def breach_level(values: np.ndarray, limit: Limit, worse: str) -> np.ndarray:
+    """0 within limits, 1 past the warn limit, 2 past the fail limit (int8, NaN never breaches).
+
+    "Past" is strictly beyond: a value equal to a limit does not breach it.
+    """
+    level = np.zeros(values.shape, dtype=np.int8)
+    for threshold, code in ((limit.warn, WARN), (limit.fail, FAIL)):
+        if threshold is None:
+            continue
+        with np.errstate(invalid="ignore"):
+            past = values > threshold if worse == "high" else values < threshold
+        level = np.maximum(level, np.where(past, np.int8(code), np.int8(0)))
+    return level
+
+
+def judge(
+    family: str, metrics: dict[str, np.ndarray], flags: dict[str, np.ndarray], profile: Profile
+) -> tuple[dict[str, np.ndarray], np.ndarray]:
+    """Breach levels of every limited metric, and the verdict (0 ok, 1 warn, 2 fail)."""
+    n = len(metrics["area"])
+    verdict = np.zeros(n, dtype=np.int8)
+    levels: dict[str, np.ndarray] = {}
+    for metric, limit in profile.limits.get(family, {}).items():
+        lvl = breach_level(metrics[metric], limit, METRIC_INFO[metric].worse)
+        levels[metric] = lvl
+        np.maximum(verdict, lvl, out=verdict)
+    invalid = np.zeros(n, dtype=bool)
+    for name in INVALID_FLAGS:
+        invalid |= flags[name]
+    verdict[invalid] = FAIL
+    return levels, verdict
