@@ -86,11 +86,14 @@ def worst_table(report: Report, top: int) -> Table | None:
         title=f"Worst elements (top {rows.size} of {int((report.verdict > 0).sum())} not ok)",
         title_justify="left",
     )
-    for col in ("id", "type", "verdict", "score", "flags", "breached (value / limit)"):
+    for col in ("id", "type", "verdict", "score", "flags", "past its limit (value, limit, level)"):
         t.add_column(col, justify="right" if col in ("id", "score") else "left")
     for i in rows:
         rec = report.breached(int(i))
-        breached = ", ".join(f"{m} {_fmt(v)}/{_fmt(lim)}" for m, (v, _lvl, lim) in rec.items())
+        breached = ", ".join(
+            f"{m} {_fmt(v)} {'>' if METRIC_INFO[m].worse == 'high' else '<'} {_fmt(lim)} ({lvl})"
+            for m, (v, lvl, lim) in rec.items()
+        )
         validity = [f for f in report.flags_of(int(i)) if f not in rec]
         t.add_row(
             str(int(report.ids[i])),
