@@ -1,0 +1,176 @@
+"""Mesh topology: which elements share an edge, built with sorts, not per-element loops.
+
+Edges run between corner nodes only (a quadratic element's midside node lies on its edge,
+so corner pairs identify the edge for linear and quadratic elements alike). Element
+``e`` with corners c0..c(k-1) traverses its edges c0->c1, c1->c2, ..., c(k-1)->c0 in
+that direction: for a consistently oriented surface two elements sharing an edge
+traverse it in opposite directions.
+
+:func:`edge_table` is the shared helper (free edges, non-manifold edges and orientation
+all start from it); :func:`orientation_groups` splits each connected patch into the
+elements that agree with one another and those that are flipped against them.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .elements import SUPPORTED_CELLS, ElementMesh
+
+#: Corner nodes per metric family: edges join consecutive corners.
+CORNERS_PER_FAMILY = {"quad": 4, "triangle": 3}
+
+
+@dataclass(frozen=True)
+class EdgeTable:
+    """Every element edge once per element using it ("edge uses"), plus undirected edges.
+
+    ``start``/``end`` (m,) are the node indices in the element's traversal direction,
+    ``element`` (m,) the 0-based audited-element index, ``local`` (m,) the edge number
+    within the element (edge i runs from corner i to corner i+1), ``edge`` (m,) the
+    undirected edge number in 0..n_edges-1, ``nodes`` (n_edges, 2) its two nodes
+    (smaller first) and ``uses`` (n_edges,) how many element edges map to it:
+    1 is a free (boundary) edge, 2 an interior edge, 3 or more a non-manifold edge.
+    """
+
+    start: np.ndarray
+    end: np.ndarray
+    element: np.ndarray
+    local: np.ndarray
+    edge: np.ndarray
+    nodes: np.ndarray
+    uses: np.ndarray
+
+    @property
+    def n_edges(self) -> int:
+        return int(self.nodes.shape[0])
+
+    @property
+    def forward(self) -> np.ndarray:
+        """(m,) bool: the use runs from the smaller node to the larger one."""
+        return self.start < self.end
+
+
+def edge_table(mesh: ElementMesh) -> EdgeTable:
+    """Edge uses and undirected edges of every audited element of ``mesh``."""
+    starts, ends, elems, locs = [], [], [], []
+    for block in mesh.blocks:
+        k = CORNERS_PER_FAMILY[SUPPORTED_CELLS[block.cell_type][0]]
+        corners = block.connectivity[:, :k]
+        starts.append(corners.ravel())
+        ends.append(np.roll(corners, -1, axis=1).ravel())
+        elems.append(np.repeat(block.index, k))
+        locs.append(np.tile(np.arange(k, dtype=np.int64), len(block)))
+    start = np.concatenate(starts).astype(np.int64, copy=False)
+    end = np.concatenate(ends).astype(np.int64, copy=False)
+    lo, hi = np.minimum(start, end), np.maximum(start, end)
+    key = lo * np.int64(max(mesh.n_points, 1)) + hi
+    uniq, edge, uses = np.unique(key, return_inverse=True, return_counts=True)
+    n = np.int64(max(mesh.n_points, 1))
+    nodes = np.stack([uniq // n, uniq % n], axis=1)
+    return EdgeTable(
+        start=start,
+        end=end,
+        element=np.concatenate(elems),
+        local=np.concatenate(locs),
+        edge=edge.ravel(),
+        nodes=nodes,
+        uses=uses,
+    )
+
+
+def interior_pairs(table: EdgeTable) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Element pairs across every edge used exactly twice (manifold interior edges).
+
+    Returns (first, second, same_direction): element indices (p,) and whether the two
+    elements traverse the shared edge in the same direction (an orientation clash).
+    Edges with three or more uses are left out: orientation is undefined across them.
+    """
+    two = table.uses[table.edge] == 2
+    uses = np.flatnonzero(two)
+    order = uses[np.argsort(table.edge[uses], kind="stable")]
+    first, second = order[0::2], order[1::2]
+    same = table.forward[first] == table.forward[second]
+    return table.element[first], table.element[second], same
+
+
+def connected_labels(n: int, a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """Connected-component label of each of ``n`` vertices of the graph with edges a-b.
+
+    The label is the smallest vertex index of the component. Vectorised hook-and-compress:
+    each round every root hooks onto the smallest root it touches, then the label trees
+    are flattened by pointer jumping; the number of roots at least halves per round, so
+    the rounds grow with log(n), not with the mesh size.
+    """
+    label = np.arange(n, dtype=np.int64)
+    if a.size == 0:
+        return label
+    while True:
+        ra, rb = label[a], label[b]
+        differ = ra != rb
+        if not differ.any():
+            return label
+        ra, rb = ra[differ], rb[differ]
+        low = np.minimum(ra, rb)
+        hooked = label.copy()
+        np.minimum.at(hooked, ra, low)
+        np.minimum.at(hooked, rb, low)
+        while True:
+            jumped = hooked[hooked]
+            if np.array_equal(jumped, hooked):
+                break
+            hooked = jumped
+        label = hooked
+
+
+@dataclass(frozen=True)
+class OrientationGroups:
+    """Orientation of every element relative to the others in its connected patch.
+
+    ``patch`` (n,) the patch label (smallest element index in the patch), ``sign`` (n,)
+    +1 or -1: elements of one patch with equal sign are consistently oriented,
+    ``flipped`` (n,) bool: the element is in the smaller orientation group of its patch
+    (ties: the group not holding the patch's lowest element index), ``twisted`` (n,) bool:
+    the patch is non-orientable (a Moebius-like band), so no consistent choice exists.
+    """
+
+    patch: np.ndarray
+    sign: np.ndarray
+    flipped: np.ndarray
+    twisted: np.ndarray
+
+
+def orientation_groups(
+    n: int, first: np.ndarray, second: np.ndarray, same: np.ndarray
+) -> OrientationGroups:
+    """Split ``n`` elements into consistently oriented groups from their edge pairs.
+
+    Each element i gets two vertices, i (kept) and n + i (flipped). A pair that agrees
+    links kept-kept and flipped-flipped; a pair that clashes links kept-flipped. After
+    connected components, element i agrees with the elements whose kept vertex shares
+    its component; if i and n + i share one the patch cannot be oriented.
+    """
+    a = np.concatenate([first, first + n])
+    b = np.concatenate([np.where(same, second + n, second), np.where(same, second, second + n)])
+    label = connected_labels(2 * n, a, b)
+    kept, flipped_v = label[:n], label[n:]
+    twisted = kept == flipped_v
+    patch = connected_labels(n, first, second)
+    sign = np.where(kept <= flipped_v, 1, -1).astype(np.int8)
+    # Group sizes per (patch, sign); an element is flipped if its group is the smaller.
+    plus = np.bincount(patch, weights=(sign > 0), minlength=n)
+    minus = np.bincount(patch, weights=(sign < 0), minlength=n)
+    mine = np.where(sign > 0, plus[patch], minus[patch])
+    other = np.where(sign > 0, minus[patch], plus[patch])
+    anchor_sign = sign[patch]
+    flipped = (mine < other) | ((mine == other) & (sign != anchor_sign))
+    flipped &= ~twisted
+    return OrientationGroups(patch=patch, sign=sign, flipped=flipped, twisted=twisted)
+
+
+def flipped_elements(mesh: ElementMesh) -> OrientationGroups:
+    """Orientation groups of the audited elements of ``mesh`` (see :class:`OrientationGroups`)."""
+    first, second, same = interior_pairs(edge_table(mesh))
+    return orientation_groups(mesh.n_elements, first, second, same)
