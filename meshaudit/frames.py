@@ -56,8 +56,10 @@ def _plane_axes(normal: np.ndarray) -> np.ndarray:
 
 def choose_frame(mesh: ElementMesh) -> Frame:
     """Decide whether ``mesh`` is planar (and in which plane) or a shell surface."""
-    used = np.unique(np.concatenate([b.connectivity.ravel() for b in mesh.blocks]))
-    pts = mesh.points[used]
+    z = mesh.points[:, 2]
+    if z.min() == z.max():  # every node in one plane z = const: no need to select nodes
+        return Frame("planar", np.array([0.0, 0.0, 1.0]), np.eye(3)[:2])
+    pts = mesh.points[mesh.used_nodes()]
     if np.ptp(pts[:, 2]) == 0.0:
         return Frame("planar", np.array([0.0, 0.0, 1.0]), np.eye(3)[:2])
     extent = float(np.ptp(pts, axis=0).max())

@@ -142,10 +142,11 @@ def build_elements(mesh: meshio.Mesh, source: str = "<memory>") -> ElementMesh:
         raise InputError(
             f"{source}: no supported elements (quad, triangle) to audit; found {found}"
         )
-    used = np.unique(np.concatenate([b.connectivity.ravel() for b in blocks]))
-    if not np.isfinite(points[used]).all():
+    element_mesh = ElementMesh(points=points, blocks=blocks, skipped=skipped, source=source)
+    # Fast path: all coordinates finite. Else only the nodes an element uses must be.
+    if not np.isfinite(points).all() and not np.isfinite(points[element_mesh.used_nodes()]).all():
         raise InputError(f"{source}: node coordinates contain NaN or infinity")
-    return ElementMesh(points=points, blocks=blocks, skipped=skipped, source=source)
+    return element_mesh
 
 
 def load(source: Any, file_format: str | None = None) -> ElementMesh:
