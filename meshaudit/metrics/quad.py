@@ -131,13 +131,43 @@ def warp(coords3: np.ndarray) -> np.ndarray:
     return np.fmax(angles[0], angles[1])
 
 
-def surface_area(coords3: np.ndarray) -> np.ndarray:
-    """Area of the bilinear surface: 2x2 Gauss rule of |x_xi cross x_eta| (exact when flat)."""
+def gauss_normals(coords3: np.ndarray) -> np.ndarray:
+    """x_xi cross x_eta at the 2x2 Gauss points of quads in 3-D (n, 4, 3): (n, 4, 3)."""
     e = principal_axes(coords3)
     g = QUAD_GAUSS_2X2
     dxi = e[:, None, 1] + e[:, None, 3] * g[None, :, 1, None]
     deta = e[:, None, 2] + e[:, None, 3] * g[None, :, 0, None]
-    return norm(np.cross(dxi, deta)).sum(axis=1)
+    return np.cross(dxi, deta)
+
+
+def surface_area(coords3: np.ndarray) -> np.ndarray:
+    """Area of the bilinear surface of quads in 3-D (n, 4, 3), model units^2.
+
+    See :func:`area_from_normals`: exactly the polygon area of a flat quad, convex or not.
+    """
+    return area_from_normals(gauss_normals(coords3))
+
+
+def area_from_normals(normals: np.ndarray) -> np.ndarray:
+    """Area from the Gauss-point ``normals`` (n, 4, 3): 2x2 Gauss rule of |x_xi cross x_eta|.
+
+    Each point counts with the sign of its normal against the element's area vector, so
+    where the map folds over (a re-entrant quad, whose det J changes sign) the fold is
+    not counted twice: a flat quad gets exactly its polygon area, convex or not (a bow-tie
+    the difference of its two lobes, as the shoelace formula gives); a warped quad the
+    Gauss estimate of its surface area.
+    """
+    facing = np.einsum("ngi,ni->ng", normals, normals.sum(axis=1))
+    return (np.sign(facing) * norm(normals)).sum(axis=1)
+
+
+def swept_area(normals: np.ndarray) -> np.ndarray:
+    """2x2 Gauss rule of |x_xi cross x_eta|: the area the map sweeps, folds counted twice.
+
+    Zero only when the element is collapsed; a bow-tie whose two lobes cancel in
+    :func:`surface_area` still sweeps both, so this is the measure for degeneracy.
+    """
+    return norm(normals).sum(axis=1)
 
 
 def self_intersecting(p: np.ndarray) -> np.ndarray:
@@ -167,7 +197,8 @@ def measure(
     gauss = c0[:, None] + c1[:, None] * QUAD_GAUSS_2X2[:, 0] + c2[:, None] * QUAD_GAUSS_2X2[:, 1]
     corners = c0[:, None] + c1[:, None] * QUAD_CORNERS[:, 0] + c2[:, None] * QUAD_CORNERS[:, 1]
     aspect, skew, taper = shape_parameters(e)
-    area = surface_area(coords3)
+    normals = gauss_normals(coords3)
+    area = area_from_normals(normals)
     warp_deg = warp(coords3)
     a, b = corner_edges(p)
     orientation = np.where(c0 < 0.0, -1.0, 1.0)
@@ -175,7 +206,7 @@ def measure(
     sj = scaled_jacobian(p)
     cond = condition(p)
 
-    collapsed = degenerate(coords3, area)
+    collapsed = degenerate(coords3, swept_area(normals))
     bowtie = self_intersecting(p) & ~collapsed
     scale = np.maximum(norm(a).max(axis=1), 1e-300) ** 2
     negative = corners < -1e-12 * scale[:, None]
