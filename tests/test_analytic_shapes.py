@@ -135,10 +135,15 @@ def test_clockwise_quad_is_inverted_and_reversed():
     assert m["score"] == 0.0 and verdict == "fail"
 
 
-def test_bow_tie_is_self_intersecting():
-    """Analytic: nodes (0,0), (1,1), (1,0), (0,1): edges 1-2 and 3-4 cross at (0.5, 0.5)."""
-    _, flags, verdict = audit_one([[0, 0], [1, 1], [1, 0], [0, 1]])
-    assert "self_intersecting" in flags and verdict == "fail"
+@pytest.mark.parametrize("d", [0.0, 1e-10, 0.3])
+def test_bow_tie_is_self_intersecting(d: float):
+    """Analytic: nodes (0,0), (1,1+d), (1,0), (0,1): edges 1-2 and 3-4 cross. The two
+    lobes have opposite winding, so the shoelace area is their difference, d/2; the
+    element sweeps both lobes and is not collapsed, however close d is to 0."""
+    m, flags, verdict = audit_one([[0, 0], [1, 1 + d], [1, 0], [0, 1]])
+    assert "self_intersecting" in flags and "degenerate" not in flags
+    assert verdict == "fail"
+    assert m["area"] == approx(d / 2)
 
 
 def test_dart_is_nonconvex():

@@ -79,7 +79,12 @@ def test_bow_tie_flag_matches_shapely_validity():
     assert (~valid).sum() > 500 and valid.sum() > 500
     report = _audit(polys, "quad")
     np.testing.assert_array_equal(report.flag("self_intersecting"), ~valid)
+    assert not report.flag("degenerate").any()
     assert (report.verdict_names[~valid] == "fail").all()
+    # shapely's area of a crossed ring is its shoelace value: the difference of the lobes.
+    np.testing.assert_allclose(
+        report.metrics["area"], shapely.area(_shapely_polygons(polys)), rtol=1e-9, atol=1e-12
+    )
 
 
 def test_nonconvex_flag_matches_shapely_convex_hull():
