@@ -119,15 +119,20 @@ def warp(coords3: np.ndarray) -> np.ndarray:
     The quad is split into two triangles along each diagonal in turn; warp is the larger
     of the two angles between the triangles' planes (unsigned, so a planar re-entrant
     quad reads 0). Common practice, no single source.
+
+    The angle is atan2(|na x nb|, |na . nb|) of the two normals, which stays accurate
+    near 0 (an arccos of the cosine resolves only ~1e-6 degrees there). A split with a
+    collapsed triangle has no angle (NaN) and the other split decides.
     """
     x1, x2, x3, x4 = (coords3[:, i] for i in range(4))
     angles = []
     for (a1, a2, a3), (b1, b2, b3) in (((x1, x2, x3), (x1, x3, x4)), ((x2, x3, x4), (x2, x4, x1))):
         na = np.cross(a2 - a1, a3 - a1)
         nb = np.cross(b2 - b1, b3 - b1)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            c = np.abs(np.einsum("ni,ni->n", na, nb)) / (norm(na) * norm(nb))
-        angles.append(np.degrees(np.arccos(np.clip(c, 0.0, 1.0))))
+        sine = norm(np.cross(na, nb))
+        cosine = np.abs(np.einsum("ni,ni->n", na, nb))
+        angle = np.degrees(np.arctan2(sine, cosine))
+        angles.append(np.where(norm(na) * norm(nb) > 0.0, angle, np.nan))
     return np.fmax(angles[0], angles[1])
 
 
