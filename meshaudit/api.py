@@ -10,11 +10,12 @@ import numpy as np
 from .elements import ElementMesh
 from .errors import InputError
 from .frames import Frame, choose_frame, to_local
-from .metrics import KERNELS, METRIC_NAMES, VALIDITY_FLAGS
+from .metrics import KERNELS, METRIC_NAMES, QUADRATIC_CELLS, quadratic
 from .profiles import Profile, load_profile
 from .reading import load
 from .report import FLAG_BIT, MeshSummary, Report
-from .verdicts import judge
+from .topology import flipped_elements
+from .verdicts import WARN, judge
 
 #: Elements measured per kernel call: bounds the temporaries whatever the mesh size.
 CHUNK_SIZE = 200_000
@@ -23,20 +24,42 @@ CHUNK_SIZE = 200_000
 CORNER_COUNT = {"quad": 4, "triangle": 3}
 
 
+def measure_elements(
+    family: str, coords3: np.ndarray, frame: Frame, cell_type: str | None = None
+) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
+    """Metrics and flags of elements of one family (and cell type), nodes ``coords3``.
+
+    The family kernel measures the shape on the corner nodes; a quadratic cell type then
+    gets its own Jacobian part and midside checks on all its nodes.
+    """
+    n_corners = CORNER_COUNT[family]
+    corners = coords3[:, :n_corners]
+    if cell_type in QUADRATIC_CELLS:
+        local = to_local(coords3, frame, n_corners)
+        metrics, flags = KERNELS[family](corners, local[:, :n_corners])
+        return quadratic.measure(cell_type, coords3, local, metrics, flags)
+    metrics, flags = KERNELS[family](corners, to_local(corners, frame))
+    for name in quadratic.MIDSIDE_METRICS:
+        metrics[name] = np.full(len(corners), np.nan)
+    return metrics, flags
+
+
 def measure_chunk(
-    family: str, coords3: np.ndarray, frame: Frame, profile: Profile
+    family: str,
+    coords3: np.ndarray,
+    frame: Frame,
+    profile: Profile,
+    cell_type: str | None = None,
 ) -> tuple[dict[str, np.ndarray], np.ndarray, dict[str, np.ndarray], np.ndarray]:
     """Metrics, flag bits, breach levels and verdicts of one chunk of one family.
 
     Pure: depends only on its arguments, so chunks can be measured in any order or place.
     """
-    corners = coords3[:, : CORNER_COUNT[family]]
-    local = to_local(corners, frame)
-    metrics, flags = KERNELS[family](corners, local)
+    metrics, flags = measure_elements(family, coords3, frame, cell_type)
     levels, verdict = judge(family, metrics, flags, profile)
     bits = np.zeros(len(verdict), dtype=np.uint32)
-    for name in VALIDITY_FLAGS:
-        bits |= flags[name].astype(np.uint32) << np.uint32(FLAG_BIT[name])
+    for name, flag in flags.items():
+        bits |= flag.astype(np.uint32) << np.uint32(FLAG_BIT[name])
     for name, lvl in levels.items():
         bits |= (lvl > 0).astype(np.uint32) << np.uint32(FLAG_BIT[name])
     return metrics, bits, levels, verdict
@@ -66,7 +89,7 @@ def audit_elements(
     for block, sl in mesh.chunks(CHUNK_SIZE):
         rows = block.index[sl]
         coords3 = mesh.points[block.connectivity[sl]]
-        m, b, lv, v = measure_chunk(block.family, coords3, frame, prof)
+        m, b, lv, v = measure_chunk(block.family, coords3, frame, prof, block.cell_type)
         for name in METRIC_NAMES:
             metrics[name][rows] = m[name]
         bits[rows] = b
@@ -77,6 +100,7 @@ def audit_elements(
         type_codes[rows] = cell_types.index(block.cell_type)
         family_codes[rows] = families.index(block.family)
         centroids[rows] = coords3.mean(axis=1)
+    notes = mark_orientation(mesh, frame, bits, verdict)
     summary = MeshSummary(
         source=mesh.source,
         n_points=mesh.n_points,
@@ -99,7 +123,29 @@ def audit_elements(
         levels=levels,
         verdict=verdict,
         fail_on=fail_on,
+        notes=notes,
     )
+
+
+def mark_orientation(
+    mesh: ElementMesh, frame: Frame, bits: np.ndarray, verdict: np.ndarray
+) -> list[str]:
+    """Shells only: flag elements whose normal disagrees with their patch (in place).
+
+    A surface has no absolute orientation, so each connected patch is split into the
+    elements that agree across shared edges; the smaller group gets ``flipped_normal``
+    (verdict at least warn). Planar meshes are judged against the plane normal instead.
+    Returns report notes (e.g. a patch that cannot be oriented at all).
+    """
+    if frame.kind != "shell":
+        return []
+    groups = flipped_elements(mesh)
+    bits |= groups.flipped.astype(np.uint32) << np.uint32(FLAG_BIT["flipped_normal"])
+    verdict[groups.flipped] = np.maximum(verdict[groups.flipped], WARN)
+    twisted = int(groups.twisted.sum())
+    if twisted:
+        return [f"{twisted} elements lie on a patch that cannot be consistently oriented"]
+    return []
 
 
 def audit(

@@ -12,10 +12,14 @@ from dataclasses import dataclass, field
 import numpy as np
 
 #: meshio cell type -> (metric family, number of nodes). The family selects the
-#: metric kernel and the profile limits.
+#: metric kernel and the profile limits; quadratic cell types add their own Jacobian
+#: part (see :mod:`meshaudit.metrics.quadratic`). Node order as in meshio.
 SUPPORTED_CELLS: dict[str, tuple[str, int]] = {
     "quad": ("quad", 4),
     "triangle": ("triangle", 3),
+    "quad8": ("quad", 8),
+    "quad9": ("quad", 9),
+    "triangle6": ("triangle", 6),
 }
 
 

@@ -83,17 +83,21 @@ def choose_frame(mesh: ElementMesh) -> Frame:
     return Frame("planar", normal, _plane_axes(normal))
 
 
-def to_local(coords: np.ndarray, frame: Frame) -> np.ndarray:
+def to_local(coords: np.ndarray, frame: Frame, n_corners: int | None = None) -> np.ndarray:
     """Lay elements ``coords`` (n, k, 3) flat: (n, k, 2) in-plane coordinates.
 
     Planar meshes use the mesh plane (origin at each element's centroid); shells use each
     element's own best-fit plane through its centroid, with its area vector as normal.
+    Only the first ``n_corners`` nodes (default: all) define the centroid and the plane,
+    so a quadratic element's corners land exactly where its linear twin's would; the
+    midside nodes are projected onto that plane.
     """
-    centroid = coords.mean(axis=1, keepdims=True)
+    corners = coords if n_corners is None else coords[:, :n_corners]
+    centroid = corners.mean(axis=1, keepdims=True)
     rel = coords - centroid
     if frame.kind == "planar":
         return rel @ frame.axes.T
-    normal = _unit(area_vectors(coords))
+    normal = _unit(area_vectors(corners))
     t1 = rel[:, 1] - rel[:, 0]
     t1 = _unit(t1 - (t1 * normal).sum(axis=1, keepdims=True) * normal)
     t2 = np.cross(normal, t1)

@@ -87,6 +87,23 @@ def _limits(table: dict[str, tuple[float, float, str]]) -> dict[str, Limit]:
 _COND = OWN + "; set to agree with the aspect-ratio limits (5:1 rectangle reads 2.6)"
 _JR = OWN + "; Gauss-point ratio, taper 0.5 alone reads 1.8"
 
+#: Midside-node limits (quadratic elements; linear ones read NaN and never breach).
+#: Along: det J vanishes at a corner when its edge's midside node reaches the quarter
+#: point, 0.25 (Henshell and Shaw 1975; Barsoum 1976, from memory); the warn and fail
+#: limits keep a working margin below it. Across: a midside node at h off the chord bends
+#: the edge's end tangents by atan(4 h / L) (14 deg at 0.0625, 31 deg at 0.15).
+_ALONG = OWN + "; margin below the quarter point 0.25 where det J vanishes at the corner"
+_ACROSS = OWN + "; 0.15 tilts the edge's end tangents 31 deg off the chord, 0.3 tilts 50 deg"
+_JR6 = _JR + "; applies to triangle6 (a linear triangle always reads 1)"
+
+
+def _midside(along: tuple[float, float], across: tuple[float, float], note: str = "") -> dict:
+    return {
+        "midside_offset_along": (*along, _ALONG + note),
+        "midside_offset_across": (*across, _ACROSS + note),
+    }
+
+
 STANDARD = Profile(
     "standard",
     "General structural analysis with linear and quadratic 2-D and shell elements.",
@@ -102,6 +119,7 @@ STANDARD = Profile(
                 "min_angle": (45.0, 30.0, COMMON),
                 "max_angle": (135.0, 160.0, COMMON),
                 "condition": (3.0, 6.0, _COND),
+                **_midside((0.1, 0.2), (0.15, 0.3)),
             }
         ),
         "triangle": _limits(
@@ -111,6 +129,8 @@ STANDARD = Profile(
                 "min_angle": (30.0, 15.0, COMMON),
                 "max_angle": (120.0, 150.0, COMMON),
                 "condition": (2.0, 4.0, OWN),
+                "jacobian_ratio": (2.5, 5.0, _JR6),
+                **_midside((0.1, 0.2), (0.15, 0.3)),
             }
         ),
     },
@@ -134,6 +154,7 @@ STRICT = Profile(
                 "min_angle": (60.0, 45.0, _TIGHT),
                 "max_angle": (120.0, 135.0, _TIGHT),
                 "condition": (2.0, 3.0, _TIGHT),
+                **_midside((0.05, 0.1), (0.1, 0.2), "; tighter variant"),
             }
         ),
         "triangle": _limits(
@@ -143,6 +164,8 @@ STRICT = Profile(
                 "min_angle": (40.0, 30.0, _TIGHT),
                 "max_angle": (100.0, 120.0, _TIGHT),
                 "condition": (1.5, 2.0, _TIGHT),
+                "jacobian_ratio": (1.8, 3.0, _TIGHT),
+                **_midside((0.05, 0.1), (0.1, 0.2), "; tighter variant"),
             }
         ),
     },
@@ -163,6 +186,7 @@ LENIENT = Profile(
                 "min_angle": (30.0, 15.0, _LOOSE),
                 "max_angle": (150.0, 170.0, _LOOSE),
                 "condition": (6.0, 12.0, _LOOSE),
+                **_midside((0.15, 0.22), (0.2, 0.4), "; looser variant"),
             }
         ),
         "triangle": _limits(
@@ -172,6 +196,8 @@ LENIENT = Profile(
                 "min_angle": (20.0, 10.0, _LOOSE),
                 "max_angle": (140.0, 165.0, _LOOSE),
                 "condition": (4.0, 8.0, _LOOSE),
+                "jacobian_ratio": (5.0, 10.0, _LOOSE),
+                **_midside((0.15, 0.22), (0.2, 0.4), "; looser variant"),
             }
         ),
     },

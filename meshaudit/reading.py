@@ -139,9 +139,8 @@ def build_elements(mesh: meshio.Mesh, source: str = "<memory>") -> ElementMesh:
 
     if not blocks:
         found = ", ".join(f"{v} {k}" for k, v in skipped.items()) or "no cells"
-        raise InputError(
-            f"{source}: no supported elements (quad, triangle) to audit; found {found}"
-        )
+        kinds = ", ".join(SUPPORTED_CELLS)
+        raise InputError(f"{source}: no supported elements ({kinds}) to audit; found {found}")
     element_mesh = ElementMesh(points=points, blocks=blocks, skipped=skipped, source=source)
     # Fast path: all coordinates finite. Else only the nodes an element uses must be.
     if not np.isfinite(points).all() and not np.isfinite(points[element_mesh.used_nodes()]).all():

@@ -10,15 +10,17 @@ from typing import Any
 
 import numpy as np
 
-from .metrics import METRIC_INFO, METRIC_NAMES, VALIDITY_FLAGS
+from .metrics import METRIC_INFO, METRIC_NAMES, VALIDITY_FLAGS, WARNING_FLAGS
 from .profiles import Profile
 from .verdicts import FAIL, VERDICT_NAMES, WARN
 
-#: Every flag an element can carry, in report order: validity flags, then one flag per
-#: metric whose limit it breached (warn or fail). Bit i of ``Report.flag_bits`` is
-#: ``FLAG_NAMES[i]``.
-FLAG_NAMES: tuple[str, ...] = VALIDITY_FLAGS + tuple(
-    m for m in METRIC_NAMES if METRIC_INFO[m].worse != "none"
+#: Every flag an element can carry, in report order: validity flags, warning flags, then
+#: one flag per metric whose limit it breached (warn or fail). Bit i of
+#: ``Report.flag_bits`` is ``FLAG_NAMES[i]``.
+FLAG_NAMES: tuple[str, ...] = (
+    VALIDITY_FLAGS
+    + WARNING_FLAGS
+    + tuple(m for m in METRIC_NAMES if METRIC_INFO[m].worse != "none")
 )
 FLAG_BIT: dict[str, int] = {name: i for i, name in enumerate(FLAG_NAMES)}
 

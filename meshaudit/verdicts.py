@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .metrics import METRIC_INFO, VALIDITY_FLAGS
+from .metrics import METRIC_INFO, VALIDITY_FLAGS, WARNING_FLAGS
 from .profiles import Limit, Profile
 
 OK, WARN, FAIL = 0, 1, 2
@@ -12,6 +12,17 @@ VERDICT_NAMES: tuple[str, ...] = ("ok", "warn", "fail")
 
 #: Flags that make an element invalid: it fails whatever the profile says.
 INVALID_FLAGS: tuple[str, ...] = tuple(f for f in VALIDITY_FLAGS if f != "reversed")
+
+#: Metrics a quarter-point element breaches by construction (det J vanishes at its
+#: corner, so the Gauss-point det J spread is large and the midside node is a quarter of
+#: the edge off centre). For an element flagged ``quarter_point`` their breaches are
+#: reported at warn level at most: the element is reported as what it is, not failed.
+QUARTER_POINT_CAPPED: tuple[str, ...] = (
+    "det_j_min",
+    "det_j_corner_min",
+    "jacobian_ratio",
+    "midside_offset_along",
+)
 
 
 def breach_level(values: np.ndarray, limit: Limit, worse: str) -> np.ndarray:
@@ -38,8 +49,13 @@ def judge(
     levels: dict[str, np.ndarray] = {}
     for metric, limit in profile.limits.get(family, {}).items():
         lvl = breach_level(metrics[metric], limit, METRIC_INFO[metric].worse)
+        if metric in QUARTER_POINT_CAPPED and "quarter_point" in flags:
+            lvl = np.where(flags["quarter_point"], np.minimum(lvl, np.int8(WARN)), lvl)
         levels[metric] = lvl
         np.maximum(verdict, lvl, out=verdict)
+    for name in WARNING_FLAGS:
+        if name in flags:
+            verdict[flags[name] & (verdict < WARN)] = WARN
     invalid = np.zeros(n, dtype=bool)
     for name in INVALID_FLAGS:
         invalid |= flags[name]

@@ -11,7 +11,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import quad, triangle
+from . import quad, quadratic, triangle
 
 
 @dataclass(frozen=True)
@@ -37,6 +37,19 @@ METRICS: tuple[MetricInfo, ...] = (
     MetricInfo("max_angle", "high", "deg", "largest interior angle (reflex > 180)"),
     MetricInfo("condition", "high", "1", "Knupp's condition number, worst corner"),
     MetricInfo("score", "low", "1", "composite shape score, 1 ideal, 0 invalid"),
+    MetricInfo(
+        "midside_offset_along",
+        "high",
+        "1",
+        "quadratic elements: worst midside node's shift along its edge from the chord "
+        "midpoint, per edge length (0.25 = quarter point)",
+    ),
+    MetricInfo(
+        "midside_offset_across",
+        "high",
+        "1",
+        "quadratic elements: worst midside node's distance from its chord, per edge length",
+    ),
 )
 METRIC_NAMES: tuple[str, ...] = tuple(m.name for m in METRICS)
 METRIC_INFO: dict[str, MetricInfo] = {m.name: m for m in METRICS}
@@ -51,18 +64,31 @@ VALIDITY_FLAGS: tuple[str, ...] = (
     "degenerate",
 )
 
+#: Flags that call for attention but do not invalidate an element: each makes its verdict
+#: at least "warn". ``quarter_point``: a midside node sits at the quarter point (det J
+#: vanishes at the corner, the singular crack-tip construction); ``flipped_normal``: a
+#: shell element whose normal disagrees with its neighbours' (the minority of its patch).
+WARNING_FLAGS: tuple[str, ...] = ("quarter_point", "flipped_normal")
+
 Kernel = Callable[[np.ndarray, np.ndarray], tuple[dict[str, np.ndarray], dict[str, np.ndarray]]]
 
 #: Metric family -> kernel taking (coords3 (n, k, 3), local (n, k, 2)).
 KERNELS: dict[str, Kernel] = {"quad": quad.measure, "triangle": triangle.measure}
+
+#: Cell types whose Jacobian part is measured by :func:`quadratic.measure` on top of the
+#: family kernel (which sees the corner nodes only).
+QUADRATIC_CELLS: frozenset[str] = frozenset(quadratic.ELEMENTS)
 
 __all__ = [
     "KERNELS",
     "METRICS",
     "METRIC_INFO",
     "METRIC_NAMES",
+    "QUADRATIC_CELLS",
     "VALIDITY_FLAGS",
+    "WARNING_FLAGS",
     "MetricInfo",
     "quad",
+    "quadratic",
     "triangle",
 ]

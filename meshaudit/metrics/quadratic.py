@@ -1,0 +1,168 @@
+"""The Jacobian part and the midside-node checks of quadratic elements.
+
+quad8 (serendipity) and quad9 (Lagrange) live on the reference square [-1, 1]^2,
+triangle6 on the reference triangle (0, 0), (1, 0), (0, 1); node order as in meshio.
+The shape parameters (aspect ratio, skew, taper, warp, angles, scaled Jacobian,
+condition) come from the linear kernel of the family applied to the corner nodes, so a
+straight-sided quadratic element reports the same values as its linear counterpart.
+This module replaces what the curved map changes:
+
+- ``det_j_min`` / ``det_j_max`` / ``jacobian_ratio``: det J at the solver's Gauss points
+  (3x3 for the quads, the 3-point degree-2 rule for triangle6);
+- ``det_j_corner_min``: det J at every node, corners and midsides (and the quad9 centre),
+  where a distorted quadratic map vanishes first;
+- ``area``: the curved element's true area, the Gauss sum of |x_xi cross x_eta| in 3-D
+  (exact for a flat element: det J is a polynomial the rule integrates exactly);
+- ``midside_offset_along`` / ``midside_offset_across``: worst midside node's offset from
+  its chord midpoint, along and across the chord, as fractions of the chord length.
+
+Quarter-point rule: a midside node a quarter of the edge from a corner makes det J
+vanish at that corner (the singular crack-tip element); nearer still, det J is negative
+there. R. D. Henshell and K. G. Shaw, "Crack tip finite elements are unnecessary",
+Int. J. Numer. Meth. Engng 9 (1975) 495-507, and R. S. Barsoum, "On the use of
+isoparametric finite elements in linear fracture mechanics", Int. J. Numer. Meth. Engng
+10 (1976) 25-37 (citations from memory). Such an element is flagged ``quarter_point``
+(a warning), an element pulled past it is ``inverted`` (a failure).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .. import reference as ref
+from .common import norm
+
+#: How close (fraction of the edge length) to the quarter point a midside node counts as
+#: placed there on purpose. Common practice, no single source.
+QUARTER_POINT_TOLERANCE = 0.01
+
+#: Metrics this module measures that linear elements do not have (NaN for them).
+MIDSIDE_METRICS = ("midside_offset_along", "midside_offset_across")
+
+
+@dataclass(frozen=True)
+class QuadraticElement:
+    """Reference data of one quadratic cell type, derivative tables precomputed."""
+
+    n_corners: int
+    gauss_weights: np.ndarray  # (g,)
+    gauss_derivatives: np.ndarray  # (g, 2, k) dN/dxi, dN/deta at the Gauss points
+    node_derivatives: np.ndarray  # (k, 2, k) the same at every node
+    midside_edges: np.ndarray  # (s, 3) corner a, corner b, midside node
+
+
+def _element(n_corners, nodes, gauss, weights, derivatives, edges) -> QuadraticElement:
+    return QuadraticElement(n_corners, weights, derivatives(gauss), derivatives(nodes), edges)
+
+
+ELEMENTS: dict[str, QuadraticElement] = {
+    "quad8": _element(
+        4,
+        ref.QUAD8_NODES,
+        ref.QUAD_GAUSS_3X3,
+        ref.QUAD_WEIGHTS_3X3,
+        ref.quad8_shape_derivatives,
+        ref.QUAD_MIDSIDE_EDGES,
+    ),
+    "quad9": _element(
+        4,
+        ref.QUAD9_NODES,
+        ref.QUAD_GAUSS_3X3,
+        ref.QUAD_WEIGHTS_3X3,
+        ref.quad9_shape_derivatives,
+        ref.QUAD_MIDSIDE_EDGES,
+    ),
+    "triangle6": _element(
+        3,
+        ref.TRIANGLE6_NODES,
+        ref.TRIANGLE_GAUSS_3,
+        ref.TRIANGLE_WEIGHTS_3,
+        ref.triangle6_shape_derivatives,
+        ref.TRIANGLE_MIDSIDE_EDGES,
+    ),
+}
+
+
+def jacobian_determinants(derivatives: np.ndarray, p: np.ndarray) -> np.ndarray:
+    """det J (n, m) at the m points whose shape derivatives (m, 2, k) are given.
+
+    ``p`` (n, k, 2) are the nodes in the element's plane; J[a, b] = dx_b / dxi_a summed
+    over the nodes, in length^2 per reference area.
+    """
+    jac = np.einsum("mak,nkb->nmab", derivatives, p)
+    return jac[..., 0, 0] * jac[..., 1, 1] - jac[..., 0, 1] * jac[..., 1, 0]
+
+
+def surface_area(element: QuadraticElement, coords3: np.ndarray) -> np.ndarray:
+    """Area (n,) of the curved surface: Gauss sum of |x_xi cross x_eta| over the element."""
+    tangents = np.einsum("mak,nkd->nmad", element.gauss_derivatives, coords3)
+    dA = norm(np.cross(tangents[:, :, 0], tangents[:, :, 1]))
+    return dA @ element.gauss_weights
+
+
+def midside_offsets(coords3: np.ndarray, edges: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Offsets of the midside nodes from their chord midpoints, as fractions of the chord.
+
+    Returns (along, across), each (n, s): ``along`` is signed, positive towards the edge's
+    second corner (a node at the quarter point reads -0.25 or +0.25), ``across`` is the
+    distance from the chord line, in 3-D (it grows with the edge's curvature).
+    """
+    a, b, m = (coords3[:, edges[:, c]] for c in range(3))
+    chord = b - a
+    length2 = np.einsum("nsd,nsd->ns", chord, chord)
+    offset = m - 0.5 * (a + b)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        along = np.einsum("nsd,nsd->ns", offset, chord) / length2
+        across = norm(offset - along[..., None] * chord) / np.sqrt(length2)
+    return along, across
+
+
+def measure(
+    cell_type: str,
+    coords3: np.ndarray,
+    p: np.ndarray,
+    metrics: dict[str, np.ndarray],
+    flags: dict[str, np.ndarray],
+) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
+    """Overlay the quadratic Jacobian and midside checks on the corner-node results.
+
+    ``coords3`` (n, k, 3) all nodes in space, ``p`` (n, k, 2) the same in the measuring
+    plane, ``metrics``/``flags`` what the linear kernel reported for the corners (they
+    are copied, not changed). Returns the updated (metrics, flags).
+    """
+    element = ELEMENTS[cell_type]
+    gauss = jacobian_determinants(element.gauss_derivatives, p)
+    nodal = jacobian_determinants(element.node_derivatives, p)
+    along, across = midside_offsets(coords3, element.midside_edges)
+    worst_along = np.abs(along).max(axis=1)
+
+    collapsed = flags["degenerate"]
+    corners = p[:, : element.n_corners]
+    edge = norm(np.roll(corners, -1, axis=1) - corners).max(axis=1)
+    floor = -1e-12 * np.maximum(edge, 1e-300)[:, None] ** 2
+    sampled = np.concatenate([gauss, nodal], axis=1)
+    negative = sampled < floor
+    inverted = flags["inverted"] | (negative.any(axis=1) & ~collapsed)
+    reversed_ = flags["reversed"] | (negative.all(axis=1) & ~collapsed)
+    near_quarter = np.abs(np.abs(along) - 0.25) <= QUARTER_POINT_TOLERANCE
+    quarter = near_quarter.any(axis=1) & ~inverted & ~collapsed
+
+    lo, hi = gauss.min(axis=1), gauss.max(axis=1)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ratio = np.where(lo > 0.0, hi / lo, np.inf)
+    out = dict(metrics)
+    out.update(
+        area=surface_area(element, coords3),
+        det_j_min=lo,
+        det_j_max=hi,
+        det_j_corner_min=nodal.min(axis=1),
+        jacobian_ratio=ratio,
+        midside_offset_along=worst_along,
+        midside_offset_across=across.max(axis=1),
+    )
+    newly_invalid = inverted & ~flags["inverted"]
+    out["score"] = np.where(newly_invalid, 0.0, metrics["score"])
+    out_flags = dict(flags, inverted=inverted, reversed=reversed_, quarter_point=quarter)
+    return out, out_flags
