@@ -1,0 +1,143 @@
+"""Shell surfaces in 3-D: measuring in the element's plane, warp, normal consistency.
+
+Outside references: rigid motions preserve every length and angle (geometry fact), the
+warp of a unit square with one corner lifted by h is arccos(1 / (1 + h^2)) (vector
+algebra, derived with sympy below), and a consistently oriented surface traverses each
+shared edge in opposite directions from its two sides (common practice).
+"""
+
+from __future__ import annotations
+
+import meshio
+import numpy as np
+import pytest
+import sympy as sp
+
+from meshaudit import audit
+from meshaudit.metrics import METRIC_NAMES
+
+
+def grid(nx: int, ny: int) -> tuple[np.ndarray, np.ndarray]:
+    """nx x ny unit quads in the x-y plane, counter-clockwise seen from +z."""
+    xs, ys = np.meshgrid(np.arange(nx + 1.0), np.arange(ny + 1.0))
+    pts = np.column_stack([xs.ravel(), ys.ravel(), np.zeros(xs.size)])
+    i, j = np.meshgrid(np.arange(nx), np.arange(ny))
+    a = (j * (nx + 1) + i).ravel()
+    return pts, np.column_stack([a, a + 1, a + nx + 2, a + nx + 1])
+
+
+def rotation(seed: int) -> np.ndarray:
+    """A random proper rotation (QR of a Gaussian matrix, sign-fixed)."""
+    q, r = np.linalg.qr(np.random.default_rng(seed).normal(size=(3, 3)))
+    q = q * np.sign(np.diag(r))
+    return q if np.linalg.det(q) > 0 else -q
+
+
+def mixed_planar_mesh() -> meshio.Mesh:
+    """A small distorted planar mesh with quad, quad8 and triangle6 elements."""
+    pts, cells = grid(4, 3)
+    rng = np.random.default_rng(3)
+    pts[:, :2] += rng.uniform(-0.2, 0.2, (len(pts), 2))
+    # A quad8 and a triangle6 placed beside the grid, with bent midside nodes.
+    q8 = np.array(
+        [[5, 0], [7, 0.2], [7.1, 2], [5, 1.8], [6, 0.3], [7.2, 1], [6, 1.7], [4.9, 1]], float
+    )
+    t6 = np.array([[8, 0], [10, 0.5], [8.5, 2], [9, 0.1], [9.4, 1.3], [8.1, 1]], float)
+    extra = np.column_stack([np.vstack([q8, t6]), np.zeros(14)])
+    n = len(pts)
+    return meshio.Mesh(
+        np.vstack([pts, extra]),
+        [
+            ("quad", cells),
+            ("quad8", [list(range(n, n + 8))]),
+            ("triangle6", [list(range(n + 8, n + 14))]),
+        ],
+    )
+
+
+def assert_same_audit(a, b) -> None:
+    for name in METRIC_NAMES:
+        np.testing.assert_allclose(
+            a.metrics[name], b.metrics[name], rtol=1e-9, atol=1e-9, err_msg=name
+        )
+    assert list(a.verdict) == list(b.verdict)
+    assert list(a.flag_bits) == list(b.flag_bits)
+
+
+@pytest.mark.parametrize("seed", [0, 1])
+def test_a_planar_mesh_rotated_in_space_audits_like_the_flat_one(seed):
+    # Geometry fact: a rigid motion keeps every length, angle and area.
+    flat = mixed_planar_mesh()
+    turned = meshio.Mesh(flat.points @ rotation(seed).T + [3.0, -1.0, 7.0], flat.cells)
+    a, b = audit(flat), audit(turned)
+    assert b.summary.frame == "planar"
+    assert_same_audit(a, b)
+
+
+def test_a_curved_shell_rotated_in_space_audits_the_same():
+    # Same fact for a genuine shell, measured element by element in its own plane.
+    pts, cells = grid(4, 4)
+    pts[:, 2] = 0.15 * (pts[:, 0] - 2.0) ** 2 - 0.1 * pts[:, 0] * pts[:, 1]
+    shell = meshio.Mesh(pts, [("quad", cells)])
+    turned = meshio.Mesh(pts @ rotation(5).T, shell.cells)
+    a, b = audit(shell), audit(turned)
+    assert a.summary.frame == b.summary.frame == "shell"
+    assert_same_audit(a, b)
+
+
+def test_lifting_one_corner_grows_warp_monotonically_as_vector_algebra_says():
+    # sympy: for the unit square with corner 3 lifted by h, the two triangles split on
+    # diagonal 1-3 have normals (0, -h, 1) and (-h, 0, 1): warp = arccos(1 / (1 + h^2)),
+    # the larger of the two splits.
+    h = sp.symbols("h", positive=True)
+    x1, x2, x3, x4 = (sp.Matrix(v) for v in ([0, 0, 0], [1, 0, 0], [1, 1, h], [0, 1, 0]))
+    na, nb = (x2 - x1).cross(x3 - x1), (x3 - x1).cross(x4 - x1)
+    cos_warp = sp.simplify(na.dot(nb) / (na.norm() * nb.norm()))
+    warp_of = sp.lambdify(h, sp.deg(sp.acos(cos_warp)))
+    lifts = np.linspace(0.0, 0.6, 13)
+    warps = []
+    for lift in lifts:
+        pts = np.array([[0, 0, 0], [1, 0, 0], [1, 1, lift], [0, 1, 0]], dtype=float)
+        warps.append(audit(meshio.Mesh(pts, [("quad", [[0, 1, 2, 3]])])).metrics["warp"][0])
+    assert np.all(np.diff(warps) > 0.0)
+    np.testing.assert_allclose(warps, [float(warp_of(v)) for v in lifts], atol=1e-9)
+
+
+def curved_shell(flip: int | None = None) -> meshio.Mesh:
+    """A quarter-cylinder shell of 4 x 5 quads labelled 101..120, one optionally flipped."""
+    theta, z = np.meshgrid(np.linspace(0.0, np.pi / 2, 5), np.linspace(0.0, 3.0, 6))
+    pts = np.column_stack([np.cos(theta).ravel(), np.sin(theta).ravel(), z.ravel()])
+    _, cells = grid(4, 5)
+    if flip is not None:
+        cells[flip] = cells[flip][::-1]
+    labels = np.arange(101, 121)
+    return meshio.Mesh(pts, [("quad", cells)], cell_data={"element_id": [labels]})
+
+
+def test_flipping_one_shell_element_is_reported_with_its_id(tmp_path, run_cli):
+    # Common practice: the one element whose normal disagrees with all its neighbours is
+    # the flipped one; it is named by its own label and is not called inverted.
+    mesh = curved_shell(flip=7)
+    report = audit(mesh)
+    assert report.summary.frame == "shell"
+    flagged = report.ids[report.flag("flipped_normal")]
+    assert flagged.tolist() == [108]
+    assert not report.flag("inverted").any()
+    assert report.verdict_names[7] == "warn"
+    # And in the JSON report written by the command line.
+    path = tmp_path / "shell.vtu"
+    meshio.write(path, mesh)
+    out = tmp_path / "shell.json"
+    done = run_cli("check", path, "--json", out)
+    assert done.returncode == 0, done.stderr
+    import json
+
+    doc = json.loads(out.read_text())
+    rows = [e for e in doc["elements"] if "flipped_normal" in e["flags"]]
+    assert [e["id"] for e in rows] == [108]
+
+
+def test_a_consistent_shell_has_no_flipped_element():
+    report = audit(curved_shell())
+    assert not report.flag("flipped_normal").any()
+    assert report.summary.frame == "shell"
