@@ -76,7 +76,8 @@ def choose_frame(mesh: ElementMesh) -> Frame:
     else:
         votes = 0.0
         for block in mesh.blocks:
-            av = area_vectors(mesh.points[block.connectivity[:, :4]])
+            corners = 3 if block.family == "triangle" else 4
+            av = area_vectors(mesh.points[block.connectivity[:, :corners]])
             votes += float(np.sign(av @ normal).sum())
         if votes < 0:
             normal = -normal
