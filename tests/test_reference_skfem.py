@@ -52,7 +52,9 @@ def test_skfem_quadrature_is_the_2x2_gauss_rule():
     np.testing.assert_allclose(w, 0.25, rtol=0, atol=1e-15)
 
 
-@pytest.mark.parametrize(("refine", "fraction", "seed"), [(3, 0.25, 1), (4, 0.35, 7)])
+# The last case moves nodes far enough to invert, fold and cross some elements; det J is
+# still a well-defined (signed) function there and must agree.
+@pytest.mark.parametrize(("refine", "fraction", "seed"), [(3, 0.25, 1), (4, 0.35, 7), (4, 0.6, 5)])
 def test_quad_gauss_point_det_j_matches_skfem(refine: int, fraction: float, seed: int):
     """Source: scikit-fem MappingIsoparametric.detDF at its 2x2 Gauss points on a
     distorted bilinear quad mesh. det J_skfem / 4 = det J_meshaudit at each point."""
@@ -60,6 +62,7 @@ def test_quad_gauss_point_det_j_matches_skfem(refine: int, fraction: float, seed
     x, _ = _gauss_2x2_on_unit_square()
     skfem_det = mesh.mapping().detDF(x) * SKFEM_TO_OURS  # (n_elements, 4)
     assert np.ptp(skfem_det) > 0.1 * np.abs(skfem_det).max()  # the mesh really is distorted
+    assert (skfem_det < 0).any() == (fraction > 0.5)  # only the last case inverts
 
     coords = mesh.p.T[mesh.t.T]  # (n, 4, 2), same node order as our reference square
     # Point by point: scikit-fem's (s, t) in [0, 1]^2 is our (2s - 1, 2t - 1).
