@@ -12,7 +12,7 @@ from collections.abc import Sequence
 from pathlib import Path
 from typing import TYPE_CHECKING
 
-from . import __version__
+from . import __version__, cli_inspect
 from .errors import MeshAuditError
 
 if TYPE_CHECKING:
@@ -89,6 +89,9 @@ def build_parser() -> argparse.ArgumentParser:
         help="list every element in the JSON report, not only those not ok",
     )
 
+    cli_inspect.add_check_options(check)
+    cli_inspect.add_explain_command(sub)
+
     sub.add_parser("profiles", help="list the built-in profiles with every limit and its source")
     return parser
 
@@ -105,19 +108,30 @@ def _check(args: argparse.Namespace) -> int:
         for p, kind in ((args.json, "json"), (args.csv, "csv"), (args.junit, "junit"))
         if p is not None
     ]
-    dests = [p for p, _ in wanted]
+    inspection = cli_inspect.wanted(args)
+    dests = [p for p, _ in wanted + inspection]
     if len(set(map(str, dests))) != len(dests):
         raise MeshAuditError("two reports would be written to the same file")
     for dest in dests:
         atomic.check_destination(dest, [mesh_path])
 
-    report = audit(
-        mesh_path, profile=args.profile, file_format=args.file_format, fail_on=args.fail_on
-    )
+    if inspection:  # plots and annotation need the mesh as well as the report
+        from .inspection import audit_mesh
+
+        audited = audit_mesh(
+            mesh_path, profile=args.profile, file_format=args.file_format, fail_on=args.fail_on
+        )
+        report = audited.report
+    else:
+        report = audit(
+            mesh_path, profile=args.profile, file_format=args.file_format, fail_on=args.fail_on
+        )
 
     outputs: list[tuple[Path, atomic.Renderer]] = []
     for dest, kind in wanted:
         outputs.append((dest, _renderer(kind, report, args)))
+    for dest, kind in inspection:
+        outputs.append((dest, cli_inspect.renderer(kind, audited, args)))
     atomic.write_all(outputs)
 
     from .outputs import terminal
@@ -168,6 +182,8 @@ def main(argv: Sequence[str] | None = None) -> int:
             return _check(args)
         if args.command == "profiles":
             return _profiles()
+        if args.command == "explain":
+            return cli_inspect.run_explain(args)
         parser.print_help()
         return EXIT_UNUSABLE
     except MeshAuditError as exc:

@@ -1,0 +1,245 @@
+"""Everything about one element: nodes, det J at Gauss points and nodes, metrics against
+the profile's limits with the reason for each breach, flags and neighbours.
+
+Pure data (:class:`Explanation`); ``meshaudit.outputs.explain_text`` prints it and
+``meshaudit.outputs.explain_plot`` draws it. det J comes from the same kernels the audit
+uses, evaluated in the same measuring plane (:mod:`meshaudit.frames`).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from .errors import InputError
+from .frames import choose_frame, to_local
+from .inspection import CORNERS, AuditedMesh, corner_table, element_nodes, neighbours
+from .metrics import METRIC_INFO, METRIC_NAMES
+from .metrics import quad as quad_metrics
+from .metrics import triangle as triangle_metrics
+from .reference import QUAD_CORNERS, QUAD_GAUSS_2X2
+from .report import finite_or_none
+from .verdicts import VERDICT_NAMES
+
+#: One-point rule at the centroid of the reference triangle: what a solver uses for a
+#: linear (constant-strain) triangle; det J is constant there anyway (common practice).
+TRIANGLE_GAUSS_1 = np.array([[1.0 / 3.0, 1.0 / 3.0]])
+TRIANGLE_CORNERS = np.array([[0.0, 0.0], [1.0, 0.0], [0.0, 1.0]])
+
+FLAG_REASONS = {
+    "inverted": "det J is negative at {negative}: the map from the reference element "
+    "folds over itself there",
+    "reversed": "det J is negative at every corner: the nodes run clockwise "
+    "(reverse the node order)",
+    "nonconvex": "an interior angle exceeds 180 deg (largest {max_angle:.4g} deg): "
+    "a re-entrant corner",
+    "self_intersecting": "two opposite edges cross each other (a bow-tie): "
+    "the node order is scrambled",
+    "degenerate": "an edge or the area has collapsed to (nearly) zero",
+}
+
+
+@dataclass
+class MetricLine:
+    """One metric of the element against its limits."""
+
+    name: str
+    value: float
+    unit: str
+    worse: str  # "high", "low" or "none"
+    warn: float | None
+    fail: float | None
+    level: str  # "ok", "warn", "fail" or "no limit"
+    reason: str  # why it breached, "" when within limits
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "name": self.name,
+            "value": finite_or_none(self.value),
+            "unit": self.unit,
+            "worse": self.worse,
+            "warn": self.warn,
+            "fail": self.fail,
+            "level": self.level,
+            "reason": self.reason,
+        }
+
+
+@dataclass
+class Explanation:
+    """Everything about element ``id`` (report index ``index``)."""
+
+    index: int
+    id: int
+    cell_type: str
+    family: str
+    verdict: str
+    profile: str
+    node_indices: np.ndarray  # (k,) 0-based node indices, in element order
+    coordinates: np.ndarray  # (k, 3)
+    gauss_points: np.ndarray  # (m, 2) reference coordinates
+    det_j_gauss: np.ndarray  # (m,)
+    node_reference: np.ndarray  # (c, 2) reference coordinates of the corners
+    det_j_nodes: np.ndarray  # (c,) det J at each corner node
+    metrics: list[MetricLine]
+    flags: list[str]
+    flag_reasons: dict[str, str]
+    neighbour_ids: np.ndarray
+    neighbour_rows: np.ndarray
+    measured_in: str  # "mesh plane" or "element's best-fit plane"
+    notes: list[str] = field(default_factory=list)
+
+    @property
+    def breaches(self) -> list[MetricLine]:
+        return [m for m in self.metrics if m.level in ("warn", "fail")]
+
+    def to_dict(self) -> dict[str, Any]:
+        def floats(a: np.ndarray) -> list[Any]:
+            return [finite_or_none(v) for v in np.ravel(a)]
+
+        return {
+            "id": self.id,
+            "index": self.index,
+            "type": self.cell_type,
+            "verdict": self.verdict,
+            "profile": self.profile,
+            "measured_in": self.measured_in,
+            "nodes": [
+                {"node": int(n), "position": k + 1, "xyz": floats(c)}
+                for k, (n, c) in enumerate(zip(self.node_indices, self.coordinates))
+            ],
+            "gauss_points": [
+                {"xi": float(g[0]), "eta": float(g[1]), "det_j": finite_or_none(d)}
+                for g, d in zip(self.gauss_points, self.det_j_gauss)
+            ],
+            "det_j_nodes": [
+                {
+                    "node": int(self.node_indices[k]),
+                    "xi": float(r[0]),
+                    "eta": float(r[1]),
+                    "det_j": finite_or_none(d),
+                }
+                for k, (r, d) in enumerate(zip(self.node_reference, self.det_j_nodes))
+            ],
+            "metrics": [m.to_dict() for m in self.metrics],
+            "flags": self.flags,
+            "flag_reasons": self.flag_reasons,
+            "neighbours": [int(i) for i in self.neighbour_ids],
+            "notes": self.notes,
+        }
+
+
+def local_corners(audited: AuditedMesh, i: int) -> tuple[np.ndarray, np.ndarray, str]:
+    """Corners of element ``i`` in 3-D (c, 3) and laid in its measuring plane (c, 2)."""
+    family = audited.report.cell_families[int(audited.report.families[i])]
+    nodes = element_nodes(audited.elements, i)[: CORNERS[family]]
+    coords3 = audited.elements.points[nodes]
+    frame = choose_frame(audited.elements)
+    local = to_local(coords3[None], frame)[0]
+    where = "mesh plane" if frame.kind == "planar" else "element's best-fit plane"
+    return coords3, local, where
+
+
+def jacobians(family: str, local: np.ndarray) -> tuple[np.ndarray, ...]:
+    """(gauss points, det J there, corner reference points, det J at the corners)."""
+    if family == "quad":
+        p = local[None]
+        gauss = quad_metrics.gauss_jacobians(p)[0]
+        corners = quad_metrics.corner_jacobians(p)[0]
+        return QUAD_GAUSS_2X2, gauss, QUAD_CORNERS, corners
+    det = float(triangle_metrics.jacobian_determinant(local[None])[0])
+    return TRIANGLE_GAUSS_1, np.array([det]), TRIANGLE_CORNERS, np.full(3, det)
+
+
+def _reason(name: str, value: float, worse: str, level: str, warn, fail) -> str:
+    if level not in ("warn", "fail"):
+        return ""
+    limit = fail if level == "fail" else warn
+    side = "above" if worse == "high" else "below"
+    text = f"{value:.4g} is {side} the {level} limit {limit:g}"
+    if not np.isfinite(value):
+        text = f"{value} (undefined: a corner has det J <= 0) is past the {level} limit {limit:g}"
+    return text
+
+
+def metric_lines(audited: AuditedMesh, i: int) -> list[MetricLine]:
+    report = audited.report
+    family = report.cell_families[int(report.families[i])]
+    lines = []
+    for name in METRIC_NAMES:
+        info = METRIC_INFO[name]
+        value = float(report.metrics[name][i])
+        lim = report.profile.limit(family, name)
+        warn, fail = (lim.warn, lim.fail) if lim is not None else (None, None)
+        lvl = report.levels.get(name)
+        if lim is None or lvl is None:
+            level = "no limit"
+        else:
+            level = VERDICT_NAMES[int(lvl[i])]
+        lines.append(
+            MetricLine(
+                name,
+                value,
+                info.unit,
+                info.worse,
+                warn,
+                fail,
+                level,
+                _reason(name, value, info.worse, level, warn, fail),
+            )
+        )
+    return lines
+
+
+def _flag_reasons(flags: list[str], node_indices, det_nodes, metrics) -> dict[str, str]:
+    negative = ", ".join(
+        f"node {int(n)} (det J {d:.4g})" for n, d in zip(node_indices, det_nodes) if d < 0
+    )
+    values = {m.name: m.value for m in metrics}
+    out = {}
+    for flag in flags:
+        template = FLAG_REASONS.get(flag)
+        if template:
+            out[flag] = template.format(negative=negative or "a corner", **values)
+    return out
+
+
+def explain(audited: AuditedMesh, element_id: int) -> Explanation:
+    """Explain the element with id ``element_id``; InputError when no element has it."""
+    report = audited.report
+    try:
+        i = report.position_of(int(element_id))
+    except KeyError:
+        lo, hi = int(report.ids.min()), int(report.ids.max())
+        raise InputError(
+            f"no element with id {element_id} in {report.summary.source} (ids {lo}..{hi})"
+        ) from None
+    family = report.cell_families[int(report.families[i])]
+    _, local, where = local_corners(audited, i)
+    gauss_pts, det_gauss, ref_corners, det_corners = jacobians(family, local)
+    nodes = element_nodes(audited.elements, i)
+    lines = metric_lines(audited, i)
+    flags = report.flags_of(i)
+    near = neighbours(corner_table(audited.elements), i)
+    return Explanation(
+        index=i,
+        id=int(report.ids[i]),
+        cell_type=report.cell_types[int(report.type_codes[i])],
+        family=family,
+        verdict=VERDICT_NAMES[int(report.verdict[i])],
+        profile=report.profile.name,
+        node_indices=nodes,
+        coordinates=audited.elements.points[nodes],
+        gauss_points=gauss_pts,
+        det_j_gauss=det_gauss,
+        node_reference=ref_corners,
+        det_j_nodes=det_corners,
+        metrics=lines,
+        flags=flags,
+        flag_reasons=_flag_reasons(flags, nodes, det_corners, lines),
+        neighbour_ids=report.ids[near],
+        neighbour_rows=near,
+        measured_in=where,
+    )

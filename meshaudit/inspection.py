@@ -1,0 +1,93 @@
+"""What the inspection outputs need beside the report: the mesh itself.
+
+The report holds per-element numbers; a picture, an annotated mesh or a one-element
+explanation also needs node coordinates and connectivity (and, for writing the mesh back,
+the meshio mesh as read, with its line and vertex blocks). :func:`audit_mesh` reads once and
+keeps all three together.
+"""
+
+from __future__ import annotations
+
+import os
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, Any
+
+import numpy as np
+
+from .api import audit_elements
+from .elements import ElementMesh
+from .profiles import Profile
+from .reading import build_elements, read_meshio
+from .report import Report
+
+if TYPE_CHECKING:
+    import meshio
+
+#: Corner nodes per element family (quadratic elements list their corners first).
+CORNERS = {"quad": 4, "triangle": 3}
+
+
+@dataclass
+class AuditedMesh:
+    """A report together with the element arrays and the meshio mesh it was measured on."""
+
+    report: Report
+    elements: ElementMesh
+    raw: meshio.Mesh | None = None
+
+
+def audit_mesh(
+    source: Any,
+    profile: Profile | str | os.PathLike[str] | None = None,
+    file_format: str | None = None,
+    fail_on: str = "fail",
+) -> AuditedMesh:
+    """Like :func:`meshaudit.audit`, but keeps the mesh for plots, annotation and explain."""
+    if isinstance(source, (str, os.PathLike)):
+        raw = read_meshio(source, file_format)
+        elements = build_elements(raw, str(source))
+    else:
+        raw = source
+        elements = build_elements(source)
+    return AuditedMesh(audit_elements(elements, profile, fail_on), elements, raw)
+
+
+def corner_table(elements: ElementMesh) -> np.ndarray:
+    """Corner node indices of every element in report order, shape (n, 4), int64.
+
+    Triangles repeat their third corner in the fourth column, so every row is a closed
+    polygon that can be drawn as is (the repeated vertex adds a zero-length edge).
+    """
+    table = np.empty((elements.n_elements, 4), dtype=np.int64)
+    for block in elements.blocks:
+        k = CORNERS[block.family]
+        corners = block.connectivity[:, :k]
+        table[block.index, :k] = corners
+        if k < 4:
+            table[block.index, k:] = corners[:, k - 1 : k]
+    return table
+
+
+def corner_count(elements: ElementMesh) -> np.ndarray:
+    """Number of distinct corners (3 or 4) of every element in report order."""
+    counts = np.empty(elements.n_elements, dtype=np.int8)
+    for block in elements.blocks:
+        counts[block.index] = CORNERS[block.family]
+    return counts
+
+
+def element_nodes(elements: ElementMesh, i: int) -> np.ndarray:
+    """All node indices (0-based, file order) of the element at report index ``i``."""
+    for block in elements.blocks:
+        start = int(block.index[0])
+        if start <= i < start + len(block):
+            return block.connectivity[i - start].copy()
+    raise IndexError(i)
+
+
+def neighbours(table: np.ndarray, i: int) -> np.ndarray:
+    """Report indices of the elements sharing at least one node with element ``i``."""
+    mine = np.unique(table[i])
+    touching = np.isin(table, mine).any(axis=1)
+    touching[i] = False
+    return np.flatnonzero(touching)

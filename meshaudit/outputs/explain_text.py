@@ -1,0 +1,84 @@
+"""Terminal rendering of one element's explanation (rich) and its JSON form."""
+
+from __future__ import annotations
+
+import json
+
+from rich.console import Console, Group
+from rich.table import Table
+from rich.text import Text
+
+from ..explain import Explanation
+from .terminal import _fmt
+
+
+def _limit(x: float | None) -> str:
+    return "-" if x is None else f"{x:g}"
+
+
+def nodes_table(ex: Explanation) -> Table:
+    t = Table(title="Nodes (node = 0-based node index)", title_justify="left")
+    for col in ("position", "node", "x", "y", "z", "det J at node"):
+        t.add_column(col, justify="right")
+    corners = len(ex.det_j_nodes)
+    for k, (n, c) in enumerate(zip(ex.node_indices, ex.coordinates)):
+        det = _fmt(float(ex.det_j_nodes[k])) if k < corners else "-"
+        t.add_row(str(k + 1), str(int(n)), *(f"{v:.6g}" for v in c), det)
+    return t
+
+
+def gauss_table(ex: Explanation) -> Table:
+    t = Table(
+        title=f"det J at the Gauss points (measured in the {ex.measured_in})", title_justify="left"
+    )
+    for col in ("point", "xi", "eta", "det J"):
+        t.add_column(col, justify="right")
+    for k, (g, d) in enumerate(zip(ex.gauss_points, ex.det_j_gauss)):
+        t.add_row(str(k + 1), f"{g[0]:+.6f}", f"{g[1]:+.6f}", _fmt(float(d)))
+    return t
+
+
+def metrics_table(ex: Explanation) -> Table:
+    t = Table(title=f"Metrics against profile {ex.profile}", title_justify="left")
+    for col in ("metric", "value", "unit", "warn", "fail", "level", "why"):
+        t.add_column(col, justify="right" if col in ("value", "warn", "fail") else "left")
+    for m in ex.metrics:
+        style = "bold" if m.level == "fail" else ("italic" if m.level == "warn" else "")
+        t.add_row(
+            m.name,
+            _fmt(m.value),
+            m.unit,
+            _limit(m.warn),
+            _limit(m.fail),
+            m.level,
+            m.reason or "-",
+            style=style,
+        )
+    return t
+
+
+def headline(ex: Explanation) -> Text:
+    text = Text()
+    text.append(f"element {ex.id}", style="bold")
+    text.append(f" ({ex.cell_type}, index {ex.index}): ")
+    text.append(ex.verdict.upper(), style="bold reverse" if ex.verdict == "fail" else "bold")
+    flags = ", ".join(ex.flags) or "none"
+    text.append(f"; flags: {flags}")
+    return text
+
+
+def render(ex: Explanation, console: Console) -> None:
+    """Print the explanation."""
+    parts: list = [headline(ex), Text(), nodes_table(ex), Text(), gauss_table(ex), Text()]
+    parts.append(metrics_table(ex))
+    if ex.flag_reasons:
+        parts.append(Text())
+        for flag, why in ex.flag_reasons.items():
+            parts.append(Text(f"{flag}: {why}"))
+    ids = ", ".join(str(int(i)) for i in ex.neighbour_ids) or "none"
+    parts += [Text(), Text(f"neighbours (share a node): {ids}")]
+    console.print(Group(*parts))
+
+
+def render_json(ex: Explanation) -> str:
+    return json.dumps(ex.to_dict(), indent=1, allow_nan=False) + "\n"

@@ -1,0 +1,314 @@
+"""One self-contained HTML report: summary, the plot, a sortable and filterable table of the
+elements that are not ok, and a histogram per metric.
+
+Nothing is loaded from the network: CSS and JavaScript are inline, the plot is an embedded
+base64 PNG and the histograms are inline SVG. The table's script is plain JavaScript written
+here; without JavaScript the table still shows, worst first.
+"""
+
+from __future__ import annotations
+
+import base64
+import io
+import json
+from html import escape
+from pathlib import Path
+
+import numpy as np
+
+from .. import __version__
+from ..elements import ElementMesh
+from ..metrics import METRIC_INFO, METRIC_NAMES, VALIDITY_FLAGS
+from ..report import Report
+from . import plot
+from .terminal import _fmt
+
+#: The table lists at most this many elements (worst first); JSON and CSV list all.
+MAX_ROWS = 2000
+HIST_BINS = 30
+BAR = "#21918c"  # viridis mid-point
+
+_CSS = """
+body{font:14px/1.4 system-ui,sans-serif;margin:1.5em auto;max-width:1400px;padding:0 1em;
+color:#222}
+h1{font-size:1.4em;margin:.2em 0}h2{font-size:1.15em;margin-top:1.6em}
+.verdict{display:inline-block;padding:.1em .5em;border:2px solid #222;font-weight:bold}
+.verdict.fail{background:#222;color:#fff}
+dl.facts{display:grid;grid-template-columns:max-content auto;gap:.15em 1em}
+dl.facts dt{font-weight:bold}dl.facts dd{margin:0}
+img.plot{max-width:100%;border:1px solid #ccc}
+.controls{margin:.5em 0;display:flex;gap:1em;align-items:center;flex-wrap:wrap}
+.controls input{font:inherit;padding:.2em .4em;min-width:22em}
+table.elements{border-collapse:collapse;font-size:12.5px}
+table.elements th,table.elements td{border:1px solid #ddd;padding:.15em .4em}
+table.elements th{background:#f2f2f2;cursor:pointer;user-select:none;position:sticky;top:0}
+table.elements th[aria-sort=ascending]::after{content:" \\25B2"}
+table.elements th[aria-sort=descending]::after{content:" \\25BC"}
+table.elements td.b{white-space:nowrap}
+table.elements td.n{text-align:right;font-variant-numeric:tabular-nums}
+tr.fail td:first-child{border-left:4px solid #222}
+tr.warn td:first-child{border-left:4px dashed #222}
+.hists{display:grid;grid-template-columns:repeat(auto-fill,minmax(330px,1fr));gap:1em}
+.hists figure{margin:0}.hists figcaption{font-size:12px;color:#444}
+.note{color:#555;font-size:12.5px}
+"""
+
+_JS = """
+(function () {
+  var table = document.getElementById('elements');
+  if (!table) { return; }
+  var tbody = table.tBodies[0];
+  var rows = Array.prototype.slice.call(tbody.rows);
+  var heads = Array.prototype.slice.call(table.tHead.rows[0].cells);
+  var filter = document.getElementById('filter');
+  var verdict = document.getElementById('verdict-filter');
+  var shown = document.getElementById('shown');
+  var sortCol = -1, ascending = true;
+  function key(row, col, numeric) {
+    var cell = row.cells[col];
+    if (!numeric) { return cell.textContent.toLowerCase(); }
+    var v = cell.getAttribute('data-v');
+    return (v === null || v === '') ? NaN : Number(v);
+  }
+  function compare(col, numeric, sign) {
+    return function (a, b) {
+      var x = key(a, col, numeric), y = key(b, col, numeric);
+      if (numeric) {
+        var xn = isNaN(x), yn = isNaN(y);
+        if (xn || yn) { return xn === yn ? 0 : (xn ? 1 : -1); }  /* undefined last */
+        return x === y ? 0 : (x < y ? -sign : sign);
+      }
+      return x === y ? 0 : (x < y ? -sign : sign);
+    };
+  }
+  function sortBy(col) {
+    ascending = (col === sortCol) ? !ascending : true;
+    sortCol = col;
+    var numeric = heads[col].getAttribute('data-type') === 'number';
+    rows.sort(compare(col, numeric, ascending ? 1 : -1));
+    rows.forEach(function (r) { tbody.appendChild(r); });
+    heads.forEach(function (h, k) {
+      if (k === col) { h.setAttribute('aria-sort', ascending ? 'ascending' : 'descending'); }
+      else { h.removeAttribute('aria-sort'); }
+    });
+  }
+  function applyFilter() {
+    var terms = filter.value.toLowerCase().split(/\\s+/).filter(Boolean);
+    var wanted = verdict.value, count = 0;
+    rows.forEach(function (r) {
+      var text = r.getAttribute('data-text');
+      var ok = (wanted === 'all' || r.getAttribute('data-verdict') === wanted) &&
+        terms.every(function (t) { return text.indexOf(t) >= 0; });
+      r.hidden = !ok;
+      if (ok) { count += 1; }
+    });
+    shown.textContent = String(count);
+  }
+  heads.forEach(function (h, k) { h.addEventListener('click', function () { sortBy(k); }); });
+  filter.addEventListener('input', applyFilter);
+  verdict.addEventListener('change', applyFilter);
+  applyFilter();
+})();
+"""
+
+
+def plot_png(report: Report, elements: ElementMesh, color_by: str) -> str:
+    """The plot as a base64 PNG string."""
+    buf = io.BytesIO()
+    plot.draw(report, elements, color_by).savefig(buf, format="png", dpi=100)
+    return base64.b64encode(buf.getvalue()).decode("ascii")
+
+
+def _number_cell(x: float, digits: str = ".4g") -> str:
+    x = float(x)
+    if np.isnan(x):
+        return '<td class="n" data-v="">-</td>'
+    v = json.dumps(x) if np.isfinite(x) else ("Infinity" if x > 0 else "-Infinity")
+    return f'<td class="n" data-v="{v}">{escape(_fmt(x))}</td>'
+
+
+def table_columns() -> list[tuple[str, str]]:
+    """(header, type) of every table column; type is 'number' or 'text'."""
+    cols = [("id", "number"), ("type", "text"), ("verdict", "text"), ("score", "number")]
+    cols += [("invalid", "text"), ("breached (value / limit)", "text")]
+    cols += [(m, "number") for m in METRIC_NAMES if m != "score"]
+    return cols
+
+
+def table_rows(report: Report) -> tuple[np.ndarray, list[str]]:
+    """Report indices listed (worst first, capped) and their <tr> HTML."""
+    rows = report.worst(only_flagged=True)[:MAX_ROWS]
+    flag_text = report.flag_strings(", ")
+    html = []
+    for i in rows:
+        i = int(i)
+        breached = report.breached(i)
+        breach_html = "<br>".join(
+            escape(f"{m} {_fmt(v)} / {_fmt(lim)}") for m, (v, _lvl, lim) in breached.items()
+        )
+        verdict = str(report.verdict_names[i])
+        kind = report.cell_types[int(report.type_codes[i])]
+        flags = str(flag_text[i])
+        validity = ", ".join(f for f in flags.split(", ") if f in VALIDITY_FLAGS)
+        text = " ".join((str(int(report.ids[i])), kind, verdict, flags.replace(",", ""))).lower()
+        cells = [
+            _number_cell(report.ids[i]),
+            f"<td>{escape(kind)}</td>",
+            f"<td>{escape(verdict)}</td>",
+            _number_cell(report.score[i]),
+            f"<td>{escape(validity) or '-'}</td>",
+            f'<td class="b">{breach_html or "-"}</td>',
+            *(_number_cell(report.metrics[m][i]) for m in METRIC_NAMES if m != "score"),
+        ]
+        html.append(
+            f'<tr class="{verdict}" data-id="{int(report.ids[i])}" data-verdict="{verdict}" '
+            f'data-text="{escape(text)}">' + "".join(cells) + "</tr>"
+        )
+    return rows, html
+
+
+def histogram_svg(report: Report, metric: str) -> str | None:
+    """Inline SVG histogram of one metric with its warn/fail limits; None if no values."""
+    values = np.asarray(report.metrics[metric], dtype=float)
+    finite = values[np.isfinite(values)]
+    if finite.size == 0:
+        return None
+    lo, hi = float(finite.min()), float(finite.max())
+    if hi <= lo:
+        lo, hi = lo - 0.5, hi + 0.5
+    counts, edges = np.histogram(finite, bins=HIST_BINS, range=(lo, hi))
+    w, h, left, bottom, top = 320.0, 150.0, 36.0, 24.0, 8.0
+    pw, ph = w - left - 8.0, h - bottom - top
+    peak = max(int(counts.max()), 1)
+
+    def sx(x: float) -> float:
+        return left + (x - lo) / (hi - lo) * pw
+
+    parts = [
+        f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {w:g} {h:g}" width="{w:g}" '
+        f'height="{h:g}" role="img" aria-label="histogram of {metric}">'
+    ]
+    for c, a, b in zip(counts, edges[:-1], edges[1:]):
+        if c:
+            bh = c / peak * ph
+            bw = max(sx(b) - sx(a) - 0.5, 0.5)
+            parts.append(
+                f'<rect x="{sx(a):.2f}" y="{top + ph - bh:.2f}" width="{bw:.2f}" '
+                f'height="{bh:.2f}" fill="{BAR}"><title>{a:.4g} to {b:.4g}: {int(c)}</title></rect>'
+            )
+    parts.append(_limit_marks(report, metric, lo, hi, sx, top, ph))
+    y0 = top + ph
+    parts.append(f'<line x1="{left}" y1="{y0}" x2="{left + pw}" y2="{y0}" stroke="#222"/>')
+    parts.append(
+        f'<text x="{left}" y="{h - 6}" font-size="10">{escape(_fmt(lo))}</text>'
+        f'<text x="{left + pw}" y="{h - 6}" font-size="10" text-anchor="end">'
+        f"{escape(_fmt(hi))}</text>"
+        f'<text x="{left - 4}" y="{top + 8}" font-size="10" text-anchor="end">{peak}</text>'
+        f'<text x="{left - 4}" y="{y0}" font-size="10" text-anchor="end">0</text>'
+    )
+    parts.append("</svg>")
+    return "".join(parts)
+
+
+def _limit_marks(report: Report, metric: str, lo: float, hi: float, sx, top, ph) -> str:
+    marks = []
+    for family in report.cell_families:
+        lim = report.profile.limit(family, metric)
+        if lim is None:
+            continue
+        for kind, value, dash in (("warn", lim.warn, "4 3"), ("fail", lim.fail, "")):
+            if value is None or not lo <= value <= hi:
+                continue
+            x = sx(value)
+            marks.append(
+                f'<line x1="{x:.2f}" y1="{top}" x2="{x:.2f}" y2="{top + ph}" stroke="#222" '
+                f'stroke-width="1.2" stroke-dasharray="{dash}"><title>{family} {kind} limit '
+                f"{value:g}</title></line>"
+                f'<text x="{x + 2:.2f}" y="{top + 9}" font-size="9">{family[0]} {kind}</text>'
+            )
+    return "".join(marks)
+
+
+def _summary(report: Report) -> str:
+    s = report.summary
+    counts = report.verdict_counts()
+    flags = ", ".join(f"{k} {v}" for k, v in report.flag_counts().items()) or "none"
+    facts = [
+        ("file", s.source),
+        ("nodes", f"{s.n_points:,}"),
+        ("elements", ", ".join(f"{v:,} {k}" for k, v in s.element_counts.items())),
+        ("skipped cells", ", ".join(f"{v:,} {k}" for k, v in s.skipped.items()) or "none"),
+        ("geometry", s.frame),
+        ("profile", f"{report.profile.name} ({report.profile.origin})"),
+        ("gate", f"fails on {report.fail_on}"),
+        ("verdicts", f"{counts['fail']} fail, {counts['warn']} warn, {counts['ok']} ok"),
+        ("flags", flags),
+    ]
+    items = "".join(f"<dt>{escape(k)}</dt><dd>{escape(v)}</dd>" for k, v in facts)
+    return f'<dl class="facts" id="summary">{items}</dl>'
+
+
+def _table(report: Report) -> str:
+    rows, html_rows = table_rows(report)
+    n_flagged = int((report.verdict > 0).sum())
+    if n_flagged == 0:
+        return '<p id="no-elements">Every element is ok.</p>'
+    head = "".join(
+        f'<th data-type="{t}" scope="col">{escape(name)}</th>' for name, t in table_columns()
+    )
+    capped = (
+        f'<p class="note">Listing the worst {len(rows)} of {n_flagged}; the JSON and CSV '
+        "reports list every element.</p>"
+        if len(rows) < n_flagged
+        else ""
+    )
+    return (
+        '<div class="controls"><label>Filter <input id="filter" type="search" '
+        'placeholder="id, type or flag words, e.g. inverted quad"></label>'
+        '<label>Verdict <select id="verdict-filter"><option value="all">all</option>'
+        '<option value="fail">fail</option><option value="warn">warn</option></select></label>'
+        f'<span>showing <b id="shown">{len(rows)}</b> of {len(rows)}; click a column '
+        "heading to sort</span></div>"
+        f'{capped}<table class="elements" id="elements"><thead><tr>{head}</tr></thead>'
+        f"<tbody>{''.join(html_rows)}</tbody></table>"
+    )
+
+
+def _histograms(report: Report) -> str:
+    figs = []
+    for name in METRIC_NAMES:
+        svg = histogram_svg(report, name)
+        if svg is None:
+            continue
+        info = METRIC_INFO[name]
+        inf = int(np.isinf(report.metrics[name]).sum())
+        extra = f"; {inf} infinite, not drawn" if inf else ""
+        unit = "" if info.unit == "1" else f" [{info.unit}]"
+        figs.append(
+            f'<figure data-metric="{name}">{svg}<figcaption><b>{name}</b>{escape(unit)}: '
+            f"{escape(info.meaning)}{extra}. Dashed: warn limit, solid: fail limit.</figcaption>"
+            "</figure>"
+        )
+    return f'<div class="hists">{"".join(figs)}</div>'
+
+
+def render(report: Report, elements: ElementMesh, color_by: str = "score") -> str:
+    """The whole HTML document as a string."""
+    name = escape(Path(report.summary.source).name)
+    word = "PASS" if report.passed else "FAIL"
+    png = plot_png(report, elements, color_by)
+    return (
+        '<!DOCTYPE html><html lang="en"><head><meta charset="utf-8">'
+        '<meta name="viewport" content="width=device-width, initial-scale=1">'
+        f"<title>meshaudit: {name}: {word}</title><style>{_CSS}</style></head><body>"
+        f'<h1><span class="verdict {word.lower()}" id="verdict">{word}</span> {name}</h1>'
+        f"<p>{escape(plot.title(report))}</p>"
+        f"<h2>Summary</h2>{_summary(report)}"
+        f'<h2>Mesh coloured by {escape(color_by)}</h2><img class="plot" id="plot" '
+        f'alt="mesh coloured by {escape(color_by)}, failing elements outlined" '
+        f'src="data:image/png;base64,{png}">'
+        f"<h2>Elements not ok</h2>{_table(report)}"
+        f"<h2>Distributions</h2>{_histograms(report)}"
+        f'<p class="note">meshaudit {escape(__version__)}</p>'
+        f"<script>{_JS}</script></body></html>\n"
+    )

@@ -1,0 +1,391 @@
+"""The mesh drawn with every element coloured by one metric and the flagged ones outlined.
+
+- faces: one collection, coloured on viridis (darker is always worse: the map is reversed
+  for metrics where a high value is worse), with a labelled colourbar; NaN (metric not
+  defined for that element type) is light grey, an infinite value takes the worst end;
+- failing elements: one solid black outline with a white halo, labelled with their ids;
+- warn elements: a thinner dashed outline, not labelled;
+- insets: close-ups of the worst few flagged elements and their surroundings;
+- mesh-level findings (when the report carries any): dash-dot polylines and node crosses.
+
+matplotlib is imported here only, so the command line starts fast without it. Figures are
+built on ``matplotlib.figure.Figure`` directly (no pyplot state, Agg-family canvases), and
+large meshes are drawn with a handful of collections whatever their size.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from pathlib import Path
+from typing import TYPE_CHECKING, Any
+
+import numpy as np
+
+from ..elements import ElementMesh
+from ..errors import OutputError
+from ..inspection import corner_table
+from ..metrics import METRIC_INFO, METRIC_NAMES
+from ..report import Report
+from ..verdicts import FAIL, WARN
+from .projection import View, best_fit_view
+
+if TYPE_CHECKING:
+    from matplotlib.axes import Axes
+    from matplotlib.figure import Figure
+
+#: Above this many elements faces lose their edge lines and are rasterized in SVG/PDF.
+LARGE_MESH = 20_000
+#: At most this many failing elements get an id label (the rest are outlined only).
+MAX_LABELS = 40
+#: Close-ups of the worst flagged elements.
+DEFAULT_INSETS = 6
+FORMATS = {".png": "png", ".svg": "svg", ".pdf": "pdf"}
+
+OUTLINE = "black"
+HALO = "white"
+FAIL_WIDTH, WARN_WIDTH = 1.6, 0.9
+WARN_DASH = (0, (3.0, 2.0))
+FINDING_DASH = (0, (6.0, 2.0, 1.5, 2.0))
+NOT_DEFINED = "#d9d9d9"
+
+
+def plot_format(path: Path) -> str:
+    """matplotlib format name from the file extension; OutputError for anything else."""
+    fmt = FORMATS.get(path.suffix.lower())
+    if fmt is None:
+        raise OutputError(f"{path}: plot file must end in .png, .svg or .pdf")
+    return fmt
+
+
+def mesh_view(report: Report, elements: ElementMesh) -> View:
+    """The page a whole mesh is drawn on: its plane if planar, else its best-fit plane."""
+    used = np.unique(corner_table(elements))
+    view = best_fit_view(elements.points[used])
+    normal = report.summary.normal
+    if report.summary.frame == "planar" and normal is not None:
+        if float(np.dot(view.normal, normal)) < 0.0:  # look from the side the mesh faces
+            view = View(view.origin, np.stack([view.axes[0], -view.axes[1]]), -view.normal)
+    return view
+
+
+def colour_scale(report: Report, color_by: str) -> tuple[np.ndarray, Any, Any, str]:
+    """(values to draw, colormap, norm, colourbar label) for metric ``color_by``."""
+    from matplotlib import colormaps
+    from matplotlib.colors import Normalize
+
+    info = METRIC_INFO[color_by]
+    values = np.asarray(report.metrics[color_by], dtype=float)
+    finite = values[np.isfinite(values)]
+    lo, hi = (float(finite.min()), float(finite.max())) if finite.size else (0.0, 1.0)
+    if color_by == "score":
+        lo, hi = 0.0, 1.0
+    if hi <= lo:
+        lo, hi = lo - 0.5, hi + 0.5
+    big = np.finfo(float).max
+    drawn = np.where(np.isposinf(values), big, np.where(np.isneginf(values), -big, values))
+    cmap = colormaps["viridis_r" if info.worse == "high" else "viridis"].with_extremes(
+        bad=NOT_DEFINED
+    )
+    unit = "" if info.unit == "1" else f" [{info.unit}]"
+    direction = {"high": "larger is worse", "low": "smaller is worse"}.get(info.worse, "")
+    label = f"{color_by}{unit}: {info.meaning}" + (f" ({direction}; darker)" if direction else "")
+    return np.ma.masked_invalid(drawn), cmap, Normalize(lo, hi), label
+
+
+def draw(
+    report: Report,
+    elements: ElementMesh,
+    color_by: str = "score",
+    insets: int = DEFAULT_INSETS,
+) -> Figure:
+    """Build the figure (nothing is written). Labelled ids are texts with gid 'fail-id'."""
+    from matplotlib.figure import Figure
+
+    if color_by not in METRIC_NAMES:
+        raise OutputError(f"cannot colour by {color_by!r}: not a metric")
+    view = mesh_view(report, elements)
+    table = corner_table(elements)
+    xy = view.project(elements.points)
+    verts = xy[table]
+    values, cmap, norm, label = colour_scale(report, color_by)
+    order = _draw_order(report, elements, table, view)
+    worst = report.worst(insets) if insets > 0 else np.empty(0, dtype=np.int64)
+
+    fig = Figure(figsize=(14.0, 9.0), layout="constrained")
+    ax, inset_axes = _layout(fig, len(worst))
+    faces = _faces(ax, verts, values, cmap, norm, order)
+    _outlines(ax, report, verts)
+    _label_failing(ax, report, verts)
+    draw_findings(ax, report, view, elements.points)
+    _frame(ax, verts)
+    bar = fig.colorbar(faces, ax=ax, orientation="horizontal", fraction=0.045, pad=0.02)
+    bar.set_label(label)
+    _legend(ax, values)
+    for sub, i in zip(inset_axes, worst):
+        _inset(sub, report, verts, values, cmap, norm, int(i), color_by)
+    fig.suptitle(title(report), fontsize=12, fontweight="bold")
+    ax.set_title(_subtitle(report, color_by, view), fontsize=9)
+    return fig
+
+
+def render(
+    path: Path,
+    report: Report,
+    elements: ElementMesh,
+    color_by: str = "score",
+    fmt: str | None = None,
+) -> None:
+    """Draw and save to ``path`` in ``fmt`` (default: from ``path``'s extension)."""
+    fig = draw(report, elements, color_by)
+    fig.savefig(path, format=fmt or plot_format(path), dpi=150)
+
+
+def title(report: Report) -> str:
+    c = report.verdict_counts()
+    word = "PASS" if report.passed else "FAIL"
+    name = Path(report.summary.source).name
+    return (
+        f"{word}: {name}: {c['fail']} of {len(report)} elements fail, {c['warn']} warn, "
+        f"{c['ok']} ok (profile {report.profile.name})"
+    )
+
+
+def _subtitle(report: Report, color_by: str, view: View) -> str:
+    if report.summary.frame == "planar":
+        where = "drawn in the mesh plane"
+    else:
+        n = ", ".join(f"{c:.2f}" for c in view.normal)
+        where = f"shell drawn on its best-fit plane (normal {n})"
+    return f"coloured by {color_by}; {where}"
+
+
+def _layout(fig: Figure, n_insets: int) -> tuple[Axes, list[Axes]]:
+    if n_insets == 0:
+        return fig.add_subplot(1, 1, 1), []
+    grid = fig.add_gridspec(3, 3, width_ratios=(3.6, 1.0, 1.0))
+    ax = fig.add_subplot(grid[:, 0])
+    cells = [grid[r, c] for r in range(3) for c in (1, 2)]
+    return ax, [fig.add_subplot(cell) for cell in cells[:n_insets]]
+
+
+def _draw_order(
+    report: Report, elements: ElementMesh, table: np.ndarray, view: View
+) -> np.ndarray | None:
+    """Back-to-front order for shells (None keeps file order for planar meshes)."""
+    if report.summary.frame == "planar":
+        return None
+    return np.argsort(view.depth(elements.points[table].mean(axis=1)), kind="stable")
+
+
+def _faces(ax: Axes, verts, values, cmap, norm, order) -> Any:
+    from matplotlib.collections import PolyCollection
+
+    n = len(verts)
+    if order is not None:
+        verts, values = verts[order], values[order]
+    large = n > LARGE_MESH
+    faces = PolyCollection(
+        verts,
+        array=values,
+        cmap=cmap,
+        norm=norm,
+        edgecolors="face" if large else "white",
+        linewidths=0.0 if large else 0.3,
+        antialiaseds=not large,
+        rasterized=large,
+        gid="faces",
+    )
+    ax.add_collection(faces)
+    return faces
+
+
+def _outline_styles() -> dict[int, dict[str, Any]]:
+    from matplotlib import patheffects
+
+    def halo(width: float) -> list[Any]:
+        return [patheffects.withStroke(linewidth=width + 1.6, foreground=HALO)]
+
+    return {
+        FAIL: {
+            "linewidths": FAIL_WIDTH,
+            "linestyles": "solid",
+            "path_effects": halo(FAIL_WIDTH),
+            "zorder": 4,
+        },
+        WARN: {
+            "linewidths": WARN_WIDTH,
+            "linestyles": WARN_DASH,
+            "path_effects": halo(WARN_WIDTH),
+            "zorder": 3,
+        },
+    }
+
+
+def _outline(ax: Axes, verts: np.ndarray, verdict: int, gid: str) -> None:
+    from matplotlib.collections import PolyCollection
+
+    if len(verts) == 0:
+        return
+    style = _outline_styles()[verdict]
+    ax.add_collection(
+        PolyCollection(verts, facecolors="none", edgecolors=OUTLINE, gid=gid, **style)
+    )
+
+
+def _outlines(ax: Axes, report: Report, verts: np.ndarray) -> None:
+    failing = report.failing
+    _outline(ax, verts[failing], FAIL, "fail-outline")
+    _outline(ax, verts[(report.verdict == WARN) & ~failing], WARN, "warn-outline")
+
+
+#: Label offsets in points, cycled so neighbouring labels do not sit on each other.
+_OFFSETS = ((14, 14), (-14, 14), (14, -14), (-14, -14), (0, 20), (0, -20), (20, 0), (-20, 0))
+
+
+def labelled_rows(report: Report) -> np.ndarray:
+    """Report indices whose ids the plot labels: the failing ones, worst first, capped."""
+    rows = report.worst(only_flagged=True)
+    return rows[report.failing[rows]][:MAX_LABELS]
+
+
+def _label_failing(ax: Axes, report: Report, verts: np.ndarray) -> None:
+    rows = labelled_rows(report)
+    centres = verts[rows].mean(axis=1)
+    for k, (i, c) in enumerate(zip(rows, centres)):
+        ax.annotate(
+            str(int(report.ids[i])),
+            xy=(float(c[0]), float(c[1])),
+            xytext=_OFFSETS[k % len(_OFFSETS)],
+            textcoords="offset points",
+            ha="center",
+            va="center",
+            fontsize=7.5,
+            gid="fail-id",
+            zorder=6,
+            bbox={"boxstyle": "round,pad=0.2", "fc": "white", "ec": OUTLINE, "lw": 0.6},
+            arrowprops={"arrowstyle": "-", "color": OUTLINE, "lw": 0.6},
+        )
+    hidden = int(report.failing.sum()) - len(rows)
+    if hidden > 0:
+        ax.text(
+            0.01,
+            0.01,
+            f"{hidden} more failing elements outlined, not labelled",
+            transform=ax.transAxes,
+            fontsize=8,
+        )
+
+
+def _frame(ax: Axes, verts: np.ndarray) -> None:
+    flat = verts.reshape(-1, 2)
+    lo, hi = flat.min(axis=0), flat.max(axis=0)
+    pad = 0.04 * float(max(hi - lo)) or 1.0
+    ax.set_xlim(lo[0] - pad, hi[0] + pad)
+    ax.set_ylim(lo[1] - pad, hi[1] + pad)
+    ax.set_aspect("equal")
+    ax.tick_params(labelsize=8)
+
+
+def _legend(ax: Axes, values: np.ndarray) -> None:
+    from matplotlib.lines import Line2D
+    from matplotlib.patches import Patch
+
+    styles = _outline_styles()
+    handles = [
+        Line2D([], [], color=OUTLINE, lw=FAIL_WIDTH, label="fails (id labelled)"),
+        Line2D([], [], color=OUTLINE, lw=WARN_WIDTH, ls=styles[WARN]["linestyles"], label="warn"),
+    ]
+    if np.ma.count_masked(values):
+        handles.append(Patch(fc=NOT_DEFINED, label="metric not defined"))
+    ax.legend(
+        handles=handles,
+        loc="lower left",
+        bbox_to_anchor=(0.0, 1.04),
+        ncol=len(handles),
+        fontsize=8,
+        frameon=False,
+    )
+
+
+def _window(verts: np.ndarray, i: int) -> tuple[np.ndarray, np.ndarray]:
+    """Square close-up window around element ``i``: (lower-left, upper-right)."""
+    mine = verts[i]
+    lo, hi = mine.min(axis=0), mine.max(axis=0)
+    size = float(max(hi - lo)) or 1.0
+    centre = (lo + hi) / 2.0
+    half = 1.1 * size
+    return centre - half, centre + half
+
+
+def _inset(ax: Axes, report: Report, verts, values, cmap, norm, i: int, color_by: str) -> None:
+    from matplotlib.collections import PolyCollection
+
+    lo, hi = _window(verts, i)
+    near = (verts.max(axis=1) >= lo).all(axis=1) & (verts.min(axis=1) <= hi).all(axis=1)
+    rows = np.flatnonzero(near)
+    ax.add_collection(
+        PolyCollection(
+            verts[rows], array=values[rows], cmap=cmap, norm=norm, edgecolors="white", lw=0.5
+        )
+    )
+    verdict = FAIL if report.failing[i] else WARN
+    _outline(ax, verts[i : i + 1], verdict, "inset-outline")
+    ax.plot(*verts[i].T, "o", ms=2.5, color=OUTLINE, zorder=5)
+    ax.set_xlim(lo[0], hi[0])
+    ax.set_ylim(lo[1], hi[1])
+    ax.set_aspect("equal")
+    ax.set_xticks([])
+    ax.set_yticks([])
+    value = float(report.metrics[color_by][i])
+    ax.set_title(
+        f"id {int(report.ids[i])}: {report.verdict_names[i]}\n{color_by} {value:.3g}",
+        fontsize=8.5,
+    )
+
+
+# -- mesh-level findings ---------------------------------------------------------------------
+def _field(finding: Any, name: str) -> Any:
+    if isinstance(finding, dict):
+        return finding.get(name)
+    return getattr(finding, name, None)
+
+
+def finding_geometry(
+    findings: Sequence[Any], points: np.ndarray
+) -> tuple[list[np.ndarray], np.ndarray]:
+    """Polylines (each (m, 3) coordinates) and node indices named by mesh-level findings.
+
+    A finding may carry ``polylines`` (node-index or coordinate arrays) and ``node_ids``
+    (0-based node indices); findings without them add nothing.
+    """
+    lines: list[np.ndarray] = []
+    nodes: list[np.ndarray] = []
+    for f in findings:
+        for line in _field(f, "polylines") or []:
+            arr = np.asarray(line)
+            lines.append(points[arr] if np.issubdtype(arr.dtype, np.integer) else arr)
+        ids = _field(f, "node_ids")
+        if ids is not None and len(ids):
+            nodes.append(np.asarray(ids, dtype=np.int64))
+    node_ids = np.concatenate(nodes) if nodes else np.empty(0, dtype=np.int64)
+    return lines, node_ids
+
+
+def draw_findings(ax: Axes, report: Report, view: View, points: np.ndarray | None = None) -> None:
+    """Draw the report's mesh-level findings, if it has any (hook for ``report.findings``)."""
+    from matplotlib.collections import LineCollection
+
+    findings = getattr(report, "findings", None)
+    if not findings or points is None:
+        return
+    lines, node_ids = finding_geometry(findings, points)
+    if lines:
+        segs = [view.project(np.asarray(line, dtype=float)[:, :3]) for line in lines]
+        ax.add_collection(
+            LineCollection(
+                segs, colors=OUTLINE, linewidths=1.8, linestyles=FINDING_DASH, gid="findings"
+            )
+        )
+    if node_ids.size:
+        xy = view.project(points[node_ids])
+        ax.plot(xy[:, 0], xy[:, 1], "x", color=OUTLINE, ms=6, mew=1.4, gid="finding-nodes")

@@ -1,0 +1,74 @@
+"""Drawing coordinates: how a planar mesh or a shell in 3-D is laid onto the page.
+
+A planar mesh is drawn in its own plane (x-y as is for an x-y mesh). A shell surface is
+drawn projected onto the best-fit plane of all its nodes (the two largest principal
+directions of the node cloud), seen from the side its normal points to; faces are drawn
+back to front so nearer elements cover farther ones where the projection overlaps.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+
+@dataclass(frozen=True)
+class View:
+    """An orthographic view: page x = (p - origin) . axes[0], page y = (p - origin) . axes[1]."""
+
+    origin: np.ndarray  # (3,)
+    axes: np.ndarray  # (2, 3) unit vectors
+    normal: np.ndarray  # (3,) towards the viewer
+
+    def project(self, points: np.ndarray) -> np.ndarray:
+        """Page coordinates (..., 2) of points (..., 3), in the mesh's length unit."""
+        return (points - self.origin) @ self.axes.T
+
+    def depth(self, points: np.ndarray) -> np.ndarray:
+        """Distance towards the viewer (larger is nearer), same leading shape as points."""
+        return (points - self.origin) @ self.normal
+
+
+def _orient(axes: np.ndarray) -> np.ndarray:
+    """Flip principal directions so each has a positive largest component (stable views)."""
+    out = axes.copy()
+    for k in range(out.shape[0]):
+        if out[k, np.argmax(np.abs(out[k]))] < 0:
+            out[k] = -out[k]
+    return out
+
+
+def best_fit_view(points: np.ndarray) -> View:
+    """View onto the best-fit plane of ``points`` (n, 3); x-y as is when they are flat in z."""
+    centre = points.mean(axis=0) if len(points) else np.zeros(3)
+    if len(points) < 3 or np.ptp(points[:, 2]) == 0.0:  # x-y mesh: page = model x, y
+        return View(np.zeros(3), np.eye(3)[:2], np.array([0.0, 0.0, 1.0]))
+    sample = points if len(points) <= 200_000 else points[:: len(points) // 200_000 + 1]
+    _, _, vt = np.linalg.svd(sample - centre, full_matrices=False)
+    axes = _orient(vt[:2])
+    normal = np.cross(axes[0], axes[1])
+    return View(centre, axes, normal)
+
+
+def plane_view(corners: np.ndarray) -> View:
+    """View onto one element's own best-fit plane; ``corners`` (k, 3) in node order.
+
+    Page x runs along the element's first edge and the normal follows the node order, so
+    the element is drawn as it is measured (a clockwise element stays clockwise in a
+    planar x-y mesh because the caller passes the mesh plane instead).
+    """
+    centre = corners.mean(axis=0)
+    if len(corners) == 4:
+        normal = np.cross(corners[2] - corners[0], corners[3] - corners[1])
+    else:
+        normal = np.cross(corners[1] - corners[0], corners[2] - corners[0])
+    length = np.linalg.norm(normal)
+    if length == 0.0:
+        return best_fit_view(corners)
+    normal = normal / length
+    t1 = corners[1] - corners[0]
+    t1 = t1 - (t1 @ normal) * normal
+    t1 = t1 / (np.linalg.norm(t1) or 1.0)
+    t2 = np.cross(normal, t1)
+    return View(centre, np.stack([t1, t2]), normal)
