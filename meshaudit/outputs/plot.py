@@ -98,7 +98,11 @@ def draw(
     color_by: str = "score",
     insets: int = DEFAULT_INSETS,
 ) -> Figure:
-    """Build the figure (nothing is written). Labelled ids are texts with gid 'fail-id'."""
+    """Build the figure (nothing is written).
+
+    Each id label is a text artist with gid ``fail-id-<id>`` (kept as the element id in
+    SVG output), so callers and tests can read back which elements were labelled.
+    """
     from matplotlib.figure import Figure
 
     if color_by not in METRIC_NAMES:
@@ -119,6 +123,7 @@ def draw(
     draw_findings(ax, report, view, elements.points)
     _frame(ax, verts)
     bar = fig.colorbar(faces, ax=ax, orientation="horizontal", fraction=0.045, pad=0.02)
+    bar.ax.set_gid("colourbar")
     bar.set_label(label)
     _legend(ax, values)
     for sub, i in zip(inset_axes, worst):
@@ -260,7 +265,7 @@ def _label_failing(ax: Axes, report: Report, verts: np.ndarray) -> None:
             ha="center",
             va="center",
             fontsize=7.5,
-            gid="fail-id",
+            gid=f"fail-id-{int(report.ids[i])}",
             zorder=6,
             bbox={"boxstyle": "round,pad=0.2", "fc": "white", "ec": OUTLINE, "lw": 0.6},
             arrowprops={"arrowstyle": "-", "color": OUTLINE, "lw": 0.6},

@@ -1,0 +1,86 @@
+"""explain: det J at Gauss points and nodes, metrics against limits, the element figure."""
+
+from __future__ import annotations
+
+import json
+
+import meshio
+import numpy as np
+import pytest
+import skfem
+from inspect_meshes import planted_plate
+
+from meshaudit.explain import explain
+from meshaudit.inspection import audit_mesh
+from meshaudit.metrics.quad import corner_jacobians, gauss_jacobians
+from meshaudit.outputs import explain_plot
+
+G = 1.0 / np.sqrt(3.0)  # 2x2 Gauss-Legendre abscissa
+
+
+def one_quad(corners) -> meshio.Mesh:
+    return meshio.Mesh(np.asarray(corners, dtype=float), [("quad", np.array([[0, 1, 2, 3]]))])
+
+
+def test_rectangle_det_j_is_b_times_h_everywhere():
+    # A 2b x 2h rectangle maps from [-1, 1]^2 with det J = b*h at every point
+    # (common practice check value for the bilinear quad).
+    b, h = 3.0, 1.25
+    ex = explain(audit_mesh(one_quad([[0, 0], [2 * b, 0], [2 * b, 2 * h], [0, 2 * h]])), 1)
+    np.testing.assert_allclose(ex.det_j_gauss, b * h, rtol=1e-12)
+    np.testing.assert_allclose(ex.det_j_nodes, b * h, rtol=1e-12)
+    np.testing.assert_allclose(np.abs(ex.gauss_points), G, rtol=1e-12)
+    assert ex.verdict == "ok" and ex.breaches == []
+
+
+def test_distorted_quad_matches_scikit_fem_and_our_kernel():
+    corners = np.array([[0.0, 0.0], [3.0, 0.2], [3.5, 2.0], [0.2, 1.5]])
+    ex = explain(audit_mesh(one_quad(corners)), 1)
+    np.testing.assert_allclose(ex.det_j_gauss, gauss_jacobians(corners[None])[0], rtol=1e-12)
+    np.testing.assert_allclose(ex.det_j_nodes, corner_jacobians(corners[None])[0], rtol=1e-12)
+    # scikit-fem's isoparametric map lives on [0, 1]^2: X = (xi + 1) / 2, so its
+    # det DF is 4 det J at the same physical points.
+    mesh = skfem.MeshQuad1(corners.T, np.array([[0], [1], [2], [3]]))
+    ref01 = (ex.gauss_points.T + 1.0) / 2.0
+    np.testing.assert_allclose(mesh._mapping().detDF(ref01)[0] / 4.0, ex.det_j_gauss, rtol=1e-12)
+
+
+def test_reversed_quad_explained(run_cli, tmp_path):
+    source = tmp_path / "plate.vtu"
+    meshio.write(source, planted_plate())
+    result = run_cli(
+        "explain", source, "8", "--json", tmp_path / "e.json", "--plot", tmp_path / "e.png"
+    )
+    assert result.returncode == 1, result.stderr  # element 8 fails
+    doc = json.loads((tmp_path / "e.json").read_text())
+    # unit square traversed clockwise: det J = -(1/2)(1/2) = -0.25 everywhere (b = h = 1/2)
+    assert [g["det_j"] for g in doc["gauss_points"]] == pytest.approx([-0.25] * 4)
+    assert [n["det_j"] for n in doc["det_j_nodes"]] == pytest.approx([-0.25] * 4)
+    assert {"inverted", "reversed"} <= set(doc["flags"])
+    assert "clockwise" in doc["flag_reasons"]["reversed"]
+    sj = next(m for m in doc["metrics"] if m["name"] == "scaled_jacobian")
+    assert sj["level"] == "fail" and "below the fail limit 0.2" in sj["reason"]
+    assert "det J at the Gauss points" in result.stdout and "-0.25" in result.stdout
+    assert (tmp_path / "e.png").read_bytes().startswith(b"\x89PNG")
+    # neighbours share a node with quad 8 (index 7 at column 1, row 1 of a 6 x 4 grid)
+    assert sorted(doc["neighbours"]) == [1, 2, 3, 7, 9, 13, 14, 15]
+
+
+def test_folded_quad_figure_hatches_the_negative_part():
+    audited = audit_mesh(planted_plate())
+    ex = explain(audited, 15)  # bow-tie: det J changes sign inside the element
+    assert (ex.det_j_gauss > 0).any() and (ex.det_j_gauss < 0).any()
+    fig = explain_plot.draw(audited, ex)
+    gids = {c.get_gid() for c in fig.axes[0].collections}
+    assert {"folded", "grid", "neighbours"} <= gids
+    folded = next(c for c in fig.axes[0].collections if c.get_gid() == "folded")
+    assert 0 < len(folded.get_paths()) < 64  # part of the 8 x 8 grid cells, not all
+
+
+def test_unknown_id_exits_2_with_one_line(run_cli, tmp_path):
+    source = tmp_path / "plate.vtu"
+    meshio.write(source, planted_plate())
+    result = run_cli("explain", source, "999")
+    assert result.returncode == 2
+    assert result.stderr.strip().count("\n") == 0 and "no element with id 999" in result.stderr
+    assert result.stdout == ""

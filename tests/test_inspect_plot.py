@@ -1,0 +1,126 @@
+"""--plot: valid PNG/SVG/PDF files, failing ids labelled, shells projected, big meshes cheap."""
+
+from __future__ import annotations
+
+import re
+import xml.etree.ElementTree as ET
+
+import meshio
+import numpy as np
+import pytest
+from inspect_meshes import curved_shell, grid, planted_plate
+
+from meshaudit.inspection import audit_mesh
+from meshaudit.outputs import plot
+
+PNG_MAGIC = b"\x89PNG\r\n\x1a\n"  # PNG signature (PNG specification, section 5.2)
+
+
+def labelled_ids(fig) -> set[int]:
+    """Ids labelled in a figure: texts whose gid is fail-id-<id>."""
+    ids = set()
+    for ax in fig.axes:
+        for t in ax.texts:
+            gid = t.get_gid() or ""
+            if gid.startswith("fail-id-"):
+                assert t.get_text() == gid[len("fail-id-") :]
+                ids.add(int(t.get_text()))
+    return ids
+
+
+@pytest.fixture(scope="module")
+def plate():
+    return audit_mesh(planted_plate())
+
+
+def test_failing_ids_are_exactly_the_labelled_ones(plate):
+    fig = plot.draw(plate.report, plate.elements)
+    expected = set(plate.report.ids[plate.report.verdict == 2].tolist())
+    assert expected == {8, 15}  # planted: reversed quad and bow-tie (tests/inspect_meshes.py)
+    assert labelled_ids(fig) == expected
+
+
+def test_outline_styles_fail_solid_and_warn_dashed(plate):
+    fig = plot.draw(plate.report, plate.elements)
+    main = fig.axes[0]
+    by_gid = {c.get_gid(): c for c in main.collections}
+    fail, warn = by_gid["fail-outline"], by_gid["warn-outline"]
+    assert len(fail.get_paths()) == 2 and len(warn.get_paths()) == 1
+    assert fail.get_linestyle()[0][1] is None  # solid
+    assert warn.get_linestyle()[0][1] is not None  # dashed
+    assert fail.get_linewidth()[0] > warn.get_linewidth()[0]
+    # perceptually uniform colormap on the faces (matplotlib's viridis family)
+    assert by_gid["faces"].get_cmap().name.startswith("viridis")
+
+
+def test_colourbar_labelled_and_title_has_verdict(plate):
+    fig = plot.draw(plate.report, plate.elements, color_by="aspect_ratio")
+    bar = next(a for a in fig.axes if a.get_gid() == "colourbar")
+    assert "aspect_ratio" in bar.get_xlabel()
+    title = fig.get_suptitle()
+    assert title.startswith("FAIL") and "2 of 26 elements fail, 1 warn, 23 ok" in title
+
+
+def test_insets_show_worst_elements(plate):
+    fig = plot.draw(plate.report, plate.elements)
+    titles = [a.get_title() for a in fig.axes[1:] if a.get_title().startswith("id ")]
+    assert [t.split(":")[0] for t in titles] == ["id 8", "id 15", "id 25"]
+
+
+@pytest.mark.parametrize("suffix", [".png", ".svg", ".pdf"])
+def test_file_formats_are_valid(run_cli, tmp_path, suffix):
+    mesh_file = tmp_path / "plate.vtu"
+    meshio.write(mesh_file, planted_plate())
+    out = tmp_path / f"plot{suffix}"
+    result = run_cli("check", mesh_file, "--plot", out, "--quiet")
+    assert result.returncode == 1, result.stderr
+    data = out.read_bytes()
+    if suffix == ".png":
+        assert data.startswith(PNG_MAGIC)
+        import matplotlib.image
+
+        image = matplotlib.image.imread(out)
+        assert image.shape[0] > 500 and image.shape[1] > 800
+    elif suffix == ".pdf":
+        assert data.startswith(b"%PDF-") and b"%%EOF" in data[-64:]
+    else:
+        root = ET.fromstring(data)  # well-formed XML with the SVG root
+        assert root.tag == "{http://www.w3.org/2000/svg}svg"
+        ids = {int(m) for m in re.findall(rb'id="fail-id-(\d+)"', data)}
+        assert ids == {8, 15}
+
+
+def test_bad_plot_extension_is_one_line_exit_2(run_cli, tmp_path):
+    mesh_file = tmp_path / "plate.vtu"
+    meshio.write(mesh_file, planted_plate())
+    result = run_cli("check", mesh_file, "--plot", tmp_path / "p.gif")
+    assert result.returncode == 2
+    assert result.stderr.count("\n") == 1 and ".png, .svg or .pdf" in result.stderr
+    assert not (tmp_path / "p.gif").exists()
+
+
+def test_shell_is_drawn_on_its_best_fit_plane():
+    audited = audit_mesh(curved_shell())
+    assert audited.report.summary.frame == "shell"
+    view = plot.mesh_view(audited.report, audited.elements)
+    # quarter cylinder around z through angles 0..90 deg: the best-fit plane contains the
+    # axis direction z and the chord direction (1, -1, 0)/sqrt 2; its normal is the bisector
+    # (1, 1, 0)/sqrt 2 (geometry of the shape, common practice).
+    assert abs(abs(view.normal @ np.array([1.0, 1.0, 0.0]) / np.sqrt(2.0)) - 1.0) < 1e-9
+    fig = plot.draw(audited.report, audited.elements)
+    assert labelled_ids(fig) == set(audited.report.ids[audited.report.failing].tolist())
+    assert "best-fit plane" in fig.axes[0].get_title()
+
+
+def test_large_mesh_uses_a_few_collections_not_one_artist_per_element():
+    points, quads = grid(200, 150)  # 30 000 elements
+    points = points.astype(float)
+    quads[[10, 5000]] = quads[[10, 5000]][:, ::-1]  # two reversed (clockwise) quads
+    audited = audit_mesh(meshio.Mesh(points, [("quad", quads)]))
+    fig = plot.draw(audited.report, audited.elements, insets=0)
+    main = fig.axes[0]
+    assert len(main.collections) <= 4
+    faces = next(c for c in main.collections if c.get_gid() == "faces")
+    assert len(faces.get_paths()) == 30_000
+    assert faces.get_rasterized()
+    assert labelled_ids(fig) == {11, 5001}
