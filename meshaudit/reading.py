@@ -52,23 +52,47 @@ def read_meshio(path: str | os.PathLike[str], file_format: str | None = None) ->
             mesh = meshio.read(p, file_format=file_format)
     except InputError:
         raise
+    except SystemExit:  # meshio.read exits after its last reader gives up
+        raise InputError(
+            f"{p}: cannot read mesh (corrupt or not a mesh file: {_reader_said(sink)})"
+        ) from None
     except meshio.ReadError as exc:
-        raise InputError(f"{p}: cannot read mesh: {_one_line(exc)}") from None
+        detail = _one_line(exc, with_kind=False).rstrip(".")
+        if file_format is None and "deduce file format" in detail:
+            detail += "; name the format with --format"
+        raise InputError(f"{p}: cannot read mesh: {detail}") from None
+    except PermissionError:
+        raise InputError(f"{p}: permission denied") from None
     except ImportError as exc:
         raise InputError(f"{p}: reading this format needs a missing library: {exc.name}") from None
     except MemoryError:
         raise InputError(f"{p}: not enough memory to read this mesh") from None
-    except Exception as exc:  # corrupt files make format readers fail in many ways
-        kind = type(exc).__name__
+    except IndexError as exc:  # readers that map node labels fail on a missing node
         raise InputError(
-            f"{p}: cannot read mesh (corrupt or not a mesh file: {kind}: {_one_line(exc)})"
+            f"{p}: cannot read mesh: an element refers to a node that is not in the file "
+            f"(or the file is corrupt: {_one_line(exc)})"
+        ) from None
+    except Exception as exc:  # corrupt files make format readers fail in many ways
+        raise InputError(
+            f"{p}: cannot read mesh (corrupt or not a mesh file: {_one_line(exc)})"
         ) from None
     return mesh
 
 
-def _one_line(exc: BaseException) -> str:
-    text = " ".join(str(exc).split())
-    return text[:200] if text else type(exc).__name__
+def _one_line(exc: BaseException, with_kind: bool = True) -> str:
+    """The exception as 'Kind: message' on one line, at most about 200 characters."""
+    kind = type(exc).__name__
+    text = " ".join(str(exc).split())[:200]
+    if not text:
+        return kind
+    return f"{kind}: {text}" if with_kind else text
+
+
+def _reader_said(sink: io.StringIO) -> str:
+    """What meshio printed before giving up, on one line (its 'Error:' prefix dropped)."""
+    lines = [ln.strip() for ln in sink.getvalue().splitlines() if ln.strip()]
+    lines = [ln.removeprefix("Error:").strip() for ln in lines]
+    return " ".join(lines)[:200] or "the format reader gave up"
 
 
 def _cell_labels(mesh: Any, block_no: int, n: int) -> np.ndarray | None:
