@@ -31,9 +31,11 @@ def check_destination(path: Path, inputs: Sequence[Path] = ()) -> None:
 def write_all(outputs: Sequence[tuple[Path, Renderer]]) -> None:
     """Render every output to a temporary file, then rename them all into place.
 
-    If any renderer fails, every temporary file is removed and nothing is replaced.
+    If any renderer fails, every temporary file is removed and nothing is replaced; an
+    ``OSError`` (disk full, no permission) becomes an :class:`OutputError` naming the file.
     """
     staged: list[tuple[Path, Path]] = []
+    dest = Path(".")
     try:
         for dest, render in outputs:
             fd, tmp = tempfile.mkstemp(
@@ -44,13 +46,17 @@ def write_all(outputs: Sequence[tuple[Path, Renderer]]) -> None:
             os.close(fd)
             staged.append((Path(tmp), dest))
             render(Path(tmp))
-    except BaseException:
+        for tmp, _ in staged:
+            os.chmod(tmp, 0o644)
+        for tmp, dest in staged:
+            os.replace(tmp, dest)
+    except BaseException as exc:
         for tmp, _ in staged:
             tmp.unlink(missing_ok=True)
+        if isinstance(exc, OSError):
+            reason = exc.strerror or type(exc).__name__
+            raise OutputError(f"{dest}: cannot write report: {reason}") from None
         raise
-    for tmp, dest in staged:
-        os.chmod(tmp, 0o644)
-        os.replace(tmp, dest)
 
 
 def write_text(path: Path, text: str) -> None:
