@@ -161,7 +161,8 @@ class Report:
 
         min, 5th percentile, median, 95th percentile and max (non-finite values such as
         an infinite condition number count in 'infinite' and are left out of the
-        percentiles), plus how many elements are past warn and past fail.
+        percentiles), plus how many elements are past the warn limit (those past the fail
+        limit included, as in the JUnit warn-limit case) and past the fail limit.
         """
         stats: dict[str, dict[str, Any]] = {}
         for name in METRIC_NAMES:
@@ -177,7 +178,7 @@ class Report:
             else:
                 entry.update({k: None for k, _ in PERCENTILES})
             lvl = self.levels.get(name)
-            entry["past_warn"] = int((lvl == WARN).sum()) if lvl is not None else 0
+            entry["past_warn"] = int((lvl >= WARN).sum()) if lvl is not None else 0
             entry["past_fail"] = int((lvl == FAIL).sum()) if lvl is not None else 0
             stats[name] = entry
         return stats
