@@ -107,13 +107,14 @@ def worst_table(report: Report, top: int) -> Table | None:
 
 
 def render(report: Report, console: Console, top: int = 10, quiet: bool = False) -> None:
-    """Print the report; with ``quiet`` only the one-line verdict."""
-    if quiet:
-        console.print(verdict_line(report), soft_wrap=True)
-        return
-    parts = [summary_table(report), Text(), distribution_table(report)]
-    worst = worst_table(report, top) if top > 0 else None
-    if worst is not None:
-        parts += [Text(), worst]
-    parts += [Text(), verdict_line(report)]
-    console.print(Group(*parts))
+    """Print the report; with ``quiet`` only the one-line verdict.
+
+    The verdict line is never wrapped, so a CI log can grep it whatever the path length.
+    """
+    if not quiet:
+        parts = [summary_table(report), Text(), distribution_table(report)]
+        worst = worst_table(report, top) if top > 0 else None
+        if worst is not None:
+            parts += [Text(), worst]
+        console.print(Group(*parts, Text()))
+    console.print(verdict_line(report), soft_wrap=True)
