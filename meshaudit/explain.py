@@ -16,10 +16,18 @@ import numpy as np
 from .errors import InputError
 from .frames import choose_frame, to_local
 from .inspection import CORNERS, AuditedMesh, corner_table, element_nodes, neighbours
-from .metrics import METRIC_INFO, METRIC_NAMES
+from .metrics import METRIC_INFO, METRIC_NAMES, quadratic
 from .metrics import quad as quad_metrics
 from .metrics import triangle as triangle_metrics
-from .reference import QUAD_CORNERS, QUAD_GAUSS_2X2
+from .reference import (
+    QUAD8_NODES,
+    QUAD9_NODES,
+    QUAD_CORNERS,
+    QUAD_GAUSS_2X2,
+    QUAD_GAUSS_3X3,
+    TRIANGLE6_NODES,
+    TRIANGLE_GAUSS_3,
+)
 from .report import finite_or_none
 from .verdicts import VERDICT_NAMES
 
@@ -81,8 +89,8 @@ class Explanation:
     coordinates: np.ndarray  # (k, 3)
     gauss_points: np.ndarray  # (m, 2) reference coordinates
     det_j_gauss: np.ndarray  # (m,)
-    node_reference: np.ndarray  # (c, 2) reference coordinates of the corners
-    det_j_nodes: np.ndarray  # (c,) det J at each corner node
+    node_reference: np.ndarray  # (c, 2) reference coordinates of the corners (every node
+    det_j_nodes: np.ndarray  # (c,) det J at each of them        of a quadratic element)
     metrics: list[MetricLine]
     flags: list[str]
     flag_reasons: dict[str, str]
@@ -131,25 +139,43 @@ class Explanation:
         }
 
 
-def local_corners(audited: AuditedMesh, i: int) -> tuple[np.ndarray, np.ndarray, str]:
-    """Corners of element ``i`` in 3-D (c, 3) and laid in its measuring plane (c, 2)."""
+def local_nodes(audited: AuditedMesh, i: int) -> tuple[np.ndarray, str]:
+    """All nodes of element ``i`` laid in its measuring plane (k, 2), as the audit does."""
     family = audited.report.cell_families[int(audited.report.families[i])]
-    nodes = element_nodes(audited.elements, i)[: CORNERS[family]]
-    coords3 = audited.elements.points[nodes]
+    coords3 = audited.elements.points[element_nodes(audited.elements, i)]
     frame = choose_frame(audited.elements)
-    local = to_local(coords3[None], frame)[0]
+    local = to_local(coords3[None], frame, CORNERS[family])[0]
     where = "mesh plane" if frame.kind == "planar" else "element's best-fit plane"
-    return coords3, local, where
+    return local, where
 
 
-def jacobians(family: str, local: np.ndarray) -> tuple[np.ndarray, ...]:
-    """(gauss points, det J there, corner reference points, det J at the corners)."""
+#: Reference Gauss points and node positions of the quadratic cell types.
+QUADRATIC_POINTS = {
+    "quad8": (QUAD_GAUSS_3X3, QUAD8_NODES),
+    "quad9": (QUAD_GAUSS_3X3, QUAD9_NODES),
+    "triangle6": (TRIANGLE_GAUSS_3, TRIANGLE6_NODES),
+}
+
+
+def jacobians(cell_type: str, family: str, local: np.ndarray) -> tuple[np.ndarray, ...]:
+    """(Gauss points, det J there, node reference points, det J at the nodes).
+
+    Linear elements: the corners; quadratic ones: every node (midsides too), with the
+    solver's Gauss rule of that cell type, exactly as the audit measures them.
+    """
+    if cell_type in quadratic.ELEMENTS:
+        element = quadratic.ELEMENTS[cell_type]
+        gauss = quadratic.jacobian_determinants(element.gauss_derivatives, local[None])[0]
+        nodal = quadratic.jacobian_determinants(element.node_derivatives, local[None])[0]
+        gauss_pts, node_pts = QUADRATIC_POINTS[cell_type]
+        return gauss_pts, gauss, node_pts, nodal
+    corners = local[: CORNERS[family]]
     if family == "quad":
-        p = local[None]
+        p = corners[None]
         gauss = quad_metrics.gauss_jacobians(p)[0]
-        corners = quad_metrics.corner_jacobians(p)[0]
-        return QUAD_GAUSS_2X2, gauss, QUAD_CORNERS, corners
-    det = float(triangle_metrics.jacobian_determinant(local[None])[0])
+        nodal = quad_metrics.corner_jacobians(p)[0]
+        return QUAD_GAUSS_2X2, gauss, QUAD_CORNERS, nodal
+    det = float(triangle_metrics.jacobian_determinant(corners[None])[0])
     return TRIANGLE_GAUSS_1, np.array([det]), TRIANGLE_CORNERS, np.full(3, det)
 
 
@@ -217,8 +243,9 @@ def explain(audited: AuditedMesh, element_id: int) -> Explanation:
             f"no element with id {element_id} in {report.summary.source} (ids {lo}..{hi})"
         ) from None
     family = report.cell_families[int(report.families[i])]
-    _, local, where = local_corners(audited, i)
-    gauss_pts, det_gauss, ref_corners, det_corners = jacobians(family, local)
+    cell_type = report.cell_types[int(report.type_codes[i])]
+    local, where = local_nodes(audited, i)
+    gauss_pts, det_gauss, ref_corners, det_corners = jacobians(cell_type, family, local)
     nodes = element_nodes(audited.elements, i)
     lines = metric_lines(audited, i)
     flags = report.flags_of(i)
@@ -226,7 +253,7 @@ def explain(audited: AuditedMesh, element_id: int) -> Explanation:
     return Explanation(
         index=i,
         id=int(report.ids[i]),
-        cell_type=report.cell_types[int(report.type_codes[i])],
+        cell_type=cell_type,
         family=family,
         verdict=VERDICT_NAMES[int(report.verdict[i])],
         profile=report.profile.name,

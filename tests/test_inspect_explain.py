@@ -84,3 +84,41 @@ def test_unknown_id_exits_2_with_one_line(run_cli, tmp_path):
     assert result.returncode == 2
     assert result.stderr.strip().count("\n") == 0 and "no element with id 999" in result.stderr
     assert result.stdout == ""
+
+
+@pytest.mark.parametrize("cell_type", ["quad", "quad8", "quad9", "triangle", "triangle6"])
+def test_shape_functions_are_kronecker_and_sum_to_one(cell_type):
+    # N_i(x_j) = delta_ij and sum N_i = 1 for any isoparametric element (common practice).
+    from meshaudit import reference as ref
+    from meshaudit.mapping import shape_functions
+
+    nodes = {
+        "quad": ref.QUAD_CORNERS,
+        "quad8": ref.QUAD8_NODES,
+        "quad9": ref.QUAD9_NODES,
+        "triangle": np.array([[0.0, 0.0], [1.0, 0.0], [0.0, 1.0]]),
+        "triangle6": ref.TRIANGLE6_NODES,
+    }[cell_type]
+    np.testing.assert_allclose(shape_functions(cell_type, nodes), np.eye(len(nodes)), atol=1e-14)
+    pts = np.random.default_rng(1).uniform(0.0, 0.5, (20, 2))
+    np.testing.assert_allclose(shape_functions(cell_type, pts).sum(axis=1), 1.0, rtol=1e-14)
+
+
+def test_quad8_rectangle_and_quarter_point():
+    b, h = 2.0, 0.5
+    c = np.array([[0, 0], [2 * b, 0], [2 * b, 2 * h], [0, 2 * h]], dtype=float)
+    mids = (c + np.roll(c, -1, axis=0)) / 2
+    straight = meshio.Mesh(np.vstack([c, mids]), [("quad8", np.arange(8)[None])])
+    ex = explain(audit_mesh(straight), 1)
+    assert len(ex.det_j_gauss) == 9 and len(ex.det_j_nodes) == 8  # 3x3 rule, every node
+    np.testing.assert_allclose(ex.det_j_gauss, b * h, rtol=1e-12)  # b*h, common practice
+    np.testing.assert_allclose(ex.det_j_nodes, b * h, rtol=1e-12)
+    # Midside node of edge 1-2 at the quarter point next to node 1: det J vanishes at
+    # node 1 (Henshell and Shaw 1975; Barsoum 1976).
+    quarter = np.vstack([c, mids])
+    quarter[4] = [b / 2, 0.0]
+    ex = explain(audit_mesh(meshio.Mesh(quarter, [("quad8", np.arange(8)[None])])), 1)
+    assert ex.det_j_nodes[0] == pytest.approx(0.0, abs=1e-12)
+    assert (ex.det_j_gauss > 0).all()
+    fig = explain_plot.draw(audit_mesh(meshio.Mesh(quarter, [("quad8", np.arange(8)[None])])), ex)
+    assert any(c.get_gid() == "grid" for c in fig.axes[0].collections)

@@ -15,8 +15,9 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from ..explain import Explanation
-from ..inspection import AuditedMesh, corner_table
-from ..reference import quad_shape_functions
+from ..inspection import CORNERS, AuditedMesh, corner_table
+from ..mapping import map_points
+from ..reference import QUAD_CORNERS
 from .plot import HALO, OUTLINE, mesh_view, plot_format
 from .projection import View, plane_view
 
@@ -29,16 +30,9 @@ GRID_LINES = 9
 SAMPLES = 41
 
 
-def reference_map(family: str, corners: np.ndarray, ref: np.ndarray) -> np.ndarray:
-    """Map reference points ``ref`` (..., 2) through the element's corners (c, d)."""
-    if family == "quad":
-        return quad_shape_functions(ref[..., 0], ref[..., 1]) @ corners
-    xi, eta = ref[..., 0:1], ref[..., 1:2]
-    return corners[0] + xi * (corners[1] - corners[0]) + eta * (corners[2] - corners[0])
-
-
 def reference_grid(family: str) -> list[np.ndarray]:
-    """Polylines (SAMPLES, 2) of the reference grid: xi = const and eta = const."""
+    """Polylines (SAMPLES, 2) of the reference grid: xi = const and eta = const
+    (and xi + eta = const on the triangle)."""
     t = np.linspace(-1.0, 1.0, SAMPLES) if family == "quad" else np.linspace(0.0, 1.0, SAMPLES)
     levels = np.linspace(t[0], t[-1], GRID_LINES)
     lines = []
@@ -54,33 +48,44 @@ def reference_grid(family: str) -> list[np.ndarray]:
     return lines
 
 
-def folded_cells(family: str, corners: np.ndarray) -> list[np.ndarray]:
-    """Mapped grid cells (4, 2) whose signed area is <= 0: where the map folds over."""
-    if family != "quad":
-        return []
-    levels = np.linspace(-1.0, 1.0, GRID_LINES)
-    a, b = np.meshgrid(levels[:-1], levels[:-1], indexing="ij")
-    da = levels[1] - levels[0]
-    ref = np.stack(
-        [
-            np.stack([a, b], -1),
-            np.stack([a + da, b], -1),
-            np.stack([a + da, b + da], -1),
-            np.stack([a, b + da], -1),
-        ],
-        axis=-2,
-    ).reshape(-1, 4, 2)
-    cells = reference_map(family, corners, ref)
+def reference_boundary(family: str) -> np.ndarray:
+    """Closed polyline (m, 2) around the reference element, finely sampled."""
+    t = np.linspace(0.0, 1.0, SAMPLES)[:-1, None]
+    corners = QUAD_CORNERS if family == "quad" else np.array([[0.0, 0], [1, 0], [0, 1]])
+    loop = [a + t * (b - a) for a, b in zip(corners, np.roll(corners, -1, axis=0))]
+    return np.vstack([*loop, corners[:1]])
+
+
+def reference_cells(family: str) -> np.ndarray:
+    """Small reference cells (m, v, 2) tiling the reference element: squares or triangles."""
+    m = GRID_LINES - 1
+    if family == "quad":
+        lv = np.linspace(-1.0, 1.0, GRID_LINES)
+        a, b = (g.ravel() for g in np.meshgrid(lv[:-1], lv[:-1], indexing="ij"))
+        d = lv[1] - lv[0]
+        return np.stack([np.c_[a, b], np.c_[a + d, b], np.c_[a + d, b + d], np.c_[a, b + d]], 1)
+    i, j = (g.ravel() for g in np.meshgrid(np.arange(m), np.arange(m), indexing="ij"))
+    up = i + j < m
+    down = i + j < m - 1
+    h = 1.0 / m
+    tri_up = np.stack([np.c_[i, j], np.c_[i + 1, j], np.c_[i, j + 1]], 1)[up] * h
+    tri_down = np.stack([np.c_[i + 1, j], np.c_[i + 1, j + 1], np.c_[i, j + 1]], 1)[down] * h
+    return np.concatenate([tri_up, tri_down]).astype(float)
+
+
+def folded_cells(cell_type: str, family: str, nodes: np.ndarray) -> np.ndarray:
+    """Mapped reference cells whose signed area is <= 0: where the map folds over."""
+    cells = map_points(cell_type, nodes, reference_cells(family))
     x, y = cells[..., 0], cells[..., 1]
     signed = 0.5 * (x * np.roll(y, -1, axis=1) - np.roll(x, -1, axis=1) * y).sum(axis=1)
-    return list(cells[signed <= 0.0])
+    return cells[signed <= 0.0]
 
 
 def element_view(audited: AuditedMesh, ex: Explanation) -> View:
     """The mesh page for planar meshes; the element's best-fit plane for shells."""
     if audited.report.summary.frame == "planar":
         return mesh_view(audited.report, audited.elements)
-    return plane_view(ex.coordinates[: len(ex.det_j_nodes)])
+    return plane_view(ex.coordinates[: CORNERS[ex.family]])
 
 
 def draw(audited: AuditedMesh, ex: Explanation) -> Figure:
@@ -88,13 +93,13 @@ def draw(audited: AuditedMesh, ex: Explanation) -> Figure:
     from matplotlib.figure import Figure
 
     view = element_view(audited, ex)
-    corners = view.project(ex.coordinates[: len(ex.det_j_nodes)])
+    nodes = view.project(ex.coordinates)
     fig = Figure(figsize=(8.0, 7.0), layout="constrained")
     ax = fig.add_subplot(1, 1, 1)
     _neighbours(ax, audited, ex, view)
-    _grid(ax, ex.family, corners)
-    _nodes_and_gauss(ax, ex, corners)
-    _frame(ax, corners)
+    _grid(ax, ex, nodes)
+    _nodes_and_gauss(ax, ex, nodes)
+    _frame(ax, nodes)
     ax.set_title(_title(ex), fontsize=9)
     return fig
 
@@ -130,40 +135,37 @@ def _neighbours(ax: Axes, audited: AuditedMesh, ex: Explanation, view: View) -> 
         ax.text(c[0], c[1], str(int(k)), ha="center", va="center", fontsize=7, color="#6e6e6e")
 
 
-def _grid(ax: Axes, family: str, corners: np.ndarray) -> None:
+def _grid(ax: Axes, ex: Explanation, nodes: np.ndarray) -> None:
     from matplotlib.collections import LineCollection, PolyCollection
 
-    folded = folded_cells(family, corners)
-    if folded:
+    folded = folded_cells(ex.cell_type, ex.family, nodes)
+    if len(folded):
         ax.add_collection(
             PolyCollection(
                 folded, facecolors="none", edgecolors=OUTLINE, hatch="////", lw=0.0, gid="folded"
             )
         )
-    lines = [reference_map(family, corners, line) for line in reference_grid(family)]
+    lines = [map_points(ex.cell_type, nodes, line) for line in reference_grid(ex.family)]
     ax.add_collection(LineCollection(lines, colors="#3b528b", linewidths=0.7, gid="grid"))
-    closed = np.vstack([corners, corners[:1]])
-    ax.plot(closed[:, 0], closed[:, 1], color=OUTLINE, lw=1.8, zorder=4)
+    edge = map_points(ex.cell_type, nodes, reference_boundary(ex.family))
+    ax.plot(edge[:, 0], edge[:, 1], color=OUTLINE, lw=1.8, zorder=4, gid="outline")
 
 
-def _nodes_and_gauss(ax: Axes, ex: Explanation, corners: np.ndarray) -> None:
+def _nodes_and_gauss(ax: Axes, ex: Explanation, nodes: np.ndarray) -> None:
     from matplotlib import patheffects
 
     halo = [patheffects.withStroke(linewidth=3, foreground=HALO)]
-    centre = corners.mean(axis=0)
-    for k, (p, d) in enumerate(zip(corners, ex.det_j_nodes)):
-        ax.plot(*p, "o", color=OUTLINE, ms=5, zorder=5)
+    centre = nodes[: CORNERS[ex.family]].mean(axis=0)
+    for k, p in enumerate(nodes):
+        ax.plot(*p, "o", color=OUTLINE, ms=5 if k < CORNERS[ex.family] else 3.5, zorder=5)
+        label = f"{k + 1}: node {int(ex.node_indices[k])}"
+        if k < len(ex.det_j_nodes):
+            label += f"\ndet J {ex.det_j_nodes[k]:.4g}"
         out = p + 0.12 * (p - centre)
         ax.annotate(
-            f"{k + 1}: node {int(ex.node_indices[k])}\ndet J {d:.4g}",
-            xy=out,
-            ha="center",
-            va="center",
-            fontsize=8,
-            path_effects=halo,
-            zorder=6,
+            label, xy=out, ha="center", va="center", fontsize=8, path_effects=halo, zorder=6
         )
-    g = reference_map(ex.family, corners, ex.gauss_points)
+    g = map_points(ex.cell_type, nodes, ex.gauss_points)
     ax.plot(g[:, 0], g[:, 1], "P", color="#fde725", mec=OUTLINE, ms=8, zorder=5, gid="gauss")
     for p, d in zip(g, ex.det_j_gauss):
         ax.annotate(
