@@ -63,6 +63,10 @@ def read_meshio(path: str | os.PathLike[str], file_format: str | None = None) ->
         raise InputError(f"{p}: cannot read mesh: {detail}") from None
     except PermissionError:
         raise InputError(f"{p}: permission denied") from None
+    except FileNotFoundError as exc:  # e.g. the heavy-data file an .xdmf points to
+        raise InputError(
+            f"{p}: cannot read mesh: a file it refers to is missing ({_one_line(exc)})"
+        ) from None
     except ImportError as exc:
         raise InputError(f"{p}: reading this format needs a missing library: {exc.name}") from None
     except MemoryError:
