@@ -97,6 +97,14 @@ def _only(cell_type: str, cells: list[list[int]]) -> Callable[[Path], Path]:
     return build
 
 
+def _xdmf_without_h5(d: Path) -> Path:
+    """An .xdmf whose heavy data file (written beside it by meshio) has gone."""
+    path = write_format(d, "xdmf")
+    for h5 in d.glob("*.h5"):
+        h5.unlink()
+    return path
+
+
 # (case id, builder, message fragment): source of each file layout in its builder
 BAD_FILES = [
     ("missing", _missing, "no such file"),
@@ -110,6 +118,7 @@ BAD_FILES = [
     ("truncated-msh41-binary", _truncated("gmsh41-binary"), "corrupt"),
     ("truncated-vtu", _truncated("vtu"), "corrupt"),
     ("truncated-bdf", _truncated("nastran"), "corrupt"),
+    ("xdmf-without-its-h5", _xdmf_without_h5, "missing"),
     ("only-lines", _only("line", [[0, 1], [1, 2]]), "no supported elements"),
     ("only-tetra", _only("tetra", [[0, 1, 2, 4]]), "tetra"),
     (
@@ -314,6 +323,17 @@ def test_bad_meshes_in_memory() -> None:
         meshaudit.audit(mixed_mesh(), fail_on="maybe")
     with pytest.raises(ProfileError, match="unknown profile"):
         meshaudit.audit(mixed_mesh(), profile="no-such-profile")
+
+
+def test_missing_format_library_is_named(good_mesh: Path, monkeypatch) -> None:
+    """A reader whose optional library is absent gives an InputError naming the library."""
+
+    def needs_library(*args, **kwargs):
+        raise ImportError("No module named 'netCDF4'", name="netCDF4")
+
+    monkeypatch.setattr(meshio, "read", needs_library)
+    with pytest.raises(InputError, match="missing library: netCDF4"):
+        meshaudit.audit(good_mesh)
 
 
 # A gmsh 2.2 quad with three tags: meshio's reader warns that it cannot use the third.
