@@ -8,6 +8,9 @@ shared edge in opposite directions from its two sides (common practice).
 
 from __future__ import annotations
 
+import json
+import xml.etree.ElementTree as ET
+
 import meshio
 import numpy as np
 import pytest
@@ -130,8 +133,6 @@ def test_flipping_one_shell_element_is_reported_with_its_id(tmp_path, run_cli):
     out = tmp_path / "shell.json"
     done = run_cli("check", path, "--json", out)
     assert done.returncode == 0, done.stderr
-    import json
-
     doc = json.loads(out.read_text())
     rows = [e for e in doc["elements"] if "flipped_normal" in e["flags"]]
     assert [e["id"] for e in rows] == [108]
@@ -141,3 +142,41 @@ def test_a_consistent_shell_has_no_flipped_element():
     report = audit(curved_shell())
     assert not report.flag("flipped_normal").any()
     assert report.summary.frame == "shell"
+
+
+def test_junit_reports_the_flipped_element_as_a_warning(tmp_path, run_cli):
+    # The JUnit case fails only when warnings gate (--fail-on warn), like the exit status.
+    path = tmp_path / "shell.vtu"
+    meshio.write(path, curved_shell(flip=12))
+    for gate, status in (("fail", 0), ("warn", 1)):
+        xml = tmp_path / f"{gate}.xml"
+        done = run_cli("check", path, "--quiet", "--junit", xml, "--fail-on", gate)
+        assert done.returncode == status, done.stderr
+        root = ET.parse(xml).getroot()
+        case = root.find(".//testcase[@name='no flipped_normal elements']")
+        failure = case.find("failure")
+        assert (failure is not None) == (gate == "warn")
+        text = failure.text if failure is not None else case.find("system-out").text
+        assert "ids: 113" in text
+
+
+def test_a_moebius_band_is_named_in_the_notes():
+    # Topology fact: a Moebius band has no consistent normal; nothing is called flipped.
+    n = 16
+    t = np.linspace(0.0, 2.0 * np.pi, n, endpoint=False)
+    rails = [
+        np.column_stack(
+            [
+                (1 + s * np.cos(t / 2)) * np.cos(t),
+                (1 + s * np.cos(t / 2)) * np.sin(t),
+                s * np.sin(t / 2),
+            ]
+        )
+        for s in (-0.3, 0.3)
+    ]
+    i = np.arange(n)
+    cells = np.column_stack([i, (i + 1) % n, (i + 1) % n + n, i + n])
+    cells[-1] = [n - 1, n, 0, 2 * n - 1]
+    report = audit(meshio.Mesh(np.vstack(rails), [("quad", cells)]))
+    assert not report.flag("flipped_normal").any()
+    assert any("cannot be consistently oriented" in note for note in report.notes)

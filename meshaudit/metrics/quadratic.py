@@ -91,15 +91,28 @@ def jacobian_determinants(derivatives: np.ndarray, p: np.ndarray) -> np.ndarray:
     ``p`` (n, k, 2) are the nodes in the element's plane; J[a, b] = dx_b / dxi_a summed
     over the nodes, in length^2 per reference area.
     """
-    jac = np.einsum("mak,nkb->nmab", derivatives, p)
+    jac = _at_points(derivatives, p)
     return jac[..., 0, 0] * jac[..., 1, 1] - jac[..., 0, 1] * jac[..., 1, 0]
+
+
+def _at_points(derivatives: np.ndarray, coords: np.ndarray) -> np.ndarray:
+    """sum_k dN_k/dxi_a x_k: (n, m, 2, d) from derivatives (m, 2, k) and coords (n, k, d).
+
+    One batched matrix product (much faster than the equivalent einsum).
+    """
+    m, _, k = derivatives.shape
+    flat = derivatives.reshape(2 * m, k) @ coords
+    return flat.reshape(coords.shape[0], m, 2, coords.shape[2])
 
 
 def surface_area(element: QuadraticElement, coords3: np.ndarray) -> np.ndarray:
     """Area (n,) of the curved surface: Gauss sum of |x_xi cross x_eta| over the element."""
-    tangents = np.einsum("mak,nkd->nmad", element.gauss_derivatives, coords3)
-    dA = norm(np.cross(tangents[:, :, 0], tangents[:, :, 1]))
-    return dA @ element.gauss_weights
+    t = _at_points(element.gauss_derivatives, coords3)
+    u, v = t[:, :, 0], t[:, :, 1]
+    nx = u[..., 1] * v[..., 2] - u[..., 2] * v[..., 1]
+    ny = u[..., 2] * v[..., 0] - u[..., 0] * v[..., 2]
+    nz = u[..., 0] * v[..., 1] - u[..., 1] * v[..., 0]
+    return np.sqrt(nx * nx + ny * ny + nz * nz) @ element.gauss_weights
 
 
 def midside_offsets(coords3: np.ndarray, edges: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

@@ -31,6 +31,7 @@ def to_dict(report: Report, every_element: bool = False) -> dict[str, Any]:
         "counts": report.verdict_counts(),
         "flag_counts": report.flag_counts(),
         "statistics": report.statistics(),
+        "notes": list(report.notes),
         "elements_listed": "all" if every_element else "not ok",
         "elements": report.element_records(np.asarray(rows)),
     }

@@ -12,7 +12,7 @@ import xml.etree.ElementTree as ET
 
 import numpy as np
 
-from ..metrics import METRIC_INFO
+from ..metrics import METRIC_INFO, QUADRATIC_CELLS, WARNING_FLAGS
 from ..report import Report
 from ..verdicts import FAIL, INVALID_FLAGS, WARN
 
@@ -38,6 +38,16 @@ def _case(suite: ET.Element, classname: str, name: str, failed: bool, message: s
         ET.SubElement(case, "system-out").text = message
 
 
+def _warning_flags_that_apply(report: Report) -> list[str]:
+    """Warning flags this mesh can raise: quarter points need quadratic elements, flipped
+    normals a shell. They fail their case only with ``--fail-on warn``, like warn limits."""
+    applies = {
+        "quarter_point": bool(set(report.cell_types) & QUADRATIC_CELLS),
+        "flipped_normal": report.summary.frame == "shell",
+    }
+    return [f for f in WARNING_FLAGS if applies.get(f, True)]
+
+
 def render(report: Report) -> str:
     source = report.summary.source
     suite = ET.Element("testsuite", name=f"meshaudit {source}")
@@ -49,6 +59,13 @@ def render(report: Report) -> str:
         )
         _case(suite, "meshaudit.validity", f"no {flag} elements", n > 0, msg)
     warn_fails = report.fail_on == "warn"
+    for flag in _warning_flags_that_apply(report):
+        mask = report.flag(flag)
+        n = int(mask.sum())
+        msg = f"{n} element(s) {flag.replace('_', '-')}" + (
+            f"; ids: {_ids(report, mask)}" if n else ""
+        )
+        _case(suite, "meshaudit.warnings", f"no {flag} elements", n > 0 and warn_fails, msg)
     for f_code, family in enumerate(report.cell_families):
         in_family = report.families == f_code
         for metric, limit in report.profile.limits.get(family, {}).items():

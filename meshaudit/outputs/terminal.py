@@ -55,6 +55,8 @@ def summary_table(report: Report) -> Table:
     t.add_row("profile", f"{report.profile.name} ({report.profile.origin})")
     flags = report.flag_counts()
     t.add_row("flags", ", ".join(f"{k} {v}" for k, v in flags.items()) or "none")
+    for note in report.notes:
+        t.add_row("note", note)
     return t
 
 
