@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import os
+from collections.abc import Mapping, Sequence
 from typing import Any
 
 import numpy as np
@@ -13,9 +14,10 @@ from .frames import Frame, choose_frame, to_local
 from .metrics import KERNELS, METRIC_NAMES, QUADRATIC_CELLS, quadratic
 from .profiles import Profile, load_profile
 from .reading import load
+from .regions import judge_by_region, region_codes
 from .report import FLAG_BIT, MeshSummary, Report
 from .topology import flipped_elements
-from .verdicts import WARN, judge
+from .verdicts import WARN
 
 #: Elements measured per kernel call: bounds the temporaries whatever the mesh size.
 CHUNK_SIZE = 200_000
@@ -50,13 +52,19 @@ def measure_chunk(
     frame: Frame,
     profile: Profile,
     cell_type: str | None = None,
+    codes: np.ndarray | None = None,
+    region_profiles: Sequence[Profile] = (),
 ) -> tuple[dict[str, np.ndarray], np.ndarray, dict[str, np.ndarray], np.ndarray]:
     """Metrics, flag bits, breach levels and verdicts of one chunk of one family.
 
+    Element i is judged under ``profile`` when ``codes[i]`` is 0 (or ``codes`` is None),
+    else under ``region_profiles[codes[i] - 1]``.
     Pure: depends only on its arguments, so chunks can be measured in any order or place.
     """
     metrics, flags = measure_elements(family, coords3, frame, cell_type)
-    levels, verdict = judge(family, metrics, flags, profile)
+    if codes is None:
+        codes = np.zeros(len(coords3), dtype=np.int16)
+    levels, verdict = judge_by_region(family, metrics, flags, (profile, *region_profiles), codes)
     bits = np.zeros(len(verdict), dtype=np.uint32)
     for name, flag in flags.items():
         bits |= flag.astype(np.uint32) << np.uint32(FLAG_BIT[name])
@@ -69,11 +77,19 @@ def audit_elements(
     mesh: ElementMesh,
     profile: Profile | str | os.PathLike[str] | None = None,
     fail_on: str = "fail",
+    regions: Mapping[str, Profile | str | os.PathLike[str]] | None = None,
 ) -> Report:
-    """Audit element arrays already built (see :func:`meshaudit.reading.load`)."""
+    """Audit element arrays already built (see :func:`meshaudit.reading.load`).
+
+    ``regions`` maps a region name (gmsh physical group or element set, see
+    :mod:`meshaudit.regions`) to the profile its elements are judged under.
+    """
     if fail_on not in ("fail", "warn"):
         raise InputError(f"fail_on must be 'fail' or 'warn', not {fail_on!r}")
     prof = load_profile(profile)
+    region_names = tuple(regions or {})
+    region_profiles = tuple(load_profile(p) for p in (regions or {}).values())
+    codes = region_codes(mesh.n_elements, mesh.cell_sets, region_names)
     frame = choose_frame(mesh)
     n = mesh.n_elements
     cell_types = tuple(dict.fromkeys(b.cell_type for b in mesh.blocks))
@@ -89,7 +105,9 @@ def audit_elements(
     for block, sl in mesh.chunks(CHUNK_SIZE):
         rows = block.index[sl]
         coords3 = mesh.points[block.connectivity[sl]]
-        m, b, lv, v = measure_chunk(block.family, coords3, frame, prof, block.cell_type)
+        m, b, lv, v = measure_chunk(
+            block.family, coords3, frame, prof, block.cell_type, codes[rows], region_profiles
+        )
         for name in METRIC_NAMES:
             metrics[name][rows] = m[name]
         bits[rows] = b
@@ -124,6 +142,9 @@ def audit_elements(
         verdict=verdict,
         fail_on=fail_on,
         notes=notes,
+        region_names=region_names,
+        region_profiles=region_profiles,
+        region_codes=codes,
     )
 
 
@@ -153,6 +174,7 @@ def audit(
     profile: Profile | str | os.PathLike[str] | None = None,
     file_format: str | None = None,
     fail_on: str = "fail",
+    regions: Mapping[str, Profile | str | os.PathLike[str]] | None = None,
 ) -> Report:
     """Audit a mesh file (any format meshio reads) or a ``meshio.Mesh`` in memory.
 
@@ -165,4 +187,4 @@ def audit(
     >>> report.passed
     True
     """
-    return audit_elements(load(source, file_format), profile, fail_on)
+    return audit_elements(load(source, file_format), profile, fail_on, regions)

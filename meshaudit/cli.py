@@ -53,36 +53,28 @@ def build_parser() -> argparse.ArgumentParser:
         description="Audit a mesh against a quality profile. Exit status "
         "0: no element fails; 1: some element fails; 2: cannot audit.",
     )
-    check.add_argument("mesh", help="mesh file (any format meshio reads)")
     check.add_argument(
-        "--format",
-        dest="file_format",
-        metavar="NAME",
-        help="meshio format name, when the extension does not tell it",
+        "mesh",
+        nargs="+",
+        help="mesh file(s) (any format meshio reads) or glob patterns such as 'meshes/*.msh'",
     )
-    check.add_argument(
-        "--profile",
-        default="standard",
-        metavar="NAME|FILE",
-        help="built-in profile (standard, strict, lenient) or a TOML file",
-    )
-    check.add_argument(
-        "--fail-on",
-        choices=("fail", "warn"),
-        default="fail",
-        help="which element verdict fails the mesh (default: fail)",
-    )
+    _add_common_options(check)
     check.add_argument(
         "--top",
         type=_positive_int,
-        default=10,
         metavar="N",
         help="how many of the worst elements to list (default 10)",
     )
     check.add_argument("--quiet", action="store_true", help="print only the verdict line")
-    check.add_argument("--json", type=Path, metavar="FILE", help="write the JSON report")
-    check.add_argument("--csv", type=Path, metavar="FILE", help="write one CSV row per element")
-    check.add_argument("--junit", type=Path, metavar="FILE", help="write JUnit XML for CI")
+    # str, not Path: a trailing "/" marks a directory (see meshaudit.pipeline)
+    check.add_argument("--json", metavar="FILE", help="write the JSON report")
+    check.add_argument("--csv", metavar="FILE", help="write one CSV row per element")
+    check.add_argument("--junit", metavar="FILE", help="write JUnit XML for CI")
+    check.epilog = (
+        "With several meshes, --json/--csv/--junit take a directory or a name containing "
+        "{stem} (the mesh file name without extension). Exit status with several meshes: "
+        "2 if any input cannot be audited, else 1 if any mesh fails, else 0."
+    )
     check.add_argument(
         "--all",
         action="store_true",
@@ -93,12 +85,85 @@ def build_parser() -> argparse.ArgumentParser:
     cli_inspect.add_explain_command(sub)
 
     sub.add_parser("profiles", help="list the built-in profiles with every limit and its source")
+    from .subcommands import add_compare, add_init
+
+    add_compare(sub, _add_common_options)
+    add_init(sub)
     return parser
 
 
+def _add_common_options(cmd: argparse.ArgumentParser) -> None:
+    """Options shared by check and compare; unset ones come from the configuration file."""
+    cmd.add_argument(
+        "--format",
+        dest="file_format",
+        metavar="NAME",
+        help="meshio format name, when the extension does not tell it",
+    )
+    cmd.add_argument(
+        "--profile",
+        metavar="NAME|FILE",
+        help="built-in profile (standard, strict, lenient) or a TOML file (default: the "
+        "configuration file's limits, else standard)",
+    )
+    cmd.add_argument(
+        "--fail-on",
+        choices=("fail", "warn"),
+        help="which element verdict fails the mesh (default: fail)",
+    )
+    cmd.add_argument(
+        "--config",
+        type=Path,
+        metavar="FILE",
+        help="configuration file (default: meshaudit.toml or pyproject.toml [tool.meshaudit] "
+        "found upward from the mesh, then from the working directory)",
+    )
+    cmd.add_argument("--no-config", action="store_true", help="ignore configuration files")
+
+
 def _check(args: argparse.Namespace) -> int:
+    from . import pipeline
+
+    inputs = pipeline.expand_inputs(args.mesh)
+    if len(inputs) > 1:
+        return _check_many(args, inputs)
+    path, error = inputs[0]
+    if error is not None:
+        raise MeshAuditError(error)
+    return _check_single(pipeline.apply_settings(args, Path(path), many=False))
+
+
+def _check_many(args: argparse.Namespace, inputs: list[tuple[str, str | None]]) -> int:
+    from .outputs import batch_terminal
+    from .pipeline import check_many, overall_status
+
+    outcomes = check_many(args, inputs, _audit_and_write)
+    for o in outcomes:
+        if o.error is not None:
+            print(f"meshaudit: error: {o.error}", file=sys.stderr)
+    batch_terminal.render(outcomes, _console(), quiet=args.quiet)
+    return overall_status(outcomes)
+
+
+def _console():
     from rich.console import Console
 
+    console = Console(highlight=False)
+    if not console.is_terminal:
+        console = Console(highlight=False, width=120)  # logs read better unwrapped
+    return console
+
+
+def _check_single(args: argparse.Namespace) -> int:
+    report = _audit_and_write(args)
+    from .outputs import terminal
+
+    terminal.render(report, _console(), top=args.top, quiet=args.quiet)
+    return EXIT_PASS if report.passed else EXIT_FAIL
+
+
+def _audit_and_write(args: argparse.Namespace) -> Report:
+    """Audit one mesh (options already resolved) and write its report files."""
     from .api import audit
     from .outputs import atomic
 
@@ -115,17 +180,19 @@ def _check(args: argparse.Namespace) -> int:
     for dest in dests:
         atomic.check_destination(dest, [mesh_path])
 
+    options = {
+        "profile": args.profile,
+        "file_format": args.file_format,
+        "fail_on": args.fail_on,
+        "regions": args.regions,
+    }
     if inspection:  # plots and annotation need the mesh as well as the report
         from .inspection import audit_mesh
 
-        audited = audit_mesh(
-            mesh_path, profile=args.profile, file_format=args.file_format, fail_on=args.fail_on
-        )
+        audited = audit_mesh(mesh_path, **options)
         report = audited.report
     else:
-        report = audit(
-            mesh_path, profile=args.profile, file_format=args.file_format, fail_on=args.fail_on
-        )
+        report = audit(mesh_path, **options)
 
     outputs: list[tuple[Path, atomic.Renderer]] = []
     for dest, kind in wanted:
@@ -133,14 +200,7 @@ def _check(args: argparse.Namespace) -> int:
     for dest, kind in inspection:
         outputs.append((dest, cli_inspect.renderer(kind, audited, args)))
     atomic.write_all(outputs)
-
-    from .outputs import terminal
-
-    console = Console(highlight=False)
-    if not console.is_terminal:
-        console = Console(highlight=False, width=120)  # logs read better unwrapped
-    terminal.render(report, console, top=args.top, quiet=args.quiet)
-    return EXIT_PASS if report.passed else EXIT_FAIL
+    return report
 
 
 def _renderer(kind: str, report: Report, args: argparse.Namespace) -> Renderer:
@@ -184,6 +244,8 @@ def main(argv: Sequence[str] | None = None) -> int:
             return _profiles()
         if args.command == "explain":
             return cli_inspect.run_explain(args)
+        if args.command in ("compare", "init"):
+            return args.run(args)
         parser.print_help()
         return EXIT_UNUSABLE
     except MeshAuditError as exc:

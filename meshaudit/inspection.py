@@ -9,6 +9,7 @@ keeps all three together.
 from __future__ import annotations
 
 import os
+from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
@@ -41,6 +42,7 @@ def audit_mesh(
     profile: Profile | str | os.PathLike[str] | None = None,
     file_format: str | None = None,
     fail_on: str = "fail",
+    regions: Mapping[str, Profile | str | os.PathLike[str]] | None = None,
 ) -> AuditedMesh:
     """Like :func:`meshaudit.audit`, but keeps the mesh for plots, annotation and explain."""
     if isinstance(source, (str, os.PathLike)):
@@ -49,7 +51,7 @@ def audit_mesh(
     else:
         raw = source
         elements = build_elements(source)
-    return AuditedMesh(audit_elements(elements, profile, fail_on), elements, raw)
+    return AuditedMesh(audit_elements(elements, profile, fail_on, regions), elements, raw)
 
 
 def corner_table(elements: ElementMesh) -> np.ndarray:

@@ -228,16 +228,22 @@ def _check_order(family: str, metric: str, limit: Limit, where: str) -> None:
         )
 
 
-def profile_from_dict(data: dict[str, Any], where: str = "<profile>") -> Profile:
-    """Build a profile from parsed TOML (see the module docstring for the layout)."""
+def profile_from_dict(
+    data: dict[str, Any], where: str = "<profile>", base: Profile | None = None
+) -> Profile:
+    """Build a profile from parsed TOML (see the module docstring for the layout).
+
+    Without ``extends`` the limits start from ``base`` (default: the built-in 'standard').
+    """
     known = {"name", "description", "extends", *FAMILIES}
     unknown = sorted(set(data) - known)
     if unknown:
         raise ProfileError(f"{where}: unknown key {unknown[0]!r} (families: {', '.join(FAMILIES)})")
-    base_name = data.get("extends", "standard")
-    if base_name not in BUILTIN:
-        raise ProfileError(f"{where}: extends unknown profile {base_name!r}")
-    base = BUILTIN[base_name]
+    if "extends" in data or base is None:
+        base_name = data.get("extends", "standard")
+        if base_name not in BUILTIN:
+            raise ProfileError(f"{where}: extends unknown profile {base_name!r}")
+        base = BUILTIN[base_name]
     limits = {fam: dict(base.limits.get(fam, {})) for fam in FAMILIES}
     for family in FAMILIES:
         table = data.get(family, {})

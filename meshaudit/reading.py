@@ -17,6 +17,7 @@ import numpy as np
 
 from .elements import SUPPORTED_CELLS, ElementBlock, ElementMesh
 from .errors import InputError
+from .regions import element_sets
 
 if TYPE_CHECKING:
     import meshio
@@ -133,7 +134,7 @@ def build_elements(mesh: meshio.Mesh, source: str = "<memory>") -> ElementMesh:
     skipped: dict[str, int] = {}
     position = 0
     labels_seen = False
-    raw_blocks: list[tuple[str, np.ndarray, np.ndarray | None]] = []
+    raw_blocks: list[tuple[int, str, np.ndarray, np.ndarray | None]] = []
     for block_no, cells in enumerate(mesh.cells):
         cell_type = cells.type
         data = np.asarray(cells.data)
@@ -149,9 +150,10 @@ def build_elements(mesh: meshio.Mesh, source: str = "<memory>") -> ElementMesh:
             raise InputError(f"{source}: {cell_type} connectivity is not integer")
         labels = _cell_labels(mesh, block_no, len(data))
         labels_seen |= labels is not None
-        raw_blocks.append((cell_type, data.astype(np.int64, copy=False), labels))
+        raw_blocks.append((block_no, cell_type, data.astype(np.int64, copy=False), labels))
 
-    for cell_type, conn, labels in raw_blocks:
+    block_rows: list[tuple[int, np.ndarray]] = []
+    for block_no, cell_type, conn, labels in raw_blocks:
         n = len(conn)
         lo, hi = int(conn.min()), int(conn.max())
         if lo < 0 or hi >= n_points:
@@ -163,13 +165,20 @@ def build_elements(mesh: meshio.Mesh, source: str = "<memory>") -> ElementMesh:
         index = np.arange(position, position + n, dtype=np.int64)
         ids = labels if (labels is not None and labels_seen) else index + 1
         blocks.append(ElementBlock(cell_type, conn, ids, index))
+        block_rows.append((block_no, index))
         position += n
 
     if not blocks:
         found = ", ".join(f"{v} {k}" for k, v in skipped.items()) or "no cells"
         kinds = ", ".join(SUPPORTED_CELLS)
         raise InputError(f"{source}: no supported elements ({kinds}) to audit; found {found}")
-    element_mesh = ElementMesh(points=points, blocks=blocks, skipped=skipped, source=source)
+    element_mesh = ElementMesh(
+        points=points,
+        blocks=blocks,
+        skipped=skipped,
+        source=source,
+        cell_sets=element_sets(mesh, block_rows),
+    )
     # Fast path: all coordinates finite. Else only the nodes an element uses must be.
     if not np.isfinite(points).all() and not np.isfinite(points[element_mesh.used_nodes()]).all():
         raise InputError(f"{source}: node coordinates contain NaN or infinity")

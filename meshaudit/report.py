@@ -70,6 +70,11 @@ class Report:
     verdict: np.ndarray  # (n,) int8: 0 ok, 1 warn, 2 fail
     fail_on: str = "fail"  # "fail" or "warn": which verdict fails the mesh
     notes: list[str] = field(default_factory=list)
+    #: Per-region limits: names and profiles of the regions asked for, and per element
+    #: 0 (judged under ``profile``) or k (under ``region_profiles[k - 1]``).
+    region_names: tuple[str, ...] = ()
+    region_profiles: tuple[Profile, ...] = ()
+    region_codes: np.ndarray | None = None
 
     # -- sizes and selections -------------------------------------------------
     def __len__(self) -> int:
@@ -113,6 +118,25 @@ class Report:
             raise KeyError(element_id)
         return int(hits[0])
 
+    def profile_of(self, i: int) -> Profile:
+        """The profile element ``i`` was judged under (its region's, else the main one)."""
+        code = 0 if self.region_codes is None else int(self.region_codes[i])
+        return self.region_profiles[code - 1] if code else self.profile
+
+    def region_summary(self) -> dict[str, dict[str, Any]]:
+        """Per region asked for: its profile name, element count and verdict counts."""
+        out = {}
+        for k, name in enumerate(self.region_names, start=1):
+            mask = self.region_codes == k if self.region_codes is not None else None
+            n = int(mask.sum()) if mask is not None else 0
+            counts = np.bincount(self.verdict[mask], minlength=3) if n else np.zeros(3, int)
+            out[name] = {
+                "profile": self.region_profiles[k - 1].to_dict(),
+                "elements": n,
+                "counts": {v: int(counts[j]) for j, v in enumerate(VERDICT_NAMES)},
+            }
+        return out
+
     # -- verdicts -----------------------------------------------------------------
     @property
     def failing(self) -> np.ndarray:
@@ -150,7 +174,7 @@ class Report:
         for metric, lvl in self.levels.items():
             code = int(lvl[i])
             if code:
-                lim = self.profile.limit(family, metric)
+                lim = self.profile_of(i).limit(family, metric)
                 limit = None if lim is None else (lim.fail if code == FAIL else lim.warn)
                 out[metric] = (float(self.metrics[metric][i]), VERDICT_NAMES[code], limit)
         return out

@@ -26,6 +26,7 @@ def to_dict(report: Report, every_element: bool = False) -> dict[str, Any]:
         "tool": {"name": "meshaudit", "version": __version__},
         "summary": report.summary.to_dict(),
         "profile": report.profile.to_dict(),
+        "regions": report.region_summary(),
         "fail_on": report.fail_on,
         "verdict": "pass" if report.passed else "fail",
         "counts": report.verdict_counts(),

@@ -53,11 +53,24 @@ def summary_table(report: Report) -> Table:
     )
     t.add_row("geometry", geometry)
     t.add_row("profile", f"{report.profile.name} ({report.profile.origin})")
+    if report.region_names:
+        t.add_row("regions", _regions_text(report))
     flags = report.flag_counts()
     t.add_row("flags", ", ".join(f"{k} {v}" for k, v in flags.items()) or "none")
     for note in report.notes:
         t.add_row("note", note)
     return t
+
+
+def _regions_text(report: Report) -> str:
+    parts = []
+    for name, info in report.region_summary().items():
+        limits = info["profile"]["description"]
+        if info["elements"]:
+            parts.append(f"{name}: {info['elements']:,} element(s), limits {limits}")
+        else:
+            parts.append(f"{name}: not in this mesh")
+    return "; ".join(parts)
 
 
 def distribution_table(report: Report) -> Table:

@@ -1,0 +1,95 @@
+"""Terminal rendering of ``meshaudit compare``: distributions side by side, changed
+elements, regression checks and a verdict line."""
+
+from __future__ import annotations
+
+import numpy as np
+from rich.console import Console, Group
+from rich.table import Table
+from rich.text import Text
+
+from ..compare import Comparison
+from ..metrics import METRIC_INFO, METRIC_NAMES
+from ..report import PERCENTILES
+from .terminal import _fmt
+
+
+def distributions(cmp: Comparison) -> Table:
+    """Two rows per metric, OLD above NEW: min, p5, median, p95, max, count past fail."""
+    stats = {"OLD": cmp.old.statistics(), "NEW": cmp.new.statistics()}
+    t = Table(title="Metric distribution, OLD and NEW", title_justify="left")
+    t.add_column("metric")
+    t.add_column("unit")
+    t.add_column("mesh")
+    for key, _ in PERCENTILES:
+        t.add_column(key, justify="right")
+    t.add_column("past fail", justify="right")
+    for name in METRIC_NAMES:
+        if all(s[name]["count"] + s[name]["infinite"] == 0 for s in stats.values()):
+            continue
+        for rev, s in stats.items():
+            st = s[name]
+            cells = [_fmt(st[k]) for k, _ in PERCENTILES]
+            if st["infinite"]:
+                cells[-1] = f"inf ({st['infinite']})"
+            first = rev == "OLD"
+            t.add_row(
+                name if first else "",
+                METRIC_INFO[name].unit if first else "",
+                rev,
+                *cells,
+                str(st["past_fail"]),
+                end_section=not first,
+            )
+    return t
+
+
+def changed_elements(rows: np.ndarray, title: str, top: int) -> Table | None:
+    if len(rows) == 0 or top == 0:
+        return None
+    t = Table(title=f"{title} (top {min(top, len(rows))} of {len(rows)})", title_justify="left")
+    for col in ("id", "OLD score", "NEW score", "change"):
+        t.add_column(col, justify="right")
+    for i, a, b in rows[:top]:
+        t.add_row(str(int(i)), _fmt(a), _fmt(b), f"{b - a:+.4g}")
+    return t
+
+
+def checks(cmp: Comparison) -> Table:
+    t = Table(title="Regression checks", title_justify="left")
+    for col in ("check", "OLD", "NEW", "rule", "result"):
+        t.add_column(col, justify="right" if col in ("OLD", "NEW") else "left")
+    for c in cmp.checks:
+        t.add_row(c.name, _fmt(c.old), _fmt(c.new), c.meaning, "ok" if c.passed else "WORSE")
+    return t
+
+
+def verdict_line(cmp: Comparison) -> Text:
+    text = Text()
+    if cmp.regressed:
+        text.append("REGRESSED", style="bold reverse")
+        failed = ", ".join(c.name for c in cmp.checks if not c.passed)
+        text.append(f"  {cmp.new.summary.source} is worse than {cmp.old.summary.source}: ")
+        text.append(failed)
+    else:
+        text.append("OK", style="bold")
+        text.append(
+            f"  {cmp.new.summary.source} is no worse than {cmp.old.summary.source} "
+            "within the tolerances"
+        )
+    return text
+
+
+def render(cmp: Comparison, console: Console, top: int = 10, quiet: bool = False) -> None:
+    if quiet:
+        console.print(verdict_line(cmp), soft_wrap=True)
+        return
+    changes = ", ".join(f"{k} {v}" for k, v in cmp.verdict_changes.items()) or "none"
+    head = Text(f"{cmp.shared:,} elements matched by id; verdict changes: {changes}")
+    parts: list = [distributions(cmp), Text(), head]
+    for rows, title in ((cmp.worse, "Elements that got worse"), (cmp.better, "Got better")):
+        table = changed_elements(rows, title, top)
+        if table is not None:
+            parts += [Text(), table]
+    parts += [Text(), checks(cmp), Text(), verdict_line(cmp)]
+    console.print(Group(*parts))

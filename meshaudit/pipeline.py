@@ -1,0 +1,178 @@
+"""``meshaudit check`` over one or many meshes, with configuration files applied.
+
+Exit status of a run over several meshes (worst wins): 2 when any input cannot be audited
+(missing, unreadable, no match for a pattern, bad configuration), else 1 when any mesh
+fails, else 0. Meshes that can be audited are audited, and their reports written, even
+when another input is unusable.
+"""
+
+from __future__ import annotations
+
+import argparse
+import glob
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from .config import settings_for
+from .errors import MeshAuditError, OutputError
+
+EXIT_PASS, EXIT_FAIL, EXIT_UNUSABLE = 0, 1, 2
+
+#: File extension of each report kind, used when a directory is given.
+REPORT_SUFFIX = {"json": ".json", "csv": ".csv", "junit": ".xml"}
+GLOB_CHARS = frozenset("*?[")
+
+#: Built-in values of the options a configuration file may set.
+DEFAULTS = {"profile": "standard", "fail_on": "fail", "top": 10}
+
+
+def expand_inputs(patterns: list[str]) -> list[tuple[str, str | None]]:
+    """(path, error) per input: existing paths as given, glob patterns expanded (sorted).
+
+    A pattern that matches no file gives one entry with an error message.
+    """
+    out: list[tuple[str, str | None]] = []
+    for pattern in patterns:
+        if Path(pattern).exists() or not GLOB_CHARS & set(pattern):
+            out.append((pattern, None))
+            continue
+        matches = sorted(p for p in glob.glob(pattern, recursive=True) if Path(p).is_file())
+        if not matches:
+            out.append((pattern, f"{pattern}: no file matches this pattern"))
+        out.extend((m, None) for m in matches)
+    seen: set[str] = set()
+    unique = []
+    for path, err in out:
+        if path not in seen:
+            seen.add(path)
+            unique.append((path, err))
+    return unique
+
+
+def _destination(given: Path, kind: str, mesh: Path, many: bool) -> tuple[Path, bool]:
+    """Where a report given on the command line goes for ``mesh``; and whether it was
+    derived from a directory or a ``{stem}`` pattern (then its directory is created)."""
+    text = str(given)
+    if given.is_dir() or text.endswith(("/", "\\")):
+        return given / f"{mesh.stem}{REPORT_SUFFIX[kind]}", True
+    if "{stem}" in text:
+        return Path(text.replace("{stem}", mesh.stem)), True
+    if many:
+        raise OutputError(
+            f"--{kind} {given}: with several meshes, give a directory or a file name "
+            "containing {stem}"
+        )
+    return given, False
+
+
+def apply_settings(args: argparse.Namespace, mesh: Path, many: bool) -> argparse.Namespace:
+    """A copy of ``args`` for one mesh: configuration file values fill every option the
+    command line left unset, report paths are resolved, and ``regions`` is added."""
+    settings = settings_for(mesh, args.config, not args.no_config)
+    out = argparse.Namespace(**vars(args))
+    out.mesh = str(mesh)
+    out.config_path = settings.path
+    out.regions = settings.regions
+    if out.profile is None:
+        out.profile = settings.profile if settings.profile is not None else DEFAULTS["profile"]
+    for key in ("fail_on", "top"):
+        if getattr(out, key) is None:
+            value = getattr(settings, key)
+            setattr(out, key, value if value is not None else DEFAULTS[key])
+    for kind in REPORT_SUFFIX:
+        given = getattr(args, kind)
+        templated = True
+        if given is not None:
+            dest, templated = _destination(given, kind, mesh, many)
+        elif kind in settings.reports:
+            template = settings.reports[kind]
+            if many and "{stem}" not in template:
+                raise OutputError(
+                    f"{settings.path}: {kind} = {template!r} would be written once per mesh; "
+                    "use {stem} in it"
+                )
+            dest = Path(template.replace("{stem}", mesh.stem))
+            dest = dest if dest.is_absolute() else settings.base_dir / dest
+        else:
+            dest = None
+        if dest is not None and templated:
+            _make_parent(dest)
+        setattr(out, kind, dest)
+    return out
+
+
+def _make_parent(dest: Path) -> None:
+    try:
+        dest.parent.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise OutputError(f"{dest}: cannot create directory {dest.parent}: {exc}") from None
+
+
+@dataclass
+class Outcome:
+    """The result of checking one mesh among several."""
+
+    path: str
+    status: int
+    elements: int = 0
+    counts: dict[str, int] | None = None
+    worst_score: float | None = None
+    profile: str = ""
+    error: str | None = None
+
+
+def check_many(
+    args: argparse.Namespace, inputs: list[tuple[str, str | None]], check_one
+) -> list[Outcome]:
+    """Run ``check_one(args_for_mesh) -> Report`` on every input, collecting outcomes.
+
+    ``check_one`` audits one mesh and writes its reports (it prints nothing).
+    Errors of one input are recorded and do not stop the others.
+    """
+    outcomes = []
+    written: dict[Path, str] = {}
+    for path, error in inputs:
+        if error is not None:
+            outcomes.append(Outcome(path, EXIT_UNUSABLE, error=error))
+            continue
+        try:
+            one = apply_settings(args, Path(path), many=True)
+            _claim_destinations(one, path, written)
+            report = check_one(one)
+        except MeshAuditError as exc:
+            outcomes.append(Outcome(path, EXIT_UNUSABLE, error=str(exc)))
+            continue
+        finite = report.score[np.isfinite(report.score)]
+        outcomes.append(
+            Outcome(
+                path,
+                EXIT_PASS if report.passed else EXIT_FAIL,
+                elements=len(report),
+                counts=report.verdict_counts(),
+                worst_score=float(finite.min()) if finite.size else None,
+                profile=report.profile.name,
+            )
+        )
+    return outcomes
+
+
+def _claim_destinations(args: argparse.Namespace, mesh: str, written: dict[Path, str]) -> None:
+    """Refuse a report path another mesh of this run already wrote to."""
+    for kind in REPORT_SUFFIX:
+        dest = getattr(args, kind)
+        if dest is None:
+            continue
+        key = dest.resolve()
+        if key in written:
+            raise OutputError(
+                f"{dest}: the report of {written[key]} is already there; meshes with the "
+                "same name need separate report directories"
+            )
+        written[key] = mesh
+
+
+def overall_status(outcomes: list[Outcome]) -> int:
+    """2 if any input is unusable, else 1 if any mesh fails, else 0."""
+    return max((o.status for o in outcomes), default=EXIT_UNUSABLE)
