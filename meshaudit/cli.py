@@ -135,8 +135,9 @@ def _check(args: argparse.Namespace) -> int:
 
 def _check_many(args: argparse.Namespace, inputs: list[tuple[str, str | None]]) -> int:
     from .outputs import batch_terminal
-    from .pipeline import check_many, overall_status
+    from .pipeline import check_many, check_report_options, overall_status
 
+    check_report_options(args)
     outcomes = check_many(args, inputs, _audit_and_write)
     for o in outcomes:
         if o.error is not None:

@@ -51,20 +51,30 @@ def expand_inputs(patterns: list[str]) -> list[tuple[str, str | None]]:
     return unique
 
 
-def _destination(given: Path, kind: str, mesh: Path, many: bool) -> tuple[Path, bool]:
+def _is_template(text: str) -> bool:
+    """A report option naming a directory (existing, or ending in '/') or a {stem} pattern."""
+    return Path(text).is_dir() or text.endswith(("/", "\\")) or "{stem}" in text
+
+
+def check_report_options(args: argparse.Namespace) -> None:
+    """With several meshes, each report option must be a directory or a {stem} pattern."""
+    for kind in REPORT_SUFFIX:
+        given = getattr(args, kind)
+        if given is not None and not _is_template(str(given)):
+            raise OutputError(
+                f"--{kind} {given}: with several meshes, give a directory or a file name "
+                "containing {stem}"
+            )
+
+
+def _destination(given: str, kind: str, mesh: Path) -> tuple[Path, bool]:
     """Where a report given on the command line goes for ``mesh``; and whether it was
     derived from a directory or a ``{stem}`` pattern (then its directory is created)."""
-    text = str(given)
-    if given.is_dir() or text.endswith(("/", "\\")):
-        return given / f"{mesh.stem}{REPORT_SUFFIX[kind]}", True
-    if "{stem}" in text:
-        return Path(text.replace("{stem}", mesh.stem)), True
-    if many:
-        raise OutputError(
-            f"--{kind} {given}: with several meshes, give a directory or a file name "
-            "containing {stem}"
-        )
-    return given, False
+    if Path(given).is_dir() or given.endswith(("/", "\\")):
+        return Path(given) / f"{mesh.stem}{REPORT_SUFFIX[kind]}", True
+    if "{stem}" in given:
+        return Path(given.replace("{stem}", mesh.stem)), True
+    return Path(given), False
 
 
 def apply_settings(args: argparse.Namespace, mesh: Path, many: bool) -> argparse.Namespace:
@@ -85,7 +95,7 @@ def apply_settings(args: argparse.Namespace, mesh: Path, many: bool) -> argparse
         given = getattr(args, kind)
         templated = True
         if given is not None:
-            dest, templated = _destination(given, kind, mesh, many)
+            dest, templated = _destination(str(given), kind, mesh)
         elif kind in settings.reports:
             template = settings.reports[kind]
             if many and "{stem}" not in template:

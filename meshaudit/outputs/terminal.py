@@ -70,7 +70,7 @@ def _regions_text(report: Report) -> str:
             parts.append(f"{name}: {info['elements']:,} element(s), limits {limits}")
         else:
             parts.append(f"{name}: not in this mesh")
-    return "; ".join(parts)
+    return "\n".join(parts)
 
 
 def distribution_table(report: Report) -> Table:

@@ -1,0 +1,99 @@
+"""``meshaudit compare OLD NEW``: the regression gate between two mesh revisions.
+
+Reference facts: a grid of unit squares is ideal, composite score 1 for every element
+(the square is the ideal quad, common practice); a quad listed clockwise is inverted, an
+invalid element, score 0 and verdict fail. Moving a node of a unit-square grid by 0.3 along
+x turns its four squares into non-rectangular quads (scaled Jacobian below 1, Knupp 2001).
+"""
+
+from __future__ import annotations
+
+import json
+
+import numpy as np
+import pytest
+from pipeline_meshes import grid, write
+
+import meshaudit
+from meshaudit.compare import compare, match_elements
+from meshaudit.config import Tolerances
+
+#: Node 5 of a 3 x 2 grid of unit squares (4 nodes per row) is the interior node (1, 1).
+INNER = 5
+
+
+def _inverted(mesh):
+    cells = np.asarray(mesh.cells[0].data).copy()
+    cells[2] = cells[2][::-1]
+    return type(mesh)(mesh.points, [("quad", cells)])
+
+
+def test_identical_meshes_do_not_regress():
+    rep = meshaudit.audit(grid(3, 2))
+    cmp = compare(rep, rep)
+    assert not cmp.regressed
+    assert cmp.shared == 6
+    assert len(cmp.worse) == 0 and len(cmp.better) == 0
+    assert cmp.verdict_changes == {}
+
+
+def test_an_inverted_element_is_a_regression_and_named():
+    old = meshaudit.audit(grid(3, 2))
+    new = meshaudit.audit(_inverted(grid(3, 2)))
+    cmp = compare(old, new)
+    assert cmp.regressed
+    failed = {c.name for c in cmp.checks if not c.passed}
+    assert failed == {"failing_elements", "worst_score"}  # 1 of 6 leaves the median at 1
+    assert cmp.worse[:, 0].tolist() == [3.0]  # element id 3 (1-based position)
+    assert cmp.worse[0, 1:].tolist() == [1.0, 0.0]
+    assert cmp.verdict_changes == {"ok->fail": 1}
+    # the reverse direction is an improvement, never a regression
+    back = compare(new, old)
+    assert not back.regressed
+    assert back.better[:, 0].tolist() == [3.0]
+
+
+def test_tolerances_decide():
+    old = meshaudit.audit(grid(3, 2))
+    moved = meshaudit.audit(grid(3, 2, shift=(INNER, 0.3, 0.0)))
+    drop = 1.0 - float(np.median(moved.score))
+    assert drop > 0  # the four squares around the node are no longer squares
+    assert compare(old, moved, Tolerances(median_score_drop=0.0, worst_score_drop=1)).regressed
+    loose = Tolerances(median_score_drop=drop + 1e-9, worst_score_drop=1.0)
+    assert not compare(old, moved, loose).regressed
+    # one more failing element allowed
+    bad = meshaudit.audit(_inverted(grid(3, 2)))
+    assert not compare(old, bad, Tolerances(new_failing=1, worst_score_drop=1.0)).regressed
+
+
+def test_matching_uses_ids_and_skips_repeated_ones():
+    a = meshaudit.audit(grid(2, 1))
+    b = meshaudit.audit(grid(3, 1))
+    ro, rn = match_elements(a, b)
+    assert a.ids[ro].tolist() == b.ids[rn].tolist() == [1, 2]
+    b.ids[:] = [1, 1, 2]
+    ro, rn = match_elements(a, b)
+    assert a.ids[ro].tolist() == [2]
+
+
+def test_cli_exit_status_json_and_tolerance_from_config(tmp_path, run_cli):
+    old = write(grid(3, 2), tmp_path / "rev1" / "plate.msh")
+    new = write(_inverted(grid(3, 2)), tmp_path / "rev2" / "plate.msh")
+    res = run_cli("compare", old, new, "--json", tmp_path / "cmp.json")
+    assert res.returncode == 1, res.stderr
+    assert "REGRESSED" in res.stdout
+    data = json.loads((tmp_path / "cmp.json").read_text())
+    assert data["schema"] == "meshaudit.compare/1"
+    assert data["verdict"] == "regressed"
+    assert data["old"]["counts"]["fail"] == 0 and data["new"]["counts"]["fail"] == 1
+    assert data["worse"] == [{"id": 3, "old_score": pytest.approx(1.0), "new_score": 0.0}]
+    assert data["statistics"]["new"]["score"]["min"] == 0.0
+    assert run_cli("compare", new, old).returncode == 0
+    assert run_cli("compare", old, tmp_path / "none.msh").returncode == 2
+    # tolerances come from the configuration found from NEW
+    (tmp_path / "rev2" / "meshaudit.toml").write_text(
+        "[compare]\nnew_failing = 1\nworst_score_drop = 1.0\n"
+    )
+    res = run_cli("compare", old, new, "--quiet")
+    assert res.returncode == 0, res.stdout
+    assert res.stdout.startswith("OK")
