@@ -23,6 +23,8 @@ EXIT_PASS, EXIT_FAIL, EXIT_UNUSABLE = 0, 1, 2
 #: File extension of each report kind, used when a directory is given.
 REPORT_SUFFIX = {"json": ".json", "csv": ".csv", "junit": ".xml"}
 GLOB_CHARS = frozenset("*?[")
+#: Other per-mesh outputs of check (plots, annotated mesh, HTML): a {stem} pattern only.
+STEM_ONLY_OUTPUTS = ("plot", "annotate", "html")
 
 #: Built-in values of the options a configuration file may set.
 DEFAULTS = {"profile": "standard", "fail_on": "fail", "top": 10}
@@ -57,13 +59,20 @@ def _is_template(text: str) -> bool:
 
 
 def check_report_options(args: argparse.Namespace) -> None:
-    """With several meshes, each report option must be a directory or a {stem} pattern."""
+    """With several meshes, each report option must be a directory or a {stem} pattern
+    (other per-mesh outputs, such as plots, a {stem} pattern)."""
     for kind in REPORT_SUFFIX:
         given = getattr(args, kind)
         if given is not None and not _is_template(str(given)):
             raise OutputError(
                 f"--{kind} {given}: with several meshes, give a directory or a file name "
                 "containing {stem}"
+            )
+    for kind in STEM_ONLY_OUTPUTS:
+        given = getattr(args, kind, None)
+        if given is not None and "{stem}" not in str(given):
+            raise OutputError(
+                f"--{kind} {given}: with several meshes, give a file name containing {{stem}}"
             )
 
 
@@ -110,6 +119,12 @@ def apply_settings(args: argparse.Namespace, mesh: Path, many: bool) -> argparse
         if dest is not None and templated:
             _make_parent(dest)
         setattr(out, kind, dest)
+    for kind in STEM_ONLY_OUTPUTS:
+        given = getattr(args, kind, None)
+        if given is not None and "{stem}" in str(given):
+            dest = Path(str(given).replace("{stem}", mesh.stem))
+            _make_parent(dest)
+            setattr(out, kind, dest)
     return out
 
 
@@ -170,11 +185,11 @@ def check_many(
 
 def _claim_destinations(args: argparse.Namespace, mesh: str, written: dict[Path, str]) -> None:
     """Refuse a report path another mesh of this run already wrote to."""
-    for kind in REPORT_SUFFIX:
-        dest = getattr(args, kind)
+    for kind in (*REPORT_SUFFIX, *STEM_ONLY_OUTPUTS):
+        dest = getattr(args, kind, None)
         if dest is None:
             continue
-        key = dest.resolve()
+        key = Path(dest).resolve()
         if key in written:
             raise OutputError(
                 f"{dest}: the report of {written[key]} is already there; meshes with the "
