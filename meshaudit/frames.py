@@ -84,6 +84,19 @@ def choose_frame(mesh: ElementMesh) -> Frame:
     return Frame("planar", normal, _plane_axes(normal))
 
 
+def centroids(coords: np.ndarray) -> np.ndarray:
+    """Mean of the nodes of each element ``coords`` (n, k, d): shape (n, d).
+
+    Summed node by node into one (n, d) array: the same values as ``coords.mean(axis=1)``
+    without numpy's strided reduction, which is several times slower.
+    """
+    total = coords[:, 0] + coords[:, 1]
+    for k in range(2, coords.shape[1]):
+        total += coords[:, k]
+    total /= coords.shape[1]
+    return total
+
+
 def to_local(coords: np.ndarray, frame: Frame, n_corners: int | None = None) -> np.ndarray:
     """Lay elements ``coords`` (n, k, 3) flat: (n, k, 2) in-plane coordinates.
 
@@ -94,9 +107,10 @@ def to_local(coords: np.ndarray, frame: Frame, n_corners: int | None = None) -> 
     midside nodes are projected onto that plane.
     """
     corners = coords if n_corners is None else coords[:, :n_corners]
-    centroid = corners.mean(axis=1, keepdims=True)
-    rel = coords - centroid
+    rel = coords - centroids(corners)[:, None, :]
     if frame.kind == "planar":
+        if frame.axes is not None and np.array_equal(frame.axes, np.eye(3)[:2]):
+            return rel[:, :, :2] + 0.0  # what the product with the axes gives, to the bit
         return rel @ frame.axes.T
     normal = _unit(area_vectors(corners))
     t1 = rel[:, 1] - rel[:, 0]
