@@ -10,7 +10,7 @@ from __future__ import annotations
 from .api import audit, audit_elements
 from .errors import InputError, MeshAuditError, OutputError, ProfileError
 from .profiles import BUILTIN as BUILTIN_PROFILES
-from .profiles import Limit, Profile, load_profile
+from .profiles import Limit, Profile, load_profile, with_limit
 from .report import Report
 
 __version__ = "0.1.0"
@@ -28,4 +28,5 @@ __all__ = [
     "audit",
     "audit_elements",
     "load_profile",
+    "with_limit",
 ]
