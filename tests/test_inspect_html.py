@@ -156,3 +156,19 @@ def test_renders_sorts_and_filters_in_a_browser(browser, tmp_path):
     Select(browser.find_element("id", "verdict-filter")).select_by_value("warn")
     assert _visible_ids(browser) == [25]
     browser.save_screenshot(str(tmp_path / "report-filtered.png"))
+
+
+def test_histograms_account_for_every_finite_value(plate_html):
+    report, path = plate_html
+    text = path.read_text(encoding="utf-8")
+    for name in METRIC_NAMES:
+        values = report.metrics[name]
+        finite = values[np.isfinite(values)]
+        if finite.size == 0:
+            continue
+        fig = re.search(rf'<figure data-metric="{name}">(.*?)</figure>', text).group(1)
+        drawn = sum(int(c) for c in re.findall(r"<title>[^<]*: (\d+)</title></rect>", fig))
+        hidden = sum(int(c) for c in re.findall(r"(\d+) (?:below|above) ", fig))
+        assert drawn + hidden == finite.size, name
+        if (finite < 0).any():  # inverted elements' negative values are never cut off
+            assert "below" not in fig.split("<figcaption>")[1], name

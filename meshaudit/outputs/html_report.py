@@ -21,6 +21,7 @@ from ..elements import ElementMesh
 from ..metrics import METRIC_INFO, METRIC_NAMES, VALIDITY_FLAGS
 from ..report import Report
 from . import plot
+from .plot import metric_limits
 from .terminal import _fmt
 
 #: The table lists at most this many elements (worst first); JSON and CSV list all.
@@ -51,6 +52,7 @@ tr.warn td:first-child{border-left:4px dashed #222}
 .hists{display:grid;grid-template-columns:repeat(auto-fill,minmax(330px,1fr));gap:1em}
 .hists figure{margin:0}.hists figcaption{font-size:12px;color:#444}
 .note{color:#555;font-size:12.5px}
+.scroll{overflow-x:auto;max-height:80vh}
 """
 
 _JS = """
@@ -167,15 +169,34 @@ def table_rows(report: Report) -> tuple[np.ndarray, list[str]]:
     return rows, html
 
 
-def histogram_svg(report: Report, metric: str) -> str | None:
-    """Inline SVG histogram of one metric with its warn/fail limits; None if no values."""
+def histogram_range(report: Report, metric: str) -> tuple[float, float] | None:
+    """(low, high) of the drawn range: the 1st to 99th percentile widened to take in the
+    limits (and every negative value), so one extreme element does not squeeze the rest
+    into a single bar. Values outside are counted in the caption."""
     values = np.asarray(report.metrics[metric], dtype=float)
     finite = values[np.isfinite(values)]
     if finite.size == 0:
         return None
     lo, hi = float(finite.min()), float(finite.max())
+    p1, p99 = (float(v) for v in np.percentile(finite, [1.0, 99.0]))
+    limits = [v for _, _, v in metric_limits(report, metric)]
+    if lo >= 0.0:  # negative values (inverted elements) are always drawn
+        lo = max(lo, min([p1, *limits]))
+    hi = min(hi, max([p99, *limits]))
     if hi <= lo:
         lo, hi = lo - 0.5, hi + 0.5
+    return lo, hi
+
+
+def histogram_svg(report: Report, metric: str) -> str | None:
+    """Inline SVG histogram of one metric with its warn/fail limits; None if no values."""
+    values = np.asarray(report.metrics[metric], dtype=float)
+    finite = values[np.isfinite(values)]
+    drawn = histogram_range(report, metric)
+    if drawn is None:
+        return None
+    lo, hi = drawn
+    finite = finite[(finite >= lo) & (finite <= hi)]
     counts, edges = np.histogram(finite, bins=HIST_BINS, range=(lo, hi))
     w, h, left, bottom, top = 320.0, 150.0, 36.0, 24.0, 8.0
     pw, ph = w - left - 8.0, h - bottom - top
@@ -212,21 +233,42 @@ def histogram_svg(report: Report, metric: str) -> str | None:
 
 def _limit_marks(report: Report, metric: str, lo: float, hi: float, sx, top, ph) -> str:
     marks = []
-    for family in report.cell_families:
-        lim = report.profile.limit(family, metric)
-        if lim is None:
+    for kind, value in sorted({(k, v) for _, k, v in metric_limits(report, metric)}):
+        if not lo <= value <= hi:
             continue
-        for kind, value, dash in (("warn", lim.warn, "4 3"), ("fail", lim.fail, "")):
-            if value is None or not lo <= value <= hi:
-                continue
-            x = sx(value)
-            marks.append(
-                f'<line x1="{x:.2f}" y1="{top}" x2="{x:.2f}" y2="{top + ph}" stroke="#222" '
-                f'stroke-width="1.2" stroke-dasharray="{dash}"><title>{family} {kind} limit '
-                f"{value:g}</title></line>"
-                f'<text x="{x + 2:.2f}" y="{top + 9}" font-size="9">{family[0]} {kind}</text>'
-            )
+        x = sx(value)
+        dash = "4 3" if kind == "warn" else ""
+        marks.append(
+            f'<line x1="{x:.2f}" y1="{top}" x2="{x:.2f}" y2="{top + ph}" stroke="#222" '
+            f'stroke-width="1.2" stroke-dasharray="{dash}" data-limit="{kind} {value:g}">'
+            f"<title>{kind} limit {value:g}</title></line>"
+        )
     return "".join(marks)
+
+
+def _caption(report: Report, name: str) -> str:
+    info = METRIC_INFO[name]
+    values = np.asarray(report.metrics[name], dtype=float)
+    unit = "" if info.unit == "1" else f" [{info.unit}]"
+    notes = []
+    inf = int(np.isinf(values).sum())
+    if inf:
+        notes.append(f"{inf} infinite")
+    lo, hi = histogram_range(report, name) or (0.0, 0.0)
+    below, above = int((values < lo).sum()), int((values > hi).sum())
+    below -= int(np.isneginf(values).sum())
+    above -= int(np.isposinf(values).sum())
+    if below:
+        notes.append(f"{below} below {lo:.4g}")
+    if above:
+        notes.append(f"{above} above {hi:.4g}")
+    extra = f" Not drawn: {', '.join(notes)}." if notes else ""
+    per_family: dict[str, list[str]] = {}
+    for family, kind, v in metric_limits(report, name):
+        per_family.setdefault(family, []).append(f"{kind} {v:g}")
+    limits = "; ".join(f"{f} {', '.join(v)}" for f, v in per_family.items())
+    legend = f" Limits (dashed warn, solid fail): {limits}." if limits else ""
+    return f"<b>{name}</b>{escape(unit)}: {escape(info.meaning)}.{escape(extra)}{escape(legend)}"
 
 
 def _summary(report: Report) -> str:
@@ -269,8 +311,8 @@ def _table(report: Report) -> str:
         '<option value="fail">fail</option><option value="warn">warn</option></select></label>'
         f'<span>showing <b id="shown">{len(rows)}</b> of {len(rows)}; click a column '
         "heading to sort</span></div>"
-        f'{capped}<table class="elements" id="elements"><thead><tr>{head}</tr></thead>'
-        f"<tbody>{''.join(html_rows)}</tbody></table>"
+        f'{capped}<div class="scroll"><table class="elements" id="elements"><thead><tr>{head}'
+        f"</tr></thead><tbody>{''.join(html_rows)}</tbody></table></div>"
     )
 
 
@@ -278,17 +320,11 @@ def _histograms(report: Report) -> str:
     figs = []
     for name in METRIC_NAMES:
         svg = histogram_svg(report, name)
-        if svg is None:
-            continue
-        info = METRIC_INFO[name]
-        inf = int(np.isinf(report.metrics[name]).sum())
-        extra = f"; {inf} infinite, not drawn" if inf else ""
-        unit = "" if info.unit == "1" else f" [{info.unit}]"
-        figs.append(
-            f'<figure data-metric="{name}">{svg}<figcaption><b>{name}</b>{escape(unit)}: '
-            f"{escape(info.meaning)}{extra}. Dashed: warn limit, solid: fail limit.</figcaption>"
-            "</figure>"
-        )
+        if svg is not None:
+            figs.append(
+                f'<figure data-metric="{name}">{svg}'
+                f"<figcaption>{_caption(report, name)}</figcaption></figure>"
+            )
     return f'<div class="hists">{"".join(figs)}</div>'
 
 

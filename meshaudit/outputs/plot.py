@@ -23,6 +23,7 @@ import numpy as np
 
 from ..elements import ElementMesh
 from ..errors import OutputError
+from ..frames import area_vectors
 from ..inspection import corner_table
 from ..metrics import METRIC_INFO, METRIC_NAMES
 from ..report import Report
@@ -59,28 +60,71 @@ def plot_format(path: Path) -> str:
 
 def mesh_view(report: Report, elements: ElementMesh) -> View:
     """The page a whole mesh is drawn on: its plane if planar, else its best-fit plane."""
-    used = np.unique(corner_table(elements))
-    view = best_fit_view(elements.points[used])
+    table = corner_table(elements)
+    view = best_fit_view(elements.points[np.unique(table)])
     normal = report.summary.normal
     if report.summary.frame == "planar" and normal is not None:
-        if float(np.dot(view.normal, normal)) < 0.0:  # look from the side the mesh faces
-            view = View(view.origin, np.stack([view.axes[0], -view.axes[1]]), -view.normal)
+        facing = float(np.dot(view.normal, normal))
+    else:  # shell: look from the side most element normals point to
+        facing = float(np.sign(area_vectors(elements.points[table]) @ view.normal).sum())
+    if facing < 0.0:
+        view = View(view.origin, np.stack([view.axes[0], -view.axes[1]]), -view.normal)
     return view
 
 
-def colour_scale(report: Report, color_by: str) -> tuple[np.ndarray, Any, Any, str]:
-    """(values to draw, colormap, norm, colourbar label) for metric ``color_by``."""
+def metric_limits(report: Report, metric: str) -> list[tuple[str, str, float]]:
+    """(family, 'warn'|'fail', value) of every limit on ``metric`` for the families present."""
+    out = []
+    for family in report.cell_families:
+        lim = report.profile.limit(family, metric)
+        if lim is not None:
+            out += [
+                (family, k, v) for k, v in (("warn", lim.warn), ("fail", lim.fail)) if v is not None
+            ]
+    return out
+
+
+def colour_range(report: Report, color_by: str) -> tuple[float, float, str]:
+    """(low, high, colourbar extend) of the colour scale.
+
+    The scale runs from the best value present to the worst fail limit when values go
+    past it: elements beyond the fail limit all take the darkest colour, so one extreme
+    element does not wash out the differences among the rest. The score spans 0..1.
+    """
+    info = METRIC_INFO[color_by]
+    values = np.asarray(report.metrics[color_by], dtype=float)
+    finite = values[np.isfinite(values)]
+    lo, hi = (float(finite.min()), float(finite.max())) if finite.size else (0.0, 1.0)
+    extend = "neither"
+    fails = [v for _, kind, v in metric_limits(report, color_by) if kind == "fail"]
+    if color_by == "score":
+        lo, hi = 0.0, 1.0
+    elif fails and info.worse == "high" and hi > max(fails) > lo:
+        hi, extend = max(fails), "max"
+    elif fails and info.worse == "low" and lo < min(fails) < hi:
+        lo, extend = min(fails), "min"
+    if np.isinf(values).any() and extend == "neither":
+        extend = "max" if info.worse == "high" else "min"
+    if hi <= lo:  # one value everywhere: stretch towards the warn limit if there is one
+        warns = [v for _, kind, v in metric_limits(report, color_by) if kind == "warn"]
+        if warns and info.worse == "high" and max(warns) > lo:
+            hi = max(warns)
+        elif warns and info.worse == "low" and min(warns) < lo:
+            lo = min(warns)
+        else:
+            pad = 0.5 * max(abs(lo), 1.0)
+            lo, hi = lo - pad, hi + pad
+    return lo, hi, extend
+
+
+def colour_scale(report: Report, color_by: str) -> tuple[np.ndarray, Any, Any, str, str]:
+    """(values to draw, colormap, norm, colourbar label, extend) for metric ``color_by``."""
     from matplotlib import colormaps
     from matplotlib.colors import Normalize
 
     info = METRIC_INFO[color_by]
     values = np.asarray(report.metrics[color_by], dtype=float)
-    finite = values[np.isfinite(values)]
-    lo, hi = (float(finite.min()), float(finite.max())) if finite.size else (0.0, 1.0)
-    if color_by == "score":
-        lo, hi = 0.0, 1.0
-    if hi <= lo:
-        lo, hi = lo - 0.5, hi + 0.5
+    lo, hi, extend = colour_range(report, color_by)
     big = np.finfo(float).max
     drawn = np.where(np.isposinf(values), big, np.where(np.isneginf(values), -big, values))
     cmap = colormaps["viridis_r" if info.worse == "high" else "viridis"].with_extremes(
@@ -89,7 +133,14 @@ def colour_scale(report: Report, color_by: str) -> tuple[np.ndarray, Any, Any, s
     unit = "" if info.unit == "1" else f" [{info.unit}]"
     direction = {"high": "larger is worse", "low": "smaller is worse"}.get(info.worse, "")
     label = f"{color_by}{unit}: {info.meaning}" + (f" ({direction}; darker)" if direction else "")
-    return np.ma.masked_invalid(drawn), cmap, Normalize(lo, hi), label
+    limits = metric_limits(report, color_by)
+    if limits:
+        per_family = {}
+        for family, _kind, v in limits:
+            per_family.setdefault(family, []).append(f"{v:g}")
+        listed = ", ".join(f"{f} {' / '.join(v)}" for f, v in per_family.items())
+        label += f"\nmarks on the bar: warn limit dashed, fail limit solid ({listed})"
+    return np.ma.masked_invalid(drawn), cmap, Normalize(lo, hi), label, extend
 
 
 def draw(
@@ -111,7 +162,7 @@ def draw(
     table = corner_table(elements)
     xy = view.project(elements.points)
     verts = xy[table]
-    values, cmap, norm, label = colour_scale(report, color_by)
+    values, cmap, norm, label, extend = colour_scale(report, color_by)
     order = _draw_order(report, elements, table, view)
     worst = report.worst(insets) if insets > 0 else np.empty(0, dtype=np.int64)
 
@@ -122,14 +173,20 @@ def draw(
     _label_failing(ax, report, verts)
     draw_findings(ax, report, view, elements.points)
     _frame(ax, verts)
-    bar = fig.colorbar(faces, ax=ax, orientation="horizontal", fraction=0.045, pad=0.02)
+    bar = fig.colorbar(
+        faces, ax=ax, orientation="horizontal", fraction=0.045, pad=0.02, extend=extend
+    )
     bar.ax.set_gid("colourbar")
     bar.set_label(label)
+    _limit_marks(bar, report, color_by, norm)
     _legend(ax, values)
     for sub, i in zip(inset_axes, worst):
         _inset(sub, report, verts, values, cmap, norm, int(i), color_by)
     fig.suptitle(title(report), fontsize=12, fontweight="bold")
     ax.set_title(_subtitle(report, color_by, view), fontsize=9)
+    flat_xy = report.summary.frame == "planar" and np.allclose(view.axes, np.eye(3)[:2])
+    ax.set_xlabel("x" if flat_xy else "u (along the first view axis)", fontsize=8)
+    ax.set_ylabel("y" if flat_xy else "v (along the second view axis)", fontsize=8)
     return fig
 
 
@@ -143,6 +200,13 @@ def render(
     """Draw and save to ``path`` in ``fmt`` (default: from ``path``'s extension)."""
     fig = draw(report, elements, color_by)
     fig.savefig(path, format=fmt or plot_format(path), dpi=150)
+
+
+def _limit_marks(bar: Any, report: Report, color_by: str, norm: Any) -> None:
+    """Warn (dashed) and fail (solid) limits as lines across the colourbar."""
+    for _family, kind, value in metric_limits(report, color_by):
+        if norm.vmin <= value <= norm.vmax:
+            bar.ax.axvline(value, color=OUTLINE, lw=1.2, ls="--" if kind == "warn" else "-")
 
 
 def title(report: Report) -> str:
