@@ -178,8 +178,11 @@ def _audit_and_write(args: argparse.Namespace) -> Report:
     dests = [p for p, _ in wanted + inspection]
     if len(set(map(str, dests))) != len(dests):
         raise MeshAuditError("two reports would be written to the same file")
+    inputs = [mesh_path]
+    if Path(args.profile).is_file():  # a profile file is an input too
+        inputs.append(Path(args.profile))
     for dest in dests:
-        atomic.check_destination(dest, [mesh_path])
+        atomic.check_destination(dest, inputs)
 
     options = {
         "profile": args.profile,

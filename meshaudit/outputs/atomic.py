@@ -25,7 +25,7 @@ def check_destination(path: Path, inputs: Sequence[Path] = ()) -> None:
         raise OutputError(f"{path}: directory {parent} is not writable")
     for src in inputs:
         if path.resolve() == src.resolve():
-            raise OutputError(f"{path}: refusing to overwrite the input mesh")
+            raise OutputError(f"{path}: refusing to overwrite the input file")
 
 
 def write_all(outputs: Sequence[tuple[Path, Renderer]]) -> None:
