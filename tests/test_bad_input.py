@@ -248,7 +248,18 @@ BAD_OPTIONS: list = [
         lambda d, m: ["--junit", d / "no" / "such" / "dir" / "r.xml"],
         "does not exist",
     ),
-    ("report-is-input", lambda d, m: ["--junit", m], "input mesh"),
+    ("report-is-input", lambda d, m: ["--junit", m], "overwrite the input"),
+    (
+        "report-is-profile",
+        lambda d, m: [
+            "--profile",
+            _profile(d, "mine.toml", 'name = "mine"\n'),
+            "--csv",
+            d / "mine.toml",
+        ],
+        "overwrite the input",
+    ),
+    ("report-is-directory", lambda d, m: ["--junit", d], "is a directory"),
     ("report-twice", lambda d, m: ["--junit", d / "same.xml", "--json", d / "same.xml"], "same"),
 ]
 
@@ -262,12 +273,16 @@ def test_bad_option_is_refused(
     """A bad option refuses the run before anything is read or written."""
     mesh_before = _digest(good_mesh)
     args = ["check", good_mesh, *extra(tmp_path, good_mesh)]
-    if case != "report-twice":
+    if case == "report-is-profile":
+        args += ["--json", outdir / "r.json"]
+    elif case != "report-twice":
         args += ["--json", outdir / "r.json", "--csv", outdir / "r.csv"]
+    profile_before = _digest(tmp_path / "mine.toml")
     before = _snapshot(outdir)
     done = run_cli(*args)
     assert_refused(done, fragment, outdir, before)
     assert _digest(good_mesh) == mesh_before
+    assert _digest(tmp_path / "mine.toml") == profile_before
     assert not (tmp_path / "same.xml").exists()
 
 
