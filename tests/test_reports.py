@@ -276,6 +276,30 @@ def test_warnings_gate_only_with_fail_on_warn(tmp_path: Path, run_cli) -> None:
     assert done.returncode == 0 and done.stdout.startswith("PASS")
 
 
+def test_junit_counts_warning_flags_under_fail_on_warn(tmp_path: Path, run_cli) -> None:
+    """A shell strip whose third element is numbered against its neighbours warns only by
+    its flipped normal; with --fail-on warn the exit status is 1 and the JUnit XML must
+    fail too (one case per warning flag kind).
+
+    Source: three unit squares folded 30° along shared edges (a shell, not planar), the
+    last one numbered the other way round; areas 1 by construction.
+    """
+    c, s = np.cos(np.pi / 6), np.sin(np.pi / 6)
+    xs, zs = [0.0, 1.0, 1.0 + c, 2.0 + c], [0.0, 0.0, s, s]
+    points = np.array([[x, y, z] for x, z in zip(xs, zs) for y in (0.0, 1.0)])
+
+    def quad(k: int) -> list[int]:
+        return [2 * k, 2 * k + 2, 2 * k + 3, 2 * k + 1]
+
+    mesh = write_vtu(tmp_path / "strip.vtu", points, [("quad", [quad(0), quad(1), quad(2)[::-1]])])
+    done = run_cli("check", mesh, "--fail-on", "warn", "--junit", tmp_path / "s.xml", "--quiet")
+    assert done.returncode == 1, done.stderr
+    cases = _cases(tmp_path / "s.xml")
+    failed = {n for n, case in cases.items() if case.find("failure") is not None}
+    assert failed == {"no flipped_normal elements"}
+    assert "ids: 3" in cases["no flipped_normal elements"].find("failure").get("message")
+
+
 # -- atomic writes ------------------------------------------------------------------
 def _write(text: str):
     return lambda p: p.write_text(text)
