@@ -259,7 +259,6 @@ BAD_OPTIONS: list = [
         ],
         "overwrite the input",
     ),
-    ("report-is-directory", lambda d, m: ["--junit", d], "is a directory"),
     ("report-twice", lambda d, m: ["--junit", d / "same.xml", "--json", d / "same.xml"], "same"),
 ]
 
