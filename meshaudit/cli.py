@@ -179,8 +179,8 @@ def _audit_and_write(args: argparse.Namespace) -> Report:
     if len(set(map(str, dests))) != len(dests):
         raise MeshAuditError("two reports would be written to the same file")
     inputs = [mesh_path]
-    if Path(args.profile).is_file():  # a profile file is an input too
-        inputs.append(Path(args.profile))
+    if isinstance(args.profile, str) and Path(args.profile).is_file():
+        inputs.append(Path(args.profile))  # a profile file is an input too
     for dest in dests:
         atomic.check_destination(dest, inputs)
 
