@@ -132,3 +132,23 @@ def test_a_region_written_through_meshio_survives_a_round_trip(tmp_path):
     path = write(mesh, tmp_path / "strip.msh")
     report = meshaudit.audit(path, regions={"fillet": "strict"})
     assert report.verdict_names.tolist() == ["warn", "fail"]
+
+
+def test_junit_cases_follow_the_region_limits(tmp_path, run_cli):
+    import xml.etree.ElementTree as ET
+
+    (tmp_path / "groups.msh").write_text(TWO_GROUPS_MSH)
+    (tmp_path / "meshaudit.toml").write_text('[regions.fillet]\nextends = "strict"\n')
+    res = run_cli("check", "groups.msh", "--junit", "out.xml", cwd=tmp_path)
+    assert res.returncode == 1, res.stderr
+    root = ET.parse(tmp_path / "out.xml").getroot()
+    failed = {
+        (c.get("classname"), c.get("name"))
+        for c in root.iter("testcase")
+        if c.find("failure") is not None
+    }
+    strict_fail = BUILTIN["strict"].limit("quad", "aspect_ratio").fail
+    name = f"quad aspect_ratio <= {strict_fail:g} (fail limit)"
+    assert ("meshaudit.region.fillet.quad", name) in failed
+    # the element outside the region is judged under standard: no failing case there
+    assert {cls for cls, _ in failed} == {"meshaudit.region.fillet.quad"}

@@ -13,6 +13,7 @@ import xml.etree.ElementTree as ET
 import numpy as np
 
 from ..metrics import METRIC_INFO, QUADRATIC_CELLS, WARNING_FLAGS
+from ..profiles import Profile
 from ..report import Report
 from ..verdicts import FAIL, INVALID_FLAGS, WARN
 
@@ -66,9 +67,41 @@ def render(report: Report) -> str:
             f"; ids: {_ids(report, mask)}" if n else ""
         )
         _case(suite, "meshaudit.warnings", f"no {flag} elements", n > 0 and warn_fails, msg)
+    for classname, profile, in_group in _limit_groups(report):
+        _limit_cases(suite, report, classname, profile, in_group)
+    cases = suite.findall("testcase")
+    suite.set("tests", str(len(cases)))
+    suite.set("failures", str(sum(1 for c in cases if c.find("failure") is not None)))
+    suite.set("errors", "0")
+    suite.set("skipped", "0")
+    root = ET.Element("testsuites", name="meshaudit")
+    root.append(suite)
+    ET.indent(root)
+    return '<?xml version="1.0" encoding="UTF-8"?>\n' + ET.tostring(root, encoding="unicode") + "\n"
+
+
+def _limit_groups(report: Report) -> list[tuple[str, Profile, np.ndarray]]:
+    """(class name, profile, element mask) per set of elements judged under one profile:
+    the main profile, then each region of the file that has limits of its own."""
+    codes = report.region_codes
+    if codes is None or not report.region_names:
+        return [("meshaudit", report.profile, np.ones(len(report), dtype=bool))]
+    groups = [("meshaudit", report.profile, codes == 0)]
+    for k, name in enumerate(report.region_names, start=1):
+        groups.append((f"meshaudit.region.{name}", report.region_profiles[k - 1], codes == k))
+    return groups
+
+
+def _limit_cases(
+    suite: ET.Element, report: Report, classname: str, profile: Profile, in_group: np.ndarray
+) -> None:
+    """One case per warn and per fail limit of ``profile``, over the elements in_group."""
+    warn_fails = report.fail_on == "warn"
     for f_code, family in enumerate(report.cell_families):
-        in_family = report.families == f_code
-        for metric, limit in report.profile.limits.get(family, {}).items():
+        in_family = (report.families == f_code) & in_group
+        if not in_family.any():
+            continue
+        for metric, limit in profile.limits.get(family, {}).items():
             worse = METRIC_INFO[metric].worse
             sign = "<=" if worse == "high" else ">="
             values = report.metrics[metric]
@@ -85,17 +118,8 @@ def render(report: Report) -> str:
                     msg += f"; worst ids: {_ids(report, mask, key)}"
                 _case(
                     suite,
-                    f"meshaudit.{family}",
+                    f"{classname}.{family}",
                     name,
                     n > 0 and (kind == "fail" or warn_fails),
                     msg,
                 )
-    cases = suite.findall("testcase")
-    suite.set("tests", str(len(cases)))
-    suite.set("failures", str(sum(1 for c in cases if c.find("failure") is not None)))
-    suite.set("errors", "0")
-    suite.set("skipped", "0")
-    root = ET.Element("testsuites", name="meshaudit")
-    root.append(suite)
-    ET.indent(root)
-    return '<?xml version="1.0" encoding="UTF-8"?>\n' + ET.tostring(root, encoding="unicode") + "\n"
