@@ -84,7 +84,13 @@ def build_parser() -> argparse.ArgumentParser:
     cli_inspect.add_check_options(check)
     cli_inspect.add_explain_command(sub)
 
-    sub.add_parser("profiles", help="list the built-in profiles with every limit and its source")
+    from . import profiles_view
+
+    profiles_view.add_arguments(
+        sub.add_parser(
+            "profiles", help="list the built-in profiles with every limit and its source"
+        )
+    )
     from .subcommands import add_compare, add_init
 
     add_compare(sub, _add_common_options)
@@ -217,24 +223,10 @@ def _renderer(kind: str, report: Report, args: argparse.Namespace) -> Renderer:
     return lambda p: atomic.write_text(p, junit_report.render(report))
 
 
-def _profiles() -> int:
-    from rich.console import Console
-    from rich.table import Table
+def _profiles(args: argparse.Namespace) -> int:
+    from . import profiles_view
 
-    from .metrics import METRIC_INFO
-    from .profiles import BUILTIN
-
-    console = Console(highlight=False)
-    for prof in BUILTIN.values():
-        t = Table(title=f"{prof.name}: {prof.description}", title_justify="left")
-        for col in ("family", "metric", "worse when", "warn", "fail", "source"):
-            t.add_column(col)
-        for family, limits in prof.limits.items():
-            for metric, lim in limits.items():
-                worse = "above" if METRIC_INFO[metric].worse == "high" else "below"
-                t.add_row(family, metric, worse, f"{lim.warn:g}", f"{lim.fail:g}", lim.source)
-        console.print(t)
-    return EXIT_PASS
+    return profiles_view.run(args, _console())
 
 
 def main(argv: Sequence[str] | None = None) -> int:
@@ -245,7 +237,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         if args.command == "check":
             return _check(args)
         if args.command == "profiles":
-            return _profiles()
+            return _profiles(args)
         if args.command == "explain":
             return cli_inspect.run_explain(args)
         if args.command in ("compare", "init"):

@@ -134,3 +134,24 @@ def test_init_writes_a_valid_commented_starter_and_never_overwrites(tmp_path, ru
     other = write_starter(tmp_path / "other.toml")
     assert other.read_text() == STARTER
     assert sorted(os.listdir(tmp_path)) == ["meshaudit.toml", "other.toml"]
+
+
+def test_profiles_lists_builtins_files_and_the_configured_limits(tmp_path, run_cli):
+    res = run_cli("profiles")
+    assert res.returncode == 0
+    for name in ("standard", "strict", "lenient"):
+        assert f"{name}: " in res.stdout
+    assert res.stdout.count("aspect_ratio") == 6  # quad and triangle in each built-in
+    (tmp_path / "meshaudit.toml").write_text(
+        "[limits.quad]\n"
+        'skew = { warn = 12, fail = 24, source = "bracket plate project rule" }\n'
+        "[regions.fillet]\n"
+        'extends = "strict"\n'
+    )
+    res = run_cli("profiles", "--configured", cwd=tmp_path)
+    assert res.returncode == 0, res.stderr
+    assert "bracket plate project rule" in res.stdout
+    assert "region 'fillet'" in res.stdout
+    res = run_cli("profiles", "coarse", cwd=tmp_path)
+    assert res.returncode == 2
+    assert "unknown profile 'coarse'" in res.stderr

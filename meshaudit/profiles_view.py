@@ -1,0 +1,75 @@
+"""``meshaudit profiles``: every limit of a profile with its unit, direction and source.
+
+Without arguments: the built-in profiles. With names or TOML files: those profiles. With
+``--config FILE`` (or when a configuration is found from the working directory and
+``--configured`` is given): the limits that configuration applies, region by region.
+"""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+
+from rich.console import Console
+from rich.table import Table
+
+from .config import settings_for
+from .errors import MeshAuditError
+from .metrics import METRIC_INFO
+from .profiles import BUILTIN, Profile, load_profile
+
+
+def add_arguments(cmd: argparse.ArgumentParser) -> None:
+    cmd.add_argument(
+        "profiles",
+        nargs="*",
+        metavar="NAME|FILE",
+        help="profiles to list (default: every built-in profile)",
+    )
+    cmd.add_argument(
+        "--configured",
+        action="store_true",
+        help="list the limits of the configuration file found from the working directory",
+    )
+    cmd.add_argument(
+        "--config", type=Path, metavar="FILE", help="list the limits of this configuration file"
+    )
+
+
+def profile_table(profile: Profile, title: str | None = None) -> Table:
+    t = Table(title=title or f"{profile.name}: {profile.description}", title_justify="left")
+    for col in ("family", "metric", "unit", "worse when", "warn", "fail", "source"):
+        t.add_column(
+            col, justify="right" if col in ("warn", "fail") else "left", no_wrap=col != "source"
+        )
+    for family, limits in profile.limits.items():
+        for metric, lim in limits.items():
+            info = METRIC_INFO[metric]
+            worse = "above" if info.worse == "high" else "below"
+            cells = ["-" if v is None else f"{v:g}" for v in (lim.warn, lim.fail)]
+            t.add_row(family, metric, info.unit, worse, *cells, lim.source)
+    return t
+
+
+def _selected(args: argparse.Namespace) -> list[tuple[str | None, Profile]]:
+    if args.config is not None or args.configured:
+        settings = settings_for(None, args.config, True)
+        if settings.path is None:
+            raise MeshAuditError("no meshaudit.toml or [tool.meshaudit] found from here")
+        base = settings.profile or BUILTIN["standard"]
+        out: list[tuple[str | None, Profile]] = [
+            (f"{settings.path}: every element not in a region ({base.name})", base)
+        ]
+        for name, prof in settings.regions.items():
+            out.append((f"{settings.path}: region {name!r} ({prof.description})", prof))
+        return out
+    if args.profiles:
+        return [(None, load_profile(spec)) for spec in args.profiles]
+    return [(None, prof) for prof in BUILTIN.values()]
+
+
+def run(args: argparse.Namespace, console: Console) -> int:
+    """Print the selected profiles; returns exit status 0."""
+    for title, profile in _selected(args):
+        console.print(profile_table(profile, title))
+    return 0
