@@ -95,10 +95,14 @@ def add_explain_command(sub: argparse._SubParsersAction) -> None:
     explain.add_argument("--format", dest="file_format", metavar="NAME", help="meshio format")
     explain.add_argument(
         "--profile",
-        default="standard",
         metavar="NAME|FILE",
-        help="built-in profile (standard, strict, lenient) or a TOML file",
+        help="built-in profile (standard, strict, lenient) or a TOML file (default: as "
+        "'check' would choose: the configuration file's limits, else standard)",
     )
+    explain.add_argument(
+        "--config", type=Path, metavar="FILE", help="configuration file (as for 'check')"
+    )
+    explain.add_argument("--no-config", action="store_true", help="ignore configuration files")
     explain.add_argument(
         "--plot", type=Path, metavar="FILE", help="draw the element (.png, .svg or .pdf)"
     )
@@ -109,6 +113,7 @@ def run_explain(args: argparse.Namespace) -> int:
     """The ``explain`` command; returns the exit status."""
     from rich.console import Console
 
+    from .config import settings_for
     from .explain import explain
     from .inspection import audit_mesh
     from .outputs import atomic, explain_text
@@ -122,7 +127,15 @@ def run_explain(args: argparse.Namespace) -> int:
         raise MeshAuditError("two outputs would be written to the same file")
     for dest in dests:
         atomic.check_destination(dest, [mesh_path])
-    audited = audit_mesh(mesh_path, profile=args.profile, file_format=args.file_format)
+    settings = settings_for(mesh_path, args.config, not args.no_config)
+    profile = args.profile or settings.profile or "standard"
+    audited = audit_mesh(
+        mesh_path,
+        profile=profile,
+        file_format=args.file_format,
+        fail_on=settings.fail_on or "fail",
+        regions=settings.regions,
+    )
     ex = explain(audited, args.element_id)
     outputs: list[tuple[Path, Renderer]] = []
     if args.plot is not None:

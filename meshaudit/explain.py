@@ -197,7 +197,7 @@ def metric_lines(audited: AuditedMesh, i: int) -> list[MetricLine]:
     for name in METRIC_NAMES:
         info = METRIC_INFO[name]
         value = float(report.metrics[name][i])
-        lim = report.profile.limit(family, name)
+        lim = report.profile_of(i).limit(family, name)
         warn, fail = (lim.warn, lim.fail) if lim is not None else (None, None)
         lvl = report.levels.get(name)
         if lim is None or lvl is None:
@@ -256,7 +256,7 @@ def explain(audited: AuditedMesh, element_id: int) -> Explanation:
         cell_type=cell_type,
         family=family,
         verdict=VERDICT_NAMES[int(report.verdict[i])],
-        profile=report.profile.name,
+        profile=report.profile_of(i).name,
         node_indices=nodes,
         coordinates=audited.elements.points[nodes],
         gauss_points=gauss_pts,

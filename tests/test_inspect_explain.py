@@ -122,3 +122,29 @@ def test_quad8_rectangle_and_quarter_point():
     assert (ex.det_j_gauss > 0).all()
     fig = explain_plot.draw(audit_mesh(meshio.Mesh(quarter, [("quad8", np.arange(8)[None])])), ex)
     assert any(c.get_gid() == "grid" for c in fig.axes[0].collections)
+
+
+def test_explain_uses_the_same_configuration_as_check(run_cli, tmp_path):
+    # A meshaudit.toml beside the mesh tightens the triangle min-angle limits: the flat
+    # triangle (id 25, angles 26.6 / 26.6 / 126.9 deg by construction) then fails.
+    source = tmp_path / "plate.vtu"
+    meshio.write(source, planted_plate())
+    (tmp_path / "meshaudit.toml").write_text(
+        '[limits]\nextends = "standard"\n[limits.triangle]\nmin_angle = { warn = 40, fail = 30 }\n'
+    )
+    check = run_cli("check", source, "--json", tmp_path / "r.json", "--quiet")
+    assert check.returncode == 1, check.stderr
+    rec = next(
+        r for r in json.loads((tmp_path / "r.json").read_text())["elements"] if r["id"] == 25
+    )
+    assert rec["verdict"] == "fail"
+    explained = run_cli("explain", source, "25", "--json", tmp_path / "e.json")
+    assert explained.returncode == 1, explained.stderr
+    doc = json.loads((tmp_path / "e.json").read_text())
+    angle = next(m for m in doc["metrics"] if m["name"] == "min_angle")
+    assert doc["verdict"] == "fail" and (angle["warn"], angle["fail"]) == (40, 30)
+    assert angle["value"] == pytest.approx(np.degrees(np.arctan(0.5)))  # atan(0.25 / 0.5)
+    plain = run_cli("explain", source, "25", "--no-config", "--json", tmp_path / "p.json")
+    assert (
+        plain.returncode == 0 and json.loads((tmp_path / "p.json").read_text())["verdict"] == "warn"
+    )
