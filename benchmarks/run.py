@@ -1,0 +1,222 @@
+"""Benchmark: audit time against a bare ``meshio.read`` of the same file, at several sizes.
+
+    python -m benchmarks.run                       # 10^4, 10^5 and 10^6 quads
+    python -m benchmarks.run --sizes 1e7 --no-plot # ten million (about 3 GB of files)
+    python -m benchmarks.run --sizes 1000 --out /tmp/bench   # a smoke run
+
+For each size a distorted bracket-plate quad mesh (see :mod:`benchmarks.meshgen`) is
+written as binary gmsh msh 4.1 and as VTU. For each file, in the same run:
+
+- bare read: ``python -c "meshio.read(FILE)"`` in a fresh interpreter, wall time;
+- audit: ``python -m meshaudit check FILE --json OUT --quiet`` from this checkout (no
+  plot), wall time and peak resident memory (``ru_maxrss`` of that child, from wait4);
+- stages: one more child (:mod:`benchmarks.stages`) that times read, element arrays,
+  metrics, verdicts, the rest of the engine, reports (statistics and JSON) and the plot.
+
+Both wall times include starting Python and importing what the command needs, so the
+ratio audit / bare read is what a user sees. The table is printed and written as
+Markdown (``--markdown``). Timings are the best of ``--repeat`` runs.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import platform
+import subprocess
+import sys
+import time
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from .meshgen import distorted_plate, write_mesh
+
+REPO = Path(__file__).resolve().parents[1]
+STAGES = ("read", "elements", "metrics", "verdicts", "engine other", "reports", "plot")
+BARE_READ = "import sys, meshio; meshio.read(sys.argv[1])"
+
+
+@dataclass
+class Run:
+    """Wall time (s), peak resident memory (MB) and exit status of one child process."""
+
+    seconds: float
+    peak_mb: float
+    status: int
+    stdout: str = ""
+
+
+@dataclass
+class Row:
+    size: int
+    fmt: str
+    file_mb: float
+    bare: Run
+    audit: Run
+    stages: dict[str, float] = field(default_factory=dict)
+
+    @property
+    def ratio(self) -> float:
+        return self.audit.seconds / self.bare.seconds
+
+
+def child_env() -> dict[str, str]:
+    env = dict(os.environ)
+    env["PYTHONPATH"] = str(REPO) + os.pathsep + env.get("PYTHONPATH", "")
+    return env
+
+
+def run_child(argv: list[str], cwd: Path, timeout: float = 3600.0) -> Run:
+    """Run ``argv``; wall time and the child's own peak RSS (Linux reports KiB)."""
+    start = time.perf_counter()
+    proc = subprocess.Popen(
+        argv, cwd=cwd, env=child_env(), stdout=subprocess.PIPE, stderr=subprocess.DEVNULL
+    )
+    out = proc.stdout.read() if proc.stdout else b""
+    _, status, usage = os.wait4(proc.pid, 0)
+    seconds = time.perf_counter() - start
+    proc.returncode = os.waitstatus_to_exitcode(status)  # already reaped by wait4
+    if seconds > timeout:
+        raise RuntimeError(f"{argv[:4]} took {seconds:.0f} s")
+    return Run(seconds, usage.ru_maxrss / 1024.0, proc.returncode, out.decode())
+
+
+def best_of(repeat: int, argv: list[str], cwd: Path) -> Run:
+    runs = [run_child(argv, cwd) for _ in range(max(1, repeat))]
+    return min(runs, key=lambda r: r.seconds)
+
+
+def prepare(size: int, formats: list[str], outdir: Path) -> dict[str, Path]:
+    """Mesh files of ``size`` elements, generated once and reused if already there."""
+    paths = {fmt: outdir / f"plate_{size}.{fmt}" for fmt in formats}
+    missing = [fmt for fmt, p in paths.items() if not p.exists()]
+    if missing:
+        mesh = distorted_plate(size)
+        for fmt in missing:
+            write_mesh(mesh, paths[fmt])
+        del mesh
+    return paths
+
+
+def measure(path: Path, size: int, outdir: Path, repeat: int, plot: bool) -> Row:
+    py = sys.executable
+    bare = best_of(repeat, [py, "-c", BARE_READ, str(path)], outdir)
+    json_out = outdir / f"{path.name}.report.json"
+    audit_argv = [py, "-m", "meshaudit", "check", str(path), "--json", str(json_out), "--quiet"]
+    audit = best_of(repeat, audit_argv, outdir)
+    if audit.status not in (0, 1):
+        raise RuntimeError(f"meshaudit check {path} exited {audit.status}")
+    stage_argv = [py, "-m", "benchmarks.stages", str(path), str(outdir)]
+    if plot:
+        stage_argv.append("--plot")
+    stage_run = run_child(stage_argv, outdir)
+    stages = json.loads(stage_run.stdout)["times"] if stage_run.status == 0 else {}
+    file_mb = path.stat().st_size / 1e6
+    return Row(size, path.suffix.lstrip("."), file_mb, bare, audit, stages)
+
+
+def help_time(repeat: int) -> float:
+    """Wall time of ``python -m meshaudit --help`` (start-up cost of the command)."""
+    return best_of(repeat, [sys.executable, "-m", "meshaudit", "--help"], REPO).seconds
+
+
+def markdown(rows: list[Row], help_seconds: float) -> str:
+    head = [
+        "elements",
+        "format",
+        "file MB",
+        "bare read s",
+        "audit s",
+        "ratio",
+        "peak MB",
+        *(f"{s} s" for s in STAGES),
+    ]
+    lines = ["| " + " | ".join(head) + " |", "|" + "---|" * len(head)]
+    for r in rows:
+        cells = [
+            f"{r.size:,}",
+            r.fmt,
+            f"{r.file_mb:.1f}",
+            f"{r.bare.seconds:.2f}",
+            f"{r.audit.seconds:.2f}",
+            f"{r.ratio:.2f}",
+            f"{r.audit.peak_mb:.0f}",
+            *(f"{r.stages[s]:.2f}" if s in r.stages else "-" for s in STAGES),
+        ]
+        lines.append("| " + " | ".join(cells) + " |")
+    lines.append("")
+    lines.append(f"`python -m meshaudit --help`: {help_seconds:.2f} s.")
+    return "\n".join(lines) + "\n"
+
+
+def machine() -> str:
+    """One line describing this machine: cores, CPU model, RAM, Python and numpy."""
+    import numpy
+
+    cpu = "unknown CPU"
+    try:
+        for line in Path("/proc/cpuinfo").read_text().splitlines():
+            if line.startswith("model name"):
+                cpu = line.split(":", 1)[1].strip()
+                break
+        mem_kb = next(
+            int(line.split()[1])
+            for line in Path("/proc/meminfo").read_text().splitlines()
+            if line.startswith("MemTotal")
+        )
+        ram = f"{mem_kb / 1024**2:.0f} GiB RAM"
+    except (OSError, StopIteration, ValueError):
+        ram = "RAM unknown"
+    return (
+        f"{os.cpu_count()} cores ({cpu}), {ram}, Python {platform.python_version()}, "
+        f"numpy {numpy.__version__}"
+    )
+
+
+def parse_sizes(text: str) -> list[int]:
+    return [int(float(s)) for s in text.split(",") if s.strip()]
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = argparse.ArgumentParser(prog="python -m benchmarks.run", description=__doc__)
+    parser.add_argument("--sizes", default="1e4,1e5,1e6", help="element counts, comma-separated")
+    parser.add_argument("--formats", default="msh,vtu", help="msh and/or vtu")
+    parser.add_argument("--out", type=Path, default=REPO / "benchmarks" / "out")
+    parser.add_argument("--markdown", type=Path, help="Markdown table (default OUT/results.md)")
+    parser.add_argument("--repeat", type=int, default=1, help="best of N timed runs")
+    parser.add_argument(
+        "--plot-up-to",
+        type=float,
+        default=1e6,
+        help="time the plot stage for sizes up to this (default 1e6)",
+    )
+    parser.add_argument("--no-plot", action="store_true", help="never time the plot stage")
+    args = parser.parse_args(argv)
+
+    args.out.mkdir(parents=True, exist_ok=True)
+    formats = [f.strip() for f in args.formats.split(",") if f.strip()]
+    rows: list[Row] = []
+    for size in parse_sizes(args.sizes):
+        paths = prepare(size, formats, args.out)
+        plot = not args.no_plot and size <= args.plot_up_to
+        for fmt in formats:
+            row = measure(paths[fmt], size, args.out, args.repeat, plot)
+            rows.append(row)
+            print(
+                f"{size:>10,} {fmt}: bare read {row.bare.seconds:.2f} s, "
+                f"audit {row.audit.seconds:.2f} s (x{row.ratio:.2f}), "
+                f"peak {row.audit.peak_mb:.0f} MB",
+                flush=True,
+            )
+    text = f"Machine: {machine()}.\n\n" + markdown(rows, help_time(args.repeat))
+    dest = args.markdown or args.out / "results.md"
+    dest.write_text(text, encoding="utf-8")
+    print()
+    print(text, end="")
+    print(f"(written to {dest})")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,112 @@
+"""Time the stages of one audit in this process and print them as JSON (run as a child).
+
+``python -m benchmarks.stages MESH OUTDIR [--plot]`` reads MESH, builds the element
+arrays, measures and judges every element, computes the statistics, writes the JSON
+report and (with ``--plot``, when the plot module exists) draws the mesh, timing each.
+
+The metric kernels and the verdicts run interleaved, chunk by chunk, inside
+``meshaudit.api.audit_elements``; their shares are told apart by timing the two
+functions that do the work (``measure_elements`` and ``judge_by_region``) through thin
+wrappers installed for this run only. "engine other" is the rest of ``audit_elements``:
+choosing the frame, gathering node coordinates per chunk, copying chunk results into the
+per-element arrays and any mesh-level checks.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import json
+import time
+from collections.abc import Callable
+from pathlib import Path
+from typing import Any
+
+
+def _timed(totals: dict[str, float], key: str, fn: Callable[..., Any]) -> Callable[..., Any]:
+    def wrapper(*args: Any, **kwargs: Any) -> Any:
+        start = time.perf_counter()
+        try:
+            return fn(*args, **kwargs)
+        finally:
+            totals[key] += time.perf_counter() - start
+
+    return wrapper
+
+
+def _instrument(totals: dict[str, float]) -> None:
+    """Wrap the kernel and verdict functions that ``audit_elements`` calls, where present."""
+    api = importlib.import_module("meshaudit.api")
+    for attr, key in (
+        ("measure_elements", "metrics"),
+        ("judge_by_region", "verdicts"),
+        ("judge", "verdicts"),
+    ):
+        if hasattr(api, attr):
+            totals.setdefault(key, 0.0)
+            setattr(api, attr, _timed(totals, key, getattr(api, attr)))
+
+
+def _plot_module() -> Any | None:
+    try:
+        return importlib.import_module("meshaudit.outputs.plot")
+    except ImportError:
+        return None
+
+
+def run(mesh: Path, outdir: Path, plot: bool) -> dict[str, Any]:
+    """Stage times in seconds (and a few counts) of one in-process audit of ``mesh``."""
+    t0 = time.perf_counter()
+    import meshio  # noqa: F401  (imported here so that "read" is the reading alone)
+
+    from meshaudit import api, reading
+    from meshaudit.outputs import atomic, json_report
+
+    times: dict[str, float] = {"import": time.perf_counter() - t0}
+    inner: dict[str, float] = {}
+    _instrument(inner)
+
+    t = time.perf_counter()
+    raw = reading.read_meshio(mesh)
+    times["read"] = time.perf_counter() - t
+
+    t = time.perf_counter()
+    elements = reading.build_elements(raw, str(mesh))
+    times["elements"] = time.perf_counter() - t
+
+    t = time.perf_counter()
+    report = api.audit_elements(elements)
+    engine = time.perf_counter() - t
+    times["metrics"] = inner.get("metrics", 0.0)
+    times["verdicts"] = inner.get("verdicts", 0.0)
+    times["engine other"] = engine - times["metrics"] - times["verdicts"]
+
+    t = time.perf_counter()
+    dest = outdir / f"{mesh.stem}.{mesh.suffix.lstrip('.')}.stages.json"
+    atomic.write_all([(dest, lambda p: atomic.write_text(p, json_report.render(report)))])
+    times["reports"] = time.perf_counter() - t
+
+    plot_module = _plot_module() if plot else None
+    if plot_module is not None:
+        t = time.perf_counter()
+        plot_module.render(outdir / f"{mesh.stem}.png", report, elements)
+        times["plot"] = time.perf_counter() - t
+    return {
+        "times": times,
+        "elements": len(report),
+        "verdicts": report.verdict_counts(),
+        "plot_available": _plot_module() is not None,
+    }
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("mesh", type=Path)
+    parser.add_argument("outdir", type=Path)
+    parser.add_argument("--plot", action="store_true")
+    args = parser.parse_args()
+    print(json.dumps(run(args.mesh, args.outdir, args.plot)))
+
+
+if __name__ == "__main__":
+    main()
