@@ -14,6 +14,8 @@ import meshio
 import numpy as np
 import pytest
 import sympy as sp
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from skfem import (
     ElementQuad2,
     ElementQuadS2,
@@ -252,6 +254,20 @@ def test_short_of_the_quarter_point_det_j_stays_positive(cell_type):
     assert report.metrics["midside_offset_along"][0] == pytest.approx(0.2)
 
 
+def test_a_quarter_point_node_off_the_chord_is_not_the_singular_element():
+    # Same source: the singular element has its node on the straight edge, a quarter of
+    # it from the corner. Pushed off the chord by 10% of the edge it is a distorted edge,
+    # not that construction: no quarter_point flag, and its along-edge offset of 0.25
+    # breaches the fail limit like any other badly placed node.
+    nodes = quarter_point_element("quad8", 0.25)
+    nodes[4, 1] += 0.2
+    report = audit(meshio.Mesh(nodes, [("quad8", [list(range(8))])]))
+    assert report.metrics["midside_offset_across"][0] == pytest.approx(0.1)
+    assert report.metrics["midside_offset_along"][0] == pytest.approx(0.25)
+    assert "quarter_point" not in report.flags_of(0)
+    assert report.verdict_names[0] == "fail"
+
+
 # -- straight-sided quadratic == linear ------------------------------------------------------
 @pytest.mark.parametrize("cell_type", ["quad8", "quad9", "triangle6"])
 def test_straight_sided_quadratic_reports_the_linear_shape_metrics(cell_type):
@@ -319,3 +335,51 @@ def test_quadratic_and_linear_elements_share_edges_by_their_corners():
     assert table.n_edges == 6
     first, second, same = interior_pairs(table)
     assert [*first, *second] == [0, 1] and not same.any()
+
+
+# -- invariance -------------------------------------------------------------------------------
+def _roll_quadratic(cells: np.ndarray, k: int, shift: np.ndarray) -> np.ndarray:
+    """Cyclic renumbering: corners and midside nodes roll together (quad9 centre stays)."""
+    order = (np.arange(k)[None, :] + shift[:, None]) % k
+    corners = np.take_along_axis(cells[:, :k], order, 1)
+    midsides = np.take_along_axis(cells[:, k : 2 * k], order, 1)
+    return np.hstack([corners, midsides, cells[:, 2 * k :]])
+
+
+@settings(max_examples=15, deadline=None)
+@given(
+    seed=st.integers(0, 2**32 - 1),
+    angle=st.floats(0.0, 2 * np.pi),
+    log_scale=st.floats(-3.0, 3.0),
+)
+def test_quadratic_metrics_do_not_depend_on_place_size_or_numbering(seed, angle, log_scale):
+    # Common practice: shape measures are unchanged by rigid motion, scaling and cyclic
+    # renumbering; area and det J scale with the square of the length.
+    rng = np.random.default_rng(seed)
+    blocks, points, start = [], [], 0
+    for cell_type in ("quad8", "quad9", "triangle6"):
+        nodes = np.stack([distorted(cell_type, int(s)) for s in rng.integers(0, 10**6, 40)])
+        nodes = nodes + rng.uniform(-20, 20, (40, 1, 2))
+        k = nodes.shape[1]
+        points.append(nodes.reshape(-1, 2))
+        blocks.append((cell_type, start + np.arange(40 * k).reshape(40, k)))
+        start += 40 * k
+    points = np.column_stack([np.vstack(points), np.zeros(start)])
+    ref_metrics = audit(meshio.Mesh(points, blocks)).metrics
+
+    c, s = np.cos(angle), np.sin(angle)
+    turn = np.array([[c, -s, 0.0], [s, c, 0.0], [0.0, 0.0, 1.0]])
+    scale = 10.0**log_scale
+    rolled = []
+    for cell_type, cells in blocks:
+        k = 3 if cell_type == "triangle6" else 4
+        rolled.append((cell_type, _roll_quadratic(cells, k, rng.integers(0, k, len(cells)))))
+    got = audit(meshio.Mesh(points @ turn.T * scale, rolled)).metrics
+    squared = ("area", "det_j_min", "det_j_max", "det_j_corner_min")
+    for name, values in got.items():
+        factor = scale**2 if name in squared else 1.0
+        atol = 1e-7 if name in ("skew", "warp", "min_angle", "max_angle") else 0.0
+        atol = max(atol, 1e-10 * factor)
+        np.testing.assert_allclose(
+            values, ref_metrics[name] * factor, rtol=1e-8, atol=atol, err_msg=name
+        )

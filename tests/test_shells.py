@@ -180,3 +180,31 @@ def test_a_moebius_band_is_named_in_the_notes():
     report = audit(meshio.Mesh(np.vstack(rails), [("quad", cells)]))
     assert not report.flag("flipped_normal").any()
     assert any("cannot be consistently oriented" in note for note in report.notes)
+
+
+def test_quadratic_cylinder_shell_reads_the_arc_sagitta_across_its_edges():
+    # Circle geometry: a chord subtending angle t has length 2 R sin(t/2) and its arc's
+    # midpoint sits R (1 - cos(t/2)) off it, so across = (1 - cos(t/2)) / (2 sin(t/2)).
+    # Nodes of quad8 elements on a cylinder of radius 2, 8 x 3 elements over 90 degrees.
+    radius, n_theta, n_z = 2.0, 8, 3
+    theta = np.linspace(0.0, np.pi / 2, 2 * n_theta + 1)
+    z = np.linspace(0.0, 3.0, 2 * n_z + 1)
+    tt, zz = np.meshgrid(theta, z)
+    pts = np.column_stack([radius * np.cos(tt).ravel(), radius * np.sin(tt).ravel(), zz.ravel()])
+    m = 2 * n_theta + 1
+    i, j = np.meshgrid(np.arange(n_theta), np.arange(n_z))
+    c = (2 * j * m + 2 * i).ravel()
+    corners = [c, c + 2, c + 2 * m + 2, c + 2 * m]
+    cells = np.column_stack([*corners, c + 1, c + m + 2, c + 2 * m + 1, c + m])
+    report = audit(meshio.Mesh(pts, [("quad8", cells)]))
+    step = (np.pi / 2) / n_theta
+    expected = (1 - np.cos(step / 2)) / (2 * np.sin(step / 2))
+    assert report.summary.frame == "shell"
+    np.testing.assert_allclose(report.metrics["midside_offset_across"], expected, rtol=1e-12)
+    np.testing.assert_allclose(report.metrics["midside_offset_along"], 0.0, atol=1e-12)
+    assert not report.flag("flipped_normal").any() and not report.flag("inverted").any()
+    # Flip one element (reverse corners and midsides together): only it is reported.
+    flipped = cells.copy()
+    flipped[5] = flipped[5][[0, 3, 2, 1, 7, 6, 5, 4]]
+    report = audit(meshio.Mesh(pts, [("quad8", flipped)]))
+    assert np.flatnonzero(report.flag("flipped_normal")).tolist() == [5]

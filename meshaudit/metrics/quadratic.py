@@ -34,8 +34,9 @@ import numpy as np
 from .. import reference as ref
 from .common import norm
 
-#: How close (fraction of the edge length) to the quarter point a midside node counts as
-#: placed there on purpose. Common practice, no single source.
+#: How close (fraction of the edge length, along and across the chord) to the quarter
+#: point a midside node counts as placed there on purpose. Common practice, no single
+#: source.
 QUARTER_POINT_TOLERANCE = 0.01
 
 #: Metrics this module measures that linear elements do not have (NaN for them).
@@ -159,7 +160,10 @@ def measure(
     negative = sampled < floor
     inverted = flags["inverted"] | (negative.any(axis=1) & ~collapsed)
     reversed_ = flags["reversed"] | (negative.all(axis=1) & ~collapsed)
-    near_quarter = np.abs(np.abs(along) - 0.25) <= QUARTER_POINT_TOLERANCE
+    # The singular construction: on the straight chord, a quarter of it from a corner.
+    near_quarter = (np.abs(np.abs(along) - 0.25) <= QUARTER_POINT_TOLERANCE) & (
+        across <= QUARTER_POINT_TOLERANCE
+    )
     quarter = near_quarter.any(axis=1) & ~inverted & ~collapsed
 
     lo, hi = gauss.min(axis=1), gauss.max(axis=1)
