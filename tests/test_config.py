@@ -20,6 +20,7 @@ from meshaudit.config import (
     load_settings,
 )
 from meshaudit.errors import ProfileError
+from meshaudit.profiles import BUILTIN
 from meshaudit.starter import STARTER, write_starter
 
 PYPROJECT_OTHER_TOOL = '[project]\nname = "bracket"\n[tool.other]\nx = 1\n'
@@ -155,3 +156,20 @@ def test_profiles_lists_builtins_files_and_the_configured_limits(tmp_path, run_c
     res = run_cli("profiles", "coarse", cwd=tmp_path)
     assert res.returncode == 2
     assert "unknown profile 'coarse'" in res.stderr
+
+
+def test_profile_file_relative_to_the_config_and_regions_inherit_the_file_limits(tmp_path):
+    (tmp_path / "limits").mkdir()
+    (tmp_path / "limits" / "plate.toml").write_text(
+        'name = "plate"\n[quad]\naspect_ratio = { warn = 4, fail = 5.5 }\n'
+    )
+    (tmp_path / "meshaudit.toml").write_text(
+        'profile = "limits/plate.toml"\n[regions.web.quad]\nskew = { warn = 5, fail = 9 }\n'
+    )
+    settings = load_settings(tmp_path / "meshaudit.toml")
+    assert settings.profile.name == "plate"
+    web = settings.regions["web"]
+    assert web.limit("quad", "aspect_ratio").fail == 5.5  # from the file's profile
+    assert web.limit("quad", "skew").fail == 9  # the region's own override
+    standard_skew = BUILTIN["standard"].limit("quad", "skew")
+    assert settings.profile.limit("quad", "skew") == standard_skew  # untouched
