@@ -55,11 +55,14 @@ def element_sets(mesh: Any, blocks: Sequence[tuple[int, np.ndarray]]) -> dict[st
             rows = np.asarray(per_block[block_no]).astype(np.int64, copy=False).ravel()
             rows = rows[(rows >= 0) & (rows < len(index))]
             found.setdefault(str(name), []).append(index[rows])
+    n = max((int(index[-1]) + 1 for _, index in blocks if len(index)), default=0)
     out = {}
     for name, parts in found.items():
-        rows = np.unique(np.concatenate(parts)) if parts else np.empty(0, np.int64)
-        if rows.size:
-            out[name] = rows.astype(np.int64)
+        member = np.zeros(n, dtype=bool)  # a mask: sorted and unique in O(n)
+        for part in parts:
+            member[part] = True
+        if member.any():
+            out[name] = np.flatnonzero(member).astype(np.int64)
     return out
 
 
@@ -94,7 +97,8 @@ def judge_by_region(
         rows = np.flatnonzero(codes == k)
         if rows.size == 0:
             continue
-        sub_metrics = {name: values[rows] for name, values in metrics.items()}
+        needed = {"area", *profile.limits.get(family, {})}  # all judge reads
+        sub_metrics = {name: metrics[name][rows] for name in needed if name in metrics}
         sub_flags = {name: values[rows] for name, values in flags.items()}
         lv, v = judge(family, sub_metrics, sub_flags, profile)
         verdict[rows] = v
