@@ -144,7 +144,11 @@ def _check_many(args: argparse.Namespace, inputs: list[tuple[str, str | None]]) 
     from .pipeline import check_many, check_report_options, overall_status
 
     check_report_options(args)
-    outcomes = check_many(args, inputs, _audit_and_write)
+    from .progress_bar import stage_bar, wanted
+
+    with stage_bar(wanted(args.quiet)) as progress:
+        args.progress = progress  # copied into each mesh's settings
+        outcomes = check_many(args, inputs, _audit_and_write)
     for o in outcomes:
         if o.error is not None:
             print(f"meshaudit: error: {o.error}", file=sys.stderr)
@@ -162,7 +166,11 @@ def _console():
 
 
 def _check_single(args: argparse.Namespace) -> int:
-    report = _audit_and_write(args)
+    from .progress_bar import stage_bar, wanted
+
+    with stage_bar(wanted(args.quiet)) as progress:
+        args.progress = progress
+        report = _audit_and_write(args)
     from .outputs import terminal
 
     terminal.render(report, _console(), top=args.top, quiet=args.quiet)
@@ -190,11 +198,13 @@ def _audit_and_write(args: argparse.Namespace) -> Report:
     for dest in dests:
         atomic.check_destination(dest, inputs)
 
+    progress = getattr(args, "progress", None)
     options = {
         "profile": args.profile,
         "file_format": args.file_format,
         "fail_on": args.fail_on,
         "regions": args.regions,
+        "progress": progress,
     }
     if inspection:  # plots and annotation need the mesh as well as the report
         from .inspection import audit_mesh
@@ -209,6 +219,8 @@ def _audit_and_write(args: argparse.Namespace) -> Report:
         outputs.append((dest, _renderer(kind, report, args)))
     for dest, kind in inspection:
         outputs.append((dest, cli_inspect.renderer(kind, audited, args)))
+    if progress is not None and outputs:
+        progress("write", 0, 0)
     atomic.write_all(outputs)
     return report
 

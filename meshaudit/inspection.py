@@ -15,7 +15,7 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
-from .api import audit_elements
+from .api import ProgressCallback, audit_elements
 from .elements import ElementMesh
 from .profiles import Profile
 from .reading import build_elements, read_meshio
@@ -43,15 +43,19 @@ def audit_mesh(
     file_format: str | None = None,
     fail_on: str = "fail",
     regions: Mapping[str, Profile | str | os.PathLike[str]] | None = None,
+    progress: ProgressCallback | None = None,
 ) -> AuditedMesh:
     """Like :func:`meshaudit.audit`, but keeps the mesh for plots, annotation and explain."""
+    if progress is not None:
+        progress("read", 0, 0)
     if isinstance(source, (str, os.PathLike)):
         raw = read_meshio(source, file_format)
         elements = build_elements(raw, str(source))
     else:
         raw = source
         elements = build_elements(source)
-    return AuditedMesh(audit_elements(elements, profile, fail_on, regions), elements, raw)
+    report = audit_elements(elements, profile, fail_on, regions, progress)
+    return AuditedMesh(report, elements, raw)
 
 
 def corner_table(elements: ElementMesh) -> np.ndarray:

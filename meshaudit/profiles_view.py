@@ -9,14 +9,15 @@ from __future__ import annotations
 
 import argparse
 from pathlib import Path
+from typing import TYPE_CHECKING
 
-from rich.console import Console
-from rich.table import Table
-
-from .config import settings_for
 from .errors import MeshAuditError
-from .metrics import METRIC_INFO
-from .profiles import BUILTIN, Profile, load_profile
+
+if TYPE_CHECKING:  # rich, the profiles and the metrics load on use: --help starts fast
+    from rich.console import Console
+    from rich.table import Table
+
+    from .profiles import Profile
 
 
 def add_arguments(cmd: argparse.ArgumentParser) -> None:
@@ -37,6 +38,10 @@ def add_arguments(cmd: argparse.ArgumentParser) -> None:
 
 
 def profile_table(profile: Profile, title: str | None = None) -> Table:
+    from rich.table import Table
+
+    from .metrics import METRIC_INFO
+
     t = Table(title=title or f"{profile.name}: {profile.description}", title_justify="left")
     for col in ("family", "metric", "unit", "worse when", "warn", "fail", "source"):
         t.add_column(
@@ -52,6 +57,9 @@ def profile_table(profile: Profile, title: str | None = None) -> Table:
 
 
 def _selected(args: argparse.Namespace) -> list[tuple[str | None, Profile]]:
+    from .config import settings_for
+    from .profiles import BUILTIN, load_profile
+
     if args.config is not None or args.configured:
         settings = settings_for(None, args.config, True)
         if settings.path is None:

@@ -161,10 +161,13 @@ class Report:
         return out
 
     def worst(self, n: int | None = None, only_flagged: bool = True) -> np.ndarray:
-        """Indices ordered worst first: by verdict, then by score (lowest first)."""
-        order = np.lexsort((self.score, -self.verdict.astype(np.int16)))
-        if only_flagged:
-            order = order[self.verdict[order] > 0]
+        """Indices ordered worst first: by verdict, then by score (lowest first).
+
+        Ties keep read order. With ``only_flagged`` only the elements not ok are sorted,
+        usually a small fraction of a large mesh.
+        """
+        rows = np.flatnonzero(self.verdict > 0) if only_flagged else self.index
+        order = rows[np.lexsort((self.score[rows], -self.verdict[rows].astype(np.int16)))]
         return order if n is None else order[:n]
 
     def breached(self, i: int) -> dict[str, tuple[float, str, float | None]]:
