@@ -267,14 +267,21 @@ class Report:
     def _breached_limits(
         self, metric: str, rows: np.ndarray, codes: np.ndarray
     ) -> list[float | None]:
-        """The limit each of ``rows`` breached for ``metric`` (fail limit at code 2)."""
+        """The limit each of ``rows`` breached for ``metric`` (fail limit at code 2),
+        under the profile each was judged by (see :meth:`profile_of`)."""
         out: list[float | None] = [None] * rows.size
-        fams = self.families[rows]
-        for f_code in np.unique(fams).tolist():
-            lim = self.profile.limit(self.cell_families[f_code], metric)
+        n_profiles = len(self.region_profiles) + 1
+        regions = np.zeros(rows.size, dtype=np.int64)
+        if self.region_codes is not None:
+            regions = self.region_codes[rows].astype(np.int64)
+        keys = self.families[rows].astype(np.int64) * n_profiles + regions
+        for key in np.unique(keys).tolist():
+            f_code, r_code = divmod(key, n_profiles)
+            profile = self.region_profiles[r_code - 1] if r_code else self.profile
+            lim = profile.limit(self.cell_families[f_code], metric)
             if lim is None:
                 continue
-            for k in np.flatnonzero(fams == f_code).tolist():
+            for k in np.flatnonzero(keys == key).tolist():
                 out[k] = lim.fail if codes[k] == FAIL else lim.warn
         return out
 
