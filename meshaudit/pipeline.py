@@ -107,6 +107,8 @@ def apply_settings(args: argparse.Namespace, mesh: Path, many: bool) -> argparse
             dest, templated = _destination(str(given), kind, mesh)
         elif kind in settings.reports:
             template = settings.reports[kind]
+            if template.endswith(("/", "\\")):  # a directory: one file per mesh
+                template += "{stem}" + REPORT_SUFFIX[kind]
             if many and "{stem}" not in template:
                 raise OutputError(
                     f"{settings.path}: {kind} = {template!r} would be written once per mesh; "

@@ -98,3 +98,16 @@ def test_a_single_file_given_by_pattern_gets_the_full_report(tmp_path, run_cli):
     assert res.returncode == 0, res.stderr
     assert "Metric distribution" in res.stdout
     assert (tmp_path / "out" / "good.json").is_file()
+
+
+def test_report_directory_from_the_configuration_file(tmp_path, run_cli):
+    _files(tmp_path)
+    (tmp_path / "meshaudit.toml").write_text(
+        'junit = "ci-reports/"\ncsv = "ci-reports/{stem}.csv"\n'
+    )
+    res = run_cli("check", "meshes/good.msh", "meshes/bad.vtu", "--quiet", cwd=tmp_path)
+    assert res.returncode == 1, res.stderr
+    names = sorted(os.listdir(tmp_path / "ci-reports"))
+    assert names == ["bad.csv", "bad.xml", "good.csv", "good.xml"]
+    # one CSV row per element plus the header: the bad strip has two elements
+    assert len((tmp_path / "ci-reports" / "bad.csv").read_text().splitlines()) == 3
