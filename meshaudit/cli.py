@@ -72,7 +72,8 @@ def build_parser() -> argparse.ArgumentParser:
     check.add_argument("--junit", metavar="FILE", help="write JUnit XML for CI")
     check.epilog = (
         "With several meshes, --json/--csv/--junit take a directory or a name containing "
-        "{stem} (the mesh file name without extension). Exit status with several meshes: "
+        "{stem} (the mesh file name without extension); --plot/--annotate/--html a name "
+        "containing {stem}. Exit status with several meshes: "
         "2 if any input cannot be audited, else 1 if any mesh fails, else 0."
     )
     check.add_argument(
