@@ -11,6 +11,7 @@ from __future__ import annotations
 import hashlib
 from collections.abc import Callable
 from pathlib import Path
+from subprocess import CompletedProcess
 
 import meshio
 import numpy as np
@@ -19,6 +20,7 @@ from io_meshes import mixed_mesh, write_format, write_vtu
 
 import meshaudit
 from meshaudit import InputError, ProfileError
+from meshaudit.cli import main
 
 UNIT_SQUARE = np.array([[0.0, 0.0, 0.0], [1.0, 0.0, 0.0], [1.0, 1.0, 0.0], [0.0, 1.0, 0.0]])
 
@@ -265,9 +267,28 @@ BAD_OPTIONS: list = [
 OPTION_IDS = [c[0] for c in BAD_OPTIONS]
 
 
+#: Option cases also run as a separate process; the others run the same command line
+#: in-process (argument parsing is pure Python), capturing the terminal at the fd level.
+SUBPROCESS_OPTIONS = ("unknown-option", "profile-not-toml", "report-is-input")
+
+
+def _run_in_process(args: list, capfd: pytest.CaptureFixture[str]) -> CompletedProcess:
+    capfd.readouterr()
+    status = main([str(a) for a in args])
+    out, err = capfd.readouterr()
+    return CompletedProcess(args, status, out, err)
+
+
 @pytest.mark.parametrize(("case", "extra", "fragment"), BAD_OPTIONS, ids=OPTION_IDS)
 def test_bad_option_is_refused(
-    case: str, extra, fragment: str, good_mesh: Path, outdir: Path, tmp_path: Path, run_cli
+    case: str,
+    extra,
+    fragment: str,
+    good_mesh: Path,
+    outdir: Path,
+    tmp_path: Path,
+    run_cli,
+    capfd: pytest.CaptureFixture[str],
 ) -> None:
     """A bad option refuses the run before anything is read or written."""
     mesh_before = _digest(good_mesh)
@@ -278,7 +299,7 @@ def test_bad_option_is_refused(
         args += ["--json", outdir / "r.json", "--csv", outdir / "r.csv"]
     profile_before = _digest(tmp_path / "mine.toml")
     before = _snapshot(outdir)
-    done = run_cli(*args)
+    done = run_cli(*args) if case in SUBPROCESS_OPTIONS else _run_in_process(args, capfd)
     assert_refused(done, fragment, outdir, before)
     assert _digest(good_mesh) == mesh_before
     assert _digest(tmp_path / "mine.toml") == profile_before
