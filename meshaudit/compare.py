@@ -137,8 +137,13 @@ def _element_rows(rows: np.ndarray, limit: int | None) -> list[dict[str, Any]]:
     ]
 
 
-def to_dict(cmp: Comparison, limit: int | None = None) -> dict[str, Any]:
-    """The comparison as plain data (schema ``meshaudit.compare/1``)."""
+def to_dict(
+    cmp: Comparison, limit: int | None = None, tolerance_source: str | None = None
+) -> dict[str, Any]:
+    """The comparison as plain data (schema ``meshaudit.compare/1``).
+
+    ``tolerance_source``: the configuration file the tolerances came from, if any.
+    """
     from . import __version__
 
     return {
@@ -154,6 +159,7 @@ def to_dict(cmp: Comparison, limit: int | None = None) -> dict[str, Any]:
             "median_score_drop": cmp.tolerances.median_score_drop,
             "worst_score_drop": cmp.tolerances.worst_score_drop,
             "element_score_change": cmp.tolerances.element_score_change,
+            "source": tolerance_source or "meshaudit defaults, no published source",
         },
         "checks": [
             {

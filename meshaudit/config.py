@@ -31,7 +31,7 @@ from pathlib import Path
 from typing import Any
 
 from .errors import ProfileError
-from .profiles import FAMILIES, OWN, Profile, load_profile, profile_from_dict
+from .profiles import FAMILIES, Profile, load_profile, profile_from_dict
 
 if sys.version_info >= (3, 11):
     import tomllib
@@ -63,8 +63,6 @@ class Tolerances:
     worst_score_drop: float = 0.05
     #: A shared element whose score changes by more than this is listed as worse/better.
     element_score_change: float = 0.05
-
-    SOURCE = OWN
 
 
 @dataclass(frozen=True)
@@ -222,10 +220,3 @@ def settings_for(
         return Settings()
     found = discover(mesh)
     return load_settings(found) if found is not None else Settings()
-
-
-def report_path(template: str, mesh: Path, base: Path) -> Path:
-    """Destination of one report: ``{stem}`` is replaced by the mesh file name without
-    extension; a relative path is taken relative to ``base``."""
-    out = Path(template.replace("{stem}", mesh.stem))
-    return out if out.is_absolute() else base / out

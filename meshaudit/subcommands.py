@@ -78,7 +78,9 @@ def run_compare(args: argparse.Namespace) -> int:
     ]
     result = compare.compare(*reports, settings.tolerances)
     if args.json is not None:
-        text = json.dumps(compare.to_dict(result), indent=1, allow_nan=False) + "\n"
+        source = str(settings.path) if settings.path is not None else None
+        data = compare.to_dict(result, tolerance_source=source)
+        text = json.dumps(data, indent=1, allow_nan=False) + "\n"
         atomic.write_all([(args.json, lambda p: atomic.write_text(p, text))])
     from .cli import _console
 
