@@ -94,6 +94,10 @@ def test_cli_exit_status_json_and_tolerance_from_config(tmp_path, run_cli):
     (tmp_path / "rev2" / "meshaudit.toml").write_text(
         "[compare]\nnew_failing = 1\nworst_score_drop = 1.0\n"
     )
-    res = run_cli("compare", old, new, "--quiet")
+    res = run_cli("compare", old, new, "--quiet", "--json", tmp_path / "cmp2.json")
     assert res.returncode == 0, res.stdout
     assert res.stdout.startswith("OK")
+    tolerances = json.loads((tmp_path / "cmp2.json").read_text())["tolerances"]
+    assert tolerances["new_failing"] == 1
+    assert tolerances["source"].endswith("rev2/meshaudit.toml")
+    assert "no published source" in data["tolerances"]["source"]
