@@ -239,6 +239,10 @@ class Report:
         bits = self.flag_bits[rows]
         uniq, inverse = np.unique(bits, return_inverse=True)
         flag_lists = [[n for k, n in enumerate(FLAG_NAMES) if int(u) >> k & 1] for u in uniq]
+        region_of = [None, *self.region_names]
+        region_codes = (
+            self.region_codes[rows].tolist() if self.region_codes is not None else [0] * rows.size
+        )
         columns = zip(
             rows.tolist(),
             self.ids[rows].tolist(),
@@ -248,6 +252,7 @@ class Report:
             self.centroids[rows].astype(np.float64).tolist(),
             zip(*(metrics[m] for m in METRIC_NAMES)),
             breaches,
+            region_codes,
         )
         return [
             {
@@ -260,8 +265,9 @@ class Report:
                 "centroid": centroid,
                 "metrics": dict(zip(METRIC_NAMES, values)),
                 "breaches": breach,
+                "region": region_of[region],
             }
-            for i, label, cell_type, verdict, f, centroid, values, breach in columns
+            for i, label, cell_type, verdict, f, centroid, values, breach, region in columns
         ]
 
     def _breached_limits(

@@ -15,6 +15,7 @@ from pipeline_meshes import TWO_GROUPS_MSH, strip, write
 
 import meshaudit
 from meshaudit.profiles import BUILTIN, Limit, with_limit
+from meshaudit.reading import load
 from meshaudit.regions import element_sets
 
 ABAQUS_INP = """\
@@ -40,7 +41,7 @@ bracket plate strip
 def test_gmsh_physical_groups_become_named_element_sets(tmp_path):
     path = tmp_path / "groups.msh"
     path.write_text(TWO_GROUPS_MSH)
-    mesh = meshaudit.reading.load(path)
+    mesh = load(path)
     # "edge" is a curve group (dimension 1) sharing tag 2 with the surface group "fillet":
     # only surface groups can hold audited elements.
     assert set(mesh.cell_sets) == {"web", "fillet"}
@@ -115,6 +116,7 @@ def test_regions_from_the_configuration_file(tmp_path, run_cli):
     by_id = {e["id"]: e["verdict"] for e in data["elements"]}
     assert by_id == {2: "fail"}  # web: 6 < 6.5 is ok under its override
     assert data["regions"]["boss"]["elements"] == 0
+    assert [e["region"] for e in data["elements"]] == ["fillet"]
     assert "boss: not in this mesh" in res.stdout
     # the web region starts from the standard limits, only two limits overridden
     web = data["regions"]["web"]["profile"]["limits"]["quad"]
