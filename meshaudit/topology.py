@@ -157,7 +157,9 @@ def orientation_groups(
     label = connected_labels(2 * n, a, b)
     kept, flipped_v = label[:n], label[n:]
     twisted = kept == flipped_v
-    patch = connected_labels(n, first, second)
+    # Every element i of a patch has i and n + i in the patch's one or two components,
+    # so the smaller of its two labels is the patch's smallest element index.
+    patch = np.minimum(kept, flipped_v)
     sign = np.where(kept <= flipped_v, 1, -1).astype(np.int8)
     # Group sizes per (patch, sign); an element is flipped if its group is the smaller.
     plus = np.bincount(patch, weights=(sign > 0), minlength=n)
