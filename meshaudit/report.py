@@ -152,10 +152,15 @@ class Report:
         return {name: int(counts[k]) for k, name in enumerate(VERDICT_NAMES)}
 
     def flag_counts(self) -> dict[str, int]:
-        """How many elements carry each flag (only flags that occur)."""
+        """How many elements carry each flag (only flags that occur).
+
+        One pass over the elements: count each distinct bit pattern, then add up the
+        patterns that have a flag's bit (there are few patterns, however many elements).
+        """
+        patterns, counts = _pattern_counts(self.flag_bits)
         out = {}
-        for name in FLAG_NAMES:
-            c = int(self.flag(name).sum())
+        for k, name in enumerate(FLAG_NAMES):
+            c = int(counts[(patterns >> np.uint64(k)) & np.uint64(1) == 1].sum())
             if c:
                 out[name] = c
         return out
@@ -192,15 +197,21 @@ class Report:
         limit included, as in the JUnit warn-limit case) and past the fail limit.
         """
         stats: dict[str, dict[str, Any]] = {}
+        scratch = np.empty(len(self))  # one buffer for every metric's finite values
         for name in METRIC_NAMES:
             values = self.metrics[name]
-            finite = values[np.isfinite(values)]
+            is_finite = np.isfinite(values)
+            finite = scratch[: int(np.count_nonzero(is_finite))]
+            np.compress(is_finite, values, out=finite)
             entry: dict[str, Any] = {
                 "count": int(finite.size),
                 "infinite": int(np.isinf(values).sum()),
             }
             if finite.size:
-                qs = np.percentile(finite, [q for _, q in PERCENTILES])
+                # finite is a scratch copy: sorting it first makes numpy's percentile cheap
+                # (its multi-point partition is slower than a sort), same order statistics
+                finite.sort()
+                qs = np.percentile(finite, [q for _, q in PERCENTILES], overwrite_input=True)
                 entry.update({k: float(v) for (k, _), v in zip(PERCENTILES, qs)})
             else:
                 entry.update({k: None for k, _ in PERCENTILES})
@@ -290,6 +301,19 @@ class Report:
             for k in np.flatnonzero(keys == key).tolist():
                 out[k] = lim.fail if codes[k] == FAIL else lim.warn
         return out
+
+
+def _pattern_counts(bits: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Distinct values of ``bits`` (as uint64) and how often each occurs."""
+    if bits.size == 0:
+        return np.zeros(0, dtype=np.uint64), np.zeros(0, dtype=np.int64)
+    top = int(bits.max())
+    if top < 1 << 22:  # a bincount over at most 4M bins: one pass, no sort
+        counts = np.bincount(bits.astype(np.int64, copy=False), minlength=top + 1)
+        patterns = np.flatnonzero(counts)
+        return patterns.astype(np.uint64), counts[patterns]
+    patterns, counts = np.unique(bits, return_counts=True)
+    return patterns.astype(np.uint64), counts
 
 
 def _plain_floats(values: np.ndarray) -> list[float | None]:
