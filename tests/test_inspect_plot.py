@@ -113,15 +113,67 @@ def test_shell_is_drawn_on_its_best_fit_plane():
     assert "best-fit plane" in fig.axes[0].get_title()
 
 
-def test_large_mesh_uses_a_few_collections_not_one_artist_per_element():
+def test_large_mesh_uses_a_few_artists_not_one_per_element():
     points, quads = grid(200, 150)  # 30 000 elements
     points = points.astype(float)
     quads[[10, 5000]] = quads[[10, 5000]][:, ::-1]  # two reversed (clockwise) quads
     audited = audit_mesh(meshio.Mesh(points, [("quad", quads)]))
     fig = plot.draw(audited.report, audited.elements, insets=0)
     main = fig.axes[0]
-    assert len(main.collections) <= 4
-    faces = next(c for c in main.collections if c.get_gid() == "faces")
-    assert len(faces.get_paths()) == 30_000
-    assert faces.get_rasterized()
+    assert len(main.collections) + len(main.images) + len(main.lines) <= 5
+    (faces,) = [im for im in main.images if im.get_gid() == "faces"]
+    assert np.asarray(faces.get_array()).shape[1] == plot.RASTER_WIDTH
+    # 200 elements across 1600 pixels: 8 px each, more than raster.MAX_SPAN, so every
+    # element is in the single polygon collection drawn over the (empty) image
+    large = next(c for c in main.collections if c.get_gid() == "large-faces")
+    assert len(large.get_paths()) == 30_000
     assert labelled_ids(fig) == {11, 5001}
+    outline = next(c for c in main.collections if c.get_gid() == "fail-outline")
+    assert len(outline.get_paths()) == 2
+
+
+def test_raster_colours_match_the_element_under_each_pixel():
+    # Outside reference: shapely's point-in-polygon on the same elements.
+    from shapely import Point, Polygon
+
+    from meshaudit.outputs import raster
+
+    rng = np.random.default_rng(7)
+    points, quads = grid(40, 30, h=1.0)
+    points = points + rng.uniform(-0.2, 0.2, points.shape)  # distorted, still valid
+    verts = points[quads]
+    colours = rng.integers(1, 255, (len(verts), 4), dtype=np.uint8)
+    colours[:, 3] = 255
+    flat = verts.reshape(-1, 2)
+    g = raster.grid_for(flat.min(axis=0), flat.max(axis=0), 120)  # about 3 px per element
+    image, big = raster.paint(verts, colours, g)
+    assert not big.any()
+    polygons = [Polygon(v) for v in verts]
+    checked = 0
+    for _ in range(300):
+        i, j = int(rng.integers(0, g.width)), int(rng.integers(0, g.height))
+        centre = Point(g.x0 + (i + 0.5) * g.pixel, g.y0 + (j + 0.5) * g.pixel)
+        owners = [k for k, poly in enumerate(polygons) if poly.contains(centre)]
+        if len(owners) == 1:  # pixel centre strictly inside exactly one element
+            assert (image[j, i] == colours[owners[0]]).all()
+            checked += 1
+    assert checked > 200
+
+
+def test_raster_triangle_with_repeated_corner_matches_shapely():
+    from shapely import Point, Polygon
+
+    from meshaudit.outputs import raster
+
+    tri = np.array([[[0.0, 0.0], [5.0, 0.6], [1.2, 4.7], [1.2, 4.7]]])  # drawn as a quad
+    g = raster.Grid(0.0, 0.0, 1.0, 6, 6)
+    image, big = raster.paint(tri, np.array([[10, 20, 30, 255]], dtype=np.uint8), g)
+    assert not big.any()
+    shape = Polygon(tri[0, :3])
+    for j in range(6):
+        for i in range(6):
+            centre = Point(i + 0.5, j + 0.5)
+            if shape.contains(centre):
+                assert image[j, i, 3] == 255
+            elif shape.exterior.distance(centre) > 1e-9 and not (i, j) == (2, 1):
+                assert image[j, i, 3] == 0, (i, j)  # (2, 1) holds the centroid pixel

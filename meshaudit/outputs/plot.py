@@ -28,14 +28,17 @@ from ..inspection import corner_table
 from ..metrics import METRIC_INFO, METRIC_NAMES
 from ..report import Report
 from ..verdicts import FAIL, WARN
+from . import raster
 from .projection import View, best_fit_view
 
 if TYPE_CHECKING:
     from matplotlib.axes import Axes
     from matplotlib.figure import Figure
 
-#: Above this many elements faces lose their edge lines and are rasterized in SVG/PDF.
+#: Above this many elements faces lose their edge lines and are painted into one image
+#: (see :mod:`meshaudit.outputs.raster`), RASTER_WIDTH pixels across.
 LARGE_MESH = 20_000
+RASTER_WIDTH = 1600
 #: At most this many failing elements get an id label (the rest are outlined only).
 MAX_LABELS = 40
 #: Close-ups of the worst flagged elements.
@@ -61,7 +64,7 @@ def plot_format(path: Path) -> str:
 def mesh_view(report: Report, elements: ElementMesh) -> View:
     """The page a whole mesh is drawn on: its plane if planar, else its best-fit plane."""
     table = corner_table(elements)
-    view = best_fit_view(elements.points[np.unique(table)])
+    view = best_fit_view(elements.points[elements.used_nodes()])
     normal = report.summary.normal
     if report.summary.frame == "planar" and normal is not None:
         facing = float(np.dot(view.normal, normal))
@@ -170,6 +173,8 @@ def draw(
     ax, inset_axes = _layout(fig, len(worst))
     faces = _faces(ax, verts, values, cmap, norm, order)
     _outlines(ax, report, verts)
+    if len(verts) > LARGE_MESH:  # elements of a pixel or two: ring the flagged ones too
+        _rings(ax, report, verts)
     _label_failing(ax, report, verts)
     draw_findings(ax, report, view, elements.points)
     _frame(ax, verts)
@@ -180,8 +185,9 @@ def draw(
     bar.set_label(label)
     _limit_marks(bar, report, color_by, norm)
     _legend(ax, values)
+    boxes = (verts.min(axis=1), verts.max(axis=1)) if len(worst) else None
     for sub, i in zip(inset_axes, worst):
-        _inset(sub, report, verts, values, cmap, norm, int(i), color_by)
+        _inset(sub, report, verts, boxes, values, cmap, norm, int(i), color_by)
     fig.suptitle(title(report), fontsize=12, fontweight="bold")
     ax.set_title(_subtitle(report, color_by, view), fontsize=9)
     flat_xy = report.summary.frame == "planar" and np.allclose(view.axes, np.eye(3)[:2])
@@ -247,25 +253,53 @@ def _draw_order(
 
 
 def _faces(ax: Axes, verts, values, cmap, norm, order) -> Any:
+    """Draw the element faces; returns the mappable the colourbar follows."""
     from matplotlib.collections import PolyCollection
 
-    n = len(verts)
     if order is not None:
         verts, values = verts[order], values[order]
-    large = n > LARGE_MESH
+    if len(verts) > LARGE_MESH:
+        return _raster_faces(ax, verts, values, cmap, norm)
     faces = PolyCollection(
-        verts,
-        array=values,
-        cmap=cmap,
-        norm=norm,
-        edgecolors="face" if large else "white",
-        linewidths=0.0 if large else 0.3,
-        antialiaseds=not large,
-        rasterized=large,
-        gid="faces",
+        verts, array=values, cmap=cmap, norm=norm, edgecolors="white", linewidths=0.3, gid="faces"
     )
-    ax.add_collection(faces)
+    ax.add_collection(faces, autolim=False)  # limits are set from the vertices directly
     return faces
+
+
+def _raster_faces(ax: Axes, verts, values, cmap, norm) -> Any:
+    """Large meshes: elements painted into one image (numpy), only the few elements larger
+    than a few pixels drawn as polygons on top; no edge lines."""
+    from matplotlib.cm import ScalarMappable
+    from matplotlib.collections import PolyCollection
+
+    flat = verts.reshape(-1, 2)
+    grid = raster.grid_for(flat.min(axis=0), flat.max(axis=0), RASTER_WIDTH)
+    colours = cmap(norm(values), bytes=True)
+    image, big = raster.paint(verts, colours, grid)
+    ax.imshow(
+        image,
+        extent=grid.extent,
+        origin="lower",
+        interpolation="nearest",
+        aspect="equal",
+        gid="faces",
+        zorder=1,
+    )
+    if big.any():
+        ax.add_collection(
+            PolyCollection(
+                verts[big],
+                facecolors=colours[big] / 255.0,
+                edgecolors="face",
+                linewidths=0.3,
+                gid="large-faces",
+                zorder=1.5,
+                rasterized=True,
+            ),
+            autolim=False,
+        )
+    return ScalarMappable(norm=norm, cmap=cmap)
 
 
 def _outline_styles() -> dict[int, dict[str, Any]]:
@@ -297,7 +331,8 @@ def _outline(ax: Axes, verts: np.ndarray, verdict: int, gid: str) -> None:
         return
     style = _outline_styles()[verdict]
     ax.add_collection(
-        PolyCollection(verts, facecolors="none", edgecolors=OUTLINE, gid=gid, **style)
+        PolyCollection(verts, facecolors="none", edgecolors=OUTLINE, gid=gid, **style),
+        autolim=False,
     )
 
 
@@ -307,18 +342,60 @@ def _outlines(ax: Axes, report: Report, verts: np.ndarray) -> None:
     _outline(ax, verts[(report.verdict == WARN) & ~failing], WARN, "warn-outline")
 
 
+def _rings(ax: Axes, report: Report, verts: np.ndarray) -> None:
+    """Hollow rings of fixed screen size around flagged elements too small to see."""
+    from matplotlib import patheffects
+
+    halo = [patheffects.withStroke(linewidth=2.8, foreground=HALO)]
+    failing = report.failing
+    for mask, size, width, gid in (
+        (failing, 9.0, 1.3, "fail-rings"),
+        ((report.verdict == WARN) & ~failing, 5.0, 0.8, "warn-rings"),
+    ):
+        c = verts[mask].mean(axis=1)
+        if len(c):
+            ax.plot(
+                c[:, 0],
+                c[:, 1],
+                "o",
+                ms=size,
+                mfc="none",
+                mec=OUTLINE,
+                mew=width,
+                ls="none",
+                gid=gid,
+                zorder=5,
+                path_effects=halo,
+            )
+
+
 #: Label offsets in points, cycled so neighbouring labels do not sit on each other.
 _OFFSETS = ((14, 14), (-14, 14), (14, -14), (-14, -14), (0, 20), (0, -20), (20, 0), (-20, 0))
 
 
-def labelled_rows(report: Report) -> np.ndarray:
-    """Report indices whose ids the plot labels: the failing ones, worst first, capped."""
+#: Labels closer than this fraction of the drawing's size are dropped (worst one kept).
+LABEL_SPACING = 0.035
+
+
+def labelled_rows(report: Report, verts: np.ndarray) -> np.ndarray:
+    """Report indices whose ids the plot labels: the failing ones, worst first, at most
+    MAX_LABELS and none crowding a worse one already labelled."""
     rows = report.worst(only_flagged=True)
-    return rows[report.failing[rows]][:MAX_LABELS]
+    rows = rows[report.failing[rows]][: 50 * MAX_LABELS]
+    centres = verts[rows].mean(axis=1)
+    flat = verts.reshape(-1, 2)
+    spacing = LABEL_SPACING * float(np.ptp(flat, axis=0).max() or 1.0)
+    kept: list[int] = []
+    for k in range(len(rows)):
+        if len(kept) == MAX_LABELS:
+            break
+        if not kept or np.hypot(*(centres[kept] - centres[k]).T).min() >= spacing:
+            kept.append(k)
+    return rows[kept]
 
 
 def _label_failing(ax: Axes, report: Report, verts: np.ndarray) -> None:
-    rows = labelled_rows(report)
+    rows = labelled_rows(report, verts)
     centres = verts[rows].mean(axis=1)
     for k, (i, c) in enumerate(zip(rows, centres)):
         ax.annotate(
@@ -339,7 +416,7 @@ def _label_failing(ax: Axes, report: Report, verts: np.ndarray) -> None:
         ax.text(
             0.01,
             0.01,
-            f"{hidden} more failing elements outlined, not labelled",
+            f"{hidden} more failing elements outlined, not labelled (see the reports)",
             transform=ax.transAxes,
             fontsize=8,
         )
@@ -386,11 +463,13 @@ def _window(verts: np.ndarray, i: int) -> tuple[np.ndarray, np.ndarray]:
     return centre - half, centre + half
 
 
-def _inset(ax: Axes, report: Report, verts, values, cmap, norm, i: int, color_by: str) -> None:
+def _inset(
+    ax: Axes, report: Report, verts, boxes, values, cmap, norm, i: int, color_by: str
+) -> None:
     from matplotlib.collections import PolyCollection
 
     lo, hi = _window(verts, i)
-    near = (verts.max(axis=1) >= lo).all(axis=1) & (verts.min(axis=1) <= hi).all(axis=1)
+    near = (boxes[1] >= lo).all(axis=1) & (boxes[0] <= hi).all(axis=1)
     rows = np.flatnonzero(near)
     ax.add_collection(
         PolyCollection(
