@@ -177,3 +177,32 @@ def test_raster_triangle_with_repeated_corner_matches_shapely():
                 assert image[j, i, 3] == 255
             elif shape.exterior.distance(centre) > 1e-9 and not (i, j) == (2, 1):
                 assert image[j, i, 3] == 0, (i, j)  # (2, 1) holds the centroid pixel
+
+
+def test_mesh_level_findings_are_drawn_when_the_report_has_them(plate):
+    """Hook for report.findings: edges as dash-dot lines, nodes as crosses, elements dashed."""
+    from types import SimpleNamespace
+
+    points = plate.elements.points
+    crack = SimpleNamespace(
+        kind="crack_edges",
+        severity="fail",
+        edge_xyz=np.stack([points[[2, 9]], points[[9, 16]]]),  # two grid edges, x = 2
+        node_ids=np.array([9]),
+        element_index=np.array([1, 8]),  # ok elements beside those edges
+    )
+    plate.report.findings = [crack]
+    try:
+        fig = plot.draw(plate.report, plate.elements)
+    finally:
+        del plate.report.findings
+    main = fig.axes[0]
+    lines = next(c for c in main.collections if c.get_gid() == "findings")
+    assert len(lines.get_segments()) == 2
+    np.testing.assert_allclose(lines.get_segments()[0], points[[2, 9], :2])
+    (cross,) = [ln for ln in main.lines if ln.get_gid() == "finding-nodes"]
+    np.testing.assert_allclose(cross.get_xydata(), points[[9], :2])
+    outlined = next(c for c in main.collections if c.get_gid() == "finding-outline")
+    assert len(outlined.get_paths()) == 2
+    assert "1 mesh-level finding" in fig.get_suptitle()
+    assert labelled_ids(fig) == {8, 15}  # findings do not change the failing-id labels

@@ -176,7 +176,7 @@ def draw(
     if len(verts) > LARGE_MESH:  # elements of a pixel or two: ring the flagged ones too
         _rings(ax, report, verts)
     _label_failing(ax, report, verts)
-    draw_findings(ax, report, view, elements.points)
+    has_findings = draw_findings(ax, report, view, elements.points, verts)
     _frame(ax, verts)
     bar = fig.colorbar(
         faces, ax=ax, orientation="horizontal", fraction=0.045, pad=0.02, extend=extend
@@ -184,7 +184,7 @@ def draw(
     bar.ax.set_gid("colourbar")
     bar.set_label(label)
     _limit_marks(bar, report, color_by, norm)
-    _legend(ax, values)
+    _legend(ax, values, has_findings)
     boxes = (verts.min(axis=1), verts.max(axis=1)) if len(worst) else None
     for sub, i in zip(inset_axes, worst):
         _inset(sub, report, verts, boxes, values, cmap, norm, int(i), color_by)
@@ -219,9 +219,11 @@ def title(report: Report) -> str:
     c = report.verdict_counts()
     word = "PASS" if report.passed else "FAIL"
     name = Path(report.summary.source).name
+    findings = getattr(report, "findings", None) or []
+    extra = f"; {len(findings)} mesh-level finding kind(s)" if findings else ""
     return (
         f"{word}: {name}: {c['fail']} of {len(report)} elements fail, {c['warn']} warn, "
-        f"{c['ok']} ok (profile {report.profile.name})"
+        f"{c['ok']} ok{extra} (profile {report.profile.name})"
     )
 
 
@@ -432,7 +434,7 @@ def _frame(ax: Axes, verts: np.ndarray) -> None:
     ax.tick_params(labelsize=8)
 
 
-def _legend(ax: Axes, values: np.ndarray) -> None:
+def _legend(ax: Axes, values: np.ndarray, findings: bool = False) -> None:
     from matplotlib.lines import Line2D
     from matplotlib.patches import Patch
 
@@ -441,15 +443,22 @@ def _legend(ax: Axes, values: np.ndarray) -> None:
         Line2D([], [], color=OUTLINE, lw=FAIL_WIDTH, label="fails (id labelled)"),
         Line2D([], [], color=OUTLINE, lw=WARN_WIDTH, ls=styles[WARN]["linestyles"], label="warn"),
     ]
+    if findings:
+        handles.append(
+            Line2D(
+                [],
+                [],
+                color=OUTLINE,
+                lw=1.8,
+                ls=FINDING_DASH,
+                marker="x",
+                label="mesh-level finding (edges, nodes)",
+            )
+        )
     if np.ma.count_masked(values):
         handles.append(Patch(fc=NOT_DEFINED, label="metric not defined"))
-    ax.legend(
-        handles=handles,
-        loc="lower left",
-        bbox_to_anchor=(0.0, 1.04),
-        ncol=len(handles),
-        fontsize=8,
-        frameon=False,
+    ax.figure.legend(
+        handles=handles, loc="outside lower left", ncol=len(handles), fontsize=8, frameon=False
     )
 
 
@@ -498,42 +507,81 @@ def _field(finding: Any, name: str) -> Any:
     return getattr(finding, name, None)
 
 
+def _sized(value: Any) -> bool:
+    return value is not None and len(value) > 0
+
+
 def finding_geometry(
     findings: Sequence[Any], points: np.ndarray
-) -> tuple[list[np.ndarray], np.ndarray]:
-    """Polylines (each (m, 3) coordinates) and node indices named by mesh-level findings.
+) -> tuple[list[np.ndarray], np.ndarray, np.ndarray]:
+    """What mesh-level findings point at: (polylines, each (m, 3) coordinates; node
+    coordinates (k, 3); report indices of the elements involved).
 
-    A finding may carry ``polylines`` (node-index or coordinate arrays) and ``node_ids``
-    (0-based node indices); findings without them add nothing.
+    Read from each finding, where present: ``edge_xyz`` (m, 2, 3) segments, ``polylines``
+    (node-index or coordinate arrays), ``node_xyz`` (k, 3) or else ``node_ids`` (0-based
+    node indices), and ``element_index`` (report rows). Anything else adds nothing.
     """
     lines: list[np.ndarray] = []
-    nodes: list[np.ndarray] = []
+    nodes: list[np.ndarray] = [np.zeros((0, 3))]
+    rows: list[np.ndarray] = [np.zeros(0, dtype=np.int64)]
     for f in findings:
+        segments = _field(f, "edge_xyz")
+        if _sized(segments):
+            lines.extend(np.asarray(segments, dtype=float))
         for line in _field(f, "polylines") or []:
             arr = np.asarray(line)
             lines.append(points[arr] if np.issubdtype(arr.dtype, np.integer) else arr)
-        ids = _field(f, "node_ids")
-        if ids is not None and len(ids):
-            nodes.append(np.asarray(ids, dtype=np.int64))
-    node_ids = np.concatenate(nodes) if nodes else np.empty(0, dtype=np.int64)
-    return lines, node_ids
+        xyz, ids = _field(f, "node_xyz"), _field(f, "node_ids")
+        if _sized(xyz):
+            nodes.append(np.asarray(xyz, dtype=float).reshape(-1, 3))
+        elif _sized(ids):
+            nodes.append(points[np.asarray(ids, dtype=np.int64)])
+        index = _field(f, "element_index")
+        if _sized(index):
+            rows.append(np.asarray(index, dtype=np.int64))
+    return lines, np.concatenate(nodes), np.unique(np.concatenate(rows))
 
 
-def draw_findings(ax: Axes, report: Report, view: View, points: np.ndarray | None = None) -> None:
-    """Draw the report's mesh-level findings, if it has any (hook for ``report.findings``)."""
+def draw_findings(
+    ax: Axes, report: Report, view: View, points: np.ndarray, verts: np.ndarray
+) -> bool:
+    """Draw the report's mesh-level findings, if it has any (``report.findings``): edges
+    as dash-dot lines, nodes as crosses, elements involved with the dashed outline unless
+    already outlined. Returns whether anything was drawn."""
     from matplotlib.collections import LineCollection
 
     findings = getattr(report, "findings", None)
-    if not findings or points is None:
-        return
-    lines, node_ids = finding_geometry(findings, points)
+    if not findings:
+        return False
+    lines, nodes, rows = finding_geometry(findings, points)
     if lines:
         segs = [view.project(np.asarray(line, dtype=float)[:, :3]) for line in lines]
         ax.add_collection(
             LineCollection(
-                segs, colors=OUTLINE, linewidths=1.8, linestyles=FINDING_DASH, gid="findings"
-            )
+                segs,
+                colors=OUTLINE,
+                linewidths=1.8,
+                linestyles=FINDING_DASH,
+                gid="findings",
+                zorder=4.5,
+                path_effects=_outline_styles()[WARN]["path_effects"],
+            ),
+            autolim=False,
         )
-    if node_ids.size:
-        xy = view.project(points[node_ids])
-        ax.plot(xy[:, 0], xy[:, 1], "x", color=OUTLINE, ms=6, mew=1.4, gid="finding-nodes")
+    if len(nodes):
+        xy = view.project(nodes)
+        ax.plot(
+            xy[:, 0],
+            xy[:, 1],
+            "x",
+            color=OUTLINE,
+            ms=6,
+            mew=1.4,
+            gid="finding-nodes",
+            zorder=5,
+            ls="none",
+        )
+    rows = rows[(rows >= 0) & (rows < len(report))]
+    rows = rows[report.verdict[rows] == 0]  # flagged elements are outlined already
+    _outline(ax, verts[rows], WARN, "finding-outline")
+    return bool(lines or len(nodes) or len(rows))
