@@ -98,6 +98,7 @@ class Explanation:
     neighbour_rows: np.ndarray
     measured_in: str  # "mesh plane" or "element's best-fit plane"
     notes: list[str] = field(default_factory=list)
+    findings: list[str] = field(default_factory=list)  # mesh-level findings naming it
 
     @property
     def breaches(self) -> list[MetricLine]:
@@ -135,6 +136,7 @@ class Explanation:
             "flags": self.flags,
             "flag_reasons": self.flag_reasons,
             "neighbours": [int(i) for i in self.neighbour_ids],
+            "findings": self.findings,
             "notes": self.notes,
         }
 
@@ -269,4 +271,15 @@ def explain(audited: AuditedMesh, element_id: int) -> Explanation:
         neighbour_ids=report.ids[near],
         neighbour_rows=near,
         measured_in=where,
+        findings=findings_naming(report, int(report.ids[i])),
     )
+
+
+def findings_naming(report: Any, element_id: int) -> list[str]:
+    """'kind (severity): message' of each mesh-level finding that names this element."""
+    out = []
+    for f in getattr(report, "findings", None) or []:
+        ids = getattr(f, "element_ids", None)
+        if ids is not None and element_id in np.asarray(ids).ravel():
+            out.append(f"{f.kind} ({f.severity}): {f.message}")
+    return out

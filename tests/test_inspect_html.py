@@ -172,3 +172,26 @@ def test_histograms_account_for_every_finite_value(plate_html):
         assert drawn + hidden == finite.size, name
         if (finite < 0).any():  # inverted elements' negative values are never cut off
             assert "below" not in fig.split("<figcaption>")[1], name
+
+
+def test_findings_section_when_the_report_has_findings():
+    from types import SimpleNamespace
+
+    from meshaudit.explain import explain
+
+    audited = audit_mesh(planted_plate())
+    finding = SimpleNamespace(
+        kind="duplicate_elements",
+        severity="fail",
+        count=1,
+        message="elements 3 and 4 <share> nodes",
+        element_ids=np.array([3, 4]),
+    )
+    audited.report.findings = [finding]
+    text = html_report.render(audited.report, audited.elements)
+    assert '<table class="elements" id="findings">' in text
+    assert "duplicate_elements" in text and "&lt;share&gt;" in text  # escaped
+    assert explain(audited, 4).findings == [
+        "duplicate_elements (fail): elements 3 and 4 <share> nodes"
+    ]
+    assert explain(audited, 5).findings == []

@@ -75,6 +75,9 @@ def render(ex: Explanation, console: Console) -> None:
         parts.append(Text())
         for flag, why in ex.flag_reasons.items():
             parts.append(Text(f"{flag}: {why}"))
+    if ex.findings:
+        parts.append(Text())
+        parts += [Text(f"mesh-level finding: {line}") for line in ex.findings]
     ids = ", ".join(str(int(i)) for i in ex.neighbour_ids) or "none"
     parts += [Text(), Text(f"neighbours (share a node): {ids}")]
     console.print(Group(*parts))

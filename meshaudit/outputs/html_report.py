@@ -290,6 +290,23 @@ def _summary(report: Report) -> str:
     return f'<dl class="facts" id="summary">{items}</dl>'
 
 
+def _findings(report: Report) -> str:
+    """Mesh-level findings (when the report carries them): kind, severity, count, message."""
+    findings = getattr(report, "findings", None) or []
+    if not findings:
+        return ""
+    rows = "".join(
+        f"<tr><td>{escape(str(f.kind))}</td><td>{escape(str(f.severity))}</td>"
+        f'<td class="n">{int(f.count)}</td><td>{escape(str(f.message))}</td></tr>'
+        for f in findings
+    )
+    return (
+        '<h2>Mesh-level findings</h2><table class="elements" id="findings"><thead><tr>'
+        "<th>kind</th><th>severity</th><th>count</th><th>message</th></tr></thead>"
+        f"<tbody>{rows}</tbody></table>"
+    )
+
+
 def _table(report: Report) -> str:
     rows, html_rows = table_rows(report)
     n_flagged = int((report.verdict > 0).sum())
@@ -343,6 +360,7 @@ def render(report: Report, elements: ElementMesh, color_by: str = "score") -> st
         f'<h2>Mesh coloured by {escape(color_by)}</h2><img class="plot" id="plot" '
         f'alt="mesh coloured by {escape(color_by)}, failing elements outlined" '
         f'src="data:image/png;base64,{png}">'
+        f"{_findings(report)}"
         f"<h2>Elements not ok</h2>{_table(report)}"
         f"<h2>Distributions</h2>{_histograms(report)}"
         f'<p class="note">meshaudit {escape(__version__)}</p>'
