@@ -29,7 +29,8 @@ class EdgeTable:
 
     ``start``/``end`` (m,) are the node indices in the element's traversal direction,
     ``element`` (m,) the 0-based audited-element index, ``local`` (m,) the edge number
-    within the element (edge i runs from corner i to corner i+1), ``edge`` (m,) the
+    within the element (edge i runs from corner i to corner i+1; a side whose two corners
+    are one node, as in a collapsed crack-tip quad, is left out), ``edge`` (m,) the
     undirected edge number in 0..n_edges-1, ``nodes`` (n_edges, 2) its two nodes
     (smaller first) and ``uses`` (n_edges,) how many element edges map to it:
     1 is a free (boundary) edge, 2 an interior edge, 3 or more a non-manifold edge.
@@ -65,6 +66,10 @@ def edge_table(mesh: ElementMesh) -> EdgeTable:
         locs.append(np.tile(np.arange(k, dtype=np.int64), len(block)))
     start = np.concatenate(starts).astype(np.int64, copy=False)
     end = np.concatenate(ends).astype(np.int64, copy=False)
+    elem, loc = np.concatenate(elems), np.concatenate(locs)
+    real = start != end  # a side collapsed onto one node (crack-tip quad) is no edge
+    if not real.all():
+        start, end, elem, loc = start[real], end[real], elem[real], loc[real]
     lo, hi = np.minimum(start, end), np.maximum(start, end)
     key = lo * np.int64(max(mesh.n_points, 1)) + hi
     uniq, edge, uses = np.unique(key, return_inverse=True, return_counts=True)
@@ -73,8 +78,8 @@ def edge_table(mesh: ElementMesh) -> EdgeTable:
     return EdgeTable(
         start=start,
         end=end,
-        element=np.concatenate(elems),
-        local=np.concatenate(locs),
+        element=elem,
+        local=loc,
         edge=edge.ravel(),
         nodes=nodes,
         uses=uses,

@@ -383,3 +383,51 @@ def test_quadratic_metrics_do_not_depend_on_place_size_or_numbering(seed, angle,
         np.testing.assert_allclose(
             values, ref_metrics[name] * factor, rtol=1e-8, atol=atol, err_msg=name
         )
+
+
+# -- the collapsed quarter-point quad ---------------------------------------------------------
+def collapsed_quad8(fraction: float) -> np.ndarray:
+    """quad8 with side 1-2 (and its midside node) collapsed onto the tip at the origin, the
+    midside nodes of the sides meeting the tip ``fraction`` of the way from it."""
+    tip, b, c = np.array([0.0, 0.0]), np.array([2.0, 0.0]), np.array([2.0, 1.5])
+    return np.array(
+        [tip, tip, b, c, tip, tip + fraction * (b - tip), (b + c) / 2, tip + fraction * (c - tip)]
+    )
+
+
+def test_collapsed_quarter_point_quad_is_the_crack_tip_element():
+    # Barsoum (1976): an 8-node quad with one side collapsed to the crack tip and the
+    # adjacent midside nodes at the quarter points; det J vanishes at the tip (checked with
+    # scikit-fem) and is positive inside. Reported as quarter_point, not degenerate, with
+    # the shape metrics of the triangle it has become (its triangle6 twin).
+    nodes = collapsed_quad8(0.25)
+    tip_nodes = NODES["quad8"][[0, 1, 4]]
+    np.testing.assert_allclose(skfem_det_j("quad8", nodes, tip_nodes), 0.0, atol=1e-12)
+    assert (skfem_det_j("quad8", nodes, ref.QUAD_GAUSS_3X3) > 0.0).all()
+    twin = nodes[[0, 2, 3, 5, 6, 7]]
+    mesh = meshio.Mesh(
+        np.vstack([nodes, twin]), [("quad8", [list(range(8))]), ("triangle6", [list(range(8, 14))])]
+    )
+    report = audit(mesh)
+    flags = report.flags_of(0)
+    assert "quarter_point" in flags and "degenerate" not in flags and "inverted" not in flags
+    assert report.verdict_names[0] == "warn"
+    for name in ("scaled_jacobian", "aspect_ratio", "min_angle", "max_angle", "condition"):
+        assert report.metrics[name][0] == pytest.approx(report.metrics[name][1]), name
+    assert report.metrics["area"][0] == pytest.approx(1.5)  # right triangle, legs 2 and 1.5
+
+
+def test_collapsed_quad_without_quarter_points_stays_degenerate():
+    # Not the crack-tip construction: a collapsed side with midpoint nodes is a degenerate
+    # element, and fails as one.
+    nodes = collapsed_quad8(0.5)
+    report = audit(meshio.Mesh(nodes, [("quad8", [list(range(8))])]))
+    assert "degenerate" in report.flags_of(0) and "quarter_point" not in report.flags_of(0)
+    assert report.verdict_names[0] == "fail"
+
+
+def test_collapsed_side_on_one_node_is_no_edge():
+    # The tip written as one node index three times: the collapsed side is not an edge.
+    nodes = collapsed_quad8(0.25)
+    table = edge_table(load(meshio.Mesh(nodes, [("quad8", [[0, 0, 2, 3, 0, 5, 6, 7]])])))
+    assert table.n_edges == 3 and (table.uses == 1).all()

@@ -22,7 +22,9 @@ there. R. D. Henshell and K. G. Shaw, "Crack tip finite elements are unnecessary
 Int. J. Numer. Meth. Engng 9 (1975) 495-507, and R. S. Barsoum, "On the use of
 isoparametric finite elements in linear fracture mechanics", Int. J. Numer. Meth. Engng
 10 (1976) 25-37 (citations from memory). Such an element is flagged ``quarter_point``
-(a warning), an element pulled past it is ``inverted`` (a failure).
+(a warning), an element pulled past it is ``inverted`` (a failure). Barsoum's collapsed
+form (a quad side collapsed onto the tip) is recognised as well and measured as the
+triangle it becomes.
 """
 
 from __future__ import annotations
@@ -32,7 +34,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from .. import reference as ref
-from .common import norm
+from . import triangle
+from .common import DEGENERATE_TOLERANCE, norm
 
 #: How close (fraction of the edge length, along and across the chord) to the quarter
 #: point a midside node counts as placed there on purpose. Common practice, no single
@@ -133,6 +136,73 @@ def midside_offsets(coords3: np.ndarray, edges: np.ndarray) -> tuple[np.ndarray,
     return along, across
 
 
+#: Metrics a collapsed quad takes from its three distinct corners, measured as a triangle.
+TRIANGLE_SHAPE_METRICS = (
+    "scaled_jacobian",
+    "aspect_ratio",
+    "skew",
+    "taper",
+    "warp",
+    "min_angle",
+    "max_angle",
+    "condition",
+    "score",
+)
+
+
+def collapsed_quarter_point(
+    coords3: np.ndarray, along: np.ndarray, across: np.ndarray
+) -> tuple[np.ndarray, np.ndarray]:
+    """quad8 / quad9 collapsed into the triangular quarter-point crack-tip element.
+
+    One side (its two corners and its midside node) is collapsed to a point, the crack
+    tip, and the midside nodes of the two sides meeting there sit on their chords a
+    quarter of the way from the tip (Barsoum 1976, from memory). Returns (mask (n,),
+    corners (n, 3)): the positions of the three distinct corners, tip first, in the
+    element's own winding.
+    """
+    corners = coords3[:, :4]
+    edge = norm(np.roll(corners, -1, axis=1) - corners)  # edge i: corner i -> i + 1
+    longest = edge.max(axis=1)
+    tiny = edge <= DEGENERATE_TOLERANCE * longest[:, None]
+    e = np.argmax(tiny, axis=1)
+    rows = np.arange(len(coords3))
+    midside_gap = norm(coords3[rows, 4 + e] - corners[rows, e])
+    before, after = (e - 1) % 4, (e + 1) % 4  # edges ending / starting at the tip
+    tol = QUARTER_POINT_TOLERANCE
+    with np.errstate(invalid="ignore"):
+        quarter = (np.abs(along[rows, before] - 0.25) <= tol) & (
+            np.abs(along[rows, after] + 0.25) <= tol
+        )
+        straight = (across[rows, before] <= tol) & (across[rows, after] <= tol)
+    mask = (
+        (tiny.sum(axis=1) == 1)
+        & (midside_gap <= DEGENERATE_TOLERANCE * longest)
+        & quarter
+        & straight
+    )
+    return mask, np.stack([e, (e + 2) % 4, (e + 3) % 4], axis=1)
+
+
+def _as_triangles(
+    rows: np.ndarray,
+    order: np.ndarray,
+    coords3: np.ndarray,
+    p: np.ndarray,
+    metrics: dict[str, np.ndarray],
+) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
+    """Shape metrics of collapsed quads ``rows`` from their three distinct corners."""
+    pick = order[rows][..., None]
+    tri3 = np.take_along_axis(coords3[rows, :4], pick, axis=1)
+    tri2 = np.take_along_axis(p[rows, :4], pick, axis=1)
+    tri_metrics, tri_flags = triangle.measure(tri3, tri2)
+    out = dict(metrics)
+    for name in TRIANGLE_SHAPE_METRICS:
+        out[name] = metrics[name].copy()
+        out[name][rows] = tri_metrics[name]
+    return out, tri_flags
+
+
 def measure(
     cell_type: str,
     coords3: np.ndarray,
@@ -150,9 +220,12 @@ def measure(
     gauss = jacobian_determinants(element.gauss_derivatives, p)
     nodal = jacobian_determinants(element.node_derivatives, p)
     along, across = midside_offsets(coords3, element.midside_edges)
-    worst_along = np.abs(along).max(axis=1)
+    worst_along = np.fmax.reduce(np.abs(along), axis=1)  # a collapsed side reads NaN
+    crack_tip = np.zeros(len(p), dtype=bool)
+    if element.n_corners == 4:
+        crack_tip, tri_order = collapsed_quarter_point(coords3, along, across)
 
-    collapsed = flags["degenerate"]
+    collapsed = flags["degenerate"] & ~crack_tip
     corners = p[:, : element.n_corners]
     edge = norm(np.roll(corners, -1, axis=1) - corners).max(axis=1)
     floor = -1e-12 * np.maximum(edge, 1e-300)[:, None] ** 2
@@ -164,7 +237,7 @@ def measure(
     near_quarter = (np.abs(np.abs(along) - 0.25) <= QUARTER_POINT_TOLERANCE) & (
         across <= QUARTER_POINT_TOLERANCE
     )
-    quarter = near_quarter.any(axis=1) & ~inverted & ~collapsed
+    quarter = (near_quarter.any(axis=1) | crack_tip) & ~inverted & ~collapsed
 
     lo, hi = gauss.min(axis=1), gauss.max(axis=1)
     with np.errstate(divide="ignore", invalid="ignore"):
@@ -177,9 +250,16 @@ def measure(
         det_j_corner_min=nodal.min(axis=1),
         jacobian_ratio=ratio,
         midside_offset_along=worst_along,
-        midside_offset_across=across.max(axis=1),
+        midside_offset_across=np.fmax.reduce(across, axis=1),
     )
-    newly_invalid = inverted & ~flags["inverted"]
-    out["score"] = np.where(newly_invalid, 0.0, metrics["score"])
     out_flags = dict(flags, inverted=inverted, reversed=reversed_, quarter_point=quarter)
+    if crack_tip.any():
+        rows = np.flatnonzero(crack_tip)
+        out, tri_flags = _as_triangles(rows, tri_order, coords3, p, out)
+        for name in ("degenerate", "nonconvex", "self_intersecting"):
+            out_flags[name] = out_flags[name].copy()
+            out_flags[name][rows] = tri_flags[name]
+        out_flags["quarter_point"] = quarter & ~out_flags["degenerate"]
+    newly_invalid = inverted & ~flags["inverted"]
+    out["score"] = np.where(newly_invalid, 0.0, out["score"])
     return out, out_flags
