@@ -97,3 +97,39 @@ def neighbours(table: np.ndarray, i: int) -> np.ndarray:
     touching = np.isin(table, mine).any(axis=1)
     touching[i] = False
     return np.flatnonzero(touching)
+
+
+#: Points per edge when a quadratic element's curved outline is sampled.
+EDGE_SAMPLES = 6
+
+
+def _boundary_reference(family: str, per_edge: int) -> np.ndarray:
+    """Reference points around the element, ``per_edge`` per edge, 4 * per_edge in all
+    (the triangle repeats its last point to pad to the quad's count)."""
+    t = np.linspace(0.0, 1.0, per_edge, endpoint=False)[:, None]
+    if family == "quad":
+        c = np.array([[-1.0, -1.0], [1.0, -1.0], [1.0, 1.0], [-1.0, 1.0]])
+    else:
+        c = np.array([[0.0, 0.0], [1.0, 0.0], [0.0, 1.0]])
+    ring = np.vstack([a + t * (b - a) for a, b in zip(c, np.roll(c, -1, axis=0))])
+    pad = 4 * per_edge - len(ring)
+    return np.vstack([ring, np.repeat(ring[-1:], pad, axis=0)]) if pad else ring
+
+
+def has_curved_cells(elements: ElementMesh) -> bool:
+    """Whether any block is quadratic (its edges may be curved)."""
+    return any(b.connectivity.shape[1] > CORNERS[b.family] for b in elements.blocks)
+
+
+def outline_points(elements: ElementMesh, xy: np.ndarray) -> np.ndarray:
+    """Outline of every element in report order, (n, 4 * EDGE_SAMPLES, 2): each edge
+    sampled through the element's own map, so quadratic elements show their curved
+    edges. ``xy`` (n_points, 2) are the node positions on the page."""
+    from .mapping import shape_functions
+
+    out = np.empty((elements.n_elements, 4 * EDGE_SAMPLES, 2))
+    for block in elements.blocks:
+        ref = _boundary_reference(block.family, EDGE_SAMPLES)
+        weights = shape_functions(block.cell_type, ref)  # (m, k)
+        out[block.index] = np.einsum("mk,nkd->nmd", weights, xy[block.connectivity])
+    return out

@@ -206,3 +206,21 @@ def test_mesh_level_findings_are_drawn_when_the_report_has_them(plate):
     assert len(outlined.get_paths()) == 2
     assert "1 mesh-level finding" in fig.get_suptitle()
     assert labelled_ids(fig) == {8, 15}  # findings do not change the failing-id labels
+
+
+def test_quadratic_element_drawn_with_its_curved_edge():
+    # A 4 x 2 quad8 whose bottom midside node is pushed out by h: the edge is a parabola
+    # and adds 2/3 * L * h to the rectangle (Archimedes' quadrature of the parabola).
+    L, H, h = 4.0, 2.0, 0.6
+    nodes = np.array(
+        [[0, 0], [L, 0], [L, H], [0, H], [L / 2, -h], [L, H / 2], [L / 2, H], [0, H / 2]],
+        dtype=float,
+    )
+    audited = audit_mesh(meshio.Mesh(nodes, [("quad8", np.arange(8)[None])]))
+    fig = plot.draw(audited.report, audited.elements, insets=0)
+    faces = next(c for c in fig.axes[0].collections if c.get_gid() == "faces")
+    x, y = faces.get_paths()[0].vertices[:-1].T  # drop the closing vertex
+    area = 0.5 * abs(np.dot(x, np.roll(y, -1)) - np.dot(np.roll(x, -1), y))
+    exact = L * H + 2.0 / 3.0 * L * h
+    assert area == pytest.approx(exact, rel=0.02)  # sampled polyline, 6 points per edge
+    assert abs(area - L * H) > 0.5 * (exact - L * H)  # clearly not the straight-edged quad

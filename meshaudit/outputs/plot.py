@@ -24,7 +24,7 @@ import numpy as np
 from ..elements import ElementMesh
 from ..errors import OutputError
 from ..frames import area_vectors
-from ..inspection import corner_table
+from ..inspection import corner_table, has_curved_cells, outline_points
 from ..metrics import METRIC_INFO, METRIC_NAMES
 from ..report import Report
 from ..verdicts import FAIL, WARN
@@ -164,7 +164,7 @@ def draw(
     view = mesh_view(report, elements)
     table = corner_table(elements)
     xy = view.project(elements.points)
-    verts = xy[table]
+    verts = outline_points(elements, xy) if has_curved_cells(elements) else xy[table]
     values, cmap, norm, label, extend = colour_scale(report, color_by)
     order = _draw_order(report, elements, table, view)
     worst = report.worst(insets) if insets > 0 else np.empty(0, dtype=np.int64)
@@ -188,6 +188,7 @@ def draw(
     boxes = (verts.min(axis=1), verts.max(axis=1)) if len(worst) else None
     for sub, i in zip(inset_axes, worst):
         _inset(sub, report, verts, boxes, values, cmap, norm, int(i), color_by)
+        sub.plot(*xy[table[int(i)]].T, "o", ms=2.5, color=OUTLINE, zorder=5)
     fig.suptitle(title(report), fontsize=12, fontweight="bold")
     ax.set_title(_subtitle(report, color_by, view), fontsize=9)
     flat_xy = report.summary.frame == "planar" and np.allclose(view.axes, np.eye(3)[:2])
@@ -487,7 +488,6 @@ def _inset(
     )
     verdict = FAIL if report.failing[i] else WARN
     _outline(ax, verts[i : i + 1], verdict, "inset-outline")
-    ax.plot(*verts[i].T, "o", ms=2.5, color=OUTLINE, zorder=5)
     ax.set_xlim(lo[0], hi[0])
     ax.set_ylim(lo[1], hi[1])
     ax.set_aspect("equal")
