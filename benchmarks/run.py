@@ -55,6 +55,7 @@ class Row:
     bare: Run
     audit: Run
     stages: dict[str, float] = field(default_factory=dict)
+    not_ok: int | None = None  # elements listed in the JSON report (warn or fail)
 
     @property
     def ratio(self) -> float:
@@ -111,9 +112,14 @@ def measure(path: Path, size: int, outdir: Path, repeat: int, plot: bool) -> Row
     if plot:
         stage_argv.append("--plot")
     stage_run = run_child(stage_argv, outdir)
-    stages = json.loads(stage_run.stdout)["times"] if stage_run.status == 0 else {}
+    stages: dict[str, float] = {}
+    not_ok = None
+    if stage_run.status == 0:
+        result = json.loads(stage_run.stdout)
+        stages = result["times"]
+        not_ok = result["verdicts"]["warn"] + result["verdicts"]["fail"]
     file_mb = path.stat().st_size / 1e6
-    return Row(size, path.suffix.lstrip("."), file_mb, bare, audit, stages)
+    return Row(size, path.suffix.lstrip("."), file_mb, bare, audit, stages, not_ok)
 
 
 def help_time(repeat: int) -> float:
@@ -124,6 +130,7 @@ def help_time(repeat: int) -> float:
 def markdown(rows: list[Row], help_seconds: float) -> str:
     head = [
         "elements",
+        "not ok",
         "format",
         "file MB",
         "bare read s",
@@ -136,6 +143,7 @@ def markdown(rows: list[Row], help_seconds: float) -> str:
     for r in rows:
         cells = [
             f"{r.size:,}",
+            "-" if r.not_ok is None else f"{r.not_ok:,}",
             r.fmt,
             f"{r.file_mb:.1f}",
             f"{r.bare.seconds:.2f}",
