@@ -99,18 +99,29 @@ def test_bad_plot_extension_is_one_line_exit_2(run_cli, tmp_path):
     assert not (tmp_path / "p.gif").exists()
 
 
-def test_shell_is_drawn_on_its_best_fit_plane():
+def test_shell_is_drawn_on_its_best_fit_plane_or_obliquely_when_curved():
+    from meshaudit.outputs.projection import best_fit_view, flatness
+
     audited = audit_mesh(curved_shell())
     assert audited.report.summary.frame == "shell"
-    view = plot.mesh_view(audited.report, audited.elements)
+    points = audited.elements.points
+    flat = best_fit_view(points)
     # quarter cylinder around z through angles 0..90 deg: the best-fit plane contains the
     # axis direction z and the chord direction (1, -1, 0)/sqrt 2; its normal is the bisector
     # (1, 1, 0)/sqrt 2 (geometry of the shape, common practice).
-    # The element normals point away from the axis, so the view looks from outside.
-    assert view.normal @ np.array([1.0, 1.0, 0.0]) / np.sqrt(2.0) == pytest.approx(1.0)
+    assert abs(flat.normal @ np.array([1.0, 1.0, 0.0]) / np.sqrt(2.0)) == pytest.approx(1.0)
+    # depth: sagitta r (1 - cos 45 deg) = 2.93 over the larger of chord 14.1 and length 8
+    assert flatness(points, flat) == pytest.approx(10 * (1 - np.cos(np.pi / 4)) / (10 * np.sqrt(2)))
+    view = plot.mesh_view(audited.report, audited.elements)
+    # markedly curved, so seen obliquely: the view direction is the bisector turned by
+    # the elevation and azimuth, from the side the element normals face (outwards)
+    elevation, azimuth = np.radians(plot.OBLIQUE)
+    bisector = np.array([1.0, 1.0, 0.0]) / np.sqrt(2.0)
+    assert view.normal @ bisector == pytest.approx(np.cos(elevation) * np.cos(azimuth))
+    np.testing.assert_allclose(view.axes @ view.axes.T, np.eye(2), atol=1e-12)
     fig = plot.draw(audited.report, audited.elements)
     assert labelled_ids(fig) == set(audited.report.ids[audited.report.failing].tolist())
-    assert "best-fit plane" in fig.axes[0].get_title()
+    assert "shell seen from direction" in fig.axes[0].get_title()
 
 
 def test_large_mesh_uses_a_few_artists_not_one_per_element():

@@ -29,7 +29,7 @@ from ..metrics import METRIC_INFO, METRIC_NAMES
 from ..report import Report
 from ..verdicts import FAIL, WARN
 from . import raster
-from .projection import View, best_fit_view
+from .projection import View, best_fit_view, flatness, tilted
 
 if TYPE_CHECKING:
     from matplotlib.axes import Axes
@@ -61,10 +61,17 @@ def plot_format(path: Path) -> str:
     return fmt
 
 
+#: A shell deeper than this fraction of its size is drawn in an oblique view, not flat.
+CURVED_SHELL = 0.1
+OBLIQUE = (30.0, 25.0)  # elevation, azimuth in degrees
+
+
 def mesh_view(report: Report, elements: ElementMesh) -> View:
-    """The page a whole mesh is drawn on: its plane if planar, else its best-fit plane."""
+    """The page a whole mesh is drawn on: its plane if planar; a shell on its best-fit
+    plane, tilted to an oblique view when it is markedly curved (so its shape shows)."""
     table = corner_table(elements)
-    view = best_fit_view(elements.points[elements.used_nodes()])
+    used = elements.points[elements.used_nodes()]
+    view = best_fit_view(used)
     normal = report.summary.normal
     if report.summary.frame == "planar" and normal is not None:
         facing = float(np.dot(view.normal, normal))
@@ -72,6 +79,8 @@ def mesh_view(report: Report, elements: ElementMesh) -> View:
         facing = float(np.sign(area_vectors(elements.points[table]) @ view.normal).sum())
     if facing < 0.0:
         view = View(view.origin, np.stack([view.axes[0], -view.axes[1]]), -view.normal)
+    if report.summary.frame != "planar" and flatness(used, view) > CURVED_SHELL:
+        view = tilted(view, *OBLIQUE)
     return view
 
 
@@ -233,7 +242,7 @@ def _subtitle(report: Report, color_by: str, view: View) -> str:
         where = "drawn in the mesh plane"
     else:
         n = ", ".join(f"{c:.2f}" for c in view.normal)
-        where = f"shell drawn on its best-fit plane (normal {n})"
+        where = f"shell seen from direction ({n})"
     return f"coloured by {color_by}; {where}"
 
 

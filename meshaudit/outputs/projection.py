@@ -72,3 +72,24 @@ def plane_view(corners: np.ndarray) -> View:
     t1 = t1 / (np.linalg.norm(t1) or 1.0)
     t2 = np.cross(normal, t1)
     return View(centre, np.stack([t1, t2]), normal)
+
+
+def _rotate(v: np.ndarray, axis: np.ndarray, angle: float) -> np.ndarray:
+    """Rodrigues' rotation of vectors ``v`` (..., 3) about unit ``axis`` by ``angle`` rad."""
+    c, s = np.cos(angle), np.sin(angle)
+    return v * c + np.cross(axis, v) * s + np.outer(v @ axis, axis).reshape(v.shape) * (1 - c)
+
+
+def tilted(view: View, elevation_deg: float, azimuth_deg: float) -> View:
+    """An oblique view: ``view`` turned about its page x axis by ``elevation_deg`` (seen
+    from above), then about the new page y axis by ``azimuth_deg``."""
+    frame = np.stack([view.axes[0], view.axes[1], view.normal])
+    frame = _rotate(frame, frame[0], np.radians(elevation_deg))
+    frame = _rotate(frame, frame[1], np.radians(azimuth_deg))
+    return View(view.origin, frame[:2], frame[2])
+
+
+def flatness(points: np.ndarray, view: View) -> float:
+    """Out-of-plane depth range over in-plane size: 0 for a flat set of points."""
+    size = float(np.ptp(view.project(points), axis=0).max()) or 1.0
+    return float(np.ptp(view.depth(points))) / size
