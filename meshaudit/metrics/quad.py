@@ -241,6 +241,51 @@ def _area(normals: list[Point]) -> np.ndarray:
     return out
 
 
+def _flat_in_z(x: tuple[Point, ...]) -> bool:
+    """True when every node of every element has the same z (a mesh in a plane z = c)."""
+    z0 = x[0][2][:1]
+    return all(bool((pt[2] == z0).all()) for pt in x)
+
+
+# In a plane z = c the x and y parts of every 3-D normal below are signed zeros, and the
+# 3-D formulas reduce exactly (to the last bit) to these 2-D ones: |n| = sqrt(n_z * n_z),
+# n . m = n_z m_z + 0.0, and the warp of each split is 0 (NaN where a triangle collapses).
+def _flat_normals(e1: Point, e2: Point, e3: Point) -> list[np.ndarray]:
+    """z of x_xi cross x_eta at the 2x2 Gauss points, from x-y principal axes."""
+    out = []
+    for xi, eta in QUAD_GAUSS_2X2.tolist():
+        dxi = tuple(a + b * eta for a, b in zip(e1, e3))
+        deta = tuple(a + b * xi for a, b in zip(e2, e3))
+        out.append(cross2(dxi, deta))
+    return out
+
+
+def _flat_area(normal_z: list[np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
+    """(signed-fold area, swept area) as :func:`_area` and :func:`_swept` give them."""
+    n0, n1, n2, n3 = normal_z
+    total = ((n0 + n1) + n2) + n3
+    area = swept = None
+    for n in normal_z:
+        size = np.sqrt(n * n)
+        facing = n * total
+        facing += 0.0
+        term = np.sign(facing) * size
+        area = term if area is None else area + term
+        swept = size if swept is None else swept + size
+    return area, swept
+
+
+def _flat_warp(x: tuple[Point, ...]) -> np.ndarray:
+    """:func:`_warp` of quads in a plane z = c: 0, or NaN where both splits collapse."""
+    x1, x2, x3, x4 = x
+    angles = []
+    for (a1, a2, a3), (b1, b2, b3) in (((x1, x2, x3), (x1, x3, x4)), ((x2, x3, x4), (x2, x4, x1))):
+        na = cross2(sub(a2, a1), sub(a3, a1))
+        nb = cross2(sub(b2, b1), sub(b3, b1))
+        angles.append(np.where(np.sqrt(na * na) * np.sqrt(nb * nb) > 0.0, 0.0, np.nan))
+    return np.fmax(angles[0], angles[1])
+
+
 def _swept(normals: list[Point]) -> np.ndarray:
     out = length(normals[0])
     for normal in normals[1:]:
@@ -279,16 +324,23 @@ def measure(
     gauss_lo, gauss_hi = _min_max(_det_at(c, QUAD_GAUSS_2X2))
     corner_lo, corner_hi = _min_max(_det_at(c, QUAD_CORNERS))
     aspect, skew, taper = _shape_parameters(e1, e2, c)
-    normals = _gauss_normals(*_axes(x3d)[1:])
-    area = _area(normals)
-    warp_deg = _warp(x3d)
+    if _flat_in_z(x3d):  # the common 2-D case: same numbers, far less arithmetic
+        normal_z = _flat_normals(*_axes(tuple(pt[:2] for pt in x3d))[1:])
+        area, swept = _flat_area(normal_z)
+        warp_deg = _flat_warp(tuple(pt[:2] for pt in x3d))
+        edges_of = tuple(pt[:2] for pt in x3d)
+    else:
+        normals = _gauss_normals(*_axes(x3d)[1:])
+        area, swept = _area(normals), _swept(normals)
+        warp_deg = _warp(x3d)
+        edges_of = x3d
     corners = polygon_corners(x2d)
     orientation = np.where(c[0] < 0.0, -1.0, 1.0)
     min_angle, max_angle = corners.angle_range(orientation)
     sj = corners.scaled_jacobian()
     cond = corners.condition()
 
-    collapsed = degenerate_columns(x3d, _swept(normals))
+    collapsed = degenerate_columns(edges_of, swept)
     bowtie = _self_intersecting(x2d) & ~collapsed
     threshold = -1e-12 * np.maximum(corners.longest_edge(), 1e-300) ** 2
     inverted = (corner_lo < threshold) & ~collapsed  # some corner det J negative
