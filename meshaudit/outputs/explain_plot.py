@@ -161,9 +161,18 @@ def _nodes_and_gauss(ax: Axes, ex: Explanation, nodes: np.ndarray) -> None:
         label = f"{k + 1}: node {int(ex.node_indices[k])}"
         if k < len(ex.det_j_nodes):
             label += f"\ndet J {ex.det_j_nodes[k]:.4g}"
-        out = p + 0.12 * (p - centre)
+        away = p - centre
+        away = away / (np.hypot(*away) or 1.0)
         ax.annotate(
-            label, xy=out, ha="center", va="center", fontsize=8, path_effects=halo, zorder=6
+            label,
+            xy=p,
+            xytext=tuple(26.0 * away),
+            textcoords="offset points",
+            ha="center",
+            va="center",
+            fontsize=8,
+            path_effects=halo,
+            zorder=6,
         )
     g = map_points(ex.cell_type, nodes, ex.gauss_points)
     ax.plot(g[:, 0], g[:, 1], "P", color="#fde725", mec=OUTLINE, ms=8, zorder=5, gid="gauss")
@@ -181,9 +190,8 @@ def _nodes_and_gauss(ax: Axes, ex: Explanation, nodes: np.ndarray) -> None:
 
 def _frame(ax: Axes, corners: np.ndarray) -> None:
     lo, hi = corners.min(axis=0), corners.max(axis=0)
-    size = float(max(hi - lo)) or 1.0
-    centre = (lo + hi) / 2.0
-    ax.set_xlim(centre[0] - 1.1 * size, centre[0] + 1.1 * size)
-    ax.set_ylim(centre[1] - 1.1 * size, centre[1] + 1.1 * size)
+    pad = 0.45 * (float(max(hi - lo)) or 1.0)  # room for the neighbours and the labels
+    ax.set_xlim(lo[0] - pad, hi[0] + pad)
+    ax.set_ylim(lo[1] - pad, hi[1] + pad)
     ax.set_aspect("equal")
     ax.tick_params(labelsize=8)
