@@ -96,7 +96,7 @@ def draw(audited: AuditedMesh, ex: Explanation) -> Figure:
     nodes = view.project(ex.coordinates)
     fig = Figure(figsize=(8.0, 7.0), layout="constrained")
     ax = fig.add_subplot(1, 1, 1)
-    _neighbours(ax, audited, ex, view)
+    _neighbours(ax, audited, ex, view, _window(nodes))
     _grid(ax, ex, nodes)
     _nodes_and_gauss(ax, ex, nodes)
     _frame(ax, nodes)
@@ -122,7 +122,7 @@ def render(path: Path, audited: AuditedMesh, ex: Explanation) -> None:
     draw(audited, ex).savefig(path, format=plot_format(path), dpi=150)
 
 
-def _neighbours(ax: Axes, audited: AuditedMesh, ex: Explanation, view: View) -> None:
+def _neighbours(ax: Axes, audited: AuditedMesh, ex: Explanation, view: View, window: tuple) -> None:
     from matplotlib.collections import PolyCollection
 
     table = corner_table(audited.elements)
@@ -130,9 +130,21 @@ def _neighbours(ax: Axes, audited: AuditedMesh, ex: Explanation, view: View) -> 
     ax.add_collection(
         PolyCollection(verts, facecolors="#e6e6e6", edgecolors="#8c8c8c", lw=0.8, gid="neighbours")
     )
+    lo, hi = window
+    inset = 0.04 * (hi - lo)
     for k, v in zip(ex.neighbour_ids, verts):
-        c = v.mean(axis=0)
-        ax.text(c[0], c[1], str(int(k)), ha="center", va="center", fontsize=7, color="#6e6e6e")
+        # the id sits at the neighbour's centroid, pulled inside the frame when it is off it
+        c = np.clip(v.mean(axis=0), lo + inset, hi - inset)
+        ax.text(
+            c[0],
+            c[1],
+            str(int(k)),
+            ha="center",
+            va="center",
+            fontsize=7,
+            color="#6e6e6e",
+            clip_on=True,
+        )
 
 
 def _grid(ax: Axes, ex: Explanation, nodes: np.ndarray) -> None:
@@ -188,10 +200,16 @@ def _nodes_and_gauss(ax: Axes, ex: Explanation, nodes: np.ndarray) -> None:
         )
 
 
-def _frame(ax: Axes, corners: np.ndarray) -> None:
-    lo, hi = corners.min(axis=0), corners.max(axis=0)
-    pad = 0.45 * (float(max(hi - lo)) or 1.0)  # room for the neighbours and the labels
-    ax.set_xlim(lo[0] - pad, hi[0] + pad)
-    ax.set_ylim(lo[1] - pad, hi[1] + pad)
+def _window(nodes: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Drawn area: the element's box padded for its neighbours and labels."""
+    lo, hi = nodes.min(axis=0), nodes.max(axis=0)
+    pad = 0.45 * (float(max(hi - lo)) or 1.0)
+    return lo - pad, hi + pad
+
+
+def _frame(ax: Axes, nodes: np.ndarray) -> None:
+    lo, hi = _window(nodes)
+    ax.set_xlim(lo[0], hi[0])
+    ax.set_ylim(lo[1], hi[1])
     ax.set_aspect("equal")
     ax.tick_params(labelsize=8)
