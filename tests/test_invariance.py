@@ -24,7 +24,10 @@ DIMENSIONLESS = tuple(m for m in METRIC_NAMES if m not in SQUARED)
 #: that a far translation of a small element rounds at ~1e-11 relative, so after
 #: cancellation it keeps about 8 digits: 1e-6 degree is still far below any warp limit.
 ABSOLUTE = {"skew": 1e-7, "min_angle": 1e-7, "max_angle": 1e-7, "warp": 1e-6}
-RTOL = 1e-9
+#: Relative tolerance. A small element moved far from the origin keeps only ~11-12
+#: significant digits in its coordinate differences, and angle-like metrics lose a few more
+#: in cancellation; 1e-7 is far above that rounding and far below any formula error.
+RTOL = 1e-7
 MIN_ANGLE_DEG = 5.0  # keep away from near-degenerate elements
 
 
