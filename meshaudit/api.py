@@ -10,13 +10,14 @@ import numpy as np
 
 from .elements import ElementMesh
 from .errors import InputError
+from .findings import find
 from .frames import Frame, centroids, choose_frame, to_local
 from .metrics import KERNELS, METRIC_NAMES, QUADRATIC_CELLS, quadratic
 from .profiles import Profile, load_profile
 from .reading import load
 from .regions import judge_by_region, region_codes
 from .report import FLAG_BIT, MeshSummary, Report
-from .topology import flipped_elements
+from .topology import EdgeTable, edge_table, flipped_elements
 from .verdicts import WARN
 
 #: Elements measured per kernel call. Chunking bounds the kernels' temporaries (a few
@@ -147,7 +148,9 @@ def audit_elements(
         done += sl.stop - sl.start
         if progress is not None:
             progress("measure", done, n)
-    notes = mark_orientation(mesh, frame, bits, verdict)
+    table = edge_table(mesh)  # shared by the orientation flags and the findings
+    notes = mark_orientation(mesh, frame, bits, verdict, table)
+    mesh_findings = find(mesh, ids, frame, prof.findings, table)
     summary = MeshSummary(
         source=mesh.source,
         n_points=mesh.n_points,
@@ -174,11 +177,17 @@ def audit_elements(
         region_names=region_names,
         region_profiles=region_profiles,
         region_codes=codes,
+        findings=mesh_findings.findings,
+        free_edges=mesh_findings.free_edges,
     )
 
 
 def mark_orientation(
-    mesh: ElementMesh, frame: Frame, bits: np.ndarray, verdict: np.ndarray
+    mesh: ElementMesh,
+    frame: Frame,
+    bits: np.ndarray,
+    verdict: np.ndarray,
+    table: EdgeTable | None = None,
 ) -> list[str]:
     """Shells only: flag elements whose normal disagrees with their patch (in place).
 
@@ -189,7 +198,7 @@ def mark_orientation(
     """
     if frame.kind != "shell":
         return []
-    groups = flipped_elements(mesh)
+    groups = flipped_elements(mesh, table)
     bits |= groups.flipped.astype(np.uint32) << np.uint32(FLAG_BIT["flipped_normal"])
     verdict[groups.flipped] = np.maximum(verdict[groups.flipped], WARN)
     twisted = int(groups.twisted.sum())

@@ -49,6 +49,8 @@ class ElementMesh:
     skipped: dict[str, int] = field(default_factory=dict)  # cell type -> count not audited
     source: str = "<memory>"
     cell_sets: dict[str, np.ndarray] = field(default_factory=dict)  # name -> element indices
+    #: Nodes that cells not audited (lines, vertices, solids...) refer to: not orphans.
+    other_nodes: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.int64))
 
     @property
     def n_elements(self) -> int:

@@ -14,6 +14,9 @@ A user profile is a TOML file::
     skew = {}                     # an empty table switches a limit off
     [triangle]
     min_angle = { warn = 25, fail = 15 }
+    [findings]                    # mesh-level findings: "off", "info", "warn" or "fail"
+    orphan_nodes = "info"
+    coincident_tolerance = 1e-5   # relative to the shortest adjacent edge
 """
 
 from __future__ import annotations
@@ -26,6 +29,7 @@ from pathlib import Path
 from typing import Any
 
 from .errors import ProfileError
+from .finding_kinds import KIND_NAMES, SEVERITIES, FindingSettings
 from .metrics import METRIC_INFO
 
 if sys.version_info >= (3, 11):
@@ -56,6 +60,7 @@ class Profile:
     description: str
     limits: dict[str, dict[str, Limit]] = field(default_factory=dict)
     origin: str = "built-in"
+    findings: FindingSettings = field(default_factory=FindingSettings)
 
     def limit(self, family: str, metric: str) -> Limit | None:
         return self.limits.get(family, {}).get(metric)
@@ -77,6 +82,7 @@ class Profile:
                 }
                 for fam, metrics in self.limits.items()
             },
+            "findings": self.findings.to_dict(),
         }
 
 
@@ -235,7 +241,7 @@ def profile_from_dict(
 
     Without ``extends`` the limits start from ``base`` (default: the built-in 'standard').
     """
-    known = {"name", "description", "extends", *FAMILIES}
+    known = {"name", "description", "extends", "findings", *FAMILIES}
     unknown = sorted(set(data) - known)
     if unknown:
         raise ProfileError(f"{where}: unknown key {unknown[0]!r} (families: {', '.join(FAMILIES)})")
@@ -271,7 +277,34 @@ def profile_from_dict(
             limits[family][metric] = lim
     name = str(data.get("name", Path(where).stem))
     desc = str(data.get("description", f"{base.name} with overrides from {where}"))
-    return Profile(name, desc, limits, origin=where)
+    findings = _finding_settings(data.get("findings", {}), base.findings, where)
+    return Profile(name, desc, limits, origin=where, findings=findings)
+
+
+def _finding_settings(table: Any, base: FindingSettings, where: str) -> FindingSettings:
+    """``[findings]``: kind = "off" | "info" | "warn" | "fail", plus the two tolerances."""
+    if not isinstance(table, dict):
+        raise ProfileError(f"{where}: [findings] must be a table")
+    severity = dict(base.severity)
+    numbers = {"coincident_tolerance": base.coincident_tolerance}
+    numbers["overlap_fraction"] = base.overlap_fraction
+    for key, value in table.items():
+        if key in numbers:
+            number = _number(value, f"{where}: findings.{key}")
+            if number is None or not 0.0 < number < 1.0:
+                raise ProfileError(f"{where}: findings.{key} must be between 0 and 1")
+            numbers[key] = number
+        elif key in KIND_NAMES:
+            if value not in SEVERITIES:
+                raise ProfileError(
+                    f"{where}: findings.{key} must be one of {', '.join(SEVERITIES)}, not {value!r}"
+                )
+            severity[key] = value
+        else:
+            raise ProfileError(
+                f"{where}: findings.{key} is not a finding kind ({', '.join(KIND_NAMES)})"
+            )
+    return FindingSettings(severity, numbers["coincident_tolerance"], numbers["overlap_fraction"])
 
 
 def load_profile(spec: str | os.PathLike[str] | Profile | None = None) -> Profile:

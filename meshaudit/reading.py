@@ -114,6 +114,14 @@ def _cell_labels(mesh: Any, block_no: int, n: int) -> np.ndarray | None:
     return None
 
 
+def _referenced_nodes(data: np.ndarray, n_points: int) -> np.ndarray:
+    """Valid node indices a cell block not audited refers to (anything else is ignored)."""
+    if data.size == 0 or not np.issubdtype(data.dtype, np.integer):
+        return np.zeros(0, dtype=np.int64)
+    flat = data.ravel().astype(np.int64, copy=False)
+    return flat[(flat >= 0) & (flat < n_points)]
+
+
 def build_elements(mesh: meshio.Mesh, source: str = "<memory>") -> ElementMesh:
     """Turn a meshio mesh into validated element arrays.
 
@@ -135,11 +143,13 @@ def build_elements(mesh: meshio.Mesh, source: str = "<memory>") -> ElementMesh:
     position = 0
     labels_seen = False
     raw_blocks: list[tuple[int, str, np.ndarray, np.ndarray | None]] = []
+    other_nodes: list[np.ndarray] = [np.zeros(0, dtype=np.int64)]
     for block_no, cells in enumerate(mesh.cells):
         cell_type = cells.type
         data = np.asarray(cells.data)
         if cell_type not in SUPPORTED_CELLS:
             skipped[cell_type] = skipped.get(cell_type, 0) + len(data)
+            other_nodes.append(_referenced_nodes(data, n_points))
             continue
         k = SUPPORTED_CELLS[cell_type][1]
         if data.ndim != 2 or data.shape[1] != k:
@@ -178,6 +188,7 @@ def build_elements(mesh: meshio.Mesh, source: str = "<memory>") -> ElementMesh:
         skipped=skipped,
         source=source,
         cell_sets=element_sets(mesh, block_rows),
+        other_nodes=np.concatenate(other_nodes),
     )
     # Fast path: all coordinates finite. Else only the nodes an element uses must be.
     if not np.isfinite(points).all() and not np.isfinite(points[element_mesh.used_nodes()]).all():

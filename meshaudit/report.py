@@ -10,6 +10,8 @@ from typing import Any
 
 import numpy as np
 
+from .findings import Finding
+from .mesh_checks.edges import FreeEdges
 from .metrics import METRIC_INFO, METRIC_NAMES, VALIDITY_FLAGS, WARNING_FLAGS
 from .profiles import Profile
 from .verdicts import FAIL, VERDICT_NAMES, WARN
@@ -75,6 +77,10 @@ class Report:
     region_names: tuple[str, ...] = ()
     region_profiles: tuple[Profile, ...] = ()
     region_codes: np.ndarray | None = None
+    #: Mesh-level findings (only kinds that occur; a clean mesh has none).
+    findings: list[Finding] = field(default_factory=list)
+    #: Free edges chained into loops (None when the checks did not run).
+    free_edges: FreeEdges | None = None
 
     # -- sizes and selections -------------------------------------------------
     def __len__(self) -> int:
@@ -144,8 +150,14 @@ class Report:
         return self.verdict >= (WARN if self.fail_on == "warn" else FAIL)
 
     @property
+    def failing_findings(self) -> list[Finding]:
+        """Findings that fail the mesh under ``fail_on`` (fail severity, or warn too)."""
+        gate = ("warn", "fail") if self.fail_on == "warn" else ("fail",)
+        return [f for f in self.findings if f.severity in gate]
+
+    @property
     def passed(self) -> bool:
-        return not bool(self.failing.any())
+        return not bool(self.failing.any()) and not self.failing_findings
 
     def verdict_counts(self) -> dict[str, int]:
         counts = np.bincount(self.verdict, minlength=3)

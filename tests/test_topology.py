@@ -98,3 +98,17 @@ def test_a_moebius_band_cannot_be_oriented():
     groups = flipped_elements(load(meshio.Mesh(pts, [("quad", cells)])))
     assert groups.twisted.all()
     assert not groups.flipped.any()
+
+
+@pytest.mark.parametrize("bound", [50, 2**62])
+def test_unique_keys_agrees_with_numpy_unique(bound):
+    # Reference: numpy.unique (both the packed-sort path and the argsort fallback).
+    from meshaudit.topology import unique_keys
+
+    rng = np.random.default_rng(3)
+    key = rng.integers(0, 50, size=2000).astype(np.int64)
+    uniq, inverse, counts = unique_keys(key, bound)
+    ref = np.unique(key, return_inverse=True, return_counts=True)
+    assert np.array_equal(uniq, ref[0])
+    assert np.array_equal(inverse, ref[1].ravel())
+    assert np.array_equal(counts, ref[2])

@@ -1,0 +1,290 @@
+"""Mesh-level findings: defects no single element shows (unmerged nodes and the cracks
+they open, orphan nodes, duplicate and overlapping elements, inconsistent orientation,
+non-manifold edges).
+
+:func:`find` runs every enabled check of :mod:`meshaudit.mesh_checks` on the element
+arrays and returns the findings (only kinds that occur: a clean mesh has none) plus the
+free-edge loops. Each finding carries plain arrays a plot can draw: element positions,
+node indices and coordinates, edge end coordinates.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from .elements import ElementMesh
+from .finding_kinds import KIND_INFO, FindingSettings
+from .frames import Frame
+from .mesh_checks import duplicates, edges, nodes, overlap
+from .topology import EdgeTable, edge_table
+
+#: How many ids a finding's message names.
+MESSAGE_IDS = 8
+
+
+def _empty_int(*shape: int) -> np.ndarray:
+    return np.zeros(shape or (0,), dtype=np.int64)
+
+
+@dataclass(frozen=True)
+class Finding:
+    """One kind of mesh-level defect and everything involved in it.
+
+    ``element_index`` are 0-based audited-element positions (rows of the report
+    arrays), ``element_ids`` the same elements' labels. ``node_ids`` are 0-based node
+    indices in the mesh's point order. ``pairs`` (k, 2) pair up the items the finding is
+    about (node indices for coincident nodes, element ids for duplicates and
+    overlaps), ``edges`` (m, 2) node indices of the edges involved, ``edge_xyz``
+    (m, 2, 3) and ``node_xyz`` (n, 3) their coordinates.
+    """
+
+    kind: str
+    severity: str  # "info", "warn" or "fail"
+    count: int  # see finding_kinds.KIND_INFO[kind].counts
+    element_ids: np.ndarray
+    node_ids: np.ndarray
+    message: str
+    element_index: np.ndarray = field(default_factory=_empty_int)
+    pairs: np.ndarray = field(default_factory=lambda: _empty_int(0, 2))
+    edges: np.ndarray = field(default_factory=lambda: _empty_int(0, 2))
+    node_xyz: np.ndarray = field(default_factory=lambda: np.zeros((0, 3)))
+    edge_xyz: np.ndarray = field(default_factory=lambda: np.zeros((0, 2, 3)))
+
+    @property
+    def counts(self) -> str:
+        return KIND_INFO[self.kind].counts
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "kind": self.kind,
+            "severity": self.severity,
+            "count": self.count,
+            "counts": self.counts,
+            "element_ids": self.element_ids.tolist(),
+            "node_ids": self.node_ids.tolist(),
+            "pairs": self.pairs.tolist(),
+            "edges": self.edges.tolist(),
+            "message": self.message,
+        }
+
+
+@dataclass
+class MeshFindings:
+    findings: list[Finding]
+    free_edges: edges.FreeEdges | None
+
+
+def _some(values: np.ndarray) -> str:
+    shown = ", ".join(str(int(v)) for v in values[:MESSAGE_IDS])
+    return shown + (f" and {values.size - MESSAGE_IDS} more" if values.size > MESSAGE_IDS else "")
+
+
+class _Builder:
+    """Collects findings, mapping positions to labels and nodes to coordinates."""
+
+    def __init__(self, mesh: ElementMesh, ids: np.ndarray, settings: FindingSettings) -> None:
+        self.points = mesh.points
+        self.ids = ids
+        self.settings = settings
+        self.findings: list[Finding] = []
+
+    def on(self, kind: str) -> bool:
+        return self.settings.enabled(kind)
+
+    def add(
+        self,
+        kind: str,
+        count: int,
+        message: str,
+        elements: np.ndarray | None = None,
+        nodes_: np.ndarray | None = None,
+        pairs: np.ndarray | None = None,
+        edge_nodes: np.ndarray | None = None,
+    ) -> None:
+        if count == 0:
+            return
+        elements = _empty_int() if elements is None else np.unique(elements)
+        if nodes_ is None:
+            nodes_ = _empty_int() if edge_nodes is None else np.unique(edge_nodes)
+        edge_nodes = _empty_int(0, 2) if edge_nodes is None else edge_nodes
+        self.findings.append(
+            Finding(
+                kind=kind,
+                severity=self.settings.severity[kind],
+                count=int(count),
+                element_ids=self.ids[elements],
+                node_ids=np.unique(nodes_),
+                message=message,
+                element_index=elements,
+                pairs=_empty_int(0, 2) if pairs is None else pairs,
+                edges=edge_nodes,
+                node_xyz=self.points[np.unique(nodes_)],
+                edge_xyz=self.points[edge_nodes].reshape(-1, 2, 3),
+            )
+        )
+
+
+def find(
+    mesh: ElementMesh,
+    ids: np.ndarray,
+    frame: Frame,
+    settings: FindingSettings | None = None,
+    table: EdgeTable | None = None,
+) -> MeshFindings:
+    """Run the mesh-level checks enabled in ``settings`` on ``mesh``.
+
+    ``ids`` (n_elements,) element labels in audit order; ``frame`` says whether the mesh
+    is planar (winding and overlap checks) or a shell (neighbour normals check).
+    """
+    settings = settings or FindingSettings()
+    out = _Builder(mesh, ids, settings)
+    if out.on("orphan_nodes"):
+        orphans = nodes.orphan_nodes(mesh)
+        out.add(
+            "orphan_nodes", orphans.size, f"nodes no cell uses: {_some(orphans)}", None, orphans
+        )
+
+    corners = duplicates.sorted_corners(mesh)
+    copies, originals = duplicates.duplicate_elements(corners)
+    if out.on("duplicate_elements"):
+        pairs = np.stack([ids[originals], ids[copies]], axis=1)
+        text = ", ".join(f"{c} repeats {o}" for o, c in pairs[:MESSAGE_IDS])
+        out.add("duplicate_elements", copies.size, f"element {text}", copies, None, pairs)
+    keep = np.ones(mesh.n_elements, dtype=bool)
+    keep[copies] = False
+    table = edges.kept_table(table if table is not None else edge_table(mesh), keep)
+
+    coincident = _coincident(mesh, table, settings.coincident_tolerance)
+    if out.on("coincident_nodes"):
+        nodes_ = np.unique(coincident)
+        out.add(
+            "coincident_nodes",
+            len(coincident),
+            f"{len(coincident)} node pair(s) at the same place, not merged; nodes {_some(nodes_)}",
+            None,
+            nodes_,
+            coincident,
+        )
+
+    planar = frame.kind == "planar" and frame.axes is not None
+    shapes = None
+    if planar:
+        local = (mesh.points - mesh.points.min(axis=0)) @ frame.axes.T
+        shapes = overlap.planar_shapes(mesh, local)
+    sign = shapes[0] if shapes is not None else None
+    free = edges.free_edges(table, mesh.points, coincident, sign, frame.normal if planar else None)
+    if out.on("crack_edges"):
+        crack = np.flatnonzero(free.crack)
+        loops = np.unique(free.loop[crack])
+        out.add(
+            "crack_edges",
+            crack.size,
+            f"{crack.size} free edge(s) lie on other free edges (unmerged nodes cut the part) "
+            f"in free-edge loop(s) {_some(loops)}",
+            free.element[crack],
+            None,
+            None,
+            free.nodes[crack],
+        )
+    if out.on("non_manifold_edges"):
+        nm_edges, nm_elements = edges.non_manifold_edges(table)
+        out.add(
+            "non_manifold_edges",
+            nm_edges.size,
+            f"{nm_edges.size} edge(s) shared by more than two elements: {_some(ids[nm_elements])}",
+            nm_elements,
+            None,
+            None,
+            table.nodes[nm_edges],
+        )
+    if planar:
+        _planar_checks(out, mesh, table, free, local, shapes, keep)
+    elif out.on("opposite_normals"):
+        clash, first, second = edges.same_direction_pairs(table)
+        both = np.concatenate([first, second])
+        out.add(
+            "opposite_normals",
+            clash.size,
+            f"{clash.size} edge(s) between neighbours with opposite normals; elements "
+            f"{_some(ids[np.unique(both)])}",
+            both,
+            None,
+            None,
+            table.nodes[clash],
+        )
+    return MeshFindings(out.findings, free)
+
+
+def _coincident(mesh: ElementMesh, table: EdgeTable, relative: float) -> np.ndarray:
+    """Node pairs (a < b) used by elements and within ``relative`` x the shorter of their
+    shortest adjacent edges, excluding the two ends of a (collapsed) edge.
+
+    The sweep first uses one bound for every node (``relative`` x the longest edge); the
+    local tolerance is then worked out only for the few nodes that bound lets through.
+    """
+    live = table.nodes[table.uses > 0]
+    if live.size == 0:
+        return _empty_int(0, 2)
+    pts = mesh.points
+    longest = float(np.linalg.norm(pts[live[:, 1]] - pts[live[:, 0]], axis=1).max())
+    bound = np.full(mesh.n_points, relative * longest)
+    pairs = nodes.coincident_pairs(pts, np.flatnonzero(mesh.used_nodes()), bound)
+    if pairs.size == 0:
+        return pairs
+    involved = np.zeros(mesh.n_points, dtype=bool)
+    involved[pairs] = True
+    near = live[involved[live[:, 0]] | involved[live[:, 1]]]
+    tolerance = relative * nodes.shortest_edge_at(pts, near)
+    tolerance[~np.isfinite(tolerance)] = 0.0
+    dist = np.linalg.norm(pts[pairs[:, 0]] - pts[pairs[:, 1]], axis=1)
+    pairs = pairs[dist <= np.minimum(tolerance[pairs[:, 0]], tolerance[pairs[:, 1]])]
+    return nodes.drop_edges(pairs, live, mesh.n_points)
+
+
+def _planar_checks(
+    out: _Builder,
+    mesh: ElementMesh,
+    table: EdgeTable,
+    free: edges.FreeEdges,
+    local: np.ndarray,
+    shapes: tuple[np.ndarray, np.ndarray, np.ndarray],
+    keep: np.ndarray,
+) -> None:
+    ids = out.ids
+    sign = shapes[0]
+    if out.on("inconsistent_winding"):
+        odd = edges.minority_winding(sign)
+        out.add(
+            "inconsistent_winding",
+            odd.size,
+            f"{odd.size} element(s) wound against the majority: {_some(ids[odd])}",
+            odd,
+        )
+    if not out.on("overlapping_elements"):
+        return
+    sign, boxes, centroids = shapes
+    _, fold_a, fold_b = edges.same_direction_pairs(table, flip=sign < 0)
+    nm_edges, _ = edges.non_manifold_edges(table)
+    candidates = np.concatenate(
+        [
+            np.stack([fold_a, fold_b], axis=1),
+            overlap.pairs_on_edges(table, nm_edges),
+            overlap.pairs_near(boxes, centroids, np.unique(free.element)),
+        ]
+    )
+    candidates = candidates[keep[candidates[:, 0]] & keep[candidates[:, 1]]]
+    fraction = out.settings.overlap_fraction
+    pairs, _area = overlap.overlapping_pairs(mesh, local, candidates, fraction)
+    labelled = ids[pairs] if pairs.size else _empty_int(0, 2)
+    text = ", ".join(f"{a}/{b}" for a, b in labelled[:MESSAGE_IDS])
+    out.add(
+        "overlapping_elements",
+        len(pairs),
+        f"{len(pairs)} element pair(s) overlap: {text}",
+        pairs.ravel(),
+        None,
+        labelled,
+    )

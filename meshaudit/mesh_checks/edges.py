@@ -1,0 +1,151 @@
+"""Edge checks over the edge table: free-edge loops and cracks, non-manifold edges,
+neighbours that disagree about orientation, and the winding of planar elements."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+
+import numpy as np
+
+from ..topology import EdgeTable, connected_labels
+
+
+def kept_table(table: EdgeTable, keep: np.ndarray) -> EdgeTable:
+    """The edge table without the elements where ``keep`` is False (e.g. duplicates)."""
+    if keep.all():
+        return table
+    sel = keep[table.element]
+    edge = table.edge[sel]
+    return replace(
+        table,
+        start=table.start[sel],
+        end=table.end[sel],
+        element=table.element[sel],
+        local=table.local[sel],
+        edge=edge,
+        uses=np.bincount(edge, minlength=table.n_edges),
+    )
+
+
+def minority_winding(sign: np.ndarray) -> np.ndarray:
+    """Positions of elements wound against the majority (ties: clockwise is the odd one)."""
+    majority = 1 if int(sign.sum()) >= 0 else -1
+    return np.flatnonzero(sign == -majority)
+
+
+@dataclass(frozen=True)
+class FreeEdges:
+    """Edges used by one element, chained into loops, as plain arrays a plot can draw.
+
+    A loop is a connected chain of free edges. On a planar mesh a loop that runs
+    counter-clockwise (seen from the plane normal, elements on its left) is an
+    ``outer`` boundary, one running clockwise a ``hole``; on a shell every loop is a
+    ``boundary``. A loop made only of crack edges is a ``crack``.
+    """
+
+    nodes: np.ndarray  # (m, 2) int64 node indices, in the direction the element runs
+    element: np.ndarray  # (m,) int64 element position using the edge
+    loop: np.ndarray  # (m,) int64 loop number 0..n_loops-1
+    crack: np.ndarray  # (m,) bool: lies on another free edge (unmerged nodes)
+    xyz: np.ndarray  # (m, 2, 3) end coordinates, for drawing
+    loop_kind: np.ndarray  # (n_loops,) object: "outer", "hole", "boundary" or "crack"
+    loop_edges: np.ndarray  # (n_loops,) int64 number of edges
+    loop_length: np.ndarray  # (n_loops,) float64 total length
+    loop_area: np.ndarray  # (n_loops,) float64 enclosed signed area (planar), else NaN
+    loop_cracks: np.ndarray  # (n_loops,) int64 crack edges in the loop
+
+    @property
+    def n_loops(self) -> int:
+        return int(self.loop_kind.shape[0])
+
+    def loops(self) -> list[dict[str, object]]:
+        """One plain record per loop (for reports)."""
+        return [
+            {
+                "loop": k,
+                "kind": str(self.loop_kind[k]),
+                "edges": int(self.loop_edges[k]),
+                "length": float(self.loop_length[k]),
+                "area": None if np.isnan(self.loop_area[k]) else float(self.loop_area[k]),
+                "crack_edges": int(self.loop_cracks[k]),
+            }
+            for k in range(self.n_loops)
+        ]
+
+
+def free_edges(
+    table: EdgeTable,
+    points: np.ndarray,
+    coincident: np.ndarray,
+    sign: np.ndarray | None,
+    normal: np.ndarray | None,
+) -> FreeEdges:
+    """Free edges, their loops and which of them are cracks.
+
+    ``coincident`` (k, 2) node pairs at the same place; a free edge is a crack edge when
+    another free edge joins the same two places. ``sign``/``normal``: element winding
+    and plane normal of a planar mesh (None for shells).
+    """
+    uses = np.flatnonzero(table.uses[table.edge] == 1)
+    a, b, element = table.start[uses], table.end[uses], table.element[uses]
+    n_points = points.shape[0]
+    rep = connected_labels(n_points, coincident[:, 0], coincident[:, 1])
+    ra, rb = rep[a], rep[b]
+    key = np.minimum(ra, rb) * np.int64(n_points) + np.maximum(ra, rb)
+    _, inverse, counts = np.unique(key, return_inverse=True, return_counts=True)
+    crack = (counts[inverse.ravel()] > 1) & (ra != rb)
+    node_label = connected_labels(n_points, a, b)
+    loop_ids, loop = np.unique(node_label[a], return_inverse=True)
+    loop = loop.ravel()
+    n_loops = loop_ids.size
+    xyz = np.stack([points[a], points[b]], axis=1)
+    length = np.linalg.norm(xyz[:, 1] - xyz[:, 0], axis=1)
+    n_edges = np.bincount(loop, minlength=n_loops)
+    cracks = np.bincount(loop, weights=crack, minlength=n_loops).astype(np.int64)
+    if normal is not None and sign is not None and a.size:
+        centre = points[a].mean(axis=0)
+        twice = np.cross(points[a] - centre, points[b] - centre) @ normal
+        area = 0.5 * np.bincount(loop, weights=twice * sign[element], minlength=n_loops)
+        kind = np.where(area >= 0.0, "outer", "hole").astype(object)
+    else:
+        area = np.full(n_loops, np.nan)
+        kind = np.full(n_loops, "boundary", dtype=object)
+    kind[(cracks == n_edges) & (n_edges > 0)] = "crack"
+    return FreeEdges(
+        nodes=np.stack([a, b], axis=1),
+        element=element,
+        loop=loop,
+        crack=crack,
+        xyz=xyz,
+        loop_kind=kind,
+        loop_edges=n_edges.astype(np.int64),
+        loop_length=np.bincount(loop, weights=length, minlength=n_loops),
+        loop_area=area,
+        loop_cracks=cracks,
+    )
+
+
+def non_manifold_edges(table: EdgeTable) -> tuple[np.ndarray, np.ndarray]:
+    """(edges, elements): unique edges used three or more times, and the elements using them."""
+    edges = np.flatnonzero(table.uses > 2)
+    on = table.uses[table.edge] > 2
+    return edges, np.unique(table.element[on])
+
+
+def same_direction_pairs(
+    table: EdgeTable, flip: np.ndarray | None = None
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(edges, first, second): manifold interior edges both elements run the same way.
+
+    On a shell that means opposite normals. With ``flip`` (bool per element: count the
+    element as wound the other way) it finds planar elements folded onto a neighbour.
+    One weighted count per edge finds them; only those edges are then sorted.
+    """
+    forward = table.forward if flip is None else table.forward ^ flip[table.element]
+    runs = np.bincount(table.edge, weights=forward, minlength=table.n_edges)
+    clash = np.flatnonzero((table.uses == 2) & (runs != 1.0))
+    mask = np.zeros(table.n_edges, dtype=bool)
+    mask[clash] = True
+    on = np.flatnonzero(mask[table.edge])
+    on = on[np.argsort(table.edge[on], kind="stable")]
+    return clash, table.element[on[0::2]], table.element[on[1::2]]
