@@ -31,6 +31,10 @@ class FindingKind:
     counts: str  # what ``count`` counts
     meaning: str
     rationale: str  # why the default severity
+    geometry: str = "any"  # "any", or the only frame kind it applies to ("planar", "shell")
+
+    def applies_to(self, frame_kind: str) -> bool:
+        return self.geometry in ("any", frame_kind)
 
 
 KINDS: tuple[FindingKind, ...] = (
@@ -69,6 +73,7 @@ KINDS: tuple[FindingKind, ...] = (
         "element pairs",
         "element pairs covering a common area without sharing their node set (planar meshes)",
         "material is counted twice where they overlap (common practice)",
+        "planar",
     ),
     FindingKind(
         "inconsistent_winding",
@@ -76,6 +81,7 @@ KINDS: tuple[FindingKind, ...] = (
         "elements",
         "planar mesh: elements wound the other way from the majority",
         "a 2-D solver reads them as inverted, negative det J (common practice)",
+        "planar",
     ),
     FindingKind(
         "opposite_normals",
@@ -84,6 +90,7 @@ KINDS: tuple[FindingKind, ...] = (
         "shell: neighbours across an edge with opposite normals (same traversal direction)",
         "shell solvers accept either normal, but top/bottom results, pressures and offsets "
         "flip across the seam (common practice)",
+        "shell",
     ),
     FindingKind(
         "non_manifold_edges",

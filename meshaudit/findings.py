@@ -29,7 +29,7 @@ def _empty_int(*shape: int) -> np.ndarray:
     return np.zeros(shape or (0,), dtype=np.int64)
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class Finding:
     """One kind of mesh-level defect and everything involved in it.
 
@@ -174,7 +174,10 @@ def find(
     if planar:
         local = (mesh.points - mesh.points.min(axis=0)) @ frame.axes.T
         shapes = overlap.planar_shapes(mesh, local)
-    sign = shapes[0] if shapes is not None else None
+    sign = None
+    if shapes is not None:
+        sign = shapes[0]
+        sign[~keep] = 0  # duplicates are reported as such, not as wound the other way
     free = edges.free_edges(table, mesh.points, coincident, sign, frame.normal if planar else None)
     if out.on("crack_edges"):
         crack = np.flatnonzero(free.crack)
@@ -250,7 +253,7 @@ def _planar_checks(
     table: EdgeTable,
     free: edges.FreeEdges,
     local: np.ndarray,
-    shapes: tuple[np.ndarray, np.ndarray, np.ndarray],
+    shapes: tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray],
     keep: np.ndarray,
 ) -> None:
     ids = out.ids
@@ -265,14 +268,16 @@ def _planar_checks(
         )
     if not out.on("overlapping_elements"):
         return
-    sign, boxes, centroids = shapes
+    sign, convex, boxes, centroids = shapes
     _, fold_a, fold_b = edges.same_direction_pairs(table, flip=sign < 0)
-    nm_edges, _ = edges.non_manifold_edges(table)
+    nm_edges, nm_elements = edges.non_manifold_edges(table)
+    suspects = np.concatenate([np.flatnonzero(~convex & keep), fold_a, fold_b, nm_elements])
+    around = np.union1d(free.element, overlap.node_neighbours(mesh, suspects))
     candidates = np.concatenate(
         [
             np.stack([fold_a, fold_b], axis=1),
             overlap.pairs_on_edges(table, nm_edges),
-            overlap.pairs_near(boxes, centroids, np.unique(free.element)),
+            overlap.pairs_near(boxes, centroids, around),
         ]
     )
     candidates = candidates[keep[candidates[:, 0]] & keep[candidates[:, 1]]]

@@ -15,7 +15,8 @@ SCHEMA = "meshaudit.report/1"
 
 
 def to_dict(report: Report, every_element: bool = False) -> dict[str, Any]:
-    """The JSON document as a dict: summary, profile, verdict, counts, statistics, elements.
+    """The JSON document as a dict: summary, profile, verdict, counts, statistics, mesh-level
+    findings, free-edge loops, elements.
 
     Elements are the non-ok ones (worst first) unless ``every_element``; then all of them
     in read order. Non-finite numbers are written as null.
@@ -33,6 +34,8 @@ def to_dict(report: Report, every_element: bool = False) -> dict[str, Any]:
         "flag_counts": report.flag_counts(),
         "statistics": report.statistics(),
         "notes": list(report.notes),
+        "findings": [f.to_dict() for f in report.findings],
+        "free_edge_loops": [] if report.free_edges is None else report.free_edges.loops(),
         "elements_listed": "all" if every_element else "not ok",
         "elements": report.element_records(np.asarray(rows)),
     }

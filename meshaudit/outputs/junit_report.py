@@ -4,6 +4,7 @@ Rules are the validity checks (one per flag kind) and every limit of the profile
 element families present. A fail-limit rule fails when any element is past it; a
 warn-limit rule fails only when the audit runs with ``fail_on="warn"`` (otherwise it
 passes and reports its count in system-out), so the XML agrees with the exit status.
+Each mesh-level finding kind is one more rule, failing when its finding fails the mesh.
 """
 
 from __future__ import annotations
@@ -12,6 +13,7 @@ import xml.etree.ElementTree as ET
 
 import numpy as np
 
+from ..finding_kinds import KIND_INFO, KIND_NAMES
 from ..metrics import METRIC_INFO, QUADRATIC_CELLS, WARNING_FLAGS
 from ..profiles import Profile
 from ..report import Report
@@ -49,6 +51,31 @@ def _warning_flags_that_apply(report: Report) -> list[str]:
     return [f for f in WARNING_FLAGS if applies.get(f, True)]
 
 
+def finding_cases(suite: ET.Element, report: Report) -> None:
+    """One test case per mesh-level finding kind the profile enables: it fails when the
+    finding occurs and its severity fails the mesh; kinds that do not apply to this
+    geometry (winding on a shell, say) are marked skipped."""
+    found = {f.kind: f for f in report.findings}
+    failing = {f.kind for f in report.failing_findings}
+    settings = report.profile.findings
+    for kind in KIND_NAMES:
+        if not settings.enabled(kind):
+            continue
+        name = f"no {kind.replace('_', ' ')}"
+        if not KIND_INFO[kind].applies_to(report.summary.frame):
+            case = ET.SubElement(
+                suite, "testcase", classname="meshaudit.findings", name=name, time="0"
+            )
+            ET.SubElement(case, "skipped", message=f"not checked on a {report.summary.frame} mesh")
+            continue
+        f = found.get(kind)
+        if f is None:
+            msg = f"none found (severity {settings.severity[kind]})"
+        else:
+            msg = f"{f.severity}: {f.message}"
+        _case(suite, "meshaudit.findings", name, kind in failing, msg)
+
+
 def render(report: Report) -> str:
     source = report.summary.source
     suite = ET.Element("testsuite", name=f"meshaudit {source}")
@@ -69,11 +96,12 @@ def render(report: Report) -> str:
         _case(suite, "meshaudit.warnings", f"no {flag} elements", n > 0 and warn_fails, msg)
     for classname, profile, in_group in _limit_groups(report):
         _limit_cases(suite, report, classname, profile, in_group)
+    finding_cases(suite, report)
     cases = suite.findall("testcase")
     suite.set("tests", str(len(cases)))
     suite.set("failures", str(sum(1 for c in cases if c.find("failure") is not None)))
     suite.set("errors", "0")
-    suite.set("skipped", "0")
+    suite.set("skipped", str(sum(1 for c in cases if c.find("skipped") is not None)))
     root = ET.Element("testsuites", name="meshaudit")
     root.append(suite)
     ET.indent(root)

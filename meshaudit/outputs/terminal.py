@@ -10,6 +10,7 @@ from rich.text import Text
 
 from ..metrics import METRIC_INFO, METRIC_NAMES
 from ..report import PERCENTILES, Report
+from .terminal_findings import findings_table, loops_line, verdict_suffix
 
 
 def _fmt(x: float | None) -> str:
@@ -32,7 +33,7 @@ def verdict_line(report: Report) -> Text:
     text.append(
         f"  {report.summary.source}: {counts['fail']} of {n} elements fail, "
         f"{counts['warn']} warn, {counts['ok']} ok; profile {report.profile.name}, "
-        f"gate on {gate}"
+        f"gate on {gate}" + verdict_suffix(report)
     )
     return text
 
@@ -57,6 +58,7 @@ def summary_table(report: Report) -> Table:
         t.add_row("regions", _regions_text(report))
     flags = report.flag_counts()
     t.add_row("flags", ", ".join(f"{k} {v}" for k, v in flags.items()) or "none")
+    t.add_row("free-edge loops", loops_line(report))
     for note in report.notes:
         t.add_row("note", note)
     return t
@@ -128,6 +130,9 @@ def render(report: Report, console: Console, top: int = 10, quiet: bool = False)
     """
     if not quiet:
         parts = [summary_table(report), Text(), distribution_table(report)]
+        findings = findings_table(report)
+        if findings is not None:
+            parts += [Text(), findings]
         worst = worst_table(report, top) if top > 0 else None
         if worst is not None:
             parts += [Text(), worst]

@@ -1,0 +1,76 @@
+"""Terminal pieces for the mesh-level findings: the findings table, the free-edge loop
+line of the summary and the findings part of the verdict line."""
+
+from __future__ import annotations
+
+from rich.table import Table
+
+from ..findings import Finding
+from ..report import Report
+
+#: How many ids a table cell names.
+SHOWN_IDS = 6
+#: How many loops the summary line describes one by one.
+SHOWN_LOOPS = 6
+
+
+def _ids(values: object, word: str) -> str:
+    ids = [int(v) for v in values]  # type: ignore[attr-defined]
+    if not ids:
+        return ""
+    more = f" +{len(ids) - SHOWN_IDS}" if len(ids) > SHOWN_IDS else ""
+    return f"{word} " + ", ".join(map(str, ids[:SHOWN_IDS])) + more
+
+
+def involved(finding: Finding) -> str:
+    """Element ids and node indices of a finding, shortened."""
+    parts = [_ids(finding.element_ids, "elements"), _ids(finding.node_ids, "nodes")]
+    return "; ".join(p for p in parts if p) or "-"
+
+
+def findings_table(report: Report) -> Table | None:
+    """One row per finding kind that occurs; None for a clean mesh."""
+    if not report.findings:
+        return None
+    t = Table(title="Mesh-level findings", title_justify="left")
+    for col in ("kind", "severity", "count", "involved", "what"):
+        t.add_column(col, justify="right" if col == "count" else "left")
+    order = {"fail": 0, "warn": 1, "info": 2}
+    for f in sorted(report.findings, key=lambda f: order.get(f.severity, 3)):
+        t.add_row(
+            f.kind,
+            f.severity,
+            f"{f.count:,} {f.counts}",
+            involved(f),
+            f.message,
+            style="bold" if f in report.failing_findings else None,
+        )
+    return t
+
+
+def loops_line(report: Report) -> str:
+    """Summary of the free-edge loops, e.g. '2: outer 14 edges (14), hole 4 edges (4)'."""
+    free = report.free_edges
+    if free is None:
+        return "not checked"
+    if free.n_loops == 0:
+        return "none (closed surface)"
+    parts = [
+        f"{rec['kind']} {rec['edges']} edges (length {rec['length']:.4g})"
+        + (
+            f", {rec['crack_edges']} on a crack"
+            if rec["crack_edges"] and rec["kind"] != "crack"
+            else ""
+        )
+        for rec in free.loops()[:SHOWN_LOOPS]
+    ]
+    more = f", and {free.n_loops - SHOWN_LOOPS} more" if free.n_loops > SHOWN_LOOPS else ""
+    return f"{free.n_loops}: " + "; ".join(parts) + more
+
+
+def verdict_suffix(report: Report) -> str:
+    """'; 2 mesh-level findings (1 failing)' or '' for a clean mesh."""
+    if not report.findings:
+        return ""
+    failing = len(report.failing_findings)
+    return f"; {len(report.findings)} mesh-level finding(s), {failing} failing"
