@@ -32,8 +32,8 @@ def verdict_line(report: Report) -> Text:
     text.append(word, style="bold reverse" if not report.passed else "bold")
     text.append(
         f"  {report.summary.source}: {counts['fail']} of {n} elements fail, "
-        f"{counts['warn']} warn, {counts['ok']} ok; profile {report.profile.name}, "
-        f"gate on {gate}" + verdict_suffix(report)
+        f"{counts['warn']} warn, {counts['ok']} ok{verdict_suffix(report)}; "
+        f"profile {report.profile.name}, gate on {gate}"
     )
     return text
 
