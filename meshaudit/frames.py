@@ -97,6 +97,33 @@ def centroids(coords: np.ndarray) -> np.ndarray:
     return total
 
 
+def element_normals(corners: np.ndarray) -> np.ndarray:
+    """Unit normal of each element's best-fit plane, (n, 3), from corners (n, k, 3).
+
+    The area vector (Newell's normal) is used where it is sound. A bow-tie's area vector
+    is the difference of its two lobes and may vanish or point anywhere; where it is less
+    than half of the corner-triangle measure sum |a_k x b_k| / 4 (equal to it for any
+    convex quad, whatever its aspect ratio) the least-squares plane of the corners is used
+    instead, turned to agree with the area vector where that has a direction.
+    """
+    av = area_vectors(corners)
+    normal = _unit(av)
+    if corners.shape[1] != 4:
+        return normal
+    to_next = np.roll(corners, -1, axis=1) - corners
+    to_prev = np.roll(corners, 1, axis=1) - corners
+    measure = np.linalg.norm(np.cross(to_next, to_prev), axis=-1).sum(axis=1) / 4.0
+    weak = ~(np.linalg.norm(av, axis=1) >= 0.5 * measure)
+    if weak.any():
+        pts = corners[weak] - corners[weak].mean(axis=1, keepdims=True)
+        _, vecs = np.linalg.eigh(np.einsum("nki,nkj->nij", pts, pts))
+        fit = vecs[:, :, 0]  # eigenvector of the smallest eigenvalue
+        flip = (fit * av[weak]).sum(axis=1) < 0.0
+        fit[flip] *= -1.0
+        normal[weak] = fit
+    return normal
+
+
 def to_local(coords: np.ndarray, frame: Frame, n_corners: int | None = None) -> np.ndarray:
     """Lay elements ``coords`` (n, k, 3) flat: (n, k, 2) in-plane coordinates.
 
@@ -112,7 +139,7 @@ def to_local(coords: np.ndarray, frame: Frame, n_corners: int | None = None) -> 
         if frame.axes is not None and np.array_equal(frame.axes, np.eye(3)[:2]):
             return rel[:, :, :2] + 0.0  # what the product with the axes gives, to the bit
         return rel @ frame.axes.T
-    normal = _unit(area_vectors(corners))
+    normal = element_normals(corners)
     t1 = rel[:, 1] - rel[:, 0]
     t1 = _unit(t1 - (t1 * normal).sum(axis=1, keepdims=True) * normal)
     t2 = np.cross(normal, t1)
