@@ -228,15 +228,16 @@ def _coincident(mesh: ElementMesh, table: EdgeTable, relative: float) -> np.ndar
     The sweep first uses one bound for every node (``relative`` x the longest edge); the
     local tolerance is then worked out only for the few nodes that bound lets through.
     """
-    live = table.nodes[table.uses > 0]
-    if live.size == 0:
+    if table.n_edges == 0:
         return _empty_int(0, 2)
     pts = mesh.points
-    longest = float(np.linalg.norm(pts[live[:, 1]] - pts[live[:, 0]], axis=1).max())
+    side = pts[table.nodes[:, 1]] - pts[table.nodes[:, 0]]
+    longest = float(np.sqrt(np.einsum("ij,ij->i", side, side).max()))
     bound = np.full(mesh.n_points, relative * longest)
     pairs = nodes.coincident_pairs(pts, np.flatnonzero(mesh.used_nodes()), bound)
     if pairs.size == 0:
         return pairs
+    live = table.nodes[table.uses > 0]
     involved = np.zeros(mesh.n_points, dtype=bool)
     involved[pairs] = True
     near = live[involved[live[:, 0]] | involved[live[:, 1]]]
