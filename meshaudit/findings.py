@@ -223,7 +223,7 @@ def find(
 
 def _coincident(mesh: ElementMesh, table: EdgeTable, relative: float) -> np.ndarray:
     """Node pairs (a < b) used by elements and within ``relative`` x the shorter of their
-    shortest adjacent edges, excluding the two ends of a (collapsed) edge.
+    shortest adjacent edges, leaving out pairs of corners of one (degenerate) element.
 
     The sweep first uses one bound for every node (``relative`` x the longest edge); the
     local tolerance is then worked out only for the few nodes that bound lets through.
@@ -245,7 +245,7 @@ def _coincident(mesh: ElementMesh, table: EdgeTable, relative: float) -> np.ndar
     tolerance[~np.isfinite(tolerance)] = 0.0
     dist = np.linalg.norm(pts[pairs[:, 0]] - pts[pairs[:, 1]], axis=1)
     pairs = pairs[dist <= np.minimum(tolerance[pairs[:, 0]], tolerance[pairs[:, 1]])]
-    return nodes.drop_edges(pairs, live, mesh.n_points)
+    return nodes.drop_same_element(pairs, mesh)
 
 
 def _planar_checks(

@@ -146,6 +146,15 @@ def test_coincidence_tolerance_is_relative_to_the_local_edge(h):
     assert [lp["kind"] for lp in far.free_edges.loops()] == ["outer", "outer"]
 
 
+def test_a_collapsed_diagonal_is_not_an_unmerged_node():
+    # By construction: corners 0 and 2 of the quad at one place (a diagonal collapsed),
+    # and all four corners of a second quad at one place: degenerate elements, no crack.
+    pts = np.array([[0, 0], [1, 0], [0, 0], [0, 1], [5, 5], [5, 5], [5, 5], [5, 5]], float)
+    report = audit(meshio.Mesh(pts, [("quad", [[0, 1, 2, 3], [4, 5, 6, 7]])]))
+    assert report.findings == []
+    assert report.verdict_counts()["fail"] == 2
+
+
 def test_a_collapsed_edge_is_not_an_unmerged_node():
     # By construction: node 4 sits on node 1, and the second quad's first edge joins the
     # two: a degenerate element (the element metrics report it), not a crack.

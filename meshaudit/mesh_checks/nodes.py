@@ -2,9 +2,12 @@
 
 from __future__ import annotations
 
+import itertools
+
 import numpy as np
 
 from ..elements import ElementMesh
+from ..topology import CORNERS_PER_FAMILY
 
 #: Direction the nodes are sorted along when looking for coincident pairs: irrational
 #: ratios, so no row or column of a structured grid projects onto a single value.
@@ -62,13 +65,21 @@ def coincident_pairs(points: np.ndarray, nodes: np.ndarray, tolerance: np.ndarra
     return pairs[np.lexsort((pairs[:, 1], pairs[:, 0]))]
 
 
-def drop_edges(pairs: np.ndarray, edge_nodes: np.ndarray, n_points: int) -> np.ndarray:
-    """``pairs`` that are not the two ends of a mesh edge (a collapsed edge is a degenerate
-    element, reported by the element metrics, not an unmerged node)."""
+def drop_same_element(pairs: np.ndarray, mesh: ElementMesh) -> np.ndarray:
+    """``pairs`` whose two nodes are not corners of one element: nodes of one element at
+    the same place make a degenerate element (the element metrics report it), not an
+    unmerged node. Only elements touching a paired node are looked at."""
     if pairs.size == 0:
         return pairs
-    n = np.int64(n_points)
-    edge_key = np.sort(edge_nodes[:, 0] * n + edge_nodes[:, 1])
+    n = np.int64(mesh.n_points)
+    paired = np.zeros(mesh.n_points, dtype=bool)
+    paired[pairs] = True
+    inside = []
+    for block in mesh.blocks:
+        corners = block.connectivity[:, : CORNERS_PER_FAMILY[block.family]]
+        near = corners[paired[corners].any(axis=1)]
+        for i, j in itertools.combinations(range(corners.shape[1]), 2):
+            a, b = near[:, i], near[:, j]
+            inside.append(np.minimum(a, b) * n + np.maximum(a, b))
     key = pairs[:, 0] * n + pairs[:, 1]
-    at = np.minimum(np.searchsorted(edge_key, key), edge_key.size - 1)
-    return pairs[edge_key[at] != key]
+    return pairs[~np.isin(key, np.concatenate(inside))]
