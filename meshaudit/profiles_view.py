@@ -3,6 +3,7 @@
 Without arguments: the built-in profiles. With names or TOML files: those profiles. With
 ``--config FILE`` (or when a configuration is found from the working directory and
 ``--configured`` is given): the limits that configuration applies, region by region.
+Each profile is followed by the severities of the mesh-level findings.
 """
 
 from __future__ import annotations
@@ -80,4 +81,26 @@ def run(args: argparse.Namespace, console: Console) -> int:
     """Print the selected profiles; returns exit status 0."""
     for title, profile in _selected(args):
         console.print(profile_table(profile, title))
+        console.print(findings_table(profile))
     return 0
+
+
+def findings_table(profile: Profile) -> Table:
+    """Severity of each mesh-level finding kind under ``profile``, with the reason for the
+    built-in default, and the two tolerances of the checks."""
+    from rich.table import Table
+
+    from .finding_kinds import KINDS
+
+    settings = profile.findings
+    t = Table(
+        title=f"{profile.name}: mesh-level findings (coincident tolerance "
+        f"{settings.coincident_tolerance:g} x shortest adjacent edge, overlap fraction "
+        f"{settings.overlap_fraction:g})",
+        title_justify="left",
+    )
+    for col in ("finding", "severity", "default", "why the default"):
+        t.add_column(col, no_wrap=col != "why the default")
+    for kind in KINDS:
+        t.add_row(kind.name, settings.severity[kind.name], kind.severity, kind.rationale)
+    return t

@@ -116,3 +116,13 @@ def test_cli_passes_a_clean_mesh_and_says_so(tmp_path, run_cli):
     doc = json.loads(out_json.read_text())
     assert doc["findings"] == []
     assert doc["profile"]["findings"]["severity"]["crack_edges"] == "fail"
+
+
+def test_profiles_command_lists_finding_severities(tmp_path, run_cli):
+    # The severities shown are the profile's: the override from the file, the rest default.
+    path = write_profile(tmp_path, '[findings]\norphan_nodes = "info"\n')
+    res = run_cli("profiles", path)
+    assert res.returncode == 0, res.stderr
+    rows = {ln.split("│")[1].strip(): ln for ln in res.stdout.splitlines() if ln.count("│") > 3}
+    assert "info" in rows["orphan_nodes"] and "warn" in rows["orphan_nodes"]
+    assert rows["crack_edges"].split("│")[2].strip() == "fail"
