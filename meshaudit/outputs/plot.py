@@ -555,8 +555,8 @@ def draw_findings(
     ax: Axes, report: Report, view: View, points: np.ndarray, verts: np.ndarray
 ) -> bool:
     """Draw the report's mesh-level findings, if it has any (``report.findings``): edges
-    as dash-dot lines, nodes as crosses, elements involved with the dashed outline unless
-    already outlined. Returns whether anything was drawn."""
+    as dash-dot lines, nodes as crosses, elements involved outlined dash-dot unless
+    already outlined as failing or warning. Returns whether anything was drawn."""
     from matplotlib.collections import LineCollection
 
     findings = getattr(report, "findings", None)
@@ -592,5 +592,14 @@ def draw_findings(
         )
     rows = rows[(rows >= 0) & (rows < len(report))]
     rows = rows[report.verdict[rows] == 0]  # flagged elements are outlined already
-    _outline(ax, verts[rows], WARN, "finding-outline")
+    if len(rows):  # in the findings' own dash-dot, so they are not read as warnings
+        from matplotlib.collections import PolyCollection
+
+        style = dict(_outline_styles()[WARN], linestyles=FINDING_DASH, linewidths=1.2)
+        ax.add_collection(
+            PolyCollection(
+                verts[rows], facecolors="none", edgecolors=OUTLINE, gid="finding-outline", **style
+            ),
+            autolim=False,
+        )
     return bool(lines or len(nodes) or len(rows))
