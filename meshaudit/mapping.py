@@ -2,7 +2,7 @@
 
 Used to push reference-element grid lines through an element's own map (explain figures).
 Reference elements and node order as in :mod:`meshaudit.reference` (meshio's order):
-quads on [-1, 1]^2, triangles on (0, 0), (1, 0), (0, 1). Standard textbook forms:
+quads on [-1, 1]^2, triangles on (0, 0), (1, 0), (0, 1). Standard forms (common practice):
 bilinear, 8-node serendipity, 9-node Lagrange, linear and quadratic triangles.
 """
 

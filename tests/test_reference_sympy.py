@@ -1,6 +1,6 @@
 """The bilinear map's Jacobian checked against sympy's symbolic derivative (outside reference).
 
-sympy differentiates x(xi, eta) = sum_i N_i(xi, eta) x_i with the textbook shape functions
+sympy differentiates x(xi, eta) = sum_i N_i(xi, eta) x_i with the standard shape functions (common practice)
 N_i = (1 + xi xi_i)(1 + eta eta_i) / 4 written out here, independently of meshaudit's
 Robinson-form coefficients, and the resulting det J is evaluated numerically.
 """
@@ -105,20 +105,20 @@ def test_rectangle_det_j_is_b_times_h_everywhere():
     np.testing.assert_allclose(quad.corner_jacobians(p), np.broadcast_to(expected, (50, 4)))
 
 
-def test_shape_functions_match_the_rectangle_textbook_form():
+def test_shape_functions_match_the_rectangle_closed_form():
     """Common practice: for a 2b x 2h rectangle centred at the origin with node 1 at
     (-b, -h), N1 = (b - x)(h - y) / (4bh), N2 = (b + x)(h - y) / (4bh),
     N3 = (b + x)(h + y) / (4bh), N4 = (b - x)(h + y) / (4bh). With x = b xi, y = h eta
     sympy turns these into functions of (xi, eta) that meshaudit's must equal, and
     likewise their derivatives."""
     b, h, x, y = sp.symbols("b h x y", positive=True)
-    textbook = [
+    closed_form = [
         (b - x) * (h - y) / (4 * b * h),
         (b + x) * (h - y) / (4 * b * h),
         (b + x) * (h + y) / (4 * b * h),
         (b - x) * (h + y) / (4 * b * h),
     ]
-    on_reference = [sp.simplify(n.subs({x: b * XI, y: h * ETA})) for n in textbook]
+    on_reference = [sp.simplify(n.subs({x: b * XI, y: h * ETA})) for n in closed_form]
     assert all(not ({b, h} & n.free_symbols) for n in on_reference)  # b and h cancel
     values = sp.lambdify((XI, ETA), on_reference, "numpy")
     d_xi = sp.lambdify((XI, ETA), [sp.diff(n, XI) for n in on_reference], "numpy")
