@@ -69,7 +69,7 @@ def straight_sided(cell_type: str, corners: np.ndarray) -> np.ndarray:
 def sympy_shape_functions(cell_type: str) -> tuple[list[sp.Expr], sp.Symbol, sp.Symbol]:
     """Solve N_i(node_j) = delta_ij in the element's polynomial space, symbolically.
 
-    Spaces (standard definitions, common practice): serendipity quad8 {1, x, y, x^2, xy, y^2, x^2 y, x y^2},
+    Spaces (common practice): serendipity quad8 {1, x, y, x^2, xy, y^2, x^2 y, x y^2},
     Lagrange quad9 {x^a y^b : a, b <= 2}, quadratic triangle {1, x, y, x^2, xy, y^2}.
     """
     x, y = sp.symbols("x y")
@@ -106,7 +106,7 @@ def test_shape_derivatives_match_sympy(cell_type):
 
 
 def test_gauss_rules_integrate_what_they_claim():
-    # Facts of the trade (common practice): 3x3 Gauss-Legendre integrates x^5 y^4 exactly on [-1,1]^2 (zero for an
+    # Common practice: 3x3 Gauss-Legendre integrates x^5 y^4 exactly on [-1,1]^2 (zero for an
     # odd power, 2/5 * 2/5 for x^4 y^4); the 3-point interior triangle rule integrates
     # degree 2 exactly: int x^2 = int xy * 2 = 1/12 on the reference triangle.
     g, w = ref.QUAD_GAUSS_3X3, ref.QUAD_WEIGHTS_3X3

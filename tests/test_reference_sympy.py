@@ -1,6 +1,6 @@
 """The bilinear map's Jacobian checked against sympy's symbolic derivative (outside reference).
 
-sympy differentiates x(xi, eta) = sum_i N_i(xi, eta) x_i with the standard shape functions (common practice)
+sympy differentiates x(xi, eta) = sum_i N_i(xi, eta) x_i with the standard shape functions
 N_i = (1 + xi xi_i)(1 + eta eta_i) / 4 written out here, independently of meshaudit's
 Robinson-form coefficients, and the resulting det J is evaluated numerically.
 """
