@@ -149,6 +149,7 @@ def find(
 
     corners = duplicates.sorted_corners(mesh)
     copies, originals = duplicates.duplicate_elements(corners)
+    del corners
     if out.on("duplicate_elements"):
         pairs = np.stack([ids[originals], ids[copies]], axis=1)
         text = ", ".join(f"{c} repeats {o}" for o, c in pairs[:MESSAGE_IDS])
@@ -231,8 +232,7 @@ def _coincident(mesh: ElementMesh, table: EdgeTable, relative: float) -> np.ndar
     if table.n_edges == 0:
         return _empty_int(0, 2)
     pts = mesh.points
-    side = pts[table.nodes[:, 1]] - pts[table.nodes[:, 0]]
-    longest = float(np.sqrt(np.einsum("ij,ij->i", side, side).max()))
+    longest = float(np.sqrt(_longest_squared(pts, table.nodes)))
     bound = np.full(mesh.n_points, relative * longest)
     pairs = nodes.coincident_pairs(pts, np.flatnonzero(mesh.used_nodes()), bound)
     if pairs.size == 0:
@@ -246,6 +246,19 @@ def _coincident(mesh: ElementMesh, table: EdgeTable, relative: float) -> np.ndar
     dist = np.linalg.norm(pts[pairs[:, 0]] - pts[pairs[:, 1]], axis=1)
     pairs = pairs[dist <= np.minimum(tolerance[pairs[:, 0]], tolerance[pairs[:, 1]])]
     return nodes.drop_same_element(pairs, mesh)
+
+
+def _longest_squared(points: np.ndarray, edge_nodes: np.ndarray) -> float:
+    """Largest squared length of the edges ``edge_nodes`` (m, 2), one coordinate at a
+    time so no (m, 3) temporary is made."""
+    total = np.zeros(edge_nodes.shape[0])
+    for axis in range(points.shape[1]):
+        column = points[:, axis]
+        step = column[edge_nodes[:, 1]]
+        step -= column[edge_nodes[:, 0]]
+        step *= step
+        total += step
+    return float(total.max())
 
 
 def _planar_checks(

@@ -17,7 +17,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .elements import SUPPORTED_CELLS, ElementMesh
+from .elements import ElementMesh
 
 #: Corner nodes per metric family: edges join consecutive corners.
 CORNERS_PER_FAMILY = {"quad": 4, "triangle": 3}
@@ -56,33 +56,48 @@ class EdgeTable:
 
 def edge_table(mesh: ElementMesh) -> EdgeTable:
     """Edge uses and undirected edges of every audited element of ``mesh``."""
-    starts, ends, elems, locs = [], [], [], []
-    for block in mesh.blocks:
-        k = CORNERS_PER_FAMILY[SUPPORTED_CELLS[block.cell_type][0]]
-        corners = block.connectivity[:, :k]
-        starts.append(corners.ravel())
-        ends.append(np.roll(corners, -1, axis=1).ravel())
-        elems.append(np.repeat(block.index, k))
-        locs.append(np.tile(np.arange(k, dtype=np.int64), len(block)))
-    start = np.concatenate(starts).astype(np.int64, copy=False)
-    end = np.concatenate(ends).astype(np.int64, copy=False)
-    elem, loc = np.concatenate(elems), np.concatenate(locs)
+    start, end, elem, loc = _edge_uses(mesh)
     real = start != end  # a side collapsed onto one node (crack-tip quad) is no edge
     if not real.all():
         start, end, elem, loc = start[real], end[real], elem[real], loc[real]
+    del real
     n = np.int64(max(mesh.n_points, 1))
-    key = np.minimum(start, end) * n + np.maximum(start, end)
+    key = np.minimum(start, end)
+    key *= n
+    key += np.maximum(start, end)
     uniq, edge, uses = unique_keys(key, int(n) * int(n))
-    nodes = np.stack([uniq // n, uniq % n], axis=1)
+    del key
+    low, high = np.divmod(uniq, n)
     return EdgeTable(
         start=start,
         end=end,
         element=elem,
         local=loc,
-        edge=edge.ravel(),
-        nodes=nodes,
+        edge=edge,
+        nodes=np.stack([low, high], axis=1),
         uses=uses,
     )
+
+
+def _edge_uses(mesh: ElementMesh) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """(start, end, element, local) int64 of every element side, element by element."""
+    sizes = [CORNERS_PER_FAMILY[b.family] * len(b) for b in mesh.blocks]
+    m = sum(sizes)
+    start, end = np.empty(m, dtype=np.int64), np.empty(m, dtype=np.int64)
+    elem, loc = np.empty(m, dtype=np.int64), np.empty(m, dtype=np.int64)
+    at = 0
+    for block, size in zip(mesh.blocks, sizes, strict=True):
+        k = CORNERS_PER_FAMILY[block.family]
+        corners = block.connectivity[:, :k]
+        part = slice(at, at + size)
+        start[part].reshape(-1, k)[:] = corners
+        ends = end[part].reshape(-1, k)
+        ends[:, :-1] = corners[:, 1:]
+        ends[:, -1] = corners[:, 0]
+        elem[part].reshape(-1, k)[:] = block.index[:, None]
+        loc[part].reshape(-1, k)[:] = np.arange(k, dtype=np.int64)
+        at += size
+    return start, end, elem, loc
 
 
 def sort_keys(key: np.ndarray, bound: int) -> tuple[np.ndarray, np.ndarray]:
@@ -93,8 +108,12 @@ def sort_keys(key: np.ndarray, bound: int) -> tuple[np.ndarray, np.ndarray]:
     k = key.size
     bits = max(int(k - 1).bit_length(), 1)
     if bound <= (1 << (63 - bits)):
-        packed = np.sort((key << bits) | np.arange(k, dtype=np.int64))
-        return packed & np.int64((1 << bits) - 1), packed >> bits
+        packed = key << bits
+        packed |= np.arange(k, dtype=np.int64)
+        packed.sort()
+        order = packed & np.int64((1 << bits) - 1)
+        packed >>= bits
+        return order, packed
     order = np.argsort(key, kind="stable")
     return order, key[order]
 
@@ -110,10 +129,15 @@ def unique_keys(key: np.ndarray, bound: int) -> tuple[np.ndarray, np.ndarray, np
     new = np.empty(k, dtype=bool)
     new[0] = True
     np.not_equal(sorted_key[1:], sorted_key[:-1], out=new[1:])
-    inverse = np.empty(k, dtype=np.int64)
-    inverse[order] = np.cumsum(new) - 1
     starts = np.flatnonzero(new)
-    return sorted_key[starts], inverse, np.diff(np.append(starts, k))
+    uniq = sorted_key[starts]
+    del sorted_key
+    rank = np.cumsum(new)
+    del new
+    rank -= 1
+    inverse = np.empty(k, dtype=np.int64)
+    inverse[order] = rank
+    return uniq, inverse, np.diff(np.append(starts, k))
 
 
 def interior_pairs(table: EdgeTable) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

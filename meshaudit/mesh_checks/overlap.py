@@ -23,6 +23,9 @@ import shapely
 from ..elements import ElementMesh
 from ..topology import CORNERS_PER_FAMILY, EdgeTable, sort_keys
 
+#: Elements per slice in :func:`planar_shapes`: bounds its (n, k) temporaries.
+SHAPE_CHUNK = 65_536
+
 
 def element_polygons(mesh: ElementMesh, local: np.ndarray, positions: np.ndarray) -> np.ndarray:
     """shapely polygons (in-plane coordinates ``local`` (n_points, 2)) of the elements at
@@ -130,18 +133,20 @@ def planar_shapes(
     convex = np.zeros(n, dtype=bool)
     boxes = np.empty((n, 4))
     centroids = np.empty((n, 2))
-    for block in mesh.blocks:
-        conn = block.connectivity[:, : CORNERS_PER_FAMILY[block.family]]
+    for block, sl in mesh.chunks(SHAPE_CHUNK):
+        conn = block.connectivity[sl, : CORNERS_PER_FAMILY[block.family]]
+        rows = block.index[sl]
         xs, ys = local[conn, 0], local[conn, 1]
-        dx, dy = np.roll(xs, -1, axis=1) - xs, np.roll(ys, -1, axis=1) - ys
+        xn, yn = np.roll(xs, -1, axis=1), np.roll(ys, -1, axis=1)
+        dx, dy = xn - xs, yn - ys
         turn = dx * np.roll(dy, -1, axis=1) - dy * np.roll(dx, -1, axis=1)
-        twice = (xs * np.roll(ys, -1, axis=1) - np.roll(xs, -1, axis=1) * ys).sum(axis=1)
+        twice = (xs * yn - xn * ys).sum(axis=1)
         s = np.sign(twice)
-        sign[block.index] = s.astype(np.int8)
-        convex[block.index] = (turn * s[:, None] > 0.0).all(axis=1)
-        boxes[block.index] = np.stack([xs.min(1), ys.min(1), xs.max(1), ys.max(1)], axis=1)
-        centroids[block.index, 0] = xs.mean(axis=1)
-        centroids[block.index, 1] = ys.mean(axis=1)
+        sign[rows] = s.astype(np.int8)
+        convex[rows] = (turn * s[:, None] > 0.0).all(axis=1)
+        boxes[rows] = np.stack([xs.min(1), ys.min(1), xs.max(1), ys.max(1)], axis=1)
+        centroids[rows, 0] = xs.mean(axis=1)
+        centroids[rows, 1] = ys.mean(axis=1)
     return sign, convex, boxes, centroids
 
 
