@@ -28,7 +28,8 @@ class EdgeTable:
     """Every element edge once per element using it ("edge uses"), plus undirected edges.
 
     ``start``/``end`` (m,) are the node indices in the element's traversal direction,
-    ``element`` (m,) the 0-based audited-element index, ``local`` (m,) the edge number
+    ``element`` (m,) the 0-based audited-element index (these three are int32 when the
+    counts allow, see :func:`index_dtype`), ``local`` (m,) int8 the edge number
     within the element (edge i runs from corner i to corner i+1; a side whose two corners
     are one node, as in a collapsed crack-tip quad, is left out), ``edge`` (m,) the
     undirected edge number in 0..n_edges-1, ``nodes`` (n_edges, 2) its two nodes
@@ -54,6 +55,16 @@ class EdgeTable:
         return self.start < self.end
 
 
+#: Largest count stored in int32 index arrays; beyond it they are int64. Half the int32
+#: range, so sums of two indices (as in :func:`orientation_groups`) cannot overflow.
+INT32_LIMIT = np.iinfo(np.int32).max // 2
+
+
+def index_dtype(count: int) -> type[np.signedinteger]:
+    """int32 for indices into ``count`` items when they fit in :data:`INT32_LIMIT`."""
+    return np.int32 if count <= INT32_LIMIT else np.int64
+
+
 def edge_table(mesh: ElementMesh) -> EdgeTable:
     """Edge uses and undirected edges of every audited element of ``mesh``."""
     start, end, elem, loc = _edge_uses(mesh)
@@ -62,7 +73,7 @@ def edge_table(mesh: ElementMesh) -> EdgeTable:
         start, end, elem, loc = start[real], end[real], elem[real], loc[real]
     del real
     n = np.int64(max(mesh.n_points, 1))
-    key = np.minimum(start, end)
+    key = np.minimum(start, end).astype(np.int64)
     key *= n
     key += np.maximum(start, end)
     uniq, edge, uses = unique_keys(key, int(n) * int(n))
@@ -80,11 +91,15 @@ def edge_table(mesh: ElementMesh) -> EdgeTable:
 
 
 def _edge_uses(mesh: ElementMesh) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
-    """(start, end, element, local) int64 of every element side, element by element."""
+    """(start, end, element, local) of every element side, element by element.
+
+    Node and element numbers are int32 when :func:`index_dtype` allows (half the memory
+    of int64 on large meshes), ``local`` is int8."""
     sizes = [CORNERS_PER_FAMILY[b.family] * len(b) for b in mesh.blocks]
     m = sum(sizes)
-    start, end = np.empty(m, dtype=np.int64), np.empty(m, dtype=np.int64)
-    elem, loc = np.empty(m, dtype=np.int64), np.empty(m, dtype=np.int64)
+    node_type, element_type = index_dtype(mesh.n_points), index_dtype(mesh.n_elements)
+    start, end = np.empty(m, dtype=node_type), np.empty(m, dtype=node_type)
+    elem, loc = np.empty(m, dtype=element_type), np.empty(m, dtype=np.int8)
     at = 0
     for block, size in zip(mesh.blocks, sizes, strict=True):
         k = CORNERS_PER_FAMILY[block.family]
@@ -95,7 +110,7 @@ def _edge_uses(mesh: ElementMesh) -> tuple[np.ndarray, np.ndarray, np.ndarray, n
         ends[:, :-1] = corners[:, 1:]
         ends[:, -1] = corners[:, 0]
         elem[part].reshape(-1, k)[:] = block.index[:, None]
-        loc[part].reshape(-1, k)[:] = np.arange(k, dtype=np.int64)
+        loc[part].reshape(-1, k)[:] = np.arange(k, dtype=np.int8)
         at += size
     return start, end, elem, loc
 
@@ -152,7 +167,7 @@ def interior_pairs(table: EdgeTable) -> tuple[np.ndarray, np.ndarray, np.ndarray
     order = uses[np.argsort(table.edge[uses], kind="stable")]
     first, second = order[0::2], order[1::2]
     same = table.forward[first] == table.forward[second]
-    return table.element[first], table.element[second], same
+    return table.element[first].astype(np.int64), table.element[second].astype(np.int64), same
 
 
 def connected_labels(n: int, a: np.ndarray, b: np.ndarray) -> np.ndarray:

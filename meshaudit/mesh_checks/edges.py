@@ -87,7 +87,8 @@ def free_edges(
     and plane normal of a planar mesh (None for shells).
     """
     uses = np.flatnonzero(table.uses[table.edge] == 1)
-    a, b, element = table.start[uses], table.end[uses], table.element[uses]
+    a, b = table.start[uses].astype(np.int64), table.end[uses].astype(np.int64)
+    element = table.element[uses].astype(np.int64)
     n_points = points.shape[0]
     rep = connected_labels(n_points, coincident[:, 0], coincident[:, 1])
     ra, rb = rep[a], rep[b]
@@ -129,7 +130,7 @@ def non_manifold_edges(table: EdgeTable) -> tuple[np.ndarray, np.ndarray]:
     """(edges, elements): unique edges used three or more times, and the elements using them."""
     edges = np.flatnonzero(table.uses > 2)
     on = table.uses[table.edge] > 2
-    return edges, np.unique(table.element[on])
+    return edges, np.unique(table.element[on]).astype(np.int64)
 
 
 def same_direction_pairs(
@@ -148,4 +149,5 @@ def same_direction_pairs(
     mask[clash] = True
     on = np.flatnonzero(mask[table.edge])
     on = on[np.argsort(table.edge[on], kind="stable")]
-    return clash, table.element[on[0::2]], table.element[on[1::2]]
+    first, second = table.element[on[0::2]], table.element[on[1::2]]
+    return clash, first.astype(np.int64), second.astype(np.int64)
