@@ -18,7 +18,7 @@ import numpy as np
 from .api import ProgressCallback, audit_elements
 from .elements import ElementMesh
 from .profiles import Profile
-from .reading import build_elements, read_meshio
+from .reading import load_with_mesh
 from .report import Report
 
 if TYPE_CHECKING:
@@ -48,12 +48,7 @@ def audit_mesh(
     """Like :func:`meshaudit.audit`, but keeps the mesh for plots, annotation and explain."""
     if progress is not None:
         progress("read", 0, 0)
-    if isinstance(source, (str, os.PathLike)):
-        raw = read_meshio(source, file_format)
-        elements = build_elements(raw, str(source))
-    else:
-        raw = source
-        elements = build_elements(source)
+    raw, elements = load_with_mesh(source, file_format)
     report = audit_elements(elements, profile, fail_on, regions, progress)
     return AuditedMesh(report, elements, raw)
 

@@ -196,11 +196,16 @@ def build_elements(mesh: meshio.Mesh, source: str = "<memory>") -> ElementMesh:
     return element_mesh
 
 
-def load(source: Any, file_format: str | None = None) -> ElementMesh:
-    """Read a path (any format meshio reads) or take a meshio mesh already in memory."""
+def load_with_mesh(source: Any, file_format: str | None = None) -> tuple[Any, ElementMesh]:
+    """Like :func:`load`, but also return the meshio mesh the element arrays came from."""
     if isinstance(source, (str, os.PathLike)):
         mesh = read_meshio(source, file_format)
-        return build_elements(mesh, str(source))
+        return mesh, build_elements(mesh, str(source))
     if hasattr(source, "points") and hasattr(source, "cells"):
-        return build_elements(source)
+        return source, build_elements(source)
     raise InputError(f"cannot audit an object of type {type(source).__name__}")
+
+
+def load(source: Any, file_format: str | None = None) -> ElementMesh:
+    """Read a path (any format meshio reads) or take a meshio mesh already in memory."""
+    return load_with_mesh(source, file_format)[1]
