@@ -13,6 +13,7 @@ import numpy as np
 from .findings import Finding
 from .mesh_checks.edges import FreeEdges
 from .metrics import METRIC_INFO, METRIC_NAMES, VALIDITY_FLAGS, WARNING_FLAGS
+from .percentiles import linear_percentiles
 from .profiles import Profile
 from .verdicts import FAIL, VERDICT_NAMES, WARN
 
@@ -208,30 +209,29 @@ class Report:
         percentiles), plus how many elements are past the warn limit (those past the fail
         limit included, as in the JUnit warn-limit case) and past the fail limit.
         """
-        stats: dict[str, dict[str, Any]] = {}
         scratch = np.empty(len(self))  # one buffer for every metric's finite values
-        for name in METRIC_NAMES:
-            values = self.metrics[name]
-            is_finite = np.isfinite(values)
-            finite = scratch[: int(np.count_nonzero(is_finite))]
-            np.compress(is_finite, values, out=finite)
-            entry: dict[str, Any] = {
-                "count": int(finite.size),
-                "infinite": int(np.isinf(values).sum()),
-            }
-            if finite.size:
-                # finite is a scratch copy: sorting it first makes numpy's percentile cheap
-                # (its multi-point partition is slower than a sort), same order statistics
-                finite.sort()
-                qs = np.percentile(finite, [q for _, q in PERCENTILES], overwrite_input=True)
-                entry.update({k: float(v) for (k, _), v in zip(PERCENTILES, qs)})
-            else:
-                entry.update({k: None for k, _ in PERCENTILES})
-            lvl = self.levels.get(name)
-            entry["past_warn"] = int((lvl >= WARN).sum()) if lvl is not None else 0
-            entry["past_fail"] = int((lvl == FAIL).sum()) if lvl is not None else 0
-            stats[name] = entry
-        return stats
+        return {name: self._metric_statistics(name, scratch) for name in METRIC_NAMES}
+
+    def _metric_statistics(self, name: str, scratch: np.ndarray) -> dict[str, Any]:
+        """:meth:`statistics` of one metric; ``scratch`` holds at least len(self) floats."""
+        values = self.metrics[name]
+        is_finite = np.isfinite(values)
+        n_finite = int(np.count_nonzero(is_finite))
+        n_infinite = 0 if n_finite == values.size else int(np.count_nonzero(np.isinf(values)))
+        entry: dict[str, Any] = {"count": n_finite, "infinite": n_infinite}
+        if n_finite:
+            work = scratch[: values.size]
+            np.add(values, 0.0, out=work)  # the copy, with -0.0 made 0.0 (sign-free ties)
+            if n_finite < values.size:  # NaN and infinities move past the finite values
+                np.copyto(work, np.inf, where=~is_finite)
+            qs = linear_percentiles(work, [q for _, q in PERCENTILES], count=n_finite)
+            entry.update(zip((k for k, _ in PERCENTILES), qs))
+        else:
+            entry.update({k: None for k, _ in PERCENTILES})
+        lvl = self.levels.get(name)
+        entry["past_warn"] = int(np.count_nonzero(lvl >= WARN)) if lvl is not None else 0
+        entry["past_fail"] = int(np.count_nonzero(lvl == FAIL)) if lvl is not None else 0
+        return entry
 
     def element_record(self, i: int) -> dict[str, Any]:
         """Everything about element ``i`` as plain Python values (non-finite -> None)."""
