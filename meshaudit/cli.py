@@ -227,12 +227,18 @@ def _audit_and_write(args: argparse.Namespace) -> Report:
 
 
 def _renderer(kind: str, report: Report, args: argparse.Namespace) -> Renderer:
-    from .outputs import atomic, csv_report, json_report, junit_report
+    from .outputs import atomic
 
     if kind == "json":
+        from .outputs import json_report
+
         return lambda p: atomic.write_text(p, json_report.render(report, args.all))
     if kind == "csv":
+        from .outputs import csv_report
+
         return lambda p: atomic.write_text(p, csv_report.render(report))
+    from .outputs import junit_report
+
     return lambda p: atomic.write_text(p, junit_report.render(report))
 
 

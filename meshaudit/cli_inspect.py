@@ -47,8 +47,6 @@ def add_check_options(check: argparse.ArgumentParser) -> None:
 def wanted(args: argparse.Namespace) -> list[tuple[Path, str]]:
     """(destination, kind) of the inspection outputs asked for, after validating them."""
     from .metrics import METRIC_NAMES
-    from .outputs.annotate import annotate_format
-    from .outputs.plot import plot_format
 
     if args.color_by not in METRIC_NAMES:
         raise MeshAuditError(
@@ -58,8 +56,12 @@ def wanted(args: argparse.Namespace) -> list[tuple[Path, str]]:
     out = [(getattr(args, k), k) for k in INSPECTION_KINDS if getattr(args, k, None) is not None]
     for dest, kind in out:
         if kind == "plot":
+            from .outputs.plot import plot_format
+
             plot_format(dest)
         elif kind == "annotate":
+            from .outputs.annotate import annotate_format
+
             annotate_format(dest)
     return out
 

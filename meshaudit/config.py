@@ -25,18 +25,12 @@ Layout (``meshaudit.toml``; in ``pyproject.toml`` the same keys sit under
 
 from __future__ import annotations
 
-import sys
 from dataclasses import dataclass, field, fields
 from pathlib import Path
 from typing import Any
 
 from .errors import ProfileError
-from .profiles import FAMILIES, Profile, load_profile, profile_from_dict
-
-if sys.version_info >= (3, 11):
-    import tomllib
-else:  # pragma: no cover
-    import tomli as tomllib
+from .profiles import FAMILIES, Profile, load_profile, profile_from_dict, toml_module
 
 CONFIG_NAME = "meshaudit.toml"
 REPORT_KINDS = ("json", "csv", "junit")
@@ -83,6 +77,7 @@ class Settings:
 
 
 def _read_toml(path: Path) -> dict[str, Any]:
+    tomllib = toml_module()
     try:
         return tomllib.loads(path.read_text(encoding="utf-8"))
     except (OSError, UnicodeDecodeError) as exc:

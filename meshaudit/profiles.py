@@ -32,10 +32,15 @@ from .errors import ProfileError
 from .finding_kinds import KIND_NAMES, SEVERITIES, FindingSettings
 from .metrics import METRIC_INFO
 
-if sys.version_info >= (3, 11):
-    import tomllib
-else:  # pragma: no cover
-    import tomli as tomllib
+
+def toml_module() -> Any:
+    """tomllib (tomli before Python 3.11), imported on first use: most runs read no TOML."""
+    if sys.version_info >= (3, 11):
+        import tomllib
+    else:  # pragma: no cover
+        import tomli as tomllib
+    return tomllib
+
 
 FAMILIES = ("quad", "triangle")
 
@@ -320,6 +325,7 @@ def load_profile(spec: str | os.PathLike[str] | Profile | None = None) -> Profil
     if not path.exists():
         names = ", ".join(BUILTIN)
         raise ProfileError(f"unknown profile {text!r}: not a built-in ({names}) nor a file")
+    tomllib = toml_module()
     try:
         data = tomllib.loads(path.read_text(encoding="utf-8"))
     except (OSError, UnicodeDecodeError) as exc:

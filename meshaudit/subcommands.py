@@ -7,7 +7,6 @@ compare exit status: 0 NEW is no worse than OLD within the tolerances, 1 NEW reg
 from __future__ import annotations
 
 import argparse
-import json
 from collections.abc import Callable
 from pathlib import Path
 
@@ -60,6 +59,8 @@ def run_init(args: argparse.Namespace) -> int:
 
 
 def run_compare(args: argparse.Namespace) -> int:
+    import json
+
     from . import compare
     from .api import audit
     from .config import settings_for

@@ -18,7 +18,6 @@ candidates' neighbours, not the whole mesh).
 from __future__ import annotations
 
 import numpy as np
-import shapely
 
 from ..elements import ElementMesh
 from ..topology import CORNERS_PER_FAMILY, EdgeTable, sort_keys
@@ -30,6 +29,8 @@ SHAPE_CHUNK = 65_536
 def element_polygons(mesh: ElementMesh, local: np.ndarray, positions: np.ndarray) -> np.ndarray:
     """shapely polygons (in-plane coordinates ``local`` (n_points, 2)) of the elements at
     ``positions``, made valid where an element crosses itself."""
+    import shapely  # on use: a mesh without overlap candidates never needs it
+
     polys = np.empty(positions.size, dtype=object)
     for block in mesh.blocks:
         k = CORNERS_PER_FAMILY[block.family]
@@ -157,6 +158,8 @@ def overlapping_pairs(
     exceeds ``fraction`` of the smaller element's area (shapely measures the areas)."""
     if candidates.size == 0:
         return np.zeros((0, 2), dtype=np.int64), np.zeros(0)
+    import shapely  # on use, as in element_polygons
+
     pairs = np.unique(np.sort(candidates, axis=1), axis=0)
     pairs = pairs[pairs[:, 0] != pairs[:, 1]]
     involved, inverse = np.unique(pairs, return_inverse=True)

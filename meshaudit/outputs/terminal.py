@@ -1,16 +1,23 @@
-"""Terminal rendering with rich: summary, metric distributions, worst elements, verdict."""
+"""Terminal rendering with rich: summary, metric distributions, worst elements, verdict.
+
+rich's table module is imported by the functions that draw tables, so that a ``--quiet``
+run (the verdict line only) does not load it.
+"""
 
 from __future__ import annotations
 
 import math
+from typing import TYPE_CHECKING
 
 from rich.console import Console, Group
-from rich.table import Table
 from rich.text import Text
 
 from ..metrics import METRIC_INFO, METRIC_NAMES
 from ..report import PERCENTILES, Report
 from .terminal_findings import findings_table, loops_line, verdict_suffix
+
+if TYPE_CHECKING:
+    from rich.table import Table
 
 
 def _fmt(x: float | None) -> str:
@@ -39,6 +46,8 @@ def verdict_line(report: Report) -> Text:
 
 
 def summary_table(report: Report) -> Table:
+    from rich.table import Table
+
     s = report.summary
     t = Table(title="Mesh", show_header=False, title_justify="left", box=None, pad_edge=False)
     t.add_column(style="bold")
@@ -76,6 +85,8 @@ def _regions_text(report: Report) -> str:
 
 
 def distribution_table(report: Report) -> Table:
+    from rich.table import Table
+
     stats = report.statistics()
     t = Table(title="Metric distribution", title_justify="left")
     t.add_column("metric")
@@ -99,6 +110,8 @@ def worst_table(report: Report, top: int) -> Table | None:
     rows = report.worst(top)
     if rows.size == 0:
         return None
+    from rich.table import Table
+
     t = Table(
         title=f"Worst elements (top {rows.size} of {int((report.verdict > 0).sum())} not ok)",
         title_justify="left",

@@ -3,10 +3,13 @@ line of the summary and the findings part of the verdict line."""
 
 from __future__ import annotations
 
-from rich.table import Table
+from typing import TYPE_CHECKING
 
 from ..findings import Finding
 from ..report import Report
+
+if TYPE_CHECKING:
+    from rich.table import Table
 
 #: How many ids a table cell names.
 SHOWN_IDS = 6
@@ -32,6 +35,8 @@ def findings_table(report: Report) -> Table | None:
     """One row per finding kind that occurs; None for a clean mesh."""
     if not report.findings:
         return None
+    from rich.table import Table  # on use: a --quiet run draws no table
+
     t = Table(title="Mesh-level findings", title_justify="left")
     for col in ("kind", "severity", "count", "involved", "what"):
         t.add_column(col, justify="right" if col == "count" else "left")
