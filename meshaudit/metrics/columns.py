@@ -4,6 +4,10 @@ An (n, k, d) array of k nodes with d coordinates is split into k "points", each 
 of d contiguous (n,) arrays. Arithmetic on columns touches only (n,) arrays: no
 (n, k, d) temporaries, no reductions over short axes, and every operation streams
 through memory once, which is what makes a million-element kernel fast.
+
+Where a shortcut below replaces the plain formula, it is an exact rearrangement: it
+gives the same floating-point result (see each docstring), barring overflow or
+underflow, which needs coordinates beyond about 1e+-75.
 """
 
 from __future__ import annotations
@@ -17,11 +21,38 @@ from .common import DEGENERATE_TOLERANCE
 #: One point per element: its coordinates as (n,) arrays, x first.
 Point = tuple[np.ndarray, ...]
 
+#: np.degrees(x) is x times this constant, to the bit; the product is much cheaper.
+DEGREES = 180.0 / np.pi
+
+#: Elements per block when a node-major array is transposed into columns: a block of
+#: source rows stays in cache while it is scattered into the columns.
+_BLOCK = 1024
+
+
+def node_columns(p: np.ndarray) -> np.ndarray:
+    """``p`` (n, k, d) as a contiguous float64 (k, d, n) array: the same numbers, moved.
+
+    No copy when ``p`` is already a (k, d, n) array seen as (n, k, d) (see
+    :func:`as_elements`). Otherwise the transpose is copied in blocks of elements,
+    about twice as fast as one strided copy of the whole array.
+    """
+    cols = np.moveaxis(p, 0, -1)
+    if cols.dtype == np.float64 and cols.flags.c_contiguous:
+        return cols
+    out = np.empty(cols.shape, dtype=np.float64)
+    for start in range(0, cols.shape[-1], _BLOCK):
+        out[..., start : start + _BLOCK] = cols[..., start : start + _BLOCK]
+    return out
+
+
+def as_elements(cols: np.ndarray) -> np.ndarray:
+    """A (k, d, n) column array seen as (n, k, d) elements, without a copy."""
+    return np.moveaxis(cols, -1, 0)
+
 
 def split(p: np.ndarray) -> tuple[Point, ...]:
     """Nodes of ``p`` (n, k, d) as k points of d contiguous (n,) float64 columns."""
-    cols = np.ascontiguousarray(np.moveaxis(p, 0, -1), dtype=np.float64)  # (k, d, n)
-    return tuple(tuple(node) for node in cols)
+    return tuple(tuple(node) for node in node_columns(p))
 
 
 def sub(a: Point, b: Point) -> Point:
@@ -47,6 +78,15 @@ def dot(a: Point, b: Point) -> np.ndarray:
     return total
 
 
+def square(a: Point) -> np.ndarray:
+    """|a|^2, equal to ``dot(a, a)`` (a sum of squares is never -0.0, so no +0.0)."""
+    total = a[0] * a[0]
+    rest = (a[2], a[1]) if len(a) == 3 else a[1:]
+    for u in rest:
+        total += u * u
+    return total
+
+
 def length(a: Point) -> np.ndarray:
     """|a|."""
     return np.sqrt(dot(a, a))
@@ -62,15 +102,35 @@ def cross3(a: Point, b: Point) -> Point:
     return (a[1] * b[2] - a[2] * b[1], a[2] * b[0] - a[0] * b[2], a[0] * b[1] - a[1] * b[0])
 
 
+def extremes(values: list[np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
+    """Element-wise (min, max) over a list of (n,) arrays (NaN propagates)."""
+    lo, hi = values[0], values[0]
+    for v in values[1:]:
+        lo, hi = np.minimum(lo, v), np.maximum(hi, v)
+    return lo, hi
+
+
+def edges(x: tuple[Point, ...]) -> list[Point]:
+    """Edge vectors of polygons with nodes ``x``: edge k is node k+1 minus node k."""
+    return [sub(x[(k + 1) % len(x)], x[k]) for k in range(len(x))]
+
+
 def degenerate(x: tuple[Point, ...], area: np.ndarray) -> np.ndarray:
     """Collapsed polygons (nodes ``x`` in 3-D): a (near) zero-length edge or zero area.
 
     Same rule as :func:`meshaudit.metrics.common.degenerate`.
     """
-    edges = [length(sub(x[(k + 1) % len(x)], x[k])) for k in range(len(x))]
-    longest, shortest = edges[0], edges[0]
-    for e in edges[1:]:
-        longest, shortest = np.maximum(longest, e), np.minimum(shortest, e)
+    return degenerate_edges(edges(x), area)
+
+
+def degenerate_edges(vectors: list[Point], area: np.ndarray) -> np.ndarray:
+    """:func:`degenerate` from the edge vectors.
+
+    The square root is taken of the longest and shortest squared length only: it is
+    monotonic, so they are the longest and shortest lengths to the bit.
+    """
+    shortest, longest = extremes([square(v) for v in vectors])
+    shortest, longest = np.sqrt(shortest), np.sqrt(longest)
     with np.errstate(invalid="ignore"):
         return (
             ~(longest > 0.0)
@@ -83,67 +143,95 @@ def degenerate(x: tuple[Point, ...], area: np.ndarray) -> np.ndarray:
 class PolygonCorners:
     """Edge data at each corner of 2-D polygons, built once by :func:`polygon_corners`.
 
-    At corner k, a = node k+1 - node k and b = node k-1 - node k: ``cross[k]`` =
-    det[a, b], ``dot[k]`` = a . b, ``sq_next[k]`` = |a|^2, ``sq_prev[k]`` = |b|^2 and
-    ``length[k]`` = |a| (the length of edge k).
+    At corner k, a = node k+1 - node k and b = node k-1 - node k: ``to_next[k]`` = a,
+    ``cross[k]`` = det[a, b], ``dot[k]`` = a . b (may be -0.0), ``sq_next[k]`` = |a|^2
+    and ``length[k]`` = |a| (the length of edge k). |b|^2 = ``sq_next[k-1]`` to the bit,
+    as b is edge k-1 reversed (exact negation), so it is not stored twice.
     """
 
+    to_next: list[Point]
     cross: list[np.ndarray]
     dot: list[np.ndarray]
     sq_next: list[np.ndarray]
-    sq_prev: list[np.ndarray]
     length: list[np.ndarray]
 
     def scaled_jacobian(self) -> np.ndarray:
         """min over corners of det[a, b] / (|a| |b|) (unscaled; in [-1, 1])."""
-        n = len(self.cross)
         out = None
         with np.errstate(divide="ignore", invalid="ignore"):
-            for k in range(n):
-                v = self.cross[k] / (self.length[k] * np.sqrt(self.sq_prev[k]))
+            for k, cross in enumerate(self.cross):
+                v = cross / (self.length[k] * self.length[k - 1])
                 out = v if out is None else np.minimum(out, v)
         return out
 
     def condition(self) -> np.ndarray:
-        """max over corners of (|a|^2 + |b|^2) / (2 det[a, b]); inf where det <= 0."""
+        """max over corners of (|a|^2 + |b|^2) / (2 det[a, b]); inf where det <= 0.
+
+        Taken as max_k((|a|^2 + |b|^2) / det) / 2, the same numbers (halving is exact),
+        with inf written where any corner has det <= 0 instead of per corner.
+        """
         out = None
         with np.errstate(divide="ignore", invalid="ignore"):
-            for k in range(len(self.cross)):
-                d = self.cross[k]
-                v = np.where(d > 0.0, (self.sq_next[k] + self.sq_prev[k]) / (2.0 * d), np.inf)
+            for k, cross in enumerate(self.cross):
+                v = (self.sq_next[k] + self.sq_next[k - 1]) / cross
                 out = v if out is None else np.maximum(out, v)
+        out *= 0.5
+        np.copyto(out, np.inf, where=~_all_positive(self.cross))
         return out
 
     def angle_range(self, orientation: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """Smallest and largest interior angle in degrees, in [0, 360).
 
-        Same convention as :func:`meshaudit.metrics.common.interior_angles`.
+        Same convention as :func:`meshaudit.metrics.common.interior_angles`. Where every
+        corner has orientation * det[a, b] > 0 (a convex element: all the angles are
+        in (0, 180), the larger the smaller their cotangent a . b / det) only the two
+        extreme corners get an arc tangent, as atan2(1, cot); the other elements take
+        atan2(det, a . b) at each corner. Both agree to round-off.
         """
-        lo = hi = None
-        for k in range(len(self.cross)):
-            ang = np.degrees(np.arctan2(orientation * self.cross[k], self.dot[k]))
-            ang = np.where(ang < 0.0, ang + 360.0, ang)
-            lo = ang if lo is None else np.minimum(lo, ang)
-            hi = ang if hi is None else np.maximum(hi, ang)
+        turn = [orientation * c for c in self.cross]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            cot = [d / t for d, t in zip(self.dot, turn)]
+        cot_lo, cot_hi = extremes(cot)
+        lo = np.arctan2(1.0, cot_hi)
+        lo *= DEGREES
+        hi = np.arctan2(1.0, cot_lo)
+        hi *= DEGREES
+        rows = np.flatnonzero(~_all_positive(turn))
+        if rows.size:
+            lo[rows], hi[rows] = self._angle_range_at(rows, orientation[rows])
         return lo, hi
 
+    def _angle_range_at(
+        self, rows: np.ndarray, orientation: np.ndarray
+    ) -> tuple[np.ndarray, np.ndarray]:
+        angles = []
+        for cross, dot_ in zip(self.cross, self.dot):
+            ang = np.arctan2(orientation * cross[rows], dot_[rows] + 0.0) * DEGREES
+            angles.append(np.where(ang < 0.0, ang + 360.0, ang))
+        return extremes(angles)
+
     def longest_edge(self) -> np.ndarray:
-        out = self.length[0]
-        for v in self.length[1:]:
-            out = np.maximum(out, v)
-        return out
+        return extremes(self.length)[1]
+
+
+def _all_positive(values: list[np.ndarray]) -> np.ndarray:
+    """True where every array of ``values`` is > 0."""
+    out = values[0] > 0.0
+    for v in values[1:]:
+        out &= v > 0.0
+    return out
 
 
 def polygon_corners(x: tuple[Point, ...]) -> PolygonCorners:
     """Corner data of 2-D polygons with nodes ``x`` in order."""
     k = len(x)
-    to_next = [sub(x[(i + 1) % k], x[i]) for i in range(k)]
+    to_next = edges(x)
     to_prev = [sub(x[i - 1], x[i]) for i in range(k)]  # not -to_next[i-1]: signed zeros
-    sq = [dot(a, a) for a in to_next]
+    sq = [square(a) for a in to_next]
     return PolygonCorners(
+        to_next=to_next,
         cross=[cross2(a, b) for a, b in zip(to_next, to_prev)],
-        dot=[dot(a, b) for a, b in zip(to_next, to_prev)],
+        dot=[a[0] * b[0] + a[1] * b[1] for a, b in zip(to_next, to_prev)],
         sq_next=sq,
-        sq_prev=[dot(b, b) for b in to_prev],
         length=[np.sqrt(s) for s in sq],
     )

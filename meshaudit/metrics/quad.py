@@ -19,8 +19,11 @@ Elements in Analysis and Design 3 (1987) 183-197 (citation from memory).
 Implementation: the arithmetic runs on "columns", one contiguous (n,) array per node and
 coordinate (see :mod:`meshaudit.metrics.columns`), written out term by term.
 That avoids the (n, 4, d) temporaries and small-axis reductions of the array form and
-is several times faster on large meshes; the public functions below and
-:func:`measure` share the same column helpers, so they agree to the last bit.
+is several times faster on large meshes. :func:`measure` takes exact shortcuts on top
+(the extremes of det J from |c1| and |c2|, axes kept at four times their size, see
+:func:`_det_extremes` and :func:`_axes_times_4`), so it agrees with the public functions
+below to the last bit, except the angles of convex elements and the aspect ratio,
+which differ from them by round-off (a few units in the last place).
 """
 
 from __future__ import annotations
@@ -28,8 +31,21 @@ from __future__ import annotations
 import numpy as np
 
 from ..reference import QUAD_CORNERS, QUAD_GAUSS_2X2
-from .columns import Point, cross2, cross3, dot, length, polygon_corners, split, sub
-from .columns import degenerate as degenerate_columns
+from .columns import (
+    DEGREES,
+    Point,
+    PolygonCorners,
+    cross2,
+    cross3,
+    degenerate_edges,
+    dot,
+    edges,
+    length,
+    polygon_corners,
+    split,
+    square,
+    sub,
+)
 from .common import score
 
 _G = float(QUAD_GAUSS_2X2[2, 0])  # 1 / sqrt(3)
@@ -49,6 +65,23 @@ def _axes(x: tuple[Point, ...]) -> tuple[Point, Point, Point, Point]:
     return e0, e1, e2, e3
 
 
+def _axes_times_4(x: tuple[Point, ...]) -> tuple[Point, Point, Point]:
+    """4 e1, 4 e2, 4 e3: :func:`_axes` without the factor 0.25, which is exact.
+
+    The same sums in the same order: a - b is -(b - a) and -a - b is -(a + b) exactly,
+    so e1 and e3 share b - a. Everything built from these axes carries a power of two
+    (16 for det J), taken out exactly where a value is reported.
+    """
+    x1, x2, x3, x4 = x
+    e1, e2, e3 = [], [], []
+    for a, b, c, d in zip(x1, x2, x3, x4):
+        ba = b - a
+        e1.append((ba + c) - d)
+        e2.append((c - (a + b)) + d)
+        e3.append((c - ba) - d)
+    return tuple(e1), tuple(e2), tuple(e3)
+
+
 def _coefficients(e1: Point, e2: Point, e3: Point) -> tuple[np.ndarray, ...]:
     """(c0, c1, c2) of det J = c0 + c1 xi + c2 eta, from 2-D axes."""
     return cross2(e1, e2), cross2(e1, e3), cross2(e3, e2)
@@ -60,11 +93,26 @@ def _det_at(c: tuple[np.ndarray, ...], points: np.ndarray) -> list[np.ndarray]:
     return [(c0 + c1 * xi) + c2 * eta for xi, eta in points.tolist()]
 
 
-def _min_max(values: list[np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
-    lo, hi = values[0], values[0]
-    for v in values[1:]:
-        lo, hi = np.minimum(lo, v), np.maximum(hi, v)
-    return lo, hi
+def _det_extremes(c: tuple[np.ndarray, ...], scale: float) -> dict[str, np.ndarray]:
+    """Smallest and largest det J over the 2x2 Gauss points and over the corners.
+
+    At (+-t, +-t) det J is c0 +- c1 t +- c2 t, so the smallest is (c0 - |c1| t) - |c2| t
+    and the largest (c0 + |c1| t) + |c2| t: the same numbers as the minimum and maximum
+    of :func:`_det_at` (rounding is monotonic and symmetric). ``scale`` (a power of two)
+    takes out the factor the coefficients carry.
+    """
+    c0, c1, c2 = c
+    a1, a2 = np.abs(c1), np.abs(c2)
+    g1, g2 = a1 * _G, a2 * _G
+    out = {
+        "gauss_lo": (c0 - g1) - g2,
+        "gauss_hi": (c0 + g1) + g2,
+        "corner_lo": (c0 - a1) - a2,
+        "corner_hi": (c0 + a1) + a2,
+    }
+    for v in out.values():
+        v *= scale
+    return out
 
 
 # -- public array-form functions ------------------------------------------------------
@@ -109,7 +157,9 @@ def jacobian_ratio(gauss: np.ndarray) -> np.ndarray:
 
 def _ratio(lo: np.ndarray, hi: np.ndarray) -> np.ndarray:
     with np.errstate(divide="ignore", invalid="ignore"):
-        return np.where(lo > 0.0, hi / lo, np.inf)
+        out = hi / lo
+    np.copyto(out, np.inf, where=~(lo > 0.0))
+    return out
 
 
 def scaled_jacobian(p: np.ndarray) -> np.ndarray:
@@ -147,13 +197,28 @@ def shape_parameters(e: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]
 def _shape_parameters(
     e1: Point, e2: Point, c: tuple[np.ndarray, ...]
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Aspect ratio, skew and taper; the axes and ``c`` may carry any common factor.
+
+    Aspect ratio is sqrt(max(|e1|^2, |e2|^2) / min(...)), one square root instead of
+    two (equal to round-off). Taper is max(|c1|, |c2|) / |c0|, the same number as
+    max(|c2 / c0|, |c1 / c0|) (division by |c0| is monotonic), which also holds where
+    c0 = 0 except for the NaN that |0 / 0| gives, put back by hand.
+    """
     c0, c1, c2 = c
-    l1, l2 = length(e1), length(e2)
+    q1, q2 = square(e1), square(e2)
+    abs_c0, a1, a2 = np.abs(c0), np.abs(c1), np.abs(c2)
     with np.errstate(divide="ignore", invalid="ignore"):
-        aspect = np.maximum(l1, l2) / np.minimum(l1, l2)
-        angle = np.degrees(np.arctan2(np.abs(c0), dot(e1, e2)))
+        aspect = np.maximum(q1, q2)
+        aspect /= np.minimum(q1, q2)
+        np.sqrt(aspect, out=aspect)
+        angle = np.arctan2(abs_c0, dot(e1, e2))
+        angle *= DEGREES
         skew = np.abs(90.0 - angle)
-        taper = np.maximum(np.abs(c2 / c0), np.abs(c1 / c0))  # |alpha|, |beta|
+        taper = np.maximum(a1, a2)
+        taper /= abs_c0
+    flat = np.flatnonzero(c0 == 0.0)
+    if flat.size:
+        taper[flat[(a1[flat] == 0.0) | (a2[flat] == 0.0)]] = np.nan
     return aspect, skew, taper
 
 
@@ -179,7 +244,7 @@ def _warp(x: tuple[Point, ...]) -> np.ndarray:
         nb = cross3(sub(b2, b1), sub(b3, b1))
         sine = length(cross3(na, nb))
         cosine = np.abs(dot(na, nb))
-        angle = np.degrees(np.arctan2(sine, cosine))
+        angle = np.arctan2(sine, cosine) * DEGREES
         angles.append(np.where(length(na) * length(nb) > 0.0, angle, np.nan))
     return np.fmax(angles[0], angles[1])
 
@@ -241,51 +306,6 @@ def _area(normals: list[Point]) -> np.ndarray:
     return out
 
 
-def _flat_in_z(x: tuple[Point, ...]) -> bool:
-    """True when every node of every element has the same z (a mesh in a plane z = c)."""
-    z0 = x[0][2][:1]
-    return all(bool((pt[2] == z0).all()) for pt in x)
-
-
-# In a plane z = c the x and y parts of every 3-D normal below are signed zeros, and the
-# 3-D formulas reduce exactly (to the last bit) to these 2-D ones: |n| = sqrt(n_z * n_z),
-# n . m = n_z m_z + 0.0, and the warp of each split is 0 (NaN where a triangle collapses).
-def _flat_normals(e1: Point, e2: Point, e3: Point) -> list[np.ndarray]:
-    """z of x_xi cross x_eta at the 2x2 Gauss points, from x-y principal axes."""
-    out = []
-    for xi, eta in QUAD_GAUSS_2X2.tolist():
-        dxi = tuple(a + b * eta for a, b in zip(e1, e3))
-        deta = tuple(a + b * xi for a, b in zip(e2, e3))
-        out.append(cross2(dxi, deta))
-    return out
-
-
-def _flat_area(normal_z: list[np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
-    """(signed-fold area, swept area) as :func:`_area` and :func:`_swept` give them."""
-    n0, n1, n2, n3 = normal_z
-    total = ((n0 + n1) + n2) + n3
-    area = swept = None
-    for n in normal_z:
-        size = np.sqrt(n * n)
-        facing = n * total
-        facing += 0.0
-        term = np.sign(facing) * size
-        area = term if area is None else area + term
-        swept = size if swept is None else swept + size
-    return area, swept
-
-
-def _flat_warp(x: tuple[Point, ...]) -> np.ndarray:
-    """:func:`_warp` of quads in a plane z = c: 0, or NaN where both splits collapse."""
-    x1, x2, x3, x4 = x
-    angles = []
-    for (a1, a2, a3), (b1, b2, b3) in (((x1, x2, x3), (x1, x3, x4)), ((x2, x3, x4), (x2, x4, x1))):
-        na = cross2(sub(a2, a1), sub(a3, a1))
-        nb = cross2(sub(b2, b1), sub(b3, b1))
-        angles.append(np.where(np.sqrt(na * na) * np.sqrt(nb * nb) > 0.0, 0.0, np.nan))
-    return np.fmax(angles[0], angles[1])
-
-
 def _swept(normals: list[Point]) -> np.ndarray:
     out = length(normals[0])
     for normal in normals[1:]:
@@ -293,21 +313,104 @@ def _swept(normals: list[Point]) -> np.ndarray:
     return out
 
 
+def _flat_in_z(x: tuple[Point, ...]) -> bool:
+    """True when every node of every element has the same z (a mesh in a plane z = c)."""
+    z0 = x[0][2][:1]
+    return all(bool((pt[2] == z0).all()) for pt in x)
+
+
+# In a plane z = c the x and y parts of every 3-D normal are signed zeros and the 3-D
+# formulas reduce exactly to 2-D ones: n . m = n_z m_z + 0.0 and |n| = sqrt(n_z n_z),
+# which is |n_z| (barring underflow). Each Gauss term of :func:`_area` is then
+# sign(total) * n_z, so the signed-fold area is |n_z0 + n_z1 + n_z2 + n_z3| to the bit;
+# the warp of a split is 0, or NaN where one of its triangles has collapsed.
+def _flat_areas(xy: tuple[Point, ...]) -> tuple[np.ndarray, np.ndarray]:
+    """(signed-fold area, swept area) of quads in a plane z = c, as :func:`_area` and
+    :func:`_swept` give them, from the x-y columns ``xy``."""
+    e1, e2, e3 = _axes_times_4(xy)
+    u = tuple(a * _G for a in e3)
+    dxi = (sub(e1, u), tuple(a + b for a, b in zip(e1, u)))  # at eta = -t, +t
+    deta = (sub(e2, u), tuple(a + b for a, b in zip(e2, u)))  # at xi = -t, +t
+    # Gauss points in the order of QUAD_GAUSS_2X2: (-t,-t), (t,-t), (t,t), (-t,t).
+    n0, n1, n2, n3 = (cross2(dxi[j], deta[i]) for i, j in ((0, 0), (1, 0), (1, 1), (0, 1)))
+    area = ((n0 + n1) + n2) + n3
+    np.abs(area, out=area)
+    swept = np.abs(n0)
+    for n in (n1, n2, n3):
+        swept += np.abs(n)
+    area *= 1.0 / 16.0
+    swept *= 1.0 / 16.0
+    return area, swept
+
+
+def _flat_warp(xy: tuple[Point, ...], sides: list[Point]) -> np.ndarray:
+    """:func:`_warp` of quads in a plane z = c: 0, or NaN where both splits collapse.
+
+    ``sides`` are the edge vectors (node k+1 - node k). A split counts when both its
+    triangles have a nonzero normal; the second split is only looked at where the
+    first does not count.
+    """
+    x1, x2, x3, x4 = xy
+    d13 = sub(x3, x1)
+    # |x4 - x1| is side 4 reversed; the sign does not matter for a zero test.
+    first = (cross2(sides[0], d13) * cross2(d13, sides[3])) != 0.0
+    out = np.zeros(len(first))
+    rows = np.flatnonzero(~first)
+    if rows.size:
+        x2r, x4r = (tuple(v[rows] for v in pt) for pt in (x2, x4))
+        d24 = sub(x4r, x2r)
+        side2 = tuple(v[rows] for v in sides[1])
+        side1 = tuple(v[rows] for v in sides[0])
+        second = (cross2(side2, d24) * cross2(d24, side1)) != 0.0
+        out[rows[~second]] = np.nan
+    return out
+
+
 def self_intersecting(p: np.ndarray) -> np.ndarray:
     """Bow-tie quads: edge 1-2 properly crosses edge 3-4, or edge 2-3 crosses edge 4-1."""
-    return _self_intersecting(split(p))
+    x = split(p)
+    return _self_intersecting(x, polygon_corners(x))
 
 
-def _self_intersecting(x: tuple[Point, ...]) -> np.ndarray:
-    def crosses(p1, p2, q1, q2):
-        o1 = cross2(sub(p2, p1), sub(q1, p1))
-        o2 = cross2(sub(p2, p1), sub(q2, p1))
-        o3 = cross2(sub(q2, q1), sub(p1, q1))
-        o4 = cross2(sub(q2, q1), sub(p2, q1))
-        return (o1 * o2 < 0.0) & (o3 * o4 < 0.0)
-
+def _self_intersecting(x: tuple[Point, ...], corners: PolygonCorners) -> np.ndarray:
+    """Segments p1-p2 and q1-q2 cross properly when q1, q2 lie strictly on opposite sides
+    of p1-p2 and p1, p2 strictly on opposite sides of q1-q2. Of the four side tests of
+    each pair of opposite edges, two are corner determinants already at hand and the
+    other two use a diagonal (reversed where the test has it the other way round,
+    which flips the sign of the product)."""
     x1, x2, x3, x4 = x
-    return crosses(x1, x2, x3, x4) | crosses(x2, x3, x4, x1)
+    sides, cross = corners.to_next, corners.cross
+    d13, d24 = sub(x3, x1), sub(x4, x2)
+    first = (cross2(sides[0], d13) * cross[0] < 0.0) & (cross2(sides[2], d13) * cross[2] > 0.0)
+    second = (cross2(sides[1], d24) * cross[1] < 0.0) & (cross2(sides[3], d24) * cross[3] > 0.0)
+    return first | second
+
+
+def _plane_metrics(x2d: tuple[Point, ...]) -> dict[str, np.ndarray]:
+    """det J, shape and corner metrics from the nodes in the measuring plane."""
+    e1, e2, e3 = _axes_times_4(x2d)
+    c = _coefficients(e1, e2, e3)  # 16 (c0, c1, c2)
+    out = _det_extremes(c, 1.0 / 16.0)
+    out["aspect"], out["skew"], out["taper"] = _shape_parameters(e1, e2, c)
+    corners = polygon_corners(x2d)
+    orientation = 1.0 - 2.0 * (c[0] < 0.0)
+    out["min_angle"], out["max_angle"] = corners.angle_range(orientation)
+    out["scaled_jacobian"] = corners.scaled_jacobian()
+    out["condition"] = corners.condition()
+    out["longest"] = corners.longest_edge()
+    out["crossing"] = _self_intersecting(x2d, corners)
+    return out
+
+
+def _surface_metrics(x3d: tuple[Point, ...]) -> tuple[np.ndarray, ...]:
+    """(area, warp, collapsed) from the nodes in space."""
+    if _flat_in_z(x3d):  # the common 2-D case: same numbers, far less arithmetic
+        xy = tuple(pt[:2] for pt in x3d)
+        sides = edges(xy)
+        area, swept = _flat_areas(xy)
+        return area, _flat_warp(xy, sides), degenerate_edges(sides, swept)
+    normals = _gauss_normals(*_axes(x3d)[1:])
+    return _area(normals), _warp(x3d), degenerate_edges(edges(x3d), _swept(normals))
 
 
 def measure(
@@ -318,51 +421,30 @@ def measure(
     ``coords3`` (n, 4, 3) are the nodes in space, ``p`` (n, 4, 2) the same nodes laid in
     the measuring plane. Returns (metrics, flags) dictionaries of (n,) arrays.
     """
-    x3d, x2d = split(coords3), split(p)
-    _, e1, e2, e3 = _axes(x2d)
-    c = _coefficients(e1, e2, e3)
-    gauss_lo, gauss_hi = _min_max(_det_at(c, QUAD_GAUSS_2X2))
-    corner_lo, corner_hi = _min_max(_det_at(c, QUAD_CORNERS))
-    aspect, skew, taper = _shape_parameters(e1, e2, c)
-    if _flat_in_z(x3d):  # the common 2-D case: same numbers, far less arithmetic
-        normal_z = _flat_normals(*_axes(tuple(pt[:2] for pt in x3d))[1:])
-        area, swept = _flat_area(normal_z)
-        warp_deg = _flat_warp(tuple(pt[:2] for pt in x3d))
-        edges_of = tuple(pt[:2] for pt in x3d)
-    else:
-        normals = _gauss_normals(*_axes(x3d)[1:])
-        area, swept = _area(normals), _swept(normals)
-        warp_deg = _warp(x3d)
-        edges_of = x3d
-    corners = polygon_corners(x2d)
-    orientation = np.where(c[0] < 0.0, -1.0, 1.0)
-    min_angle, max_angle = corners.angle_range(orientation)
-    sj = corners.scaled_jacobian()
-    cond = corners.condition()
-
-    collapsed = degenerate_columns(edges_of, swept)
-    bowtie = _self_intersecting(x2d) & ~collapsed
-    threshold = -1e-12 * np.maximum(corners.longest_edge(), 1e-300) ** 2
-    inverted = (corner_lo < threshold) & ~collapsed  # some corner det J negative
-    reversed_ = (corner_hi < threshold) & ~collapsed  # all four negative
-    nonconvex = (max_angle > 180.0) & ~bowtie & ~collapsed
+    m = _plane_metrics(split(p))
+    area, warp_deg, collapsed = _surface_metrics(split(coords3))
+    bowtie = m["crossing"] & ~collapsed
+    threshold = -1e-12 * np.maximum(m["longest"], 1e-300) ** 2
+    inverted = (m["corner_lo"] < threshold) & ~collapsed  # some corner det J negative
+    reversed_ = (m["corner_hi"] < threshold) & ~collapsed  # all four negative
+    nonconvex = (m["max_angle"] > 180.0) & ~bowtie & ~collapsed
     invalid = collapsed | bowtie | inverted | nonconvex
 
     metrics = {
         "area": area,
-        "det_j_min": gauss_lo,
-        "det_j_max": gauss_hi,
-        "det_j_corner_min": corner_lo,
-        "jacobian_ratio": _ratio(gauss_lo, gauss_hi),
-        "scaled_jacobian": sj,
-        "aspect_ratio": aspect,
-        "skew": skew,
-        "taper": taper,
+        "det_j_min": m["gauss_lo"],
+        "det_j_max": m["gauss_hi"],
+        "det_j_corner_min": m["corner_lo"],
+        "jacobian_ratio": _ratio(m["gauss_lo"], m["gauss_hi"]),
+        "scaled_jacobian": m["scaled_jacobian"],
+        "aspect_ratio": m["aspect"],
+        "skew": m["skew"],
+        "taper": m["taper"],
         "warp": warp_deg,
-        "min_angle": min_angle,
-        "max_angle": max_angle,
-        "condition": cond,
-        "score": score(sj, cond, warp_deg, invalid),
+        "min_angle": m["min_angle"],
+        "max_angle": m["max_angle"],
+        "condition": m["condition"],
+        "score": score(m["scaled_jacobian"], m["condition"], warp_deg, invalid),
     }
     flags = {
         "inverted": inverted,
