@@ -15,6 +15,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .elements import ElementMesh
+from .metrics.columns import as_elements, node_columns
 
 #: Relative out-of-plane tolerance (of the mesh extent) under which a mesh is planar.
 PLANAR_TOLERANCE = 1e-9
@@ -124,6 +125,22 @@ def element_normals(corners: np.ndarray) -> np.ndarray:
     return normal
 
 
+def _to_local_xy(coords: np.ndarray) -> np.ndarray:
+    """:func:`to_local` in the x-y plane, worked on node columns: the same numbers.
+
+    The result is a view (n, k, 2) of a (k, 2, n) array, so the metric kernels take its
+    columns without copying (see :func:`meshaudit.metrics.columns.node_columns`).
+    """
+    cols = node_columns(coords[:, :, :2])  # a copy: (k, 2, n)
+    centre = cols[0] + cols[1]  # summed as centroids() sums
+    for node in cols[2:]:
+        centre += node
+    centre /= len(cols)
+    cols -= centre
+    cols += 0.0  # no -0.0, as the product with the axes gives
+    return as_elements(cols)
+
+
 def to_local(coords: np.ndarray, frame: Frame, n_corners: int | None = None) -> np.ndarray:
     """Lay elements ``coords`` (n, k, 3) flat: (n, k, 2) in-plane coordinates.
 
@@ -134,9 +151,12 @@ def to_local(coords: np.ndarray, frame: Frame, n_corners: int | None = None) -> 
     midside nodes are projected onto that plane.
     """
     corners = coords if n_corners is None else coords[:, :n_corners]
+    in_xy = frame.kind == "planar" and np.array_equal(frame.axes, np.eye(3)[:2])
+    if in_xy and n_corners is None:
+        return _to_local_xy(coords)
     rel = coords - centroids(corners)[:, None, :]
     if frame.kind == "planar":
-        if frame.axes is not None and np.array_equal(frame.axes, np.eye(3)[:2]):
+        if in_xy:
             return rel[:, :, :2] + 0.0  # what the product with the axes gives, to the bit
         return rel @ frame.axes.T
     normal = element_normals(corners)

@@ -66,8 +66,13 @@ def score(
     angle distortion (scaled Jacobian), stretching (condition number) or warp grows.
     """
     with np.errstate(invalid="ignore", divide="ignore"):
-        s = np.sqrt(np.clip(scaled_jacobian, 0.0, 1.0) / condition)
-    if warp_deg is not None:
-        s = s * np.cos(np.radians(np.clip(warp_deg, 0.0, 90.0)))
-    s = np.where(np.isfinite(s), s, 0.0)
-    return np.where(invalid, 0.0, np.clip(s, 0.0, 1.0))
+        s = np.clip(scaled_jacobian, 0.0, 1.0)
+        s /= condition
+        np.sqrt(s, out=s)
+    if warp_deg is not None:  # cos(0) = 1 exactly: only warped elements need the cosine
+        rows = np.flatnonzero(warp_deg != 0.0)
+        s[rows] *= np.cos(np.radians(np.clip(warp_deg[rows], 0.0, 90.0)))
+    np.copyto(s, 0.0, where=~np.isfinite(s))
+    np.clip(s, 0.0, 1.0, out=s)
+    np.copyto(s, 0.0, where=invalid)
+    return s
