@@ -251,7 +251,7 @@ class Report:
             hit = np.flatnonzero(codes)
             if hit.size == 0:
                 continue
-            limits = self._breached_limits(metric, rows[hit], codes[hit])
+            limits = self.breached_limits(metric, rows[hit], codes[hit])
             values = metrics[metric]
             for k, level, limit in zip(hit.tolist(), codes[hit].tolist(), limits):
                 breaches[k][metric] = {
@@ -293,7 +293,7 @@ class Report:
             for i, label, cell_type, verdict, f, centroid, values, breach, region in columns
         ]
 
-    def _breached_limits(
+    def breached_limits(
         self, metric: str, rows: np.ndarray, codes: np.ndarray
     ) -> list[float | None]:
         """The limit each of ``rows`` breached for ``metric`` (fail limit at code 2),

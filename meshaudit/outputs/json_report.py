@@ -9,6 +9,7 @@ import numpy as np
 
 from .. import __version__
 from ..report import Report
+from .json_elements import element_lines
 
 #: Bump when a field is renamed or removed; adding fields keeps the version.
 SCHEMA = "meshaudit.report/1"
@@ -21,8 +22,15 @@ def to_dict(report: Report, every_element: bool = False) -> dict[str, Any]:
     Elements are the non-ok ones (worst first) unless ``every_element``; then all of them
     in read order. Non-finite numbers are written as null.
     """
+    doc, rows = _document(report, every_element)
+    doc["elements"] = report.element_records(rows)
+    return doc
+
+
+def _document(report: Report, every_element: bool) -> tuple[dict[str, Any], np.ndarray]:
+    """:func:`to_dict` without its last key, "elements"; and the rows that key lists."""
     rows = report.index if every_element else report.worst(only_flagged=True)
-    return {
+    doc = {
         "schema": SCHEMA,
         "tool": {"name": "meshaudit", "version": __version__},
         "summary": report.summary.to_dict(),
@@ -37,22 +45,15 @@ def to_dict(report: Report, every_element: bool = False) -> dict[str, Any]:
         "findings": [f.to_dict() for f in report.findings],
         "free_edge_loops": [] if report.free_edges is None else report.free_edges.loops(),
         "elements_listed": "all" if every_element else "not ok",
-        "elements": report.element_records(np.asarray(rows)),
     }
+    return doc, np.asarray(rows)
 
 
 def render(report: Report, every_element: bool = False) -> str:
-    """The JSON text: the document indented, each element record on one line.
-
-    Element records go through the json module's C encoder (it only runs without
-    indentation), which keeps a million-element listing to seconds.
-    """
-    doc = to_dict(report, every_element)
-    elements = doc.pop("elements")
+    """The JSON text of :func:`to_dict`: the document indented, each element record on
+    one line (written column by column, see :mod:`.json_elements`)."""
+    doc, rows = _document(report, every_element)
     head = json.dumps(doc, indent=1, allow_nan=False)
-    encode = json.JSONEncoder(allow_nan=False, separators=(", ", ": ")).encode
-    if not elements:
-        body = "[]"
-    else:
-        body = "[\n  " + ",\n  ".join(map(encode, elements)) + "\n ]"
+    lines = element_lines(report, rows)
+    body = "[\n  " + ",\n  ".join(lines) + "\n ]" if lines else "[]"
     return head[:-2] + f',\n "elements": {body}\n}}\n'
