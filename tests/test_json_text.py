@@ -18,6 +18,7 @@ from benchmarks.meshgen import distorted_plate
 from meshaudit import BUILTIN_PROFILES, Limit, api, with_limit
 from meshaudit.outputs import json_report
 from meshaudit.outputs.json_elements import element_lines
+from meshaudit.report import FLAG_NAMES
 
 SAMPLES = Path(__file__).resolve().parents[1] / "samples"
 ENCODE = json.JSONEncoder(allow_nan=False, separators=(", ", ": ")).encode
@@ -82,3 +83,20 @@ def test_a_non_finite_centroid_is_refused_as_by_the_json_module():
         ENCODE(report.element_records(np.array([2]))[0])
     with pytest.raises(ValueError):
         element_lines(report, np.array([2]))
+
+
+def test_counts_match_numpy_bincount_and_a_count_per_flag_bit():
+    """Verdict counts against numpy.bincount; flag counts against counting each flag's bit
+    over the elements one flag at a time (a plate with planted bad elements)."""
+    report = api.audit(distorted_plate(20_000, seed=9))
+    assert (
+        list(report.verdict_counts().values())
+        == np.bincount(report.verdict, minlength=3)[:3].tolist()
+    )
+    expected = {}
+    for bit, name in enumerate(FLAG_NAMES):
+        n = int(np.count_nonzero(report.flag_bits & np.uint32(1 << bit)))
+        if n:
+            expected[name] = n
+    assert report.flag_counts() == expected
+    assert {"inverted", "nonconvex"} <= set(expected)  # the planted ones are there
