@@ -127,18 +127,51 @@ class _Builder:
         )
 
 
+@dataclass
+class TopologyPart:
+    """What :func:`find_topology` found and what :func:`finish` still needs."""
+
+    out: _Builder
+    table: EdgeTable
+    keep: np.ndarray
+    free: edges.FreeEdges
+
+
 def find(
     mesh: ElementMesh,
     ids: np.ndarray,
     frame: Frame,
     settings: FindingSettings | None = None,
     table: EdgeTable | None = None,
+    shapes: overlap.PlanarShapes | None = None,
 ) -> MeshFindings:
     """Run the mesh-level checks enabled in ``settings`` on ``mesh``.
 
     ``ids`` (n_elements,) element labels in audit order; ``frame`` says whether the mesh
     is planar (winding and overlap checks) or a shell (neighbour normals check).
+    ``table`` and ``shapes`` (planar meshes) are worked out here unless given.
+
+    The work comes in two parts that :func:`meshaudit.api.audit_elements` runs apart:
+    :func:`find_topology` needs only the connectivity and the nodes, so it can run while
+    the elements are measured; :func:`finish` then adds the checks that need every
+    element's winding and shape.
     """
+    part = find_topology(mesh, ids, frame, settings, table)
+    if shapes is None and frame.kind == "planar" and frame.axes is not None:
+        shapes = overlap.planar_shapes(mesh, frame.axes)
+    return finish(part, mesh, frame, shapes)
+
+
+def find_topology(
+    mesh: ElementMesh,
+    ids: np.ndarray,
+    frame: Frame,
+    settings: FindingSettings | None = None,
+    table: EdgeTable | None = None,
+) -> TopologyPart:
+    """The checks that need only connectivity and nodes: orphan nodes, duplicate
+    elements, coincident nodes, free edges and cracks, non-manifold edges and (shells)
+    neighbours with opposite normals."""
     settings = settings or FindingSettings()
     out = _Builder(mesh, ids, settings)
     if out.on("orphan_nodes"):
@@ -170,16 +203,7 @@ def find(
             coincident,
         )
 
-    planar = frame.kind == "planar" and frame.axes is not None
-    shapes = None
-    if planar:
-        local = (mesh.points - mesh.points.min(axis=0)) @ frame.axes.T
-        shapes = overlap.planar_shapes(mesh, local)
-    sign = None
-    if shapes is not None:
-        sign = shapes[0]
-        sign[~keep] = 0  # duplicates are reported as such, not as wound the other way
-    free = edges.free_edges(table, mesh.points, coincident, sign, frame.normal if planar else None)
+    free = edges.free_edges(table, mesh.points, coincident)
     if out.on("crack_edges"):
         crack = np.flatnonzero(free.crack)
         loops = np.unique(free.loop[crack])
@@ -204,9 +228,7 @@ def find(
             None,
             table.nodes[nm_edges],
         )
-    if planar:
-        _planar_checks(out, mesh, table, free, local, shapes, keep)
-    elif out.on("opposite_normals"):
+    if frame.kind != "planar" and out.on("opposite_normals"):
         clash, first, second = edges.same_direction_pairs(table)
         both = np.concatenate([first, second])
         out.add(
@@ -219,7 +241,24 @@ def find(
             None,
             table.nodes[clash],
         )
-    return MeshFindings(out.findings, free)
+    return TopologyPart(out, table, keep, free)
+
+
+def finish(
+    part: TopologyPart,
+    mesh: ElementMesh,
+    frame: Frame,
+    shapes: overlap.PlanarShapes | None,
+) -> MeshFindings:
+    """Add the checks that need each element's winding and shape (planar meshes with
+    ``shapes``: loop kinds, inconsistent winding, overlaps) and return the findings."""
+    free = part.free
+    if shapes is not None and frame.kind == "planar" and frame.normal is not None:
+        sign = shapes.sign.copy()
+        sign[~part.keep] = 0  # duplicates are reported as such, not as wound the other way
+        free = edges.with_winding(free, mesh.points, sign, frame.normal)
+        _planar_checks(part.out, mesh, part.table, free, shapes, sign, part.keep)
+    return MeshFindings(part.out.findings, free)
 
 
 def _coincident(mesh: ElementMesh, table: EdgeTable, relative: float) -> np.ndarray:
@@ -266,12 +305,11 @@ def _planar_checks(
     mesh: ElementMesh,
     table: EdgeTable,
     free: edges.FreeEdges,
-    local: np.ndarray,
-    shapes: tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray],
+    shapes: overlap.PlanarShapes,
+    sign: np.ndarray,
     keep: np.ndarray,
 ) -> None:
     ids = out.ids
-    sign = shapes[0]
     if out.on("inconsistent_winding"):
         odd = edges.minority_winding(sign)
         out.add(
@@ -282,21 +320,20 @@ def _planar_checks(
         )
     if not out.on("overlapping_elements"):
         return
-    sign, convex, boxes, centroids = shapes
     _, fold_a, fold_b = edges.same_direction_pairs(table, flip=sign < 0)
     nm_edges, nm_elements = edges.non_manifold_edges(table)
-    suspects = np.concatenate([np.flatnonzero(~convex & keep), fold_a, fold_b, nm_elements])
+    suspects = np.concatenate([np.flatnonzero(~shapes.convex & keep), fold_a, fold_b, nm_elements])
     around = np.union1d(free.element, overlap.node_neighbours(mesh, suspects))
     candidates = np.concatenate(
         [
             np.stack([fold_a, fold_b], axis=1),
             overlap.pairs_on_edges(table, nm_edges),
-            overlap.pairs_near(boxes, centroids, around),
+            overlap.pairs_near(shapes.boxes, shapes.centroids, around),
         ]
     )
     candidates = candidates[keep[candidates[:, 0]] & keep[candidates[:, 1]]]
     fraction = out.settings.overlap_fraction
-    pairs, _area = overlap.overlapping_pairs(mesh, local, candidates, fraction)
+    pairs, _area = overlap.overlapping_pairs(mesh, shapes, candidates, fraction)
     labelled = ids[pairs] if pairs.size else _empty_int(0, 2)
     text = ", ".join(f"{a}/{b}" for a, b in labelled[:MESSAGE_IDS])
     out.add(

@@ -181,6 +181,12 @@ def connected_labels(n: int, a: np.ndarray, b: np.ndarray) -> np.ndarray:
     label = np.arange(n, dtype=np.int64)
     if a.size == 0:
         return label
+    if 4 * a.size < n:  # few edges (free edges, node pairs): label only their vertices
+        touched, inverse = np.unique(np.concatenate([a, b]), return_inverse=True)
+        inverse = inverse.ravel()
+        small = connected_labels(touched.size, inverse[: a.size], inverse[a.size :])
+        label[touched] = touched[small]  # touched ascends: smallest vertex stays smallest
+        return label
     while True:
         ra, rb = label[a], label[b]
         differ = ra != rb

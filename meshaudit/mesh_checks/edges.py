@@ -77,14 +77,15 @@ def free_edges(
     table: EdgeTable,
     points: np.ndarray,
     coincident: np.ndarray,
-    sign: np.ndarray | None,
-    normal: np.ndarray | None,
+    sign: np.ndarray | None = None,
+    normal: np.ndarray | None = None,
 ) -> FreeEdges:
     """Free edges, their loops and which of them are cracks.
 
     ``coincident`` (k, 2) node pairs at the same place; a free edge is a crack edge when
     another free edge joins the same two places. ``sign``/``normal``: element winding
-    and plane normal of a planar mesh (None for shells).
+    and plane normal of a planar mesh (None for shells, or to add them later with
+    :func:`with_winding`); without them every loop is a ``boundary``.
     """
     uses = np.flatnonzero(table.uses[table.edge] == 1)
     a, b = table.start[uses].astype(np.int64), table.end[uses].astype(np.int64)
@@ -103,16 +104,9 @@ def free_edges(
     length = np.linalg.norm(xyz[:, 1] - xyz[:, 0], axis=1)
     n_edges = np.bincount(loop, minlength=n_loops)
     cracks = np.bincount(loop, weights=crack, minlength=n_loops).astype(np.int64)
-    if normal is not None and sign is not None and a.size:
-        centre = points[a].mean(axis=0)
-        twice = np.cross(points[a] - centre, points[b] - centre) @ normal
-        area = 0.5 * np.bincount(loop, weights=twice * sign[element], minlength=n_loops)
-        kind = np.where(area >= 0.0, "outer", "hole").astype(object)
-    else:
-        area = np.full(n_loops, np.nan)
-        kind = np.full(n_loops, "boundary", dtype=object)
+    kind = np.full(n_loops, "boundary", dtype=object)
     kind[(cracks == n_edges) & (n_edges > 0)] = "crack"
-    return FreeEdges(
+    free = FreeEdges(
         nodes=np.stack([a, b], axis=1),
         element=element,
         loop=loop,
@@ -121,9 +115,31 @@ def free_edges(
         loop_kind=kind,
         loop_edges=n_edges.astype(np.int64),
         loop_length=np.bincount(loop, weights=length, minlength=n_loops),
-        loop_area=area,
+        loop_area=np.full(n_loops, np.nan),
         loop_cracks=cracks,
     )
+    if normal is not None and sign is not None:
+        free = with_winding(free, points, sign, normal)
+    return free
+
+
+def with_winding(
+    free: FreeEdges, points: np.ndarray, sign: np.ndarray, normal: np.ndarray
+) -> FreeEdges:
+    """``free`` with the loops of a planar mesh classed by the area they enclose, seen
+    from ``normal`` with every element's edges taken the way the element winds
+    (``sign`` per element): ``outer`` (counter-clockwise), ``hole`` (clockwise) or, as
+    before, ``crack``."""
+    n_loops = free.n_loops
+    if free.element.size == 0:
+        return free
+    a, b = free.nodes[:, 0], free.nodes[:, 1]
+    centre = points[a].mean(axis=0)
+    twice = np.cross(points[a] - centre, points[b] - centre) @ normal
+    area = 0.5 * np.bincount(free.loop, weights=twice * sign[free.element], minlength=n_loops)
+    kind = np.where(area >= 0.0, "outer", "hole").astype(object)
+    kind[free.loop_kind == "crack"] = "crack"
+    return replace(free, loop_kind=kind, loop_area=area)
 
 
 def non_manifold_edges(table: EdgeTable) -> tuple[np.ndarray, np.ndarray]:

@@ -17,6 +17,8 @@ candidates' neighbours, not the whole mesh).
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 
 from ..elements import ElementMesh
@@ -26,19 +28,35 @@ from ..topology import CORNERS_PER_FAMILY, EdgeTable, sort_keys
 SHAPE_CHUNK = 65_536
 
 
-def element_polygons(mesh: ElementMesh, local: np.ndarray, positions: np.ndarray) -> np.ndarray:
-    """shapely polygons (in-plane coordinates ``local`` (n_points, 2)) of the elements at
-    ``positions``, made valid where an element crosses itself."""
-    import shapely  # on use: a mesh without overlap candidates never needs it
-
-    polys = np.empty(positions.size, dtype=object)
+def element_corners(
+    mesh: ElementMesh, positions: np.ndarray
+) -> list[tuple[np.ndarray, np.ndarray]]:
+    """[(where, corners)]: for each corner count k present, the rows of ``positions``
+    (ascending element positions) with k corners and their corner nodes (w, k)."""
+    found: dict[int, list[tuple[np.ndarray, np.ndarray]]] = {}
     for block in mesh.blocks:
         k = CORNERS_PER_FAMILY[block.family]
         rows = np.searchsorted(block.index, positions)
         inside = (rows < len(block)) & (block.index[np.minimum(rows, len(block) - 1)] == positions)
         if inside.any():
-            conn = block.connectivity[rows[inside], :k]
-            polys[inside] = shapely.polygons(local[conn])
+            found.setdefault(k, []).append(
+                (np.flatnonzero(inside), block.connectivity[rows[inside], :k])
+            )
+    out = []
+    for parts in found.values():
+        where = np.concatenate([w for w, _ in parts])
+        out.append((where, np.concatenate([c for _, c in parts])))
+    return out
+
+
+def element_polygons(mesh: ElementMesh, shapes: PlanarShapes, positions: np.ndarray) -> np.ndarray:
+    """shapely polygons (plane coordinates of ``shapes``) of the elements at
+    ``positions``, made valid where an element crosses itself."""
+    import shapely
+
+    polys = np.empty(positions.size, dtype=object)
+    for where, conn in element_corners(mesh, positions):
+        polys[where] = shapely.polygons(shapes.plane(mesh.points[conn]))
     bad = ~shapely.is_valid(polys)
     if bad.any():
         polys[bad] = shapely.make_valid(polys[bad])
@@ -119,54 +137,163 @@ def pairs_near(boxes: np.ndarray, centroids: np.ndarray, around: np.ndarray) -> 
     return np.stack([e[keep], f[keep]], axis=1)
 
 
-def planar_shapes(
-    mesh: ElementMesh, local: np.ndarray
-) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
-    """(winding (n,) int8, convex (n,) bool, boxes (n, 4), centroids (n, 2)) of every
-    element, from the in-plane node coordinates ``local`` (n_points, 2).
+@dataclass
+class PlanarShapes:
+    """What the overlap and winding checks need of every element of a planar mesh.
 
-    Winding is the sign of the shoelace area: +1 counter-clockwise about the plane
-    normal, -1 clockwise, 0 no area. Convex: every corner turns the way the element
-    winds (strictly). Boxes are xmin, ymin, xmax, ymax.
+    ``sign`` (n,) int8: the sign of the corner polygon's shoelace area, +1
+    counter-clockwise about the plane normal, -1 clockwise, 0 no area. ``convex`` (n,)
+    bool: every corner turns the way the element winds (strictly). ``boxes`` (n, 4):
+    xmin, ymin, xmax, ymax and ``centroids`` (n, 2) of the corners, in plane coordinates
+    (``axes`` rows, measured from ``origin``).
     """
-    n = mesh.n_elements
-    sign = np.zeros(n, dtype=np.int8)
-    convex = np.zeros(n, dtype=bool)
-    boxes = np.empty((n, 4))
-    centroids = np.empty((n, 2))
-    for block, sl in mesh.chunks(SHAPE_CHUNK):
-        conn = block.connectivity[sl, : CORNERS_PER_FAMILY[block.family]]
-        rows = block.index[sl]
-        xs, ys = local[conn, 0], local[conn, 1]
-        xn, yn = np.roll(xs, -1, axis=1), np.roll(ys, -1, axis=1)
-        dx, dy = xn - xs, yn - ys
-        turn = dx * np.roll(dy, -1, axis=1) - dy * np.roll(dx, -1, axis=1)
-        twice = (xs * yn - xn * ys).sum(axis=1)
+
+    axes: np.ndarray
+    origin: np.ndarray
+    sign: np.ndarray
+    convex: np.ndarray
+    boxes: np.ndarray
+    centroids: np.ndarray
+
+    @classmethod
+    def empty(cls, n: int, axes: np.ndarray, origin: np.ndarray) -> PlanarShapes:
+        return cls(
+            axes=axes,
+            origin=origin,
+            sign=np.zeros(n, dtype=np.int8),
+            convex=np.zeros(n, dtype=bool),
+            boxes=np.empty((n, 4)),
+            centroids=np.empty((n, 2)),
+        )
+
+    def plane(self, xyz: np.ndarray) -> np.ndarray:
+        """Plane coordinates (..., 2) of points ``xyz`` (..., 3)."""
+        return (xyz - self.origin) @ self.axes.T
+
+    def fill(self, rows: slice | np.ndarray, corners: np.ndarray) -> None:
+        """Measure the elements at ``rows`` from their corners (m, k, 3) in space.
+
+        Pure arithmetic on the given corners: chunks may be filled in any order, or at
+        the same time from several threads (rows do not overlap).
+        """
+        base = corners[:, 0]
+        rel = (corners - base[:, None, :]) @ self.axes.T  # (m, k, 2), corner 0 at 0
+        x, y = np.ascontiguousarray(rel[..., 0].T), np.ascontiguousarray(rel[..., 1].T)
+        twice, turns = _shoelace_and_turns(x, y)
         s = np.sign(twice)
-        sign[rows] = s.astype(np.int8)
-        convex[rows] = (turn * s[:, None] > 0.0).all(axis=1)
-        boxes[rows] = np.stack([xs.min(1), ys.min(1), xs.max(1), ys.max(1)], axis=1)
-        centroids[rows, 0] = xs.mean(axis=1)
-        centroids[rows, 1] = ys.mean(axis=1)
-    return sign, convex, boxes, centroids
+        self.sign[rows] = s
+        convex = turns[0] * s > 0.0
+        for turn in turns[1:]:
+            convex &= turn * s > 0.0
+        self.convex[rows] = convex
+        at = (base - self.origin) @ self.axes.T  # (m, 2) corner 0 in plane coordinates
+        self.boxes[rows, 0] = at[:, 0] + x.min(axis=0)
+        self.boxes[rows, 1] = at[:, 1] + y.min(axis=0)
+        self.boxes[rows, 2] = at[:, 0] + x.max(axis=0)
+        self.boxes[rows, 3] = at[:, 1] + y.max(axis=0)
+        self.centroids[rows, 0] = at[:, 0] + x.mean(axis=0)
+        self.centroids[rows, 1] = at[:, 1] + y.mean(axis=0)
+
+
+def _shoelace_and_turns(x: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, list[np.ndarray]]:
+    """Twice the signed area and the turn (cross product of the two sides) at every
+    corner of polygons given by corner columns ``x``, ``y`` (k, m)."""
+    k = x.shape[0]
+    twice = np.zeros(x.shape[1])
+    dx = [x[(i + 1) % k] - x[i] for i in range(k)]
+    dy = [y[(i + 1) % k] - y[i] for i in range(k)]
+    turns = []
+    for i in range(k):
+        twice += x[i] * y[(i + 1) % k] - x[(i + 1) % k] * y[i]
+        j = (i + 1) % k
+        turns.append(dx[i] * dy[j] - dy[i] * dx[j])
+    return twice, turns
+
+
+def planar_shapes(mesh: ElementMesh, axes: np.ndarray) -> PlanarShapes:
+    """:class:`PlanarShapes` of every element of ``mesh``, plane axes ``axes`` (2, 3),
+    measured in slices of :data:`SHAPE_CHUNK` elements (bounded temporaries)."""
+    shapes = PlanarShapes.empty(mesh.n_elements, axes, mesh.points.min(axis=0))
+    for block, sl in mesh.chunks(SHAPE_CHUNK):
+        corners = mesh.points[block.connectivity[sl, : CORNERS_PER_FAMILY[block.family]]]
+        shapes.fill(block.index[sl], corners)
+    return shapes
 
 
 def overlapping_pairs(
-    mesh: ElementMesh, local: np.ndarray, candidates: np.ndarray, fraction: float
+    mesh: ElementMesh, shapes: PlanarShapes, candidates: np.ndarray, fraction: float
 ) -> tuple[np.ndarray, np.ndarray]:
     """(pairs (p, 2) ascending, common area (p,)) of candidate pairs whose common area
-    exceeds ``fraction`` of the smaller element's area (shapely measures the areas)."""
+    exceeds ``fraction`` of the smaller element's area.
+
+    Pairs of two convex elements that one side of either element separates (see
+    :func:`separated`) have no common area; shapely measures the common area of the rest.
+    """
     if candidates.size == 0:
         return np.zeros((0, 2), dtype=np.int64), np.zeros(0)
-    import shapely  # on use, as in element_polygons
-
     pairs = np.unique(np.sort(candidates, axis=1), axis=0)
     pairs = pairs[pairs[:, 0] != pairs[:, 1]]
+    pairs = pairs[~separated(mesh, shapes, pairs)]
+    if pairs.size == 0:
+        return np.zeros((0, 2), dtype=np.int64), np.zeros(0)
+    import shapely
+
     involved, inverse = np.unique(pairs, return_inverse=True)
     inverse = inverse.reshape(pairs.shape)
-    polys = element_polygons(mesh, local, involved)
+    polys = element_polygons(mesh, shapes, involved)
     pa, pb = polys[inverse[:, 0]], polys[inverse[:, 1]]
     common = shapely.area(shapely.intersection(pa, pb))
     smaller = np.minimum(shapely.area(pa), shapely.area(pb))
     hit = (smaller > 0.0) & (common > fraction * smaller)
     return pairs[hit], common[hit]
+
+
+def separated(mesh: ElementMesh, shapes: PlanarShapes, pairs: np.ndarray) -> np.ndarray:
+    """(p,) bool: some side of a convex element of the pair has every corner of the
+    other element on or outside its line (a separating line: the interiors are then
+    disjoint, since the convex element lies on the inner side of each of its sides and
+    any polygon lies within the hull of its corners).
+
+    Corners shared by the two elements give exactly zero on the shared line, so
+    neighbours sharing a side or a corner are separated without rounding doubts; a
+    pair this test cannot separate goes to the exact area computation.
+    """
+    out = np.zeros(len(pairs), dtype=bool)
+    both = np.flatnonzero(shapes.convex[pairs[:, 0]] | shapes.convex[pairs[:, 1]])
+    if both.size == 0:
+        return out
+    involved, inverse = np.unique(pairs[both], return_inverse=True)
+    inverse = inverse.reshape(-1, 2)
+    groups = element_corners(mesh, involved)
+    k_of = np.zeros(involved.size, dtype=np.int64)
+    row_of = np.zeros(involved.size, dtype=np.int64)
+    coords = []
+    for g, (where, conn) in enumerate(groups):
+        k_of[where] = g
+        row_of[where] = np.arange(where.size)
+        coords.append(shapes.plane(mesh.points[conn]))  # (w, k, 2)
+    sign = shapes.sign[involved].astype(np.float64)
+    convex = shapes.convex[involved]
+    ga, gb = k_of[inverse[:, 0]], k_of[inverse[:, 1]]
+    for a_group in range(len(groups)):
+        for b_group in range(len(groups)):
+            sel = np.flatnonzero((ga == a_group) & (gb == b_group))
+            if sel.size == 0:
+                continue
+            ia, ib = inverse[sel, 0], inverse[sel, 1]
+            pa, pb = coords[a_group][row_of[ia]], coords[b_group][row_of[ib]]
+            apart = convex[ia] & _outside_some_side(pa, sign[ia], pb)
+            apart |= convex[ib] & _outside_some_side(pb, sign[ib], pa)
+            out[both[sel]] = apart
+    return out
+
+
+def _outside_some_side(poly: np.ndarray, sign: np.ndarray, other: np.ndarray) -> np.ndarray:
+    """(p,) bool: some side of convex polygon ``poly`` (p, k, 2), wound ``sign`` (p,),
+    has all corners of ``other`` (p, j, 2) on or outside its line."""
+    start = poly
+    side = np.roll(poly, -1, axis=1) - poly  # (p, k, 2)
+    rel = other[:, None, :, :] - start[:, :, None, :]  # (p, k, j, 2)
+    cross = side[:, :, None, 0] * rel[..., 1] - side[:, :, None, 1] * rel[..., 0]
+    inward = cross * sign[:, None, None] > 0.0  # corner strictly inside the side's line
+    return (~inward.any(axis=2)).any(axis=1)
