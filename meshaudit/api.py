@@ -3,15 +3,18 @@
 from __future__ import annotations
 
 import os
+import threading
 from collections.abc import Callable, Mapping, Sequence
+from concurrent.futures import ThreadPoolExecutor, as_completed
 from typing import Any
 
 import numpy as np
 
-from .elements import ElementMesh
+from .elements import ElementBlock, ElementMesh
 from .errors import InputError
-from .findings import find
+from .findings import TopologyPart, find_topology, finish
 from .frames import Frame, centroids, choose_frame, to_local
+from .mesh_checks.overlap import PlanarShapes
 from .metrics import KERNELS, METRIC_NAMES, QUADRATIC_CELLS, quadratic
 from .profiles import Profile, load_profile
 from .reading import load
@@ -30,6 +33,10 @@ CHUNK_SIZE = 32_768
 #: Stages: "read" (total 0: size unknown) and "measure" (total = elements). The core never
 #: prints; the command line turns these calls into a progress bar on a terminal.
 ProgressCallback = Callable[[str, int, int], None]
+
+#: Most threads :func:`default_workers` suggests (measured on 2 cores only; beyond a
+#: few threads the interpreter lock held between numpy calls would limit the gain).
+MAX_WORKERS = 4
 
 #: Corner nodes per metric family; geometric metrics use the corners only.
 CORNER_COUNT = {"quad": 4, "triangle": 3}
@@ -90,23 +97,40 @@ def _rows(index: np.ndarray) -> slice | np.ndarray:
     return index
 
 
+def default_workers() -> int:
+    """Threads :func:`audit_elements` uses by default: the CPUs this process may run on,
+    at most :data:`MAX_WORKERS`."""
+    try:
+        cpus = len(os.sched_getaffinity(0))
+    except AttributeError:  # not on Linux
+        cpus = os.cpu_count() or 1
+    return max(1, min(cpus, MAX_WORKERS))
+
+
 def audit_elements(
     mesh: ElementMesh,
     profile: Profile | str | os.PathLike[str] | None = None,
     fail_on: str = "fail",
     regions: Mapping[str, Profile | str | os.PathLike[str]] | None = None,
     progress: ProgressCallback | None = None,
+    workers: int | None = None,
 ) -> Report:
     """Audit element arrays already built (see :func:`meshaudit.reading.load`).
 
     ``regions`` maps a region name (gmsh physical group or element set, see
     :mod:`meshaudit.regions`) to the profile its elements are judged under.
     ``progress`` (see :data:`ProgressCallback`) hears about every chunk measured.
+    ``workers``: threads to use (default :func:`default_workers`; 1 runs everything in
+    the calling thread). The result does not depend on it.
 
     Elements are measured in chunks of :data:`CHUNK_SIZE` by :func:`measure_chunk`, a
     pure function of its arguments (no global state, nothing shared between chunks), so
-    chunks could as well be mapped over partitions by a distributed array engine; here
-    they run in order and their results are copied into per-element arrays.
+    chunks can be measured in any order or place: here a pool of threads takes them
+    (numpy releases the interpreter lock in its loops) while one of the threads also
+    runs the mesh-level checks that need only the connectivity
+    (:func:`meshaudit.findings.find_topology`); each chunk's results are copied into
+    its own rows of the per-element arrays. A distributed array engine could map the
+    same function over partitions.
     """
     if fail_on not in ("fail", "warn"):
         raise InputError(f"fail_on must be 'fail' or 'warn', not {fail_on!r}")
@@ -118,39 +142,56 @@ def audit_elements(
     n = mesh.n_elements
     cell_types = tuple(dict.fromkeys(b.cell_type for b in mesh.blocks))
     families = tuple(dict.fromkeys(b.family for b in mesh.blocks))
-    metrics = {name: np.empty(n) for name in METRIC_NAMES}
-    bits = np.zeros(n, dtype=np.uint32)
-    verdict = np.zeros(n, dtype=np.int8)
-    levels: dict[str, np.ndarray] = {}
     ids = np.empty(n, dtype=np.int64)
     type_codes = np.empty(n, dtype=np.int8)
     family_codes = np.empty(n, dtype=np.int8)
-    centre = np.empty((n, 3))
-    done = 0
-    if progress is not None:
-        progress("measure", 0, n)
-    for block, sl in mesh.chunks(CHUNK_SIZE):
+    for block in mesh.blocks:
+        ids[block.index] = block.ids
+        type_codes[block.index] = cell_types.index(block.cell_type)
+        family_codes[block.index] = families.index(block.family)
+    sink = _ChunkSink(n, has_quadratic=any(t in QUADRATIC_CELLS for t in cell_types))
+    planar = frame.kind == "planar" and frame.axes is not None
+    shapes = PlanarShapes.empty(n, frame.axes, mesh.points.min(axis=0)) if planar else None
+
+    def measure(block: ElementBlock, sl: slice) -> int:
         rows = _rows(block.index[sl])
         coords3 = mesh.points[block.connectivity[sl]]
-        m, b, lv, v = measure_chunk(
+        result = measure_chunk(
             block.family, coords3, frame, prof, block.cell_type, codes[rows], region_profiles
         )
-        for name in METRIC_NAMES:
-            metrics[name][rows] = m[name]
-        bits[rows] = b
-        verdict[rows] = v
-        for name, lvl in lv.items():
-            levels.setdefault(name, np.zeros(n, dtype=np.int8))[rows] = lvl
-        ids[rows] = block.ids[sl]
-        type_codes[rows] = cell_types.index(block.cell_type)
-        family_codes[rows] = families.index(block.family)
-        centre[rows] = centroids(coords3)
-        done += sl.stop - sl.start
-        if progress is not None:
-            progress("measure", done, n)
-    table = edge_table(mesh)  # shared by the orientation flags and the findings
-    notes = mark_orientation(mesh, frame, bits, verdict, table)
-    mesh_findings = find(mesh, ids, frame, prof.findings, table)
+        sink.store(rows, result, centroids(coords3))
+        if shapes is not None:
+            shapes.fill(rows, coords3[:, : CORNER_COUNT[block.family]])
+        return sl.stop - sl.start
+
+    def topology() -> tuple[EdgeTable, TopologyPart]:
+        table = edge_table(mesh)  # shared by the orientation flags and the findings
+        return table, find_topology(mesh, ids, frame, prof.findings, table)
+
+    if progress is not None:
+        progress("measure", 0, n)
+    chunks = list(mesh.chunks(CHUNK_SIZE))
+    workers = default_workers() if workers is None else max(1, int(workers))
+    if workers == 1 or len(chunks) < 2:
+        for block, sl in chunks:
+            sink.done += measure(block, sl)
+            if progress is not None:
+                progress("measure", sink.done, n)
+        table, part = topology()
+    else:
+        with ThreadPoolExecutor(max_workers=workers, thread_name_prefix="meshaudit") as pool:
+            try:
+                pending = pool.submit(topology)
+                for future in as_completed([pool.submit(measure, b, sl) for b, sl in chunks]):
+                    sink.done += future.result()
+                    if progress is not None:
+                        progress("measure", sink.done, n)
+                table, part = pending.result()
+            except BaseException:
+                pool.shutdown(wait=True, cancel_futures=True)
+                raise
+    notes = mark_orientation(mesh, frame, sink.bits, sink.verdict, table)
+    mesh_findings = finish(part, mesh, frame, shapes)
     summary = MeshSummary(
         source=mesh.source,
         n_points=mesh.n_points,
@@ -167,11 +208,11 @@ def audit_elements(
         type_codes=type_codes,
         families=family_codes,
         cell_families=families,
-        centroids=centre,
-        metrics=metrics,
-        flag_bits=bits,
-        levels=levels,
-        verdict=verdict,
+        centroids=sink.centre,
+        metrics=sink.metrics,
+        flag_bits=sink.bits,
+        levels=sink.ordered_levels(),
+        verdict=sink.verdict,
         fail_on=fail_on,
         notes=notes,
         region_names=region_names,
@@ -180,6 +221,64 @@ def audit_elements(
         findings=mesh_findings.findings,
         free_edges=mesh_findings.free_edges,
     )
+
+
+class _ChunkSink:
+    """Per-element result arrays that chunks, measured in any order and from several
+    threads, copy their results into (each chunk its own rows)."""
+
+    def __init__(self, n: int, has_quadratic: bool) -> None:
+        self.n = n
+        self.done = 0
+        # a linear-only mesh has no midside nodes: those columns are one shared NaN
+        self.copied = (
+            METRIC_NAMES
+            if has_quadratic
+            else tuple(m for m in METRIC_NAMES if m not in quadratic.MIDSIDE_METRICS)
+        )
+        self.metrics = {
+            name: np.empty(n) if name in self.copied else _nan_column(n) for name in METRIC_NAMES
+        }
+        self.bits = np.zeros(n, dtype=np.uint32)
+        self.verdict = np.zeros(n, dtype=np.int8)
+        self.centre = np.empty((n, 3))
+        self.levels: dict[str, np.ndarray] = {}
+        self.level_order: dict[int, tuple[str, ...]] = {}
+        self._lock = threading.Lock()
+
+    def store(
+        self,
+        rows: slice | np.ndarray,
+        result: tuple[dict[str, np.ndarray], np.ndarray, dict[str, np.ndarray], np.ndarray],
+        centre: np.ndarray,
+    ) -> None:
+        metrics, bits, levels, verdict = result
+        for name in self.copied:
+            self.metrics[name][rows] = metrics[name]
+        self.bits[rows] = bits
+        self.verdict[rows] = verdict
+        self.centre[rows] = centre
+        first = rows.start if isinstance(rows, slice) else int(rows[0])
+        with self._lock:
+            self.level_order[first] = tuple(levels)
+            for name in levels:
+                if name not in self.levels:
+                    self.levels[name] = np.zeros(self.n, dtype=np.int8)
+        for name, lvl in levels.items():
+            self.levels[name][rows] = lvl
+
+    def ordered_levels(self) -> dict[str, np.ndarray]:
+        """The breach levels in the order the metrics first appear in element order
+        (the order is what reports list breaches in, so it must not depend on threads)."""
+        names = dict.fromkeys(
+            name for first in sorted(self.level_order) for name in self.level_order[first]
+        )
+        return {name: self.levels[name] for name in names}
+
+
+def _nan_column(n: int) -> np.ndarray:
+    """A read-only (n,) column of NaN that takes no memory."""
+    return np.broadcast_to(np.float64(np.nan), (n,))
 
 
 def mark_orientation(

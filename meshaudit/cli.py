@@ -254,6 +254,9 @@ def main(argv: Sequence[str] | None = None) -> int:
     try:
         args = parser.parse_args(argv)
         if args.command == "check":
+            from .memory import return_large_blocks
+
+            return_large_blocks()  # resident memory close to the live arrays (glibc)
             return _check(args)
         if args.command == "profiles":
             return _profiles(args)
