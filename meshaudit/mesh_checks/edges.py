@@ -158,9 +158,12 @@ def same_direction_pairs(
     element as wound the other way) it finds planar elements folded onto a neighbour.
     One weighted count per edge finds them; only those edges are then sorted.
     """
-    forward = table.forward if flip is None else table.forward ^ flip[table.element]
-    runs = np.bincount(table.edge, weights=forward, minlength=table.n_edges)
-    clash = np.flatnonzero((table.uses == 2) & (runs != 1.0))
+    forward = table.forward
+    if flip is not None:
+        forward ^= flip[table.element]
+    runs = np.bincount(table.edge[forward], minlength=table.n_edges)
+    del forward
+    clash = np.flatnonzero((table.uses == 2) & (runs != 1))
     mask = np.zeros(table.n_edges, dtype=bool)
     mask[clash] = True
     on = np.flatnonzero(mask[table.edge])
