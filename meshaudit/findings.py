@@ -180,9 +180,7 @@ def find_topology(
             "orphan_nodes", orphans.size, f"nodes no cell uses: {_some(orphans)}", None, orphans
         )
 
-    corners = duplicates.sorted_corners(mesh)
-    copies, originals = duplicates.duplicate_elements(corners)
-    del corners
+    copies, originals = duplicates.duplicate_elements(mesh)
     if out.on("duplicate_elements"):
         pairs = np.stack([ids[originals], ids[copies]], axis=1)
         text = ", ".join(f"{c} repeats {o}" for o, c in pairs[:MESSAGE_IDS])

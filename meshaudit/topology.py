@@ -115,6 +115,25 @@ def _edge_uses(mesh: ElementMesh) -> tuple[np.ndarray, np.ndarray, np.ndarray, n
     return start, end, elem, loc
 
 
+def corner_rows(mesh: ElementMesh, positions: np.ndarray) -> list[tuple[np.ndarray, np.ndarray]]:
+    """[(where, corners)]: for each corner count k present, the rows of ``positions``
+    (ascending element positions) with k corners and their corner nodes (w, k)."""
+    found: dict[int, list[tuple[np.ndarray, np.ndarray]]] = {}
+    for block in mesh.blocks:
+        k = CORNERS_PER_FAMILY[block.family]
+        rows = np.searchsorted(block.index, positions)
+        inside = (rows < len(block)) & (block.index[np.minimum(rows, len(block) - 1)] == positions)
+        if inside.any():
+            found.setdefault(k, []).append(
+                (np.flatnonzero(inside), block.connectivity[rows[inside], :k])
+            )
+    out = []
+    for parts in found.values():
+        where = np.concatenate([w for w, _ in parts])
+        out.append((where, np.concatenate([c for _, c in parts])))
+    return out
+
+
 def sort_keys(key: np.ndarray, bound: int) -> tuple[np.ndarray, np.ndarray]:
     """(order, key[order]) for int64 keys in [0, bound), ties in position order.
 
@@ -164,7 +183,7 @@ def interior_pairs(table: EdgeTable) -> tuple[np.ndarray, np.ndarray, np.ndarray
     """
     two = table.uses[table.edge] == 2
     uses = np.flatnonzero(two)
-    order = uses[np.argsort(table.edge[uses], kind="stable")]
+    order = uses[sort_keys(table.edge[uses].astype(np.int64), table.n_edges)[0]]
     first, second = order[0::2], order[1::2]
     same = table.forward[first] == table.forward[second]
     return table.element[first].astype(np.int64), table.element[second].astype(np.int64), same

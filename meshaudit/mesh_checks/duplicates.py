@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..elements import ElementMesh
-from ..topology import CORNERS_PER_FAMILY
+from ..topology import CORNERS_PER_FAMILY, corner_rows
 
 #: Odd 64-bit multipliers for hashing the sorted corner lists (any odd constants work;
 #: equal hashes are confirmed by comparing the node lists themselves).
@@ -15,46 +15,73 @@ _MIX = np.array(
 )
 
 
-def sorted_corners(mesh: ElementMesh) -> np.ndarray:
-    """(n_elements, 4) corner nodes of each element in ascending order, padded with -1."""
-    out = np.full((mesh.n_elements, 4), -1, dtype=np.int64)
-    for block in mesh.blocks:
-        k = CORNERS_PER_FAMILY[block.family]
-        columns = [block.connectivity[:, i].copy() for i in range(k)]
-        for i, j in _NETWORK[k]:  # compare-exchange: column i gets the smaller node
-            low = np.minimum(columns[i], columns[j])
-            np.maximum(columns[i], columns[j], out=columns[j])
-            columns[i] = low
-        for i, column in enumerate(columns):
-            out[block.index, 4 - k + i] = column
+def _sorted_columns(connectivity: np.ndarray, k: int) -> list[np.ndarray]:
+    """The first ``k`` columns of ``connectivity`` sorted within each row, as k columns."""
+    columns = [connectivity[:, i].copy() for i in range(k)]
+    for i, j in _NETWORK[k]:  # compare-exchange: column i gets the smaller node
+        low = np.minimum(columns[i], columns[j])
+        np.maximum(columns[i], columns[j], out=columns[j])
+        columns[i] = low
+    return columns
+
+
+def sorted_corners(mesh: ElementMesh, positions: np.ndarray | None = None) -> np.ndarray:
+    """(n, 4) corner nodes of each element (or of the elements at ascending
+    ``positions``) in ascending order, padded in front with -1."""
+    if positions is None:
+        positions = np.arange(mesh.n_elements)
+    out = np.full((positions.size, 4), -1, dtype=np.int64)
+    for where, conn in corner_rows(mesh, positions):
+        k = conn.shape[1]
+        for i, column in enumerate(_sorted_columns(conn, k)):
+            out[where, 4 - k + i] = column
     return out
 
 
-#: Sorting networks (pairs of columns to compare and exchange) for 3 and 4 items: the
-#: same result as sorting each row, in a few whole-column passes.
-_NETWORK = {3: ((0, 1), (1, 2), (0, 1)), 4: ((0, 1), (2, 3), (0, 2), (1, 3), (1, 2))}
+def corner_hashes(mesh: ElementMesh) -> np.ndarray:
+    """(n_elements,) uint64 hash of each element's corner node set (order and rotation
+    do not matter), built column by column."""
+    out = np.empty(mesh.n_elements, dtype=np.uint64)
+    for block in mesh.blocks:
+        k = CORNERS_PER_FAMILY[block.family]
+        columns = _sorted_columns(block.connectivity[:, :k], k)
+        with np.errstate(over="ignore"):
+            h = np.full(len(block), np.uint64(k))
+            for column, mix, shift in zip(columns, _MIX, (0, 7, 0, 3)):
+                term = column.astype(np.uint64)
+                term *= mix
+                term >>= np.uint64(shift)
+                h ^= term
+                h *= np.uint64(0x100000001B3)  # spreads each column before the next
+        out[block.index] = h
+    return out
 
 
-def duplicate_elements(corners: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def duplicate_elements(mesh: ElementMesh) -> tuple[np.ndarray, np.ndarray]:
     """(copies, originals): element positions that repeat the node set of an earlier one.
 
-    Hash each sorted corner row to one 64-bit key, sort the keys, and confirm rows whose
-    keys repeat by comparing the rows themselves. ``originals[i]`` is the first element (lowest
-    position) with the node set of ``copies[i]``.
+    Hash each element's corner set to one 64-bit key, sort the keys, and confirm
+    elements whose keys repeat by comparing their sorted corner lists.
+    ``originals[i]`` is the first element (lowest position) with the node set of
+    ``copies[i]``.
     """
-    with np.errstate(over="ignore"):
-        mixed = corners.astype(np.uint64) * _MIX
-    h = mixed[:, 0] ^ (mixed[:, 1] >> np.uint64(7)) ^ mixed[:, 2] ^ (mixed[:, 3] >> np.uint64(3))
+    h = corner_hashes(mesh)
     hs = np.sort(h)
     repeated = hs[1:][hs[1:] == hs[:-1]]
+    del hs
     if repeated.size == 0:
         empty = np.zeros(0, dtype=np.int64)
         return empty, empty
     cand = np.flatnonzero(np.isin(h, repeated))
-    _, group = np.unique(corners[cand], axis=0, return_inverse=True)
+    _, group = np.unique(sorted_corners(mesh, cand), axis=0, return_inverse=True)
     group = group.ravel()
     by_group = np.lexsort((cand, group))
     cand, group = cand[by_group], group[by_group]
     starts = np.r_[True, group[1:] != group[:-1]]
     first_of = cand[np.maximum.accumulate(np.where(starts, np.arange(cand.size), 0))]
     return cand[~starts], first_of[~starts]
+
+
+#: Sorting networks (pairs of columns to compare and exchange) for 3 and 4 items: the
+#: same result as sorting each row, in a few whole-column passes.
+_NETWORK = {3: ((0, 1), (1, 2), (0, 1)), 4: ((0, 1), (2, 3), (0, 2), (1, 3), (1, 2))}

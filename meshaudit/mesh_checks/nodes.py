@@ -43,7 +43,7 @@ def coincident_pairs(points: np.ndarray, nodes: np.ndarray, tolerance: np.ndarra
     if nodes.size < 2:
         return np.zeros((0, 2), dtype=np.int64)
     key = points[nodes] @ _PROBE
-    order = np.argsort(key, kind="stable")
+    order = np.argsort(key)  # ties may come in any order: the sweep takes equal keys
     sorted_nodes = nodes[order]
     sorted_key = key[order]
     tol = tolerance[sorted_nodes]

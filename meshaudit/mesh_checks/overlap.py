@@ -22,31 +22,10 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..elements import ElementMesh
-from ..topology import CORNERS_PER_FAMILY, EdgeTable, sort_keys
+from ..topology import CORNERS_PER_FAMILY, EdgeTable, corner_rows, sort_keys
 
 #: Elements per slice in :func:`planar_shapes`: bounds its (n, k) temporaries.
 SHAPE_CHUNK = 65_536
-
-
-def element_corners(
-    mesh: ElementMesh, positions: np.ndarray
-) -> list[tuple[np.ndarray, np.ndarray]]:
-    """[(where, corners)]: for each corner count k present, the rows of ``positions``
-    (ascending element positions) with k corners and their corner nodes (w, k)."""
-    found: dict[int, list[tuple[np.ndarray, np.ndarray]]] = {}
-    for block in mesh.blocks:
-        k = CORNERS_PER_FAMILY[block.family]
-        rows = np.searchsorted(block.index, positions)
-        inside = (rows < len(block)) & (block.index[np.minimum(rows, len(block) - 1)] == positions)
-        if inside.any():
-            found.setdefault(k, []).append(
-                (np.flatnonzero(inside), block.connectivity[rows[inside], :k])
-            )
-    out = []
-    for parts in found.values():
-        where = np.concatenate([w for w, _ in parts])
-        out.append((where, np.concatenate([c for _, c in parts])))
-    return out
 
 
 def element_polygons(mesh: ElementMesh, shapes: PlanarShapes, positions: np.ndarray) -> np.ndarray:
@@ -55,7 +34,7 @@ def element_polygons(mesh: ElementMesh, shapes: PlanarShapes, positions: np.ndar
     import shapely
 
     polys = np.empty(positions.size, dtype=object)
-    for where, conn in element_corners(mesh, positions):
+    for where, conn in corner_rows(mesh, positions):
         polys[where] = shapely.polygons(shapes.plane(mesh.points[conn]))
     bad = ~shapely.is_valid(polys)
     if bad.any():
@@ -264,7 +243,7 @@ def separated(mesh: ElementMesh, shapes: PlanarShapes, pairs: np.ndarray) -> np.
         return out
     involved, inverse = np.unique(pairs[both], return_inverse=True)
     inverse = inverse.reshape(-1, 2)
-    groups = element_corners(mesh, involved)
+    groups = corner_rows(mesh, involved)
     k_of = np.zeros(involved.size, dtype=np.int64)
     row_of = np.zeros(involved.size, dtype=np.int64)
     coords = []
