@@ -152,12 +152,10 @@ class PlanarShapes:
     def fill(self, rows: slice | np.ndarray, corners: np.ndarray) -> None:
         """Measure the elements at ``rows`` from their corners (m, k, 3) in space.
 
-        Pure arithmetic on the given corners: chunks may be filled in any order, or at
-        the same time from several threads (rows do not overlap).
+        Pure arithmetic on the given corners, one (m,) column at a time: chunks may be
+        filled in any order, or at the same time from several threads (rows differ).
         """
-        base = corners[:, 0]
-        rel = (corners - base[:, None, :]) @ self.axes.T  # (m, k, 2), corner 0 at 0
-        x, y = np.ascontiguousarray(rel[..., 0].T), np.ascontiguousarray(rel[..., 1].T)
+        x, y = _plane_columns(corners, self.axes)  # corner 0 at the origin
         twice, turns = _shoelace_and_turns(x, y)
         s = np.sign(twice)
         self.sign[rows] = s
@@ -165,27 +163,48 @@ class PlanarShapes:
         for turn in turns[1:]:
             convex &= turn * s > 0.0
         self.convex[rows] = convex
-        at = (base - self.origin) @ self.axes.T  # (m, 2) corner 0 in plane coordinates
-        self.boxes[rows, 0] = at[:, 0] + x.min(axis=0)
-        self.boxes[rows, 1] = at[:, 1] + y.min(axis=0)
-        self.boxes[rows, 2] = at[:, 0] + x.max(axis=0)
-        self.boxes[rows, 3] = at[:, 1] + y.max(axis=0)
-        self.centroids[rows, 0] = at[:, 0] + x.mean(axis=0)
-        self.centroids[rows, 1] = at[:, 1] + y.mean(axis=0)
+        at = (corners[:, 0] - self.origin) @ self.axes.T  # (m, 2) corner 0, plane coordinates
+        for axis, column in enumerate((x, y)):
+            low, high, total = column[0].copy(), column[0].copy(), column[0].copy()
+            for c in column[1:]:
+                np.minimum(low, c, out=low)
+                np.maximum(high, c, out=high)
+                total += c
+            total /= len(column)
+            self.boxes[rows, axis] = at[:, axis] + low
+            self.boxes[rows, axis + 2] = at[:, axis] + high
+            self.centroids[rows, axis] = at[:, axis] + total
 
 
-def _shoelace_and_turns(x: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, list[np.ndarray]]:
+def _plane_columns(corners: np.ndarray, axes: np.ndarray) -> tuple[list[np.ndarray], ...]:
+    """In-plane coordinates of corners (m, k, 3) relative to corner 0, as k (m,) columns
+    per plane axis (corner 0 itself is exactly 0)."""
+    k = corners.shape[1]
+    zero = np.zeros(corners.shape[0])
+    if np.array_equal(axes, np.eye(3)[:2]):  # the x-y plane: no products needed
+        return tuple(
+            [zero] + [corners[:, i, a] - corners[:, 0, a] for i in range(1, k)] for a in (0, 1)
+        )
+    out: tuple[list[np.ndarray], ...] = ([zero], [zero])
+    for i in range(1, k):
+        d = corners[:, i] - corners[:, 0]
+        for a in (0, 1):
+            out[a].append(d @ axes[a])
+    return out
+
+
+def _shoelace_and_turns(
+    x: list[np.ndarray], y: list[np.ndarray]
+) -> tuple[np.ndarray, list[np.ndarray]]:
     """Twice the signed area and the turn (cross product of the two sides) at every
-    corner of polygons given by corner columns ``x``, ``y`` (k, m)."""
-    k = x.shape[0]
-    twice = np.zeros(x.shape[1])
+    corner of polygons given by k corner columns ``x``, ``y`` (each (m,))."""
+    k = len(x)
     dx = [x[(i + 1) % k] - x[i] for i in range(k)]
     dy = [y[(i + 1) % k] - y[i] for i in range(k)]
-    turns = []
-    for i in range(k):
-        twice += x[i] * y[(i + 1) % k] - x[(i + 1) % k] * y[i]
-        j = (i + 1) % k
-        turns.append(dx[i] * dy[j] - dy[i] * dx[j])
+    twice = np.zeros(x[0].shape[0])
+    for i in range(1, k - 1):  # corner 0 is the origin: its two terms vanish
+        twice += x[i] * y[i + 1] - x[i + 1] * y[i]
+    turns = [dx[i] * dy[(i + 1) % k] - dy[i] * dx[(i + 1) % k] for i in range(k)]
     return twice, turns
 
 
