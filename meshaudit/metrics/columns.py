@@ -13,6 +13,7 @@ underflow, which needs coordinates beyond about 1e+-75.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 
@@ -176,27 +177,35 @@ class PolygonCorners:
                 v = (self.sq_next[k] + self.sq_next[k - 1]) / cross
                 out = v if out is None else np.maximum(out, v)
         out *= 0.5
-        np.copyto(out, np.inf, where=~_all_positive(self.cross))
+        np.copyto(out, np.inf, where=~self.convex)
+        return out
+
+    @cached_property
+    def convex(self) -> np.ndarray:
+        """True where det[a, b] > 0 at every corner: convex and counter-clockwise."""
+        out = self.cross[0] > 0.0
+        for cross in self.cross[1:]:
+            out &= cross > 0.0
         return out
 
     def angle_range(self, orientation: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """Smallest and largest interior angle in degrees, in [0, 360).
 
-        Same convention as :func:`meshaudit.metrics.common.interior_angles`. Where every
-        corner has orientation * det[a, b] > 0 (a convex element: all the angles are
-        in (0, 180), the larger the smaller their cotangent a . b / det) only the two
-        extreme corners get an arc tangent, as atan2(1, cot); the other elements take
-        atan2(det, a . b) at each corner. Both agree to round-off.
+        Same convention as :func:`meshaudit.metrics.common.interior_angles`. An element
+        that is :attr:`convex` and measured counter-clockwise (``orientation`` +1) has
+        all its angles in (0, 180), the larger the smaller their cotangent a . b / det,
+        so only its two extreme corners get an arc tangent, as atan2(1, cot). The other
+        elements take atan2(orientation det, a . b) at each corner. Both agree to
+        round-off.
         """
-        turn = [orientation * c for c in self.cross]
         with np.errstate(divide="ignore", invalid="ignore"):
-            cot = [d / t for d, t in zip(self.dot, turn)]
+            cot = [d / c for d, c in zip(self.dot, self.cross)]
         cot_lo, cot_hi = extremes(cot)
         lo = np.arctan2(1.0, cot_hi)
         lo *= DEGREES
         hi = np.arctan2(1.0, cot_lo)
         hi *= DEGREES
-        rows = np.flatnonzero(~_all_positive(turn))
+        rows = np.flatnonzero(~(self.convex & (orientation > 0.0)))
         if rows.size:
             lo[rows], hi[rows] = self._angle_range_at(rows, orientation[rows])
         return lo, hi
@@ -212,14 +221,6 @@ class PolygonCorners:
 
     def longest_edge(self) -> np.ndarray:
         return extremes(self.length)[1]
-
-
-def _all_positive(values: list[np.ndarray]) -> np.ndarray:
-    """True where every array of ``values`` is > 0."""
-    out = values[0] > 0.0
-    for v in values[1:]:
-        out &= v > 0.0
-    return out
 
 
 def polygon_corners(x: tuple[Point, ...]) -> PolygonCorners:
