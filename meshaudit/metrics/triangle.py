@@ -3,23 +3,42 @@
 Functions take corner coordinates ``p`` (n, 3, 2) in the element's plane. The reference
 triangle is (0, 0), (1, 0), (0, 1), so det J = det[x2 - x1, x3 - x1] = 2 * signed area,
 constant over the element.
+
+Implementation: like the quad kernel, the arithmetic runs on node columns (see
+:mod:`meshaudit.metrics.columns`) and shares its corner data (edge lengths, corner
+determinants, the angle shortcut for convex elements).
 """
 
 from __future__ import annotations
 
 import numpy as np
 
-from .common import corner_edges, cross2, degenerate, interior_angles, norm, score
+from .columns import (
+    Point,
+    PolygonCorners,
+    cross2,
+    cross3,
+    degenerate_edges,
+    edges,
+    polygon_corners,
+    split,
+    sub,
+)
+from .columns import length as length_columns
+from .common import score
 
 _SQRT3 = np.sqrt(3.0)
 #: Columns are the edge vectors of the unit equilateral triangle: the ideal shape.
 _EQUILATERAL = np.array([[1.0, 0.5], [0.0, _SQRT3 / 2.0]])
-_EQUILATERAL_INV = np.linalg.inv(_EQUILATERAL)
 
 
 def jacobian_determinant(p: np.ndarray) -> np.ndarray:
     """det J = det[x2 - x1, x3 - x1] (twice the signed area), shape (n,)."""
-    return cross2(p[:, 1] - p[:, 0], p[:, 2] - p[:, 0])
+    return _det(split(p))
+
+
+def _det(x: tuple[Point, ...]) -> np.ndarray:
+    return cross2(sub(x[1], x[0]), sub(x[2], x[0]))
 
 
 def scaled_jacobian(p: np.ndarray) -> np.ndarray:
@@ -28,22 +47,33 @@ def scaled_jacobian(p: np.ndarray) -> np.ndarray:
     min over corners of det[a, b] / (|a| |b|), times 2 / sqrt(3) so that the equilateral
     triangle reads 1. Knupp (2001), citation from memory.
     """
-    a, b = corner_edges(p)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        return (cross2(a, b) / (norm(a) * norm(b))).min(axis=1) * (2.0 / _SQRT3)
+    return _scaled_jacobian(polygon_corners(split(p)))
+
+
+def _scaled_jacobian(corners: PolygonCorners) -> np.ndarray:
+    out = corners.scaled_jacobian()
+    out *= 2.0 / _SQRT3
+    return out
 
 
 def condition(p: np.ndarray) -> np.ndarray:
     """Knupp's condition number |T|_F^2 / (2 det T), T = A W^-1, W the equilateral triangle.
 
-    1 for the equilateral triangle, infinite for an inverted or collapsed one.
+    1 for the equilateral triangle, infinite for an inverted or collapsed one. Worked out
+    as (l1^2 + l2^2 + l3^2) / (2 sqrt3 det A) from the edge lengths l and det A = det J,
+    the same number to round-off.
     """
-    a = np.stack([p[:, 1] - p[:, 0], p[:, 2] - p[:, 0]], axis=-1)  # columns = edges
-    t = a @ _EQUILATERAL_INV
-    det = t[:, 0, 0] * t[:, 1, 1] - t[:, 0, 1] * t[:, 1, 0]
-    frob = np.einsum("nij,nij->n", t, t)
+    x = split(p)
+    return _condition(polygon_corners(x), _det(x))
+
+
+def _condition(corners: PolygonCorners, det: np.ndarray) -> np.ndarray:
+    sq = corners.sq_next
+    total = (sq[0] + sq[1]) + sq[2]
     with np.errstate(divide="ignore", invalid="ignore"):
-        return np.where(det > 0.0, frob / (2.0 * det), np.inf)
+        total /= det * (2.0 * _SQRT3)
+    np.copyto(total, np.inf, where=~(det > 0.0))
+    return total
 
 
 def aspect_ratio(p: np.ndarray) -> np.ndarray:
@@ -51,10 +81,29 @@ def aspect_ratio(p: np.ndarray) -> np.ndarray:
 
     aspect = sqrt(3) * L_max^2 / (4 * area). Common practice, no single source.
     """
-    lengths = norm(np.roll(p, -1, axis=1) - p)
-    area = np.abs(jacobian_determinant(p)) / 2.0
+    x = split(p)
+    return _aspect_ratio(polygon_corners(x), _det(x))
+
+
+def _aspect_ratio(corners: PolygonCorners, det: np.ndarray) -> np.ndarray:
+    area = np.abs(det) / 2.0
     with np.errstate(divide="ignore", invalid="ignore"):
-        return _SQRT3 * lengths.max(axis=1) ** 2 / (4.0 * area)
+        return _SQRT3 * corners.longest_edge() ** 2 / (4.0 * area)
+
+
+def _area_and_collapse(x3d: tuple[Point, ...]) -> tuple[np.ndarray, np.ndarray]:
+    """(area, collapsed) from the nodes in space (see :func:`columns.degenerate`).
+
+    In a plane z = c the normal is (+-0, +-0, det) and its length |det| (barring
+    underflow), and the z parts add nothing to the edge lengths: 2-D columns suffice.
+    """
+    if all(bool((pt[2] == x3d[0][2][:1]).all()) for pt in x3d):
+        xy = tuple(pt[:2] for pt in x3d)
+        area = np.abs(_det(xy))
+        area *= 0.5
+        return area, degenerate_edges(edges(xy), area)
+    area = 0.5 * length_columns(cross3(sub(x3d[1], x3d[0]), sub(x3d[2], x3d[0])))
+    return area, degenerate_edges(edges(x3d), area)
 
 
 def measure(
@@ -65,14 +114,14 @@ def measure(
     Skew, taper and warp have no meaning for a triangle and are NaN.
     """
     n = p.shape[0]
-    det = jacobian_determinant(p)
-    area = 0.5 * norm(np.cross(coords3[:, 1] - coords3[:, 0], coords3[:, 2] - coords3[:, 0]))
-    a, b = corner_edges(p)
-    orientation = np.where(det < 0.0, -1.0, 1.0)
-    angles = interior_angles(a, b, orientation)
-    sj = scaled_jacobian(p)
-    cond = condition(p)
-    collapsed = degenerate(coords3, area)
+    x = split(p)
+    det = _det(x)
+    area, collapsed = _area_and_collapse(split(coords3))
+    corners = polygon_corners(x)
+    orientation = 1.0 - 2.0 * (det < 0.0)
+    min_angle, max_angle = corners.angle_range(orientation)
+    sj = _scaled_jacobian(corners)
+    cond = _condition(corners, det)
     inverted = (det < 0.0) & ~collapsed
     invalid = collapsed | inverted
     nan = np.full(n, np.nan)
@@ -83,12 +132,12 @@ def measure(
         "det_j_corner_min": det.copy(),
         "jacobian_ratio": np.where(det > 0.0, 1.0, np.inf),
         "scaled_jacobian": sj,
-        "aspect_ratio": aspect_ratio(p),
+        "aspect_ratio": _aspect_ratio(corners, det),
         "skew": nan,
         "taper": nan.copy(),
         "warp": nan.copy(),
-        "min_angle": angles.min(axis=1),
-        "max_angle": angles.max(axis=1),
+        "min_angle": min_angle,
+        "max_angle": max_angle,
         "condition": cond,
         "score": score(sj, cond, None, invalid),
     }
