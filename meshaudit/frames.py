@@ -141,6 +141,41 @@ def _to_local_xy(coords: np.ndarray) -> np.ndarray:
     return as_elements(cols)
 
 
+def _to_local_own_plane(coords: np.ndarray, corners: np.ndarray) -> np.ndarray:
+    """:func:`to_local` of shell elements, on node columns.
+
+    In-plane axes: t1 = the first side with its normal part taken out, made unit;
+    t2 = normal x t1. The sums run in the order of the array form
+    (rel - centroid, (t . n) n, sums over x, y, z left to right), so the numbers are the
+    same to the bit; the result is a view (n, k, 2) of a (k, 2, n) array.
+    """
+    normal = np.ascontiguousarray(element_normals(corners).T)  # (3, n)
+    rel = node_columns(coords)  # a copy: (k, 3, n)
+    n_corners = corners.shape[1]
+    centre = rel[0] + rel[1]  # summed as centroids() sums
+    for node in rel[2:n_corners]:
+        centre += node
+    centre /= n_corners
+    rel -= centre
+    side = rel[1] - rel[0]
+    side -= _dot3(side, normal) * normal
+    with np.errstate(invalid="ignore", divide="ignore"):
+        side /= np.sqrt(_dot3(side, side))  # the norm sums from +0.0 too
+    t2 = np.cross(normal, side, axis=0)
+    out = np.empty((len(rel), 2, rel.shape[-1]))
+    for k, axis in enumerate((side, t2)):
+        out[:, k] = _dot3(rel.swapaxes(0, 1), axis[:, None])
+    return as_elements(out)
+
+
+def _dot3(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """Sum over the first axis (x, y, z) of a * b as numpy's sum() does it: ((x + y) + z),
+    from +0.0, so a zero sum is never -0.0."""
+    out = (a[0] * b[0] + a[1] * b[1]) + a[2] * b[2]
+    out += 0.0
+    return out
+
+
 def to_local(coords: np.ndarray, frame: Frame, n_corners: int | None = None) -> np.ndarray:
     """Lay elements ``coords`` (n, k, 3) flat: (n, k, 2) in-plane coordinates.
 
@@ -154,13 +189,9 @@ def to_local(coords: np.ndarray, frame: Frame, n_corners: int | None = None) -> 
     in_xy = frame.kind == "planar" and np.array_equal(frame.axes, np.eye(3)[:2])
     if in_xy and n_corners is None:
         return _to_local_xy(coords)
-    rel = coords - centroids(corners)[:, None, :]
     if frame.kind == "planar":
+        rel = coords - centroids(corners)[:, None, :]
         if in_xy:
             return rel[:, :, :2] + 0.0  # what the product with the axes gives, to the bit
         return rel @ frame.axes.T
-    normal = element_normals(corners)
-    t1 = rel[:, 1] - rel[:, 0]
-    t1 = _unit(t1 - (t1 * normal).sum(axis=1, keepdims=True) * normal)
-    t2 = np.cross(normal, t1)
-    return np.stack([(rel * t1[:, None]).sum(-1), (rel * t2[:, None]).sum(-1)], axis=-1)
+    return _to_local_own_plane(coords, corners)
