@@ -232,7 +232,7 @@ def _renderer(kind: str, report: Report, args: argparse.Namespace) -> Renderer:
     if kind == "json":
         from .outputs import json_report
 
-        return lambda p: atomic.write_text(p, json_report.render(report, args.all))
+        return lambda p: json_report.write(p, report, args.all)
     if kind == "csv":
         from .outputs import csv_report
 

@@ -100,3 +100,16 @@ def test_counts_match_numpy_bincount_and_a_count_per_flag_bit():
             expected[name] = n
     assert report.flag_counts() == expected
     assert {"inverted", "nonconvex"} <= set(expected)  # the planted ones are there
+
+
+@pytest.mark.parametrize("every_element", [False, True])
+def test_written_in_slices_the_text_is_unchanged(tmp_path, monkeypatch, every_element):
+    """Element lines rendered a few at a time and written piece by piece: the same text as
+    the json module writes in one go."""
+    report = _region_report()
+    assert report.worst().size > 2 * 7  # several slices either way
+    monkeypatch.setattr(json_report, "ROWS_PER_PIECE", 7)
+    expected = _reference_render(report, every_element)
+    assert json_report.render(report, every_element) == expected
+    json_report.write(tmp_path / "r.json", report, every_element)
+    assert (tmp_path / "r.json").read_bytes() == expected.encode("ascii")

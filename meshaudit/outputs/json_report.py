@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import json
+import os
+from collections.abc import Iterator
 from typing import Any
 
 import numpy as np
@@ -13,6 +15,8 @@ from .json_elements import element_lines
 
 #: Bump when a field is renamed or removed; adding fields keeps the version.
 SCHEMA = "meshaudit.report/1"
+#: Element lines rendered at a time by :func:`pieces` (bounds the text held in memory).
+ROWS_PER_PIECE = 32_768
 
 
 def to_dict(report: Report, every_element: bool = False) -> dict[str, Any]:
@@ -52,8 +56,25 @@ def _document(report: Report, every_element: bool) -> tuple[dict[str, Any], np.n
 def render(report: Report, every_element: bool = False) -> str:
     """The JSON text of :func:`to_dict`: the document indented, each element record on
     one line (written column by column, see :mod:`.json_elements`)."""
+    return "".join(pieces(report, every_element))
+
+
+def write(path: str | os.PathLike[str], report: Report, every_element: bool = False) -> None:
+    """Write :func:`render`'s text to ``path`` (UTF-8) piece by piece, so that listing
+    every element of a large mesh never holds the whole text in memory."""
+    with open(path, "w", encoding="utf-8", newline="") as fh:
+        fh.writelines(pieces(report, every_element))
+
+
+def pieces(report: Report, every_element: bool = False) -> Iterator[str]:
+    """:func:`render`'s text in pieces: the head, then the element lines in slices of
+    :data:`ROWS_PER_PIECE`."""
     doc, rows = _document(report, every_element)
-    head = json.dumps(doc, indent=1, allow_nan=False)
-    lines = element_lines(report, rows)
-    body = "[\n  " + ",\n  ".join(lines) + "\n ]" if lines else "[]"
-    return head[:-2] + f',\n "elements": {body}\n}}\n'
+    yield json.dumps(doc, indent=1, allow_nan=False)[:-2] + ',\n "elements": '
+    if rows.size == 0:
+        yield "[]\n}\n"
+        return
+    for start in range(0, rows.size, ROWS_PER_PIECE):
+        lines = element_lines(report, rows[start : start + ROWS_PER_PIECE])
+        yield ("[\n  " if start == 0 else ",\n  ") + ",\n  ".join(lines)
+    yield "\n ]\n}\n"
