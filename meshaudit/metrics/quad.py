@@ -20,10 +20,12 @@ Implementation: the arithmetic runs on "columns", one contiguous (n,) array per 
 coordinate (see :mod:`meshaudit.metrics.columns`), written out term by term.
 That avoids the (n, 4, d) temporaries and small-axis reductions of the array form and
 is several times faster on large meshes. :func:`measure` takes exact shortcuts on top
-(the extremes of det J from |c1| and |c2|, axes kept at four times their size, see
-:func:`_det_extremes` and :func:`_axes_times_4`), so it agrees with the public functions
-below to the last bit, except the angles of convex elements and the aspect ratio,
-which differ from them by round-off (a few units in the last place).
+(det J extremes from |c1| and |c2|, axes kept at four times their size, see
+:func:`_det_extremes` and :func:`_axes_times_4`), so its det J, area, warp, skew, taper,
+scaled Jacobian and condition number are those of the public functions below to the
+last bit; the aspect ratio and the angles take one square root and two arc tangents per
+element instead of one per edge or corner and agree with the plain formulas to a few
+units in the last place.
 """
 
 from __future__ import annotations
