@@ -236,7 +236,7 @@ def _renderer(kind: str, report: Report, args: argparse.Namespace) -> Renderer:
     if kind == "csv":
         from .outputs import csv_report
 
-        return lambda p: atomic.write_text(p, csv_report.render(report))
+        return lambda p: csv_report.write(p, report)
     from .outputs import junit_report
 
     return lambda p: atomic.write_text(p, junit_report.render(report))

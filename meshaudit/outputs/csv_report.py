@@ -2,6 +2,9 @@
 
 from __future__ import annotations
 
+import os
+from collections.abc import Iterator
+
 import numpy as np
 
 from ..metrics import METRIC_NAMES
@@ -23,24 +26,52 @@ TRAILING = tuple(m for m in METRIC_NAMES if m != "score")
 COLUMNS = LEADING + TRAILING
 
 
-def _numbers(values: np.ndarray) -> np.ndarray:
-    """Format floats with 10 significant digits; NaN (not defined) becomes empty."""
-    out = np.char.mod("%.10g", values).astype(object)
-    out[np.isnan(values)] = ""
+#: Rows formatted at a time by :func:`pieces` (bounds the text held in memory).
+ROWS_PER_PIECE = 65_536
+
+
+def _numbers(values: np.ndarray) -> list[str]:
+    """Format floats with 10 significant digits; NaN (not defined) becomes empty.
+
+    Python's own ``%`` formatting over the column's floats: the same text as numpy's
+    ``char.mod`` gives, several times faster.
+    """
+    nan = np.flatnonzero(np.isnan(values))
+    if nan.size == values.size:  # e.g. midside metrics of linear elements
+        return [""] * values.size
+    out = list(map("%.10g".__mod__, values.astype(np.float64).tolist()))
+    for k in nan.tolist():
+        out[k] = ""
     return out
 
 
 def render(report: Report) -> str:
-    cols = [
-        np.char.mod("%d", report.index).astype(object),
-        np.char.mod("%d", report.ids).astype(object),
-        report.types,
-        report.verdict_names,
-        _numbers(report.score),
-        report.flag_strings(";"),
-        *(_numbers(report.centroids[:, k]) for k in range(3)),
-        *(_numbers(report.metrics[m]) for m in TRAILING),
-    ]
-    lines = [",".join(COLUMNS)]
-    lines.extend(",".join(row) for row in zip(*cols))
-    return "\n".join(lines) + "\n"
+    """The CSV text: a header line, then one line per element in read order."""
+    return "".join(pieces(report))
+
+
+def write(path: str | os.PathLike[str], report: Report) -> None:
+    """Write :func:`render`'s text to ``path`` (UTF-8) piece by piece, so that a large
+    mesh's table is never held in memory whole."""
+    with open(path, "w", encoding="utf-8", newline="") as fh:
+        fh.writelines(pieces(report))
+
+
+def pieces(report: Report) -> Iterator[str]:
+    """:func:`render`'s text in pieces: the header, then :data:`ROWS_PER_PIECE` rows at a
+    time."""
+    yield ",".join(COLUMNS) + "\n"
+    types, verdicts, flags = report.types, report.verdict_names, report.flag_strings(";")
+    for start in range(0, len(report), ROWS_PER_PIECE):
+        rows = slice(start, start + ROWS_PER_PIECE)
+        cols = [
+            list(map(str, report.index[rows].tolist())),
+            list(map(str, report.ids[rows].tolist())),
+            types[rows].tolist(),
+            verdicts[rows].tolist(),
+            _numbers(report.score[rows]),
+            flags[rows].tolist(),
+            *(_numbers(report.centroids[rows, k]) for k in range(3)),
+            *(_numbers(report.metrics[m][rows]) for m in TRAILING),
+        ]
+        yield "\n".join(map(",".join, zip(*cols))) + "\n"
