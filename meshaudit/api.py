@@ -12,6 +12,7 @@ import numpy as np
 
 from .elements import ElementBlock, ElementMesh
 from .errors import InputError
+from .finding_kinds import KIND_NAMES
 from .findings import TopologyPart, find_topology, finish
 from .frames import Frame, centroids, choose_frame, to_local
 from .mesh_checks.overlap import PlanarShapes
@@ -150,8 +151,11 @@ def audit_elements(
         type_codes[block.index] = cell_types.index(block.cell_type)
         family_codes[block.index] = families.index(block.family)
     sink = _ChunkSink(n, has_quadratic=any(t in QUADRATIC_CELLS for t in cell_types))
+    checks = any(prof.findings.enabled(kind) for kind in KIND_NAMES)
     planar = frame.kind == "planar" and frame.axes is not None
-    shapes = PlanarShapes.empty(n, frame.axes, mesh.points.min(axis=0)) if planar else None
+    shapes = None
+    if planar and checks:
+        shapes = PlanarShapes.empty(n, frame.axes, mesh.points.min(axis=0))
 
     def measure(block: ElementBlock, sl: slice) -> int:
         rows = _rows(block.index[sl])
@@ -164,8 +168,12 @@ def audit_elements(
             shapes.fill(rows, coords3[:, : CORNER_COUNT[block.family]])
         return sl.stop - sl.start
 
-    def topology() -> tuple[EdgeTable, TopologyPart]:
+    def topology() -> tuple[EdgeTable | None, TopologyPart | None]:
+        if not checks and frame.kind != "shell":  # every finding kind is off
+            return None, None
         table = edge_table(mesh)  # shared by the orientation flags and the findings
+        if not checks:
+            return table, None
         return table, find_topology(mesh, ids, frame, prof.findings, table)
 
     if progress is not None:
@@ -191,7 +199,7 @@ def audit_elements(
                 pool.shutdown(wait=True, cancel_futures=True)
                 raise
     notes = mark_orientation(mesh, frame, sink.bits, sink.verdict, table)
-    mesh_findings = finish(part, mesh, frame, shapes)
+    mesh_findings = finish(part, mesh, frame, shapes) if part is not None else None
     summary = MeshSummary(
         source=mesh.source,
         n_points=mesh.n_points,
@@ -218,8 +226,8 @@ def audit_elements(
         region_names=region_names,
         region_profiles=region_profiles,
         region_codes=codes,
-        findings=mesh_findings.findings,
-        free_edges=mesh_findings.free_edges,
+        findings=mesh_findings.findings if mesh_findings is not None else [],
+        free_edges=mesh_findings.free_edges if mesh_findings is not None else None,
     )
 
 

@@ -5,6 +5,7 @@ intersections, numpy's own row sort)."""
 from __future__ import annotations
 
 import json
+from pathlib import Path
 
 import meshio
 import numpy as np
@@ -103,3 +104,21 @@ def test_corner_sort_matches_numpy_row_sort():
     assert np.array_equal(got[:500], np.sort(quads, axis=1))  # numpy's sort as reference
     assert np.array_equal(got[500:, 1:], np.sort(tris, axis=1))
     assert (got[500:, 0] == -1).all()
+
+
+def test_all_findings_off_skips_the_mesh_checks_and_keeps_element_results(tmp_path):
+    from meshaudit.finding_kinds import KIND_NAMES
+
+    profile = tmp_path / "elements_only.toml"
+    lines = ['name = "elements-only"', 'extends = "standard"', "[findings]"]
+    profile.write_text("\n".join(lines + [f'{k} = "off"' for k in KIND_NAMES]) + "\n")
+    sample = Path(__file__).resolve().parents[1] / "samples" / "bracket_plate_defects.msh"
+    full = api.audit(sample)
+    bare = api.audit(sample, profile=profile)
+    assert full.findings and not bare.findings  # the sample has a winding finding
+    assert bare.free_edges is None
+    for name, values in full.metrics.items():
+        assert np.array_equal(values, bare.metrics[name], equal_nan=True), name
+    assert np.array_equal(full.verdict, bare.verdict)
+    doc = json.loads(json_report.render(bare))
+    assert doc["findings"] == [] and doc["free_edge_loops"] == []
