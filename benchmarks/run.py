@@ -10,6 +10,9 @@ written as binary gmsh msh 4.1 and as VTU. For each file, in the same run:
 - bare read: ``python -c "meshio.read(FILE)"`` in a fresh interpreter, wall time;
 - audit: ``python -m meshaudit check FILE --json OUT --quiet`` from this checkout (no
   plot), wall time and peak resident memory (``ru_maxrss`` of that child, from wait4);
+- element audit alone: the same with a profile that turns every mesh-level finding
+  kind off (written next to the meshes as ``elements_only.toml``), which leaves the
+  element metrics, verdicts and reports;
 - stages: one more child (:mod:`benchmarks.stages`) that times read, element arrays,
   metrics, verdicts, the rest of the engine, reports (statistics and JSON) and the plot.
 
@@ -34,7 +37,16 @@ from pathlib import Path
 from .meshgen import distorted_plate, write_mesh
 
 REPO = Path(__file__).resolve().parents[1]
-STAGES = ("read", "elements", "metrics", "verdicts", "engine other", "reports", "plot")
+STAGES = (
+    "read",
+    "elements",
+    "metrics",
+    "verdicts",
+    "mesh checks",
+    "engine other",
+    "reports",
+    "plot",
+)
 BARE_READ = "import sys, meshio; meshio.read(sys.argv[1])"
 
 
@@ -55,12 +67,28 @@ class Row:
     file_mb: float
     bare: Run
     audit: Run
+    elements_only: Run
     stages: dict[str, float] = field(default_factory=dict)
     not_ok: int | None = None  # elements listed in the JSON report (warn or fail)
 
     @property
     def ratio(self) -> float:
         return self.audit.seconds / self.bare.seconds
+
+    @property
+    def elements_ratio(self) -> float:
+        return self.elements_only.seconds / self.bare.seconds
+
+
+def elements_only_profile(outdir: Path) -> Path:
+    """A profile file: the standard limits with every mesh-level finding kind off."""
+    from meshaudit.finding_kinds import KIND_NAMES
+
+    path = outdir / "elements_only.toml"
+    lines = ['name = "elements-only"', 'extends = "standard"', "", "[findings]"]
+    lines += [f'{kind} = "off"' for kind in KIND_NAMES]
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    return path
 
 
 def child_env() -> dict[str, str]:
@@ -106,15 +134,19 @@ def measure(path: Path, size: int, outdir: Path, repeat: int, plot: bool) -> Row
     bare_argv = [py, "-c", BARE_READ, str(path)]
     json_out = outdir / f"{path.name}.report.json"
     audit_argv = [py, "-m", "meshaudit", "check", str(path), "--json", str(json_out), "--quiet"]
-    # alternate the two commands so that both see the same load on a shared machine
-    bare_runs, audit_runs = [], []
+    elements_argv = [*audit_argv, "--profile", str(elements_only_profile(outdir))]
+    # alternate the commands so that all see the same load on a shared machine
+    bare_runs, audit_runs, elements_runs = [], [], []
     for _ in range(max(1, repeat)):
         bare_runs.append(run_child(bare_argv, outdir))
         audit_runs.append(run_child(audit_argv, outdir))
+        elements_runs.append(run_child(elements_argv, outdir))
     bare = min(bare_runs, key=lambda r: r.seconds)
     audit = min(audit_runs, key=lambda r: r.seconds)
-    if audit.status not in (0, 1):
-        raise RuntimeError(f"meshaudit check {path} exited {audit.status}")
+    elements_only = min(elements_runs, key=lambda r: r.seconds)
+    for run in (audit, elements_only):
+        if run.status not in (0, 1):
+            raise RuntimeError(f"meshaudit check {path} exited {run.status}")
     stage_argv = [py, "-m", "benchmarks.stages", str(path), str(outdir)]
     if plot:
         stage_argv.append("--plot")
@@ -126,7 +158,7 @@ def measure(path: Path, size: int, outdir: Path, repeat: int, plot: bool) -> Row
         stages = result["times"]
         not_ok = result["verdicts"]["warn"] + result["verdicts"]["fail"]
     file_mb = path.stat().st_size / 1e6
-    return Row(size, path.suffix.lstrip("."), file_mb, bare, audit, stages, not_ok)
+    return Row(size, path.suffix.lstrip("."), file_mb, bare, audit, elements_only, stages, not_ok)
 
 
 def help_time(repeat: int) -> float:
@@ -144,6 +176,9 @@ def markdown(rows: list[Row], help_seconds: float) -> str:
         "audit s",
         "ratio",
         "peak MB",
+        "no mesh checks s",
+        "ratio",
+        "peak MB",
         *(f"{s} s" for s in STAGES),
     ]
     lines = ["| " + " | ".join(head) + " |", "|" + "---|" * len(head)]
@@ -157,6 +192,9 @@ def markdown(rows: list[Row], help_seconds: float) -> str:
             f"{r.audit.seconds:.2f}",
             f"{r.ratio:.2f}",
             f"{r.audit.peak_mb:.0f}",
+            f"{r.elements_only.seconds:.2f}",
+            f"{r.elements_ratio:.2f}",
+            f"{r.elements_only.peak_mb:.0f}",
             *(f"{r.stages[s]:.2f}" if s in r.stages else "-" for s in STAGES),
         ]
         lines.append("| " + " | ".join(cells) + " |")
@@ -221,7 +259,8 @@ def main(argv: list[str] | None = None) -> int:
             print(
                 f"{size:>10,} {fmt}: bare read {row.bare.seconds:.2f} s, "
                 f"audit {row.audit.seconds:.2f} s (x{row.ratio:.2f}), "
-                f"peak {row.audit.peak_mb:.0f} MB",
+                f"peak {row.audit.peak_mb:.0f} MB; without mesh checks "
+                f"{row.elements_only.seconds:.2f} s (x{row.elements_ratio:.2f})",
                 flush=True,
             )
     text = f"Machine: {machine()}.\n\n" + markdown(rows, help_time(args.repeat))
