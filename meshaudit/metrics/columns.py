@@ -7,7 +7,7 @@ through memory once, which is what makes a million-element kernel fast.
 
 Where a shortcut below replaces the plain formula, it is an exact rearrangement: it
 gives the same floating-point result (see each docstring), barring overflow or
-underflow, which needs coordinates beyond about 1e+-75.
+underflow, which needs coordinates above about 1e75 or below 1e-75.
 """
 
 from __future__ import annotations
@@ -116,16 +116,9 @@ def edges(x: tuple[Point, ...]) -> list[Point]:
     return [sub(x[(k + 1) % len(x)], x[k]) for k in range(len(x))]
 
 
-def degenerate(x: tuple[Point, ...], area: np.ndarray) -> np.ndarray:
-    """Collapsed polygons (nodes ``x`` in 3-D): a (near) zero-length edge or zero area.
-
-    Same rule as :func:`meshaudit.metrics.common.degenerate`.
-    """
-    return degenerate_edges(edges(x), area)
-
-
 def degenerate_edges(vectors: list[Point], area: np.ndarray) -> np.ndarray:
-    """:func:`degenerate` from the edge vectors.
+    """Collapsed polygons: a (near) zero-length edge or (near) zero area, from the edge
+    vectors (in 3-D for the rule of :func:`meshaudit.metrics.common.degenerate`).
 
     The square root is taken of the longest and shortest squared length only: it is
     monotonic, so they are the longest and shortest lengths to the bit.

@@ -92,7 +92,7 @@ def _aspect_ratio(corners: PolygonCorners, det: np.ndarray) -> np.ndarray:
 
 
 def _area_and_collapse(x3d: tuple[Point, ...]) -> tuple[np.ndarray, np.ndarray]:
-    """(area, collapsed) from the nodes in space (see :func:`columns.degenerate`).
+    """(area, collapsed) from the nodes in space (see :func:`columns.degenerate_edges`).
 
     In a plane z = c the normal is (+-0, +-0, det) and its length |det| (barring
     underflow), and the z parts add nothing to the edge lengths: 2-D columns suffice.
