@@ -1,8 +1,8 @@
 """CPU time of the metric kernels, and agreement of their results with another checkout.
 
 ``python -m benchmarks.kernels [--elements N] [--repeat R] [--against CHECKOUT]`` builds
-four bracket-plate samples of about N elements (planar quads, the same split into
-triangles, quad8 with midside nodes, and the plate bent into a shell), runs
+four bracket-plate samples from a plate of about N quads (planar quads, the same split
+into 2N triangles, quad8 with midside nodes, and the plate bent into a shell), runs
 ``meshaudit.api.measure_elements`` over them in chunks as the engine does, and prints
 the best-of-R CPU time (``time.process_time``) per sample.
 
@@ -68,8 +68,8 @@ def measure_all(coords: np.ndarray, family: str, cell_type: str | None, kind: st
     return out
 
 
-def run(n_elements: int, repeat: int, save: Path | None) -> dict[str, float]:
-    """Best-of-``repeat`` CPU seconds per sample; results saved to ``save`` (npz)."""
+def run(n_elements: int, repeat: int, save: Path | None) -> dict[str, tuple[float, int]]:
+    """(best-of-``repeat`` CPU seconds, elements) per sample; results saved to ``save``."""
     times, results = {}, {}
     for name, coords in samples(n_elements).items():
         best = np.inf
@@ -77,7 +77,7 @@ def run(n_elements: int, repeat: int, save: Path | None) -> dict[str, float]:
             start = time.process_time()
             out = measure_all(coords, *SAMPLES[name])
             best = min(best, time.process_time() - start)
-        times[name] = best
+        times[name] = best, len(coords)
         results.update({f"{name}/{k}": v for k, v in out.items()})
     if save is not None:
         np.savez(save, **results)
@@ -118,8 +118,8 @@ def main() -> None:
         sys.path.insert(0, str(args.kernels_from))
     with tempfile.TemporaryDirectory() as tmp:
         ours = Path(tmp) / "ours.npz"
-        for name, seconds in run(args.elements, args.repeat, args.save or ours).items():
-            print(f"{name:10s} {seconds * 1000:9.1f} ms CPU  ({args.elements} elements)")
+        for name, (seconds, count) in run(args.elements, args.repeat, args.save or ours).items():
+            print(f"{name:10s} {seconds * 1000:9.1f} ms CPU  ({count} elements)")
         if args.against is None or args.save is not None:
             return
         theirs = Path(tmp) / "theirs.npz"
