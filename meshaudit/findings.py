@@ -15,6 +15,7 @@ from typing import Any
 
 import numpy as np
 
+from .arrays import unique_values
 from .elements import ElementMesh
 from .finding_kinds import KIND_INFO, FindingSettings
 from .frames import Frame
@@ -106,9 +107,9 @@ class _Builder:
     ) -> None:
         if count == 0:
             return
-        elements = _empty_int() if elements is None else np.unique(elements)
+        elements = _empty_int() if elements is None else unique_values(elements)
         if nodes_ is None:
-            nodes_ = _empty_int() if edge_nodes is None else np.unique(edge_nodes)
+            nodes_ = _empty_int() if edge_nodes is None else unique_values(edge_nodes)
         edge_nodes = _empty_int(0, 2) if edge_nodes is None else edge_nodes
         self.findings.append(
             Finding(
@@ -116,12 +117,12 @@ class _Builder:
                 severity=self.settings.severity[kind],
                 count=int(count),
                 element_ids=self.ids[elements],
-                node_ids=np.unique(nodes_),
+                node_ids=unique_values(nodes_),
                 message=message,
                 element_index=elements,
                 pairs=_empty_int(0, 2) if pairs is None else pairs,
                 edges=edge_nodes,
-                node_xyz=self.points[np.unique(nodes_)],
+                node_xyz=self.points[unique_values(nodes_)],
                 edge_xyz=self.points[edge_nodes].reshape(-1, 2, 3),
             )
         )
@@ -191,7 +192,7 @@ def find_topology(
 
     coincident = _coincident(mesh, table, settings.coincident_tolerance)
     if out.on("coincident_nodes"):
-        nodes_ = np.unique(coincident)
+        nodes_ = unique_values(coincident)
         out.add(
             "coincident_nodes",
             len(coincident),
@@ -204,7 +205,7 @@ def find_topology(
     free = edges.free_edges(table, mesh.points, coincident)
     if out.on("crack_edges"):
         crack = np.flatnonzero(free.crack)
-        loops = np.unique(free.loop[crack])
+        loops = unique_values(free.loop[crack])
         out.add(
             "crack_edges",
             crack.size,
@@ -233,7 +234,7 @@ def find_topology(
             "opposite_normals",
             clash.size,
             f"{clash.size} edge(s) between neighbours with opposite normals; elements "
-            f"{_some(ids[np.unique(both)])}",
+            f"{_some(ids[unique_values(both)])}",
             both,
             None,
             None,
@@ -321,7 +322,7 @@ def _planar_checks(
     _, fold_a, fold_b = edges.same_direction_pairs(table, flip=sign < 0)
     nm_edges, nm_elements = edges.non_manifold_edges(table)
     suspects = np.concatenate([np.flatnonzero(~shapes.convex & keep), fold_a, fold_b, nm_elements])
-    around = np.union1d(free.element, overlap.node_neighbours(mesh, suspects))
+    around = unique_values(np.concatenate([free.element, overlap.node_neighbours(mesh, suspects)]))
     candidates = np.concatenate(
         [
             np.stack([fold_a, fold_b], axis=1),

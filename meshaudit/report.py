@@ -10,6 +10,7 @@ from typing import Any
 
 import numpy as np
 
+from .arrays import unique_values
 from .findings import Finding
 from .mesh_checks.edges import FreeEdges
 from .metrics import METRIC_INFO, METRIC_NAMES, VALIDITY_FLAGS, WARNING_FLAGS
@@ -308,7 +309,7 @@ class Report:
         if self.region_codes is not None:
             regions = self.region_codes[rows].astype(np.int64)
         keys = self.families[rows].astype(np.int64) * n_profiles + regions
-        for key in np.unique(keys).tolist():
+        for key in unique_values(keys).tolist():
             f_code, r_code = divmod(key, n_profiles)
             profile = self.region_profiles[r_code - 1] if r_code else self.profile
             lim = profile.limit(self.cell_families[f_code], metric)

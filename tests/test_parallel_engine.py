@@ -122,3 +122,14 @@ def test_all_findings_off_skips_the_mesh_checks_and_keeps_element_results(tmp_pa
     assert np.array_equal(full.verdict, bare.verdict)
     doc = json.loads(json_report.render(bare))
     assert doc["findings"] == [] and doc["free_edge_loops"] == []
+
+
+@pytest.mark.parametrize("dtype", [np.int32, np.int64, np.float64])
+def test_unique_values_matches_numpy_unique(dtype):
+    from meshaudit.arrays import unique_values
+
+    rng = np.random.default_rng(5)
+    for values in (rng.integers(-20, 20, 500).astype(dtype), np.zeros(0, dtype=dtype)):
+        got = unique_values(values)
+        assert got.dtype == values.dtype
+        assert np.array_equal(got, np.unique(values))  # numpy's own as the reference

@@ -7,6 +7,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
+from ..arrays import unique_values
 from ..topology import EdgeTable, connected_labels
 
 
@@ -146,7 +147,7 @@ def non_manifold_edges(table: EdgeTable) -> tuple[np.ndarray, np.ndarray]:
     """(edges, elements): unique edges used three or more times, and the elements using them."""
     edges = np.flatnonzero(table.uses > 2)
     on = table.uses[table.edge] > 2
-    return edges, np.unique(table.element[on]).astype(np.int64)
+    return edges, unique_values(table.element[on]).astype(np.int64)
 
 
 def same_direction_pairs(

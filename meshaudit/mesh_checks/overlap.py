@@ -21,6 +21,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..arrays import unique_values
 from ..elements import ElementMesh
 from ..topology import CORNERS_PER_FAMILY, EdgeTable, corner_rows, sort_keys
 
@@ -60,7 +61,7 @@ def node_neighbours(mesh: ElementMesh, elements: np.ndarray) -> np.ndarray:
     for block in mesh.blocks:
         conn = block.connectivity[:, : CORNERS_PER_FAMILY[block.family]]
         out.append(block.index[marked[conn].any(axis=1)])
-    return np.unique(np.concatenate(out))
+    return unique_values(np.concatenate(out))
 
 
 def pairs_on_edges(table: EdgeTable, edges: np.ndarray) -> np.ndarray:
@@ -229,7 +230,10 @@ def overlapping_pairs(
     """
     if candidates.size == 0:
         return np.zeros((0, 2), dtype=np.int64), np.zeros(0)
-    pairs = np.unique(np.sort(candidates, axis=1), axis=0)
+    low, high = candidates.min(axis=1).astype(np.int64), candidates.max(axis=1)
+    span = np.int64(mesh.n_elements)
+    code = unique_values(low * span + high)  # distinct pairs (a < b), ascending
+    pairs = np.stack([code // span, code % span], axis=1)
     pairs = pairs[pairs[:, 0] != pairs[:, 1]]
     pairs = pairs[~separated(mesh, shapes, pairs)]
     if pairs.size == 0:
