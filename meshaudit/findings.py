@@ -136,6 +136,7 @@ class TopologyPart:
     table: EdgeTable
     keep: np.ndarray
     free: edges.FreeEdges
+    runs: np.ndarray | None = None  # planar: edges.forward_runs(table), for the fold check
 
 
 def find(
@@ -240,7 +241,10 @@ def find_topology(
             None,
             table.nodes[clash],
         )
-    return TopologyPart(out, table, keep, free)
+    runs = None
+    if frame.kind == "planar" and out.on("overlapping_elements"):
+        runs = edges.forward_runs(table)
+    return TopologyPart(out, table, keep, free, runs)
 
 
 def finish(
@@ -256,7 +260,7 @@ def finish(
         sign = shapes.sign.copy()
         sign[~part.keep] = 0  # duplicates are reported as such, not as wound the other way
         free = edges.with_winding(free, mesh.points, sign, frame.normal)
-        _planar_checks(part.out, mesh, part.table, free, shapes, sign, part.keep)
+        _planar_checks(part, mesh, free, shapes, sign)
     return MeshFindings(part.out.findings, free)
 
 
@@ -300,14 +304,13 @@ def _longest_squared(points: np.ndarray, edge_nodes: np.ndarray) -> float:
 
 
 def _planar_checks(
-    out: _Builder,
+    part: TopologyPart,
     mesh: ElementMesh,
-    table: EdgeTable,
     free: edges.FreeEdges,
     shapes: overlap.PlanarShapes,
     sign: np.ndarray,
-    keep: np.ndarray,
 ) -> None:
+    out, table, keep = part.out, part.table, part.keep
     ids = out.ids
     if out.on("inconsistent_winding"):
         odd = edges.minority_winding(sign)
@@ -319,7 +322,7 @@ def _planar_checks(
         )
     if not out.on("overlapping_elements"):
         return
-    _, fold_a, fold_b = edges.same_direction_pairs(table, flip=sign < 0)
+    _, fold_a, fold_b = edges.same_direction_pairs(table, flip=sign < 0, runs=part.runs)
     nm_edges, nm_elements = edges.non_manifold_edges(table)
     suspects = np.concatenate([np.flatnonzero(~shapes.convex & keep), fold_a, fold_b, nm_elements])
     around = unique_values(np.concatenate([free.element, overlap.node_neighbours(mesh, suspects)]))

@@ -150,20 +150,29 @@ def non_manifold_edges(table: EdgeTable) -> tuple[np.ndarray, np.ndarray]:
     return edges, unique_values(table.element[on]).astype(np.int64)
 
 
+def forward_runs(table: EdgeTable) -> np.ndarray:
+    """(n_edges,) how many uses of each edge run from its smaller node to the larger."""
+    return np.bincount(table.edge[table.forward], minlength=table.n_edges)
+
+
 def same_direction_pairs(
-    table: EdgeTable, flip: np.ndarray | None = None
+    table: EdgeTable, flip: np.ndarray | None = None, runs: np.ndarray | None = None
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """(edges, first, second): manifold interior edges both elements run the same way.
 
     On a shell that means opposite normals. With ``flip`` (bool per element: count the
     element as wound the other way) it finds planar elements folded onto a neighbour.
-    One weighted count per edge finds them; only those edges are then sorted.
+    One count per edge finds them (``runs``: :func:`forward_runs` of ``table``, counted
+    here unless given; with ``flip`` only the flipped elements' uses are counted again);
+    only the edges found are then sorted.
     """
-    forward = table.forward
-    if flip is not None:
-        forward ^= flip[table.element]
-    runs = np.bincount(table.edge[forward], minlength=table.n_edges)
-    del forward
+    if runs is None:
+        runs = forward_runs(table)
+    if flip is not None and flip.any():  # only the flipped elements' uses change
+        turned = np.flatnonzero(flip[table.element])
+        change = np.where(table.start[turned] < table.end[turned], -1, 1)
+        runs = runs.copy()
+        np.add.at(runs, table.edge[turned], change)
     clash = np.flatnonzero((table.uses == 2) & (runs != 1))
     mask = np.zeros(table.n_edges, dtype=bool)
     mask[clash] = True
