@@ -20,7 +20,7 @@ from .metrics import KERNELS, METRIC_NAMES, QUADRATIC_CELLS, quadratic
 from .profiles import Profile, load_profile
 from .reading import load
 from .regions import judge_by_region, region_codes
-from .report import FLAG_BIT, MeshSummary, Report
+from .report import FLAG_BIT, MeshSummary, Report, metric_statistics
 from .topology import EdgeTable, edge_table, flipped_elements
 from .verdicts import WARN
 
@@ -180,12 +180,15 @@ def audit_elements(
         progress("measure", 0, n)
     chunks = list(mesh.chunks(CHUNK_SIZE))
     workers = default_workers() if workers is None else max(1, int(workers))
+    stats = None
     if workers == 1 or len(chunks) < 2:
         for block, sl in chunks:
             sink.done += measure(block, sl)
             if progress is not None:
                 progress("measure", sink.done, n)
         table, part = topology()
+        notes = mark_orientation(mesh, frame, sink.bits, sink.verdict, table)
+        mesh_findings = finish(part, mesh, frame, shapes) if part is not None else None
     else:
         with ThreadPoolExecutor(max_workers=workers, thread_name_prefix="meshaudit") as pool:
             try:
@@ -194,12 +197,15 @@ def audit_elements(
                     sink.done += future.result()
                     if progress is not None:
                         progress("measure", sink.done, n)
+                # the statistics need only the finished columns: worked out meanwhile
+                summing = pool.submit(metric_statistics, sink.metrics, sink.ordered_levels())
                 table, part = pending.result()
+                notes = mark_orientation(mesh, frame, sink.bits, sink.verdict, table)
+                mesh_findings = finish(part, mesh, frame, shapes) if part is not None else None
+                stats = summing.result()
             except BaseException:
                 pool.shutdown(wait=True, cancel_futures=True)
                 raise
-    notes = mark_orientation(mesh, frame, sink.bits, sink.verdict, table)
-    mesh_findings = finish(part, mesh, frame, shapes) if part is not None else None
     summary = MeshSummary(
         source=mesh.source,
         n_points=mesh.n_points,
@@ -228,6 +234,7 @@ def audit_elements(
         region_codes=codes,
         findings=mesh_findings.findings if mesh_findings is not None else [],
         free_edges=mesh_findings.free_edges if mesh_findings is not None else None,
+        precomputed_statistics=stats,
     )
 
 

@@ -83,6 +83,10 @@ class Report:
     findings: list[Finding] = field(default_factory=list)
     #: Free edges chained into loops (None when the checks did not run).
     free_edges: FreeEdges | None = None
+    #: :meth:`statistics`, when the engine worked it out already (else on first use).
+    precomputed_statistics: dict[str, dict[str, Any]] | None = field(
+        default=None, repr=False, compare=False
+    )
 
     # -- sizes and selections -------------------------------------------------
     def __len__(self) -> int:
@@ -213,30 +217,12 @@ class Report:
         an infinite condition number count in 'infinite' and are left out of the
         percentiles), plus how many elements are past the warn limit (those past the fail
         limit included, as in the JUnit warn-limit case) and past the fail limit.
+        Worked out once (the engine does it beside the mesh-level checks) and kept:
+        after changing :attr:`metrics` by hand, call :func:`metric_statistics` instead.
         """
-        scratch = np.empty(len(self))  # one buffer for every metric's finite values
-        return {name: self._metric_statistics(name, scratch) for name in METRIC_NAMES}
-
-    def _metric_statistics(self, name: str, scratch: np.ndarray) -> dict[str, Any]:
-        """:meth:`statistics` of one metric; ``scratch`` holds at least len(self) floats."""
-        values = self.metrics[name]
-        is_finite = np.isfinite(values)
-        n_finite = int(np.count_nonzero(is_finite))
-        n_infinite = 0 if n_finite == values.size else int(np.count_nonzero(np.isinf(values)))
-        entry: dict[str, Any] = {"count": n_finite, "infinite": n_infinite}
-        if n_finite:
-            work = scratch[: values.size]
-            np.add(values, 0.0, out=work)  # the copy, with -0.0 made 0.0 (sign-free ties)
-            if n_finite < values.size:  # NaN and infinities move past the finite values
-                np.copyto(work, np.inf, where=~is_finite)
-            qs = linear_percentiles(work, [q for _, q in PERCENTILES], count=n_finite)
-            entry.update(zip((k for k, _ in PERCENTILES), qs))
-        else:
-            entry.update({k: None for k, _ in PERCENTILES})
-        lvl = self.levels.get(name)
-        entry["past_warn"] = int(np.count_nonzero(lvl >= WARN)) if lvl is not None else 0
-        entry["past_fail"] = int(np.count_nonzero(lvl == FAIL)) if lvl is not None else 0
-        return entry
+        if self.precomputed_statistics is None:
+            self.precomputed_statistics = metric_statistics(self.metrics, self.levels)
+        return self.precomputed_statistics
 
     def element_record(self, i: int) -> dict[str, Any]:
         """Everything about element ``i`` as plain Python values (non-finite -> None)."""
@@ -348,3 +334,33 @@ def finite_or_none(x: Any) -> float | None:
     """A float, or None for NaN and infinity (JSON has no such numbers)."""
     x = float(x)
     return x if np.isfinite(x) else None
+
+
+def metric_statistics(
+    metrics: dict[str, np.ndarray], levels: dict[str, np.ndarray]
+) -> dict[str, dict[str, Any]]:
+    """:meth:`Report.statistics` from the per-element ``metrics`` and breach ``levels``
+    alone (a pure function, so the engine can run it beside other work)."""
+    n = len(next(iter(metrics.values()))) if metrics else 0
+    scratch = np.empty(n)  # one buffer for every metric's finite values
+    return {name: _one_metric(metrics[name], levels.get(name), scratch) for name in METRIC_NAMES}
+
+
+def _one_metric(values: np.ndarray, lvl: np.ndarray | None, scratch: np.ndarray) -> dict[str, Any]:
+    """Statistics of one metric column; ``scratch`` holds at least ``values.size`` floats."""
+    is_finite = np.isfinite(values)
+    n_finite = int(np.count_nonzero(is_finite))
+    n_infinite = 0 if n_finite == values.size else int(np.count_nonzero(np.isinf(values)))
+    entry: dict[str, Any] = {"count": n_finite, "infinite": n_infinite}
+    if n_finite:
+        work = scratch[: values.size]
+        np.add(values, 0.0, out=work)  # the copy, with -0.0 made 0.0 (sign-free ties)
+        if n_finite < values.size:  # NaN and infinities move past the finite values
+            np.copyto(work, np.inf, where=~is_finite)
+        qs = linear_percentiles(work, [q for _, q in PERCENTILES], count=n_finite)
+        entry.update(zip((k for k, _ in PERCENTILES), qs))
+    else:
+        entry.update({k: None for k, _ in PERCENTILES})
+    entry["past_warn"] = int(np.count_nonzero(lvl >= WARN)) if lvl is not None else 0
+    entry["past_fail"] = int(np.count_nonzero(lvl == FAIL)) if lvl is not None else 0
+    return entry
