@@ -15,7 +15,7 @@ from .errors import InputError
 from .finding_kinds import KIND_NAMES
 from .findings import TopologyPart, find_topology, finish
 from .frames import Frame, centroids, choose_frame, to_local
-from .mesh_checks.overlap import PlanarShapes
+from .mesh_checks.overlap import CentroidGrid, PlanarShapes
 from .metrics import KERNELS, METRIC_NAMES, QUADRATIC_CELLS, quadratic
 from .profiles import Profile, load_profile
 from .reading import load
@@ -197,11 +197,18 @@ def audit_elements(
                     sink.done += future.result()
                     if progress is not None:
                         progress("measure", sink.done, n)
-                # the statistics need only the finished columns: worked out meanwhile
+                # the statistics and the overlap check's centroid grid need only the
+                # finished columns: worked out meanwhile
                 summing = pool.submit(metric_statistics, sink.metrics, sink.ordered_levels())
+                grid = None
+                if shapes is not None and prof.findings.enabled("overlapping_elements"):
+                    grid = pool.submit(CentroidGrid.build, shapes.boxes, shapes.centroids)
                 table, part = pending.result()
                 notes = mark_orientation(mesh, frame, sink.bits, sink.verdict, table)
-                mesh_findings = finish(part, mesh, frame, shapes) if part is not None else None
+                mesh_findings = None
+                if part is not None:
+                    fetch = None if grid is None else grid.result
+                    mesh_findings = finish(part, mesh, frame, shapes, fetch)
                 stats = summing.result()
             except BaseException:
                 pool.shutdown(wait=True, cancel_futures=True)

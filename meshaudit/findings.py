@@ -10,7 +10,9 @@ node indices and coordinates, edge end coordinates.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass, field
+from functools import partial
 from typing import Any
 
 import numpy as np
@@ -252,15 +254,22 @@ def finish(
     mesh: ElementMesh,
     frame: Frame,
     shapes: overlap.PlanarShapes | None,
+    grid: Callable[[], overlap.CentroidGrid] | None = None,
 ) -> MeshFindings:
     """Add the checks that need each element's winding and shape (planar meshes with
-    ``shapes``: loop kinds, inconsistent winding, overlaps) and return the findings."""
+    ``shapes``: loop kinds, inconsistent winding, overlaps) and return the findings.
+
+    ``grid``: returns the :class:`~meshaudit.mesh_checks.overlap.CentroidGrid` of
+    ``shapes`` when the caller builds it elsewhere (e.g. on another thread); called
+    only when the overlap check gets that far."""
     free = part.free
     if shapes is not None and frame.kind == "planar" and frame.normal is not None:
         sign = shapes.sign.copy()
         sign[~part.keep] = 0  # duplicates are reported as such, not as wound the other way
         free = edges.with_winding(free, mesh.points, sign, frame.normal)
-        _planar_checks(part, mesh, free, shapes, sign)
+        if grid is None:
+            grid = partial(overlap.CentroidGrid.build, shapes.boxes, shapes.centroids)
+        _planar_checks(part, mesh, free, shapes, sign, grid)
     return MeshFindings(part.out.findings, free)
 
 
@@ -309,6 +318,7 @@ def _planar_checks(
     free: edges.FreeEdges,
     shapes: overlap.PlanarShapes,
     sign: np.ndarray,
+    grid: Callable[[], overlap.CentroidGrid],
 ) -> None:
     out, table, keep = part.out, part.table, part.keep
     ids = out.ids
@@ -330,7 +340,7 @@ def _planar_checks(
         [
             np.stack([fold_a, fold_b], axis=1),
             overlap.pairs_on_edges(table, nm_edges),
-            overlap.pairs_near(shapes.boxes, shapes.centroids, around),
+            grid().pairs_near(around) if around.size else _empty_int(0, 2),
         ]
     )
     candidates = candidates[keep[candidates[:, 0]] & keep[candidates[:, 1]]]

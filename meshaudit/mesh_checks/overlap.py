@@ -80,41 +80,71 @@ def pairs_on_edges(table: EdgeTable, edges: np.ndarray) -> np.ndarray:
     return np.concatenate(out)
 
 
+@dataclass(frozen=True)
+class CentroidGrid:
+    """Element centroids bucketed on a square grid of cell ``h``, the largest element
+    extent: any element overlapping element e has its centroid within ``h`` of e's box,
+    so :meth:`pairs_near` reads at most 4 x 4 cells per element.
+
+    Built from every element (:meth:`build`), so it can be built on another thread
+    while the other checks run; queried for the few elements that need it.
+    """
+
+    boxes: np.ndarray  # (n, 4) xmin, ymin, xmax, ymax
+    h: float
+    origin: np.ndarray  # (2,) lowest centroid
+    width: int  # cells per grid column (key = column * width + row)
+    order: np.ndarray  # (n,) elements in ascending cell key
+    sorted_key: np.ndarray  # (n,) their cell keys
+
+    @classmethod
+    def build(cls, boxes: np.ndarray, centroids: np.ndarray) -> CentroidGrid:
+        extent = np.maximum(boxes[:, 2] - boxes[:, 0], boxes[:, 3] - boxes[:, 1])
+        h = float(extent.max()) if extent.size else 0.0
+        if h <= 0.0:
+            empty = np.zeros(0, dtype=np.int64)
+            return cls(boxes, 0.0, np.zeros(2), 1, empty, empty)
+        origin = centroids.min(axis=0)
+        cell = np.floor((centroids - origin) / h).astype(np.int64)
+        width = int(cell[:, 1].max()) + 5
+        key = cell[:, 0] * width + cell[:, 1]
+        order, sorted_key = sort_keys(key, (int(cell[:, 0].max()) + 5) * width)
+        return cls(boxes, h, origin, width, order, sorted_key)
+
+    def pairs_near(self, around: np.ndarray) -> np.ndarray:
+        """(p, 2) pairs (e, f): e in ``around``, f any element whose box overlaps e's
+        box with positive area."""
+        boxes, h, origin, width = self.boxes, self.h, self.origin, self.width
+        if around.size == 0 or h <= 0.0:
+            return np.zeros((0, 2), dtype=np.int64)
+        lo_cell = np.floor((boxes[around, :2] - h - origin) / h).astype(np.int64)
+        hi_cell = np.floor((boxes[around, 2:] + h - origin) / h).astype(np.int64)
+        dx, dy = np.meshgrid(np.arange(4), np.arange(4))
+        qx = lo_cell[:, :1] + dx.ravel()
+        qy = lo_cell[:, 1:] + dy.ravel()
+        valid = (qx <= hi_cell[:, :1]) & (qy <= hi_cell[:, 1:]) & (qy >= 0)
+        owner = np.broadcast_to(around[:, None], qx.shape)[valid]
+        qkey = qx[valid] * width + qy[valid]
+        start = np.searchsorted(self.sorted_key, qkey, side="left")
+        count = np.searchsorted(self.sorted_key, qkey, side="right") - start
+        total = int(count.sum())
+        offset = np.arange(total) - np.repeat(np.cumsum(count) - count, count)
+        e = np.repeat(owner, count)
+        f = self.order[np.repeat(start, count) + offset]
+        width_x = np.minimum(boxes[e, 2], boxes[f, 2]) - np.maximum(boxes[e, 0], boxes[f, 0])
+        width_y = np.minimum(boxes[e, 3], boxes[f, 3]) - np.maximum(boxes[e, 1], boxes[f, 1])
+        tiny = 1e-9 * h
+        keep = (e != f) & (width_x > tiny) & (width_y > tiny)
+        return np.stack([e[keep], f[keep]], axis=1)
+
+
 def pairs_near(boxes: np.ndarray, centroids: np.ndarray, around: np.ndarray) -> np.ndarray:
     """(p, 2) pairs (e, f): e in ``around``, f any element whose box overlaps e's box
     with positive area. ``boxes`` (n, 4): xmin, ymin, xmax, ymax; ``centroids`` (n, 2).
-
-    Centroids are bucketed on a grid of cell H, the largest element extent: any element
-    overlapping e has its centroid within H of e's box, so at most 4 x 4 cells are read.
-    """
-    extent = np.maximum(boxes[:, 2] - boxes[:, 0], boxes[:, 3] - boxes[:, 1])
-    h = float(extent.max()) if extent.size else 0.0
-    if around.size == 0 or h <= 0.0:
+    See :class:`CentroidGrid`."""
+    if around.size == 0:
         return np.zeros((0, 2), dtype=np.int64)
-    origin = centroids.min(axis=0)
-    cell = np.floor((centroids - origin) / h).astype(np.int64)
-    width = int(cell[:, 1].max()) + 5
-    key = cell[:, 0] * width + cell[:, 1]
-    order, sorted_key = sort_keys(key, (int(cell[:, 0].max()) + 5) * width)
-    lo_cell = np.floor((boxes[around, :2] - h - origin) / h).astype(np.int64)
-    hi_cell = np.floor((boxes[around, 2:] + h - origin) / h).astype(np.int64)
-    dx, dy = np.meshgrid(np.arange(4), np.arange(4))
-    qx = lo_cell[:, :1] + dx.ravel()
-    qy = lo_cell[:, 1:] + dy.ravel()
-    valid = (qx <= hi_cell[:, :1]) & (qy <= hi_cell[:, 1:]) & (qy >= 0)
-    owner = np.broadcast_to(around[:, None], qx.shape)[valid]
-    qkey = qx[valid] * width + qy[valid]
-    start = np.searchsorted(sorted_key, qkey, side="left")
-    count = np.searchsorted(sorted_key, qkey, side="right") - start
-    total = int(count.sum())
-    offset = np.arange(total) - np.repeat(np.cumsum(count) - count, count)
-    e = np.repeat(owner, count)
-    f = order[np.repeat(start, count) + offset]
-    width_x = np.minimum(boxes[e, 2], boxes[f, 2]) - np.maximum(boxes[e, 0], boxes[f, 0])
-    width_y = np.minimum(boxes[e, 3], boxes[f, 3]) - np.maximum(boxes[e, 1], boxes[f, 1])
-    tiny = 1e-9 * h
-    keep = (e != f) & (width_x > tiny) & (width_y > tiny)
-    return np.stack([e[keep], f[keep]], axis=1)
+    return CentroidGrid.build(boxes, centroids).pairs_near(around)
 
 
 @dataclass
