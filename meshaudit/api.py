@@ -335,10 +335,12 @@ def audit(
     fail_on: str = "fail",
     regions: Mapping[str, Profile | str | os.PathLike[str]] | None = None,
     progress: ProgressCallback | None = None,
+    workers: int | None = None,
 ) -> Report:
     """Audit a mesh file (any format meshio reads) or a ``meshio.Mesh`` in memory.
 
     ``progress`` (optional) is called as the stages go: see :data:`ProgressCallback`.
+    ``workers``: threads, as in :func:`audit_elements`.
 
     >>> import meshio, numpy as np
     >>> points = np.array([[0.0, 0.0], [2.0, 0.0], [2.0, 1.0], [0.0, 1.0]])
@@ -351,4 +353,5 @@ def audit(
     """
     if progress is not None:
         progress("read", 0, 0)
-    return audit_elements(load(source, file_format), profile, fail_on, regions, progress)
+    mesh = load(source, file_format)
+    return audit_elements(mesh, profile, fail_on, regions, progress, workers)
