@@ -66,7 +66,10 @@ def run(mesh: Path, outdir: Path, plot: bool) -> dict[str, Any]:
     import meshio  # noqa: F401  (imported here so that "read" is the reading alone)
 
     from meshaudit import api, reading
+    from meshaudit.memory import return_large_blocks
     from meshaudit.outputs import atomic, json_report
+
+    return_large_blocks()  # the allocator settings `meshaudit check` makes
 
     times: dict[str, float] = {"import": time.perf_counter() - t0}
     inner: dict[str, float] = {}
