@@ -148,8 +148,31 @@ def sort_keys(key: np.ndarray, bound: int) -> tuple[np.ndarray, np.ndarray]:
         order = packed & np.int64((1 << bits) - 1)
         packed >>= bits
         return order, packed
+    key_bits = max(int(bound - 1).bit_length(), 1)
+    low_bits = key_bits // 2
+    if key_bits - low_bits + bits <= 63:
+        # too wide for one packed sort (large meshes: node pairs need 2 x log2(nodes)
+        # bits): two, least significant half first, each stable by its position; the
+        # work arrays are reused (fresh memory is slow to touch on large meshes)
+        position = np.arange(k, dtype=np.int64)
+        first = np.bitwise_and(key, np.int64((1 << low_bits) - 1))
+        _packed_order(first, position, bits)
+        second = np.take(key, first)
+        second >>= np.int64(low_bits)
+        _packed_order(second, position, bits)
+        order = np.take(first, second, out=position)
+        return order, np.take(key, order, out=first)
     order = np.argsort(key, kind="stable")
     return order, key[order]
+
+
+def _packed_order(work: np.ndarray, position: np.ndarray, bits: int) -> None:
+    """Replace non-negative keys ``work`` by their stable ascending order, in place
+    (``position`` is 0..n-1; key << bits | position must stay below 2^63)."""
+    work <<= np.int64(bits)
+    work |= position
+    work.sort()
+    work &= np.int64((1 << bits) - 1)
 
 
 def unique_keys(key: np.ndarray, bound: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

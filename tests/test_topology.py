@@ -112,3 +112,18 @@ def test_unique_keys_agrees_with_numpy_unique(bound):
     assert np.array_equal(uniq, ref[0])
     assert np.array_equal(inverse, ref[1].ravel())
     assert np.array_equal(counts, ref[2])
+
+
+@pytest.mark.parametrize("bound", [37, 10**12, 2**50, 2**62])
+def test_sort_keys_is_numpy_stable_argsort_for_any_key_width(bound):
+    # numpy's stable argsort as the reference; wide bounds take the two-pass path that
+    # node-pair keys of meshes with millions of nodes need
+    from meshaudit.topology import sort_keys
+
+    rng = np.random.default_rng(11)
+    key = rng.integers(0, bound, 20_000)
+    key[::5] = key[3]  # plenty of ties: their order must be the original order
+    order, sorted_key = sort_keys(key, bound)
+    reference = np.argsort(key, kind="stable")
+    assert np.array_equal(order, reference)
+    assert np.array_equal(sorted_key, key[reference])
