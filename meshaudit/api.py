@@ -15,7 +15,7 @@ from .errors import InputError
 from .finding_kinds import KIND_NAMES
 from .findings import TopologyPart, find_topology, finish
 from .frames import Frame, centroids, choose_frame, to_local
-from .mesh_checks.overlap import CentroidGrid, PlanarShapes
+from .mesh_checks.overlap import BoxGrid, PlanarShapes
 from .metrics import KERNELS, METRIC_NAMES, QUADRATIC_CELLS, quadratic
 from .profiles import Profile, load_profile
 from .reading import load
@@ -202,7 +202,7 @@ def audit_elements(
                 summing = pool.submit(metric_statistics, sink.metrics, sink.ordered_levels())
                 grid = None
                 if shapes is not None and prof.findings.enabled("overlapping_elements"):
-                    grid = pool.submit(CentroidGrid.build, shapes.boxes, shapes.centroids)
+                    grid = pool.submit(BoxGrid.build, shapes.boxes)
                 table, part = pending.result()
                 notes = mark_orientation(mesh, frame, sink.bits, sink.verdict, table)
                 mesh_findings = None

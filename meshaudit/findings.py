@@ -254,12 +254,12 @@ def finish(
     mesh: ElementMesh,
     frame: Frame,
     shapes: overlap.PlanarShapes | None,
-    grid: Callable[[], overlap.CentroidGrid] | None = None,
+    grid: Callable[[], overlap.BoxGrid] | None = None,
 ) -> MeshFindings:
     """Add the checks that need each element's winding and shape (planar meshes with
     ``shapes``: loop kinds, inconsistent winding, overlaps) and return the findings.
 
-    ``grid``: returns the :class:`~meshaudit.mesh_checks.overlap.CentroidGrid` of
+    ``grid``: returns the :class:`~meshaudit.mesh_checks.overlap.BoxGrid` of
     ``shapes`` when the caller builds it elsewhere (e.g. on another thread); called
     only when the overlap check gets that far."""
     free = part.free
@@ -268,7 +268,7 @@ def finish(
         sign[~part.keep] = 0  # duplicates are reported as such, not as wound the other way
         free = edges.with_winding(free, mesh.points, sign, frame.normal)
         if grid is None:
-            grid = partial(overlap.CentroidGrid.build, shapes.boxes, shapes.centroids)
+            grid = partial(overlap.BoxGrid.build, shapes.boxes)
         _planar_checks(part, mesh, free, shapes, sign, grid)
     return MeshFindings(part.out.findings, free)
 
@@ -318,7 +318,7 @@ def _planar_checks(
     free: edges.FreeEdges,
     shapes: overlap.PlanarShapes,
     sign: np.ndarray,
-    grid: Callable[[], overlap.CentroidGrid],
+    grid: Callable[[], overlap.BoxGrid],
 ) -> None:
     out, table, keep = part.out, part.table, part.keep
     ids = out.ids

@@ -5,7 +5,7 @@ A conforming planar mesh of convex elements covers each point at most once unles
 elements meet at an edge, (c) a patch with its own free edges lies on top of other
 elements, or (d) an element is not convex (it may reach over its neighbours).
 Candidate pairs come from those places only, found by sorting: (a) and (b) from the
-edge table, (c) and (d) by bucketing element centroids on a grid and looking around
+edge table, (c) and (d) by bucketing element box centres on a grid and looking around
 every element that has a free edge or is not convex. Only candidates go to shapely,
 which measures their common area exactly. (Not covered: a fan of valid elements that
 wraps twice around an interior node.)
@@ -81,10 +81,11 @@ def pairs_on_edges(table: EdgeTable, edges: np.ndarray) -> np.ndarray:
 
 
 @dataclass(frozen=True)
-class CentroidGrid:
-    """Element centroids bucketed on a square grid of cell ``h``, the largest element
-    extent: any element overlapping element e has its centroid within ``h`` of e's box,
-    so :meth:`pairs_near` reads at most 4 x 4 cells per element.
+class BoxGrid:
+    """Element box centres bucketed on a square grid of cell ``h``, the largest element
+    extent. An element f overlapping element e has its box meeting e's box, and its box
+    centre within h/2 of its own box, so within h/2 of e's box along each axis:
+    :meth:`pairs_near` reads at most 4 x 4 cells per element.
 
     Built from every element (:meth:`build`), so it can be built on another thread
     while the other checks run; queried for the few elements that need it.
@@ -92,20 +93,25 @@ class CentroidGrid:
 
     boxes: np.ndarray  # (n, 4) xmin, ymin, xmax, ymax
     h: float
-    origin: np.ndarray  # (2,) lowest centroid
+    origin: np.ndarray  # (2,) lowest box centre
     width: int  # cells per grid column (key = column * width + row)
     order: np.ndarray  # (n,) elements in ascending cell key
     sorted_key: np.ndarray  # (n,) their cell keys
 
     @classmethod
-    def build(cls, boxes: np.ndarray, centroids: np.ndarray) -> CentroidGrid:
+    def build(cls, boxes: np.ndarray) -> BoxGrid:
         extent = np.maximum(boxes[:, 2] - boxes[:, 0], boxes[:, 3] - boxes[:, 1])
         h = float(extent.max()) if extent.size else 0.0
         if h <= 0.0:
             empty = np.zeros(0, dtype=np.int64)
             return cls(boxes, 0.0, np.zeros(2), 1, empty, empty)
-        origin = centroids.min(axis=0)
-        cell = np.floor((centroids - origin) / h).astype(np.int64)
+        centre = boxes[:, :2] + boxes[:, 2:]
+        centre *= 0.5
+        origin = centre.min(axis=0)
+        centre -= origin
+        centre /= h
+        cell = np.floor(centre, out=centre).astype(np.int64)
+        del centre
         width = int(cell[:, 1].max()) + 5
         key = cell[:, 0] * width + cell[:, 1]
         order, sorted_key = sort_keys(key, (int(cell[:, 0].max()) + 5) * width)
@@ -138,13 +144,13 @@ class CentroidGrid:
         return np.stack([e[keep], f[keep]], axis=1)
 
 
-def pairs_near(boxes: np.ndarray, centroids: np.ndarray, around: np.ndarray) -> np.ndarray:
+def pairs_near(boxes: np.ndarray, around: np.ndarray) -> np.ndarray:
     """(p, 2) pairs (e, f): e in ``around``, f any element whose box overlaps e's box
-    with positive area. ``boxes`` (n, 4): xmin, ymin, xmax, ymax; ``centroids`` (n, 2).
-    See :class:`CentroidGrid`."""
+    with positive area. ``boxes`` (n, 4): xmin, ymin, xmax, ymax. See
+    :class:`BoxGrid`."""
     if around.size == 0:
         return np.zeros((0, 2), dtype=np.int64)
-    return CentroidGrid.build(boxes, centroids).pairs_near(around)
+    return BoxGrid.build(boxes).pairs_near(around)
 
 
 @dataclass
@@ -154,7 +160,7 @@ class PlanarShapes:
     ``sign`` (n,) int8: the sign of the corner polygon's shoelace area, +1
     counter-clockwise about the plane normal, -1 clockwise, 0 no area. ``convex`` (n,)
     bool: every corner turns the way the element winds (strictly). ``boxes`` (n, 4):
-    xmin, ymin, xmax, ymax and ``centroids`` (n, 2) of the corners, in plane coordinates
+    xmin, ymin, xmax, ymax of the corners, in plane coordinates
     (``axes`` rows, measured from ``origin``).
     """
 
@@ -163,7 +169,6 @@ class PlanarShapes:
     sign: np.ndarray
     convex: np.ndarray
     boxes: np.ndarray
-    centroids: np.ndarray
 
     @classmethod
     def empty(cls, n: int, axes: np.ndarray, origin: np.ndarray) -> PlanarShapes:
@@ -173,7 +178,6 @@ class PlanarShapes:
             sign=np.zeros(n, dtype=np.int8),
             convex=np.zeros(n, dtype=bool),
             boxes=np.empty((n, 4)),
-            centroids=np.empty((n, 2)),
         )
 
     def plane(self, xyz: np.ndarray) -> np.ndarray:
@@ -196,15 +200,12 @@ class PlanarShapes:
         self.convex[rows] = convex
         at = (corners[:, 0] - self.origin) @ self.axes.T  # (m, 2) corner 0, plane coordinates
         for axis, column in enumerate((x, y)):
-            low, high, total = column[0].copy(), column[0].copy(), column[0].copy()
+            low, high = column[0].copy(), column[0].copy()
             for c in column[1:]:
                 np.minimum(low, c, out=low)
                 np.maximum(high, c, out=high)
-                total += c
-            total /= len(column)
             self.boxes[rows, axis] = at[:, axis] + low
             self.boxes[rows, axis + 2] = at[:, axis] + high
-            self.centroids[rows, axis] = at[:, axis] + total
 
 
 def _plane_columns(corners: np.ndarray, axes: np.ndarray) -> tuple[list[np.ndarray], ...]:
