@@ -32,9 +32,9 @@ class EdgeTable:
     counts allow, see :func:`index_dtype`), ``local`` (m,) int8 the edge number
     within the element (edge i runs from corner i to corner i+1; a side whose two corners
     are one node, as in a collapsed crack-tip quad, is left out), ``edge`` (m,) the
-    undirected edge number in 0..n_edges-1, ``nodes`` (n_edges, 2) its two nodes
-    (smaller first) and ``uses`` (n_edges,) how many element edges map to it:
-    1 is a free (boundary) edge, 2 an interior edge, 3 or more a non-manifold edge.
+    undirected edge number in 0..n_edges-1 (int32 when the count allows), ``nodes``
+    (n_edges, 2) its two nodes (smaller first) and ``uses`` (n_edges,) how many element
+    edges map to it: 1 is a free (boundary) edge, 2 an interior edge, 3 or more a non-manifold edge.
     """
 
     start: np.ndarray
@@ -177,7 +177,8 @@ def _packed_order(work: np.ndarray, position: np.ndarray, bits: int) -> None:
 
 def unique_keys(key: np.ndarray, bound: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """``np.unique(key, return_inverse=True, return_counts=True)`` for int64 keys in
-    [0, bound), using :func:`sort_keys`."""
+    [0, bound), using :func:`sort_keys`; the inverse is int32 when :func:`index_dtype`
+    allows."""
     k = key.size
     if k == 0:
         empty = np.zeros(0, dtype=np.int64)
@@ -189,10 +190,11 @@ def unique_keys(key: np.ndarray, bound: int) -> tuple[np.ndarray, np.ndarray, np
     starts = np.flatnonzero(new)
     uniq = sorted_key[starts]
     del sorted_key
-    rank = np.cumsum(new)
+    width = index_dtype(k)  # int32 when the keys are few enough: half the memory
+    rank = np.cumsum(new, dtype=width)
     del new
     rank -= 1
-    inverse = np.empty(k, dtype=np.int64)
+    inverse = np.empty(k, dtype=width)
     inverse[order] = rank
     return uniq, inverse, np.diff(np.append(starts, k))
 
