@@ -144,15 +144,6 @@ class BoxGrid:
         return np.stack([e[keep], f[keep]], axis=1)
 
 
-def pairs_near(boxes: np.ndarray, around: np.ndarray) -> np.ndarray:
-    """(p, 2) pairs (e, f): e in ``around``, f any element whose box overlaps e's box
-    with positive area. ``boxes`` (n, 4): xmin, ymin, xmax, ymax. See
-    :class:`BoxGrid`."""
-    if around.size == 0:
-        return np.zeros((0, 2), dtype=np.int64)
-    return BoxGrid.build(boxes).pairs_near(around)
-
-
 @dataclass
 class PlanarShapes:
     """What the overlap and winding checks need of every element of a planar mesh.
