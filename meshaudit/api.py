@@ -180,39 +180,37 @@ def audit_elements(
         progress("measure", 0, n)
     chunks = list(mesh.chunks(CHUNK_SIZE))
     workers = default_workers() if workers is None else max(1, int(workers))
-    stats = None
-    if workers == 1 or len(chunks) < 2:
-        for block, sl in chunks:
-            sink.done += measure(block, sl)
+    pool = None
+    if workers > 1 and len(chunks) > 1:
+        pool = ThreadPoolExecutor(max_workers=workers, thread_name_prefix="meshaudit")
+    try:
+        summing = grid = None
+        if pool is None:
+            pending = None
+            sizes = (measure(block, sl) for block, sl in chunks)
+        else:
+            pending = pool.submit(topology)
+            futures = [pool.submit(measure, block, sl) for block, sl in chunks]
+            sizes = (future.result() for future in as_completed(futures))
+        for size in sizes:
+            sink.done += size
             if progress is not None:
                 progress("measure", sink.done, n)
-        table, part = topology()
+        if pool is not None:
+            # the statistics and the overlap check's grid of box centres need only the
+            # finished columns: worked out while the other checks finish
+            summing = pool.submit(metric_statistics, sink.metrics, sink.ordered_levels())
+            if shapes is not None and prof.findings.enabled("overlapping_elements"):
+                grid = pool.submit(BoxGrid.build, shapes.boxes)
+        table, part = topology() if pending is None else pending.result()
         notes = mark_orientation(mesh, frame, sink.bits, sink.verdict, table)
-        mesh_findings = finish(part, mesh, frame, shapes) if part is not None else None
-    else:
-        with ThreadPoolExecutor(max_workers=workers, thread_name_prefix="meshaudit") as pool:
-            try:
-                pending = pool.submit(topology)
-                for future in as_completed([pool.submit(measure, b, sl) for b, sl in chunks]):
-                    sink.done += future.result()
-                    if progress is not None:
-                        progress("measure", sink.done, n)
-                # the statistics and the overlap check's centroid grid need only the
-                # finished columns: worked out meanwhile
-                summing = pool.submit(metric_statistics, sink.metrics, sink.ordered_levels())
-                grid = None
-                if shapes is not None and prof.findings.enabled("overlapping_elements"):
-                    grid = pool.submit(BoxGrid.build, shapes.boxes)
-                table, part = pending.result()
-                notes = mark_orientation(mesh, frame, sink.bits, sink.verdict, table)
-                mesh_findings = None
-                if part is not None:
-                    fetch = None if grid is None else grid.result
-                    mesh_findings = finish(part, mesh, frame, shapes, fetch)
-                stats = summing.result()
-            except BaseException:
-                pool.shutdown(wait=True, cancel_futures=True)
-                raise
+        mesh_findings = None
+        if part is not None:
+            mesh_findings = finish(part, mesh, frame, shapes, None if grid is None else grid.result)
+        stats = None if summing is None else summing.result()
+    finally:
+        if pool is not None:
+            pool.shutdown(wait=True, cancel_futures=True)
     summary = MeshSummary(
         source=mesh.source,
         n_points=mesh.n_points,
