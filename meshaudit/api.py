@@ -12,8 +12,8 @@ import numpy as np
 
 from .elements import ElementBlock, ElementMesh
 from .errors import InputError
-from .finding_kinds import KIND_NAMES
-from .findings import TopologyPart, find_topology, finish
+from .finding_kinds import MESH_CHECK_KINDS
+from .findings import TopologyPart, find_topology, finish, unaudited_cells
 from .frames import Frame, centroids, choose_frame, to_local
 from .mesh_checks.overlap import BoxGrid, PlanarShapes
 from .metrics import KERNELS, METRIC_NAMES, QUADRATIC_CELLS, quadratic
@@ -151,7 +151,7 @@ def audit_elements(
         type_codes[block.index] = cell_types.index(block.cell_type)
         family_codes[block.index] = families.index(block.family)
     sink = _ChunkSink(n, has_quadratic=any(t in QUADRATIC_CELLS for t in cell_types))
-    checks = any(prof.findings.enabled(kind) for kind in KIND_NAMES)
+    checks = any(prof.findings.enabled(kind) for kind in MESH_CHECK_KINDS)
     planar = frame.kind == "planar" and frame.axes is not None
     shapes = None
     if planar and checks:
@@ -211,6 +211,10 @@ def audit_elements(
     finally:
         if pool is not None:
             pool.shutdown(wait=True, cancel_futures=True)
+    findings = [] if mesh_findings is None else mesh_findings.findings
+    unaudited = unaudited_cells(mesh, prof.findings)
+    if unaudited is not None:
+        findings.append(unaudited)
     summary = MeshSummary(
         source=mesh.source,
         n_points=mesh.n_points,
@@ -237,7 +241,7 @@ def audit_elements(
         region_names=region_names,
         region_profiles=region_profiles,
         region_codes=codes,
-        findings=mesh_findings.findings if mesh_findings is not None else [],
+        findings=findings,
         free_edges=mesh_findings.free_edges if mesh_findings is not None else None,
         precomputed_statistics=stats,
     )

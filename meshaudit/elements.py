@@ -23,6 +23,28 @@ SUPPORTED_CELLS: dict[str, tuple[str, int]] = {
 }
 
 
+#: meshio cell-type name prefixes by topological dimension (0 points, 1 lines, 2 surfaces,
+#: 3 solids). Quadratic and higher-order variants share their linear type's prefix.
+_DIMENSION_PREFIXES: tuple[tuple[int, tuple[str, ...]], ...] = (
+    (0, ("vertex",)),
+    (1, ("line",)),
+    (2, ("triangle", "quad", "polygon")),
+    (3, ("tetra", "hexahedron", "wedge", "pyramid", "polyhedron")),
+)
+
+
+def cell_dimension(cell_type: str) -> int:
+    """Topological dimension of a meshio cell type: 0 vertex, 1 line, 2 surface, 3 solid.
+
+    A type not known here counts as 3, so that cells meshaudit cannot name are reported
+    with the solids it does not audit rather than passed over with the lines.
+    """
+    for dim, prefixes in _DIMENSION_PREFIXES:
+        if cell_type.startswith(prefixes):
+            return dim
+    return 3
+
+
 @dataclass(frozen=True)
 class ElementBlock:
     """One block of elements of a single cell type, in file order."""
@@ -65,6 +87,11 @@ class ElementMesh:
         for b in self.blocks:
             counts[b.cell_type] = counts.get(b.cell_type, 0) + len(b)
         return counts
+
+    def unaudited(self) -> dict[str, int]:
+        """Cells of a surface or volume type not audited (solids, polygons, types not
+        known): the part of :attr:`skipped` whose quality the audit does not cover."""
+        return {t: n for t, n in self.skipped.items() if cell_dimension(t) >= 2}
 
     def used_nodes(self) -> np.ndarray:
         """Boolean mask (n_points,): which nodes some audited element refers to.

@@ -99,9 +99,21 @@ KINDS: tuple[FindingKind, ...] = (
         "edges shared by more than two elements",
         "intended at shell T-joints (stiffeners), a defect in a plane model (common practice)",
     ),
+    FindingKind(
+        "unaudited_cells",
+        "warn",
+        "cells",
+        "surface or volume cells of a type meshaudit does not measure (solids, polygons): "
+        "their quality is unknown",
+        "a pass says nothing about them, so it is never silent; set \"fail\" where every "
+        "element must be audited (common practice: a gate reports what it did not check)",
+    ),
 )
 KIND_INFO: dict[str, FindingKind] = {k.name: k for k in KINDS}
 KIND_NAMES: tuple[str, ...] = tuple(k.name for k in KINDS)
+#: Kinds found by the checks that look at nodes and connectivity (the others need no
+#: mesh pass: ``unaudited_cells`` is read off the cell counts).
+MESH_CHECK_KINDS: tuple[str, ...] = tuple(k for k in KIND_NAMES if k != "unaudited_cells")
 
 
 def default_severities() -> dict[str, str]:

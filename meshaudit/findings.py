@@ -141,6 +141,24 @@ class TopologyPart:
     runs: np.ndarray | None = None  # planar: edges.forward_runs(table), for the fold check
 
 
+def unaudited_cells(mesh: ElementMesh, settings: FindingSettings) -> Finding | None:
+    """The ``unaudited_cells`` finding: surface and volume cells of types not measured
+    (see :meth:`ElementMesh.unaudited`), or None when there are none or the kind is off."""
+    cells = mesh.unaudited()
+    total = sum(cells.values())
+    if total == 0 or not settings.enabled("unaudited_cells"):
+        return None
+    listed = ", ".join(f"{n:,} {t}" for t, n in cells.items())
+    return Finding(
+        kind="unaudited_cells",
+        severity=settings.severity["unaudited_cells"],
+        count=total,
+        element_ids=_empty_int(),
+        node_ids=_empty_int(),
+        message=f"{listed} not audited (cell type not measured): their quality is unknown",
+    )
+
+
 def find(
     mesh: ElementMesh,
     ids: np.ndarray,

@@ -148,6 +148,7 @@ class Outcome:
     worst_score: float | None = None
     profile: str = ""
     error: str | None = None
+    not_audited: str = ""  # cells not audited, e.g. '120 tetra, 40 line'
 
 
 def check_many(
@@ -180,6 +181,7 @@ def check_many(
                 counts=report.verdict_counts(),
                 worst_score=float(finite.min()) if finite.size else None,
                 profile=report.profile.name,
+                not_audited=report.summary.skipped_text(),
             )
         )
     return outcomes

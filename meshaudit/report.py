@@ -44,6 +44,10 @@ class MeshSummary:
     def n_elements(self) -> int:
         return sum(self.element_counts.values())
 
+    def skipped_text(self) -> str:
+        """The cells not audited, e.g. '120 tetra, 40 line' ('' when every cell was)."""
+        return ", ".join(f"{n:,} {t}" for t, n in self.skipped.items())
+
     def to_dict(self) -> dict[str, Any]:
         return {
             "source": self.source,

@@ -29,7 +29,7 @@ def summary_table(outcomes: Sequence[Outcome]) -> Table:
             *(f"{counts.get(k, 0):,}" for k in ("ok", "warn", "fail")),
             worst,
             o.profile,
-            STATUS_WORD[o.status],
+            STATUS_WORD[o.status] + _not_audited(o),
         )
     return t
 
@@ -48,12 +48,16 @@ def overall_line(outcomes: Sequence[Outcome]) -> Text:
     return text
 
 
+def _not_audited(o: Outcome) -> str:
+    return f" (not audited: {o.not_audited})" if o.not_audited else ""
+
+
 def render(outcomes: Sequence[Outcome], console: Console, quiet: bool = False) -> None:
     """The table (or, with ``quiet``, one line per mesh) and the overall verdict line."""
     if quiet:
         for o in outcomes:
             word = "ERROR" if o.error is not None else STATUS_WORD[o.status].upper()
-            console.print(f"{word}  {o.path}", soft_wrap=True, markup=False)
+            console.print(f"{word}  {o.path}{_not_audited(o)}", soft_wrap=True, markup=False)
     else:
         console.print(summary_table(outcomes))
     console.print(overall_line(outcomes), soft_wrap=True)

@@ -279,7 +279,7 @@ def _summary(report: Report) -> str:
         ("file", s.source),
         ("nodes", f"{s.n_points:,}"),
         ("elements", ", ".join(f"{v:,} {k}" for k, v in s.element_counts.items())),
-        ("skipped cells", ", ".join(f"{v:,} {k}" for k, v in s.skipped.items()) or "none"),
+        ("not audited", s.skipped_text() or "none"),
         ("geometry", s.frame),
         ("profile", f"{report.profile.name} ({report.profile.origin})"),
         ("gate", f"fails on {report.fail_on}"),

@@ -42,6 +42,7 @@ def _document(report: Report, every_element: bool) -> tuple[dict[str, Any], np.n
         "regions": report.region_summary(),
         "fail_on": report.fail_on,
         "verdict": "pass" if report.passed else "fail",
+        "not_audited": dict(report.summary.skipped),
         "counts": report.verdict_counts(),
         "flag_counts": report.flag_counts(),
         "statistics": report.statistics(),

@@ -79,6 +79,9 @@ def finding_cases(suite: ET.Element, report: Report) -> None:
 def render(report: Report) -> str:
     source = report.summary.source
     suite = ET.Element("testsuite", name=f"meshaudit {source}")
+    properties = ET.SubElement(suite, "properties")
+    skipped = report.summary.skipped_text() or "none"
+    ET.SubElement(properties, "property", name="cells not audited", value=skipped)
     for flag in INVALID_FLAGS:
         mask = report.flag(flag)
         n = int(mask.sum())

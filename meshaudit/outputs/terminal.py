@@ -37,9 +37,11 @@ def verdict_line(report: Report) -> Text:
     gate = "warn" if report.fail_on == "warn" else "fail"
     text = Text()
     text.append(word, style="bold reverse" if not report.passed else "bold")
+    skipped = report.summary.skipped_text()
+    not_audited = f"; not audited: {skipped}" if skipped else ""
     text.append(
         f"  {report.summary.source}: {counts['fail']} of {n} elements fail, "
-        f"{counts['warn']} warn, {counts['ok']} ok{verdict_suffix(report)}; "
+        f"{counts['warn']} warn, {counts['ok']} ok{verdict_suffix(report)}{not_audited}; "
         f"profile {report.profile.name}, gate on {gate}"
     )
     return text
@@ -55,7 +57,7 @@ def summary_table(report: Report) -> Table:
     t.add_row("file", s.source)
     t.add_row("nodes", f"{s.n_points:,}")
     t.add_row("elements", ", ".join(f"{v:,} {k}" for k, v in s.element_counts.items()))
-    t.add_row("skipped cells", ", ".join(f"{v:,} {k}" for k, v in s.skipped.items()) or "none")
+    t.add_row("not audited", s.skipped_text() or "none")
     geometry = (
         "planar (orientation against the plane normal)"
         if s.frame == "planar"
