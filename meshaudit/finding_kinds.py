@@ -105,7 +105,7 @@ KINDS: tuple[FindingKind, ...] = (
         "cells",
         "surface or volume cells of a type meshaudit does not measure (solids, polygons): "
         "their quality is unknown",
-        "a pass says nothing about them, so it is never silent; set \"fail\" where every "
+        'a pass says nothing about them, so it is never silent; set "fail" where every '
         "element must be audited (common practice: a gate reports what it did not check)",
     ),
 )
