@@ -62,8 +62,8 @@ def run_compare(args: argparse.Namespace) -> int:
     import json
 
     from . import compare
-    from .api import audit
     from .config import settings_for
+    from .inspection import audit_mesh
     from .outputs import atomic, compare_terminal
 
     old_path, new_path = Path(args.old), Path(args.new)
@@ -74,10 +74,13 @@ def run_compare(args: argparse.Namespace) -> int:
     settings = settings_for(new_path, args.config, not args.no_config)
     profile = args.profile or settings.profile or "standard"
     fail_on = args.fail_on or settings.fail_on or "fail"
-    reports = [
-        audit(p, profile, args.file_format, fail_on, settings.regions) for p in (old_path, new_path)
-    ]
-    result = compare.compare(*reports, settings.tolerances)
+    old, new = (
+        audit_mesh(p, profile, args.file_format, fail_on, settings.regions)
+        for p in (old_path, new_path)
+    )
+    result = compare.compare(
+        old.report, new.report, settings.tolerances, old.elements, new.elements
+    )
     if args.json is not None:
         source = str(settings.path) if settings.path is not None else None
         data = compare.to_dict(result, tolerance_source=source)

@@ -101,3 +101,63 @@ def test_cli_exit_status_json_and_tolerance_from_config(tmp_path, run_cli):
     assert tolerances["new_failing"] == 1
     assert tolerances["source"].endswith("rev2/meshaudit.toml")
     assert "no published source" in data["tolerances"]["source"]
+
+
+def _cracked(nx: int = 8, ny: int = 2):
+    """The grid with the nodes of its middle row, x = 1 .. nx - 1, duplicated and the
+    upper elements moved onto the copies: nx - 1 unmerged node pairs by construction, a
+    cut inside the part (it reaches neither side)."""
+    mesh = grid(nx, ny)
+    pts = np.asarray(mesh.points)
+    quads = np.asarray(mesh.cells[0].data).copy()
+    row = ny // 2
+    cut = np.array([row * (nx + 1) + i for i in range(1, nx)])
+    copies = np.arange(len(pts), len(pts) + cut.size)
+    upper = quads[row * nx : (row + 1) * nx]  # elements just above the cut
+    for node, copy in zip(cut, copies):
+        upper[upper == node] = copy
+    quads[row * nx : (row + 1) * nx] = upper
+    return type(mesh)(np.vstack([pts, pts[cut]]), [("quad", quads)])
+
+
+def test_a_cracked_revision_regresses_on_its_findings(tmp_path, run_cli):
+    old = write(grid(8, 2), tmp_path / "rev1" / "plate.msh")
+    new = write(_cracked(), tmp_path / "rev2" / "plate.msh")
+    assert run_cli("check", new, "--quiet").returncode == 1  # check fails the crack
+    res = run_cli("compare", old, new, "--json", tmp_path / "cmp.json")
+    assert res.returncode == 1, res.stdout
+    data = json.loads((tmp_path / "cmp.json").read_text())
+    check = next(c for c in data["checks"] if c["name"] == "mesh_findings")
+    assert not check["passed"]
+    assert data["findings"]["coincident_nodes"] == {"old": 0, "new": 7}  # 7 by construction
+    assert "coincident_nodes 0->7" in check["meaning"]
+    # every element score is unchanged: only the findings tell
+    assert all(c["passed"] for c in data["checks"] if c["name"] != "mesh_findings")
+    assert run_cli("compare", new, old).returncode == 0  # merging the crack is no regression
+
+
+def test_unrelated_meshes_of_the_same_size_compare_distributions_only(tmp_path, run_cli):
+    # 4 x 3 and 3 x 4 unit-square grids: 12 elements each, numbered alike, but element k
+    # has other nodes in the two (their rows have different lengths)
+    a = write(grid(4, 3), tmp_path / "a" / "plate.msh")
+    b = write(grid(3, 4, shift=(5, 0.3, 0.0)), tmp_path / "b" / "plate.msh")
+    res = run_cli("compare", a, b, "--json", tmp_path / "cmp.json")
+    data = json.loads((tmp_path / "cmp.json").read_text())
+    assert data["correspondence"] == "distributions"
+    assert data["shared_elements"] == 0 and data["worse"] == [] and data["verdict_changes"] == {}
+    assert any("do not correspond" in note for note in data["notes"])
+    assert "do not correspond" in res.stdout
+
+
+def test_moved_nodes_and_reversed_order_still_correspond():
+    from meshaudit.inspection import audit_mesh
+
+    old = audit_mesh(grid(3, 2))
+    moved = audit_mesh(grid(3, 2, shift=(INNER, 0.3, 0.0)))
+    cmp = compare(old.report, moved.report, None, old.elements, moved.elements)
+    assert cmp.correspondence == "elements" and cmp.shared == 6
+    assert len(cmp.worse) == 4  # the four squares around the moved node
+    flipped = audit_mesh(_inverted(grid(3, 2)))
+    cmp = compare(old.report, flipped.report, None, old.elements, flipped.elements)
+    assert cmp.correspondence == "elements" and cmp.shared == 6  # same nodes, other order
+    assert cmp.verdict_changes == {"ok->fail": 1}

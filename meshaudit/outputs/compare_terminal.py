@@ -55,6 +55,18 @@ def changed_elements(rows: np.ndarray, title: str, top: int) -> Table | None:
     return t
 
 
+def findings(cmp: Comparison) -> Table | None:
+    """Mesh-level findings of warn or fail severity, OLD and NEW counts."""
+    if not cmp.finding_counts:
+        return None
+    t = Table(title="Mesh-level findings", title_justify="left")
+    for col in ("kind", "OLD", "NEW", "result"):
+        t.add_column(col, justify="right" if col in ("OLD", "NEW") else "left")
+    for kind, (a, b) in cmp.finding_counts.items():
+        t.add_row(kind, f"{a:,}", f"{b:,}", "WORSE" if b > a else "ok")
+    return t
+
+
 def checks(cmp: Comparison) -> Table:
     t = Table(title="Regression checks", title_justify="left")
     for col in ("check", "OLD", "NEW", "rule", "result"):
@@ -85,8 +97,16 @@ def render(cmp: Comparison, console: Console, top: int = 10, quiet: bool = False
         console.print(verdict_line(cmp), soft_wrap=True)
         return
     changes = ", ".join(f"{k} {v}" for k, v in cmp.verdict_changes.items()) or "none"
-    head = Text(f"{cmp.shared:,} elements matched by id; verdict changes: {changes}")
+    if cmp.correspondence == "distributions":
+        head = Text("elements not compared one by one (the meshes do not correspond)")
+    else:
+        head = Text(f"{cmp.shared:,} elements compared one by one; verdict changes: {changes}")
     parts: list = [distributions(cmp), Text(), head]
+    for note in cmp.notes:
+        parts.append(Text(f"note: {note}"))
+    found = findings(cmp)
+    if found is not None:
+        parts += [Text(), found]
     for rows, title in ((cmp.worse, "Elements that got worse"), (cmp.better, "Got better")):
         table = changed_elements(rows, title, top)
         if table is not None:
