@@ -200,3 +200,68 @@ def test_synopsis_names_only_options_the_command_takes(cmd, tmp_path):
     assert res.returncode == 0, res.stderr
     for option in _options(cmd):
         assert option in res.stdout, f"{cmd}: {sub} --help does not list {option}"
+
+
+# -- the README's Python blocks ---------------------------------------------------------
+
+
+def _python_blocks() -> list[str]:
+    return re.findall(r"```python\n(.*?)```", README, flags=re.S)
+
+
+def _shown_value(comment: str) -> object:
+    """The value a '# ...' comment shows (numpy reprs too), or a marker when the comment is
+    prose or elides digits ('3.08...')."""
+    import numpy as np
+
+    text = comment.split(":", 1)[0] if re.match(r"^[\w.]+\(.*\):", comment) else comment
+    names = {"array": lambda v, dtype=None: np.asarray(v).tolist(), "object": object}
+    try:
+        return eval(text, {"__builtins__": {}}, names)  # literals and array(...) only
+    except Exception:
+        return _PROSE
+
+
+_PROSE = object()
+
+
+def _same(got: object, shown: object) -> bool:
+    import numpy as np
+
+    if shown is Ellipsis:  # '...' stands for any value
+        return True
+    if isinstance(got, np.ndarray):
+        got = got.tolist()
+    if isinstance(got, (tuple, list)) and isinstance(shown, (tuple, list)):
+        return len(got) == len(shown) and all(_same(a, b) for a, b in zip(got, shown))
+    if isinstance(got, dict) and isinstance(shown, dict):
+        return got.keys() == shown.keys() and all(_same(got[k], shown[k]) for k in got)
+    if isinstance(got, (float, np.floating)) and isinstance(shown, (int, float)):
+        return bool(np.isclose(float(got), shown, rtol=1e-9, atol=1e-12))
+    return got == shown
+
+
+@pytest.mark.parametrize("block", range(len(_python_blocks())))
+def test_readme_python_block_runs_and_shows_true_values(block, tmp_path, monkeypatch):
+    """Each block runs as written (from a folder holding the samples); every line
+    ``expression  # value`` shows the value the expression really has."""
+    import ast
+
+    shutil.copytree(SAMPLES, tmp_path / "samples")
+    monkeypatch.chdir(tmp_path)
+    source = _python_blocks()[block]
+    lines = source.splitlines()
+    ns: dict = {}
+    for stmt in ast.parse(source).body:
+        code = compile(ast.Module([stmt], []), f"README python block {block}", "exec")
+        if not isinstance(stmt, ast.Expr):
+            exec(code, ns)
+            continue
+        value = eval(compile(ast.Expression(stmt.value), "README", "eval"), ns)
+        line = lines[stmt.end_lineno - 1]
+        if "  # " not in line:
+            continue
+        shown = _shown_value(line.split("  # ", 1)[1].strip())
+        if shown is _PROSE:
+            continue
+        assert _same(value, shown), f"README: {line.strip()} but it is {value!r}"
