@@ -1,6 +1,6 @@
 """Mesh-level findings: defects no single element shows (unmerged nodes and the cracks
-they open, orphan nodes, duplicate and overlapping elements, inconsistent orientation,
-non-manifold edges).
+they open, hanging nodes of non-conforming interfaces, orphan nodes, duplicate and
+overlapping elements, inconsistent orientation, non-manifold edges).
 
 :func:`find` runs every enabled check of :mod:`meshaudit.mesh_checks` on the element
 arrays and returns the findings (only kinds that occur: a clean mesh has none) plus the
@@ -21,7 +21,7 @@ from .arrays import unique_values
 from .elements import ElementMesh
 from .finding_kinds import KIND_INFO, FindingSettings
 from .frames import Frame
-from .mesh_checks import duplicates, edges, nodes, overlap
+from .mesh_checks import duplicates, edges, hanging, nodes, overlap
 from .topology import EdgeTable, edge_table
 
 #: How many ids a finding's message names.
@@ -174,8 +174,8 @@ def find_topology(
     table: EdgeTable | None = None,
 ) -> TopologyPart:
     """The checks that need only connectivity and nodes: orphan nodes, duplicate
-    elements, coincident nodes, free edges and cracks, non-manifold edges and (shells)
-    neighbours with opposite normals."""
+    elements, coincident nodes, hanging nodes, free edges and cracks, non-manifold edges
+    and (shells) neighbours with opposite normals."""
     settings = settings or FindingSettings()
     out = _Builder(mesh, ids, settings)
     if out.on("orphan_nodes"):
@@ -205,7 +205,26 @@ def find_topology(
             coincident,
         )
 
-    free = edges.free_edges(table, mesh.points, coincident)
+    interface = None
+    if out.on("hanging_nodes"):
+        hang = hanging.hanging_nodes(
+            mesh, table, coincident, settings.coincident_tolerance, frame.kind != "planar"
+        )
+        interface = hang.interface_uses
+        pairs = np.stack([hang.host_element[:, 0], ids[hang.host_element[:, 1]]], axis=1)
+        out.add(
+            "hanging_nodes",
+            hang.nodes.size,
+            f"{hang.nodes.size} node(s) lie inside free edges of elements "
+            f"{_some(ids[hang.hosts])} and are not shared with them (a non-conforming "
+            f"interface, not connected unless the solver ties it); used by elements "
+            f"{_some(ids[hang.users])}",
+            hang.elements,
+            hang.nodes,
+            pairs,
+            hang.edges,
+        )
+    free = edges.free_edges(table, mesh.points, coincident, interface=interface)
     if out.on("crack_edges"):
         crack = np.flatnonzero(free.crack)
         loops = unique_values(free.loop[crack])
