@@ -257,34 +257,36 @@ def _grid_pairs(
     depth: int = 0,
 ) -> Iterator[tuple[np.ndarray, np.ndarray]]:
     """Batches (rows of ``xyz``, rows of the segments): every point within ``margin`` of
-    segment a-b comes with it at least once (some farther ones too)."""
+    segment a-b comes with it at least once (some farther ones too, and some twice)."""
     length = np.linalg.norm(b - a, axis=1)
-    if cell is None:
-        cell = float(np.median(length))
-    cell = _fit_cell(a, b, margin, length, cell, xyz.shape[0])
-    seg, key, origin, dims = _segment_cells(a, b, margin, length, cell)
-    node_cell = np.floor((xyz - origin) / cell)
-    inside = np.all((node_cell >= 0) & (node_cell < dims), axis=1)
+    median = float(np.median(length))
+    cell = _fit_cell(a, b, margin, length, median if cell is None else min(cell, median), xyz)
+    grid = _Grid.build(a, b, margin, length, cell)
+    node_cell = np.floor((xyz - grid.origin) / cell)
+    inside = np.all((node_cell >= 0) & (node_cell < grid.dims), axis=1)
     node_rows = np.flatnonzero(inside)
-    node_key = _flat(node_cell[inside].astype(np.int64), dims)
+    node_key = grid.flat(node_cell[inside].astype(np.int64))
     order = np.argsort(node_key, kind="stable")
     node_rows, node_key = node_rows[order], node_key[order]
-    lo = np.searchsorted(node_key, key, side="left")
-    count = np.searchsorted(node_key, key, side="right") - lo
+    lo = np.searchsorted(node_key, grid.key, side="left")
+    count = np.searchsorted(node_key, grid.key, side="right") - lo
     total = int(count.sum())
-    if total > PAIR_BUDGET + 16 * (key.size + node_rows.size) and depth < MAX_REFINE:
-        _, inverse, pieces = np.unique(key, return_inverse=True, return_counts=True)
+    seg = grid.segment[grid.piece]
+    if total > PAIR_BUDGET + 16 * (grid.key.size + node_rows.size) and depth < MAX_REFINE:
+        _, inverse, pieces = np.unique(grid.key, return_inverse=True, return_counts=True)
         crowded = pieces[inverse.ravel()] * count > CELL_PAIRS
         if crowded.any():
             yield from _batches(seg[~crowded], lo[~crowded], count[~crowded], node_rows)
-            sub_seg = unique_values(seg[crowded])
-            cells = unique_values(key[crowded])
+            # the pieces entered in crowded cells and the nodes there, on a finer grid
+            sub = unique_values(grid.piece[crowded])
+            cells = unique_values(grid.key[crowded])
             at = np.minimum(np.searchsorted(cells, node_key), cells.size - 1)
             sub_nodes = node_rows[cells[at] == node_key]
-            for n_pos, s_pos in _grid_pairs(
-                a[sub_seg], b[sub_seg], margin[sub_seg], xyz[sub_nodes], cell / 4.0, depth + 1
+            owner = grid.segment[sub]
+            for n_pos, p_pos in _grid_pairs(
+                grid.p0[sub], grid.p1[sub], margin[owner], xyz[sub_nodes], cell / 4.0, depth + 1
             ):
-                yield sub_nodes[n_pos], sub_seg[s_pos]
+                yield sub_nodes[n_pos], owner[p_pos]
             return
     if depth >= MAX_REFINE and total > CROWDED_PAIRS:
         where = xyz[node_rows[lo[int(np.argmax(count))]]]
@@ -297,15 +299,20 @@ def _grid_pairs(
 
 
 def _fit_cell(
-    a: np.ndarray, b: np.ndarray, margin: np.ndarray, length: np.ndarray, cell: float, nodes: int
+    a: np.ndarray,
+    b: np.ndarray,
+    margin: np.ndarray,
+    length: np.ndarray,
+    cell: float,
+    xyz: np.ndarray,
 ) -> float:
     """``cell`` doubled until the grid entries stay within a budget linear in the input
     (a few very long segments among short ones) and the cell numbers fit in int64."""
     cell = max(cell, float(margin.max()) / 4.0, 1e-300)
-    budget = 16 * (a.shape[0] + nodes) + 4096
+    budget = 64 * a.shape[0] + 16 * xyz.shape[0] + 4096
     span = np.maximum(a, b).max(axis=0) - np.minimum(a, b).min(axis=0) + 2.0 * margin.max()
     step = np.abs(b - a)
-    for _ in range(200):
+    for _ in range(2100):  # enough doublings to go from 1e-300 past any float extent
         pieces = np.maximum(np.ceil(length / cell), 1.0)
         across = np.floor((step / pieces[:, None] + 2.0 * margin[:, None]) / cell) + 2.0
         entries = float((pieces * across.prod(axis=1)).sum())
@@ -316,38 +323,49 @@ def _fit_cell(
     return cell
 
 
-def _segment_cells(
-    a: np.ndarray, b: np.ndarray, margin: np.ndarray, length: np.ndarray, cell: float
-) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
-    """(segment row, flat cell number) of every cell the pieces of each segment cover
-    (each pair once), the grid origin and its size in cells per axis."""
-    pieces = np.maximum(np.ceil(length / cell), 1.0).astype(np.int64)
-    seg, k = _expand(np.zeros(pieces.size, dtype=np.int64), pieces)
-    t0 = (k / pieces[seg])[:, None]
-    t1 = ((k + 1) / pieces[seg])[:, None]
-    p0 = a[seg] + (b[seg] - a[seg]) * t0
-    p1 = a[seg] + (b[seg] - a[seg]) * t1
-    low = np.minimum(p0, p1) - margin[seg, None]
-    high = np.maximum(p0, p1) + margin[seg, None]
-    origin = low.min(axis=0) - 0.5 * cell  # a flat mesh's plane sits mid-cell
-    dims = np.floor((high.max(axis=0) - origin) / cell).astype(np.int64) + 1
-    first = np.floor((low - origin) / cell).astype(np.int64)
-    span = np.floor((high - origin) / cell).astype(np.int64) - first + 1
-    piece, r = _expand(np.zeros(seg.size, dtype=np.int64), span.prod(axis=1))
-    ix = first[piece, 0] + r % span[piece, 0]
-    iy = first[piece, 1] + (r // span[piece, 0]) % span[piece, 1]
-    iz = first[piece, 2] + r // (span[piece, 0] * span[piece, 1])
-    key = _flat(np.stack([ix, iy, iz], axis=1), dims)
-    seg = seg[piece]
-    order = np.lexsort((key, seg))
-    seg, key = seg[order], key[order]
-    new = np.ones(seg.size, dtype=bool)
-    new[1:] = (seg[1:] != seg[:-1]) | (key[1:] != key[:-1])
-    return seg[new], key[new], origin, dims
+@dataclass(frozen=True)
+class _Grid:
+    """Segments cut into pieces no longer than ``cell`` and the grid cells each piece's
+    box (widened by its margin) covers (neighbouring pieces may share a cell: their
+    pairs come twice and are made unique later)."""
 
+    segment: np.ndarray  # (k,) segment of each piece
+    p0: np.ndarray  # (k, 3) piece start
+    p1: np.ndarray  # (k, 3) piece end
+    piece: np.ndarray  # (e,) piece of each entry
+    key: np.ndarray  # (e,) flat cell number of each entry
+    origin: np.ndarray  # (3,) corner of cell (0, 0, 0)
+    dims: np.ndarray  # (3,) cells per axis
 
-def _flat(ijk: np.ndarray, dims: np.ndarray) -> np.ndarray:
-    return (ijk[:, 0] * dims[1] + ijk[:, 1]) * dims[2] + ijk[:, 2]
+    @staticmethod
+    def build(
+        a: np.ndarray, b: np.ndarray, margin: np.ndarray, length: np.ndarray, cell: float
+    ) -> _Grid:
+        count = np.maximum(np.ceil(length / cell), 1.0).astype(np.int64)
+        segment, k = _expand(np.zeros(count.size, dtype=np.int64), count)
+        step = (b - a)[segment] / count[segment, None]
+        p0 = a[segment] + step * k[:, None]
+        p1 = p0 + step
+        low = np.minimum(p0, p1) - margin[segment, None]
+        high = np.maximum(p0, p1) + margin[segment, None]
+        origin = low.min(axis=0) - 0.5 * cell  # a flat mesh's plane sits mid-cell
+        dims = np.floor((high.max(axis=0) - origin) / cell).astype(np.int64) + 1
+        first = np.floor((low - origin) / cell).astype(np.int64)
+        span = np.floor((high - origin) / cell).astype(np.int64) - first + 1
+        piece, r = _expand(np.zeros(segment.size, dtype=np.int64), span.prod(axis=1))
+        ijk = np.stack(
+            [
+                first[piece, 0] + r % span[piece, 0],
+                first[piece, 1] + (r // span[piece, 0]) % span[piece, 1],
+                first[piece, 2] + r // (span[piece, 0] * span[piece, 1]),
+            ],
+            axis=1,
+        )
+        grid = _Grid(segment, p0, p1, piece, np.zeros(0, dtype=np.int64), origin, dims)
+        return _Grid(segment, p0, p1, piece, grid.flat(ijk), origin, dims)
+
+    def flat(self, ijk: np.ndarray) -> np.ndarray:
+        return (ijk[:, 0] * self.dims[1] + ijk[:, 1]) * self.dims[2] + ijk[:, 2]
 
 
 def _batches(

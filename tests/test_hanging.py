@@ -1,0 +1,183 @@
+"""Hanging nodes (non-conforming interfaces) and the free-edge loop classes around them.
+
+Meshes come from tests/hanging_meshes.py: where the hanging nodes sit, which elements
+hold them and which use them is known by construction. Loop lengths are checked
+against closed-form values of the analytic shapes (the 0.3 x 0.3 plate: perimeter 1.2,
+area 0.09; an interface of length l is walked on both sides, 2 l) and against shapely
+(exterior length and area of the union of the element polygons).
+"""
+
+from __future__ import annotations
+
+import meshio
+import numpy as np
+import pytest
+import shapely
+
+from meshaudit import audit
+from tests.finding_meshes import NX, NY, grid_points, grid_quads, polygons, with_crack
+from tests.hanging_meshes import SIZE, bent, embedded_patch, refined_plate
+
+
+def found(report) -> dict:
+    return {f.kind: f for f in report.findings}
+
+
+def loops_by_kind(report) -> dict[str, list[dict]]:
+    out: dict[str, list[dict]] = {}
+    for lp in report.free_edges.loops():
+        out.setdefault(lp["kind"], []).append(lp)
+    return out
+
+
+def same_points(got: np.ndarray, expected: np.ndarray) -> bool:
+    """Same set of points (order free), to round-off."""
+    if got.shape != expected.shape:
+        return False
+    key = np.lexsort(np.round(got, 9).T[::-1])
+    ref = np.lexsort(np.round(expected, 9).T[::-1])
+    return np.allclose(got[key], expected[ref], atol=1e-12)
+
+
+def union_of(mesh: meshio.Mesh):
+    cells = [c for block in mesh.cells for c in block.data[:, :4]]
+    return shapely.unary_union(polygons(mesh.points, cells))
+
+
+# -- the plate of the problem statement ----------------------------------------------------
+
+
+def test_one_coarse_quad_beside_two_fine_quads():
+    # By construction: coarse quad 1 on the left, fine quads 2..5 on the right; the fine
+    # node at (0.15, 0.15) sits at the middle of the coarse quad's right edge.
+    planted = refined_plate(ratio=2, rows=1)
+    report = audit(planted.mesh)
+    f = found(report)
+    assert list(f) == ["hanging_nodes"]  # the elements themselves are fine rectangles
+    hang = f["hanging_nodes"]
+    assert hang.severity == "fail" and not report.passed
+    assert hang.count == 1 and hang.counts == "nodes"
+    assert same_points(hang.node_xyz, np.array([[HALF, HALF, 0.0] for HALF in [SIZE / 2]]))
+    assert sorted(hang.element_ids.tolist()) == planted.involved == [1, 2, 4]
+    assert hang.pairs[:, 1].tolist() == planted.hosts == [1]
+    # drawn: the coarse edge and the two fine edges on it (total 2 x 0.3)
+    drawn = np.linalg.norm(hang.edge_xyz[:, 1] - hang.edge_xyz[:, 0], axis=1).sum()
+    assert drawn == pytest.approx(2 * SIZE)
+
+
+def test_plate_perimeter_is_the_part_boundary_and_the_interface_is_its_own_loop():
+    mesh = refined_plate(ratio=2, rows=1).mesh
+    report = audit(mesh)
+    loops = loops_by_kind(report)
+    assert sorted(loops) == ["interface", "outer"]
+    union = union_of(mesh)  # shapely: one square, perimeter 1.2, area 0.09
+    (outer,) = loops["outer"]
+    assert outer["length"] == pytest.approx(4 * SIZE) == pytest.approx(union.exterior.length)
+    assert outer["area"] == pytest.approx(SIZE**2) == pytest.approx(union.area)
+    (interface,) = loops["interface"]
+    assert interface["length"] == pytest.approx(2 * SIZE)  # both sides of x = 0.15
+    assert interface["edges"] == 3  # one coarse edge, two fine ones
+
+
+@pytest.mark.parametrize(
+    ("left", "right"),
+    [("quad", "quad"), ("triangle", "triangle"), ("quad", "triangle"), ("triangle", "quad")],
+)
+@pytest.mark.parametrize(("ratio", "rows"), [(2, 1), (2, 3), (3, 1), (3, 2), (4, 2)])
+def test_planted_hanging_nodes_in_quad_triangle_and_mixed_plates(left, right, ratio, rows):
+    # By construction: (ratio - 1) hanging nodes on each of the ``rows`` coarse edges.
+    planted = refined_plate(ratio, rows, left, right)
+    report = audit(planted.mesh)
+    hang = found(report)["hanging_nodes"]
+    assert hang.count == (ratio - 1) * rows
+    assert same_points(hang.node_xyz, planted.hanging_xyz)
+    assert sorted(hang.element_ids.tolist()) == planted.involved
+    assert sorted(set(hang.pairs[:, 1].tolist())) == planted.hosts
+    loops = loops_by_kind(report)
+    assert sorted(loops) == ["interface", "outer"]
+    assert loops["outer"][0]["length"] == pytest.approx(4 * SIZE)
+    assert loops["interface"][0]["length"] == pytest.approx(2 * SIZE)
+    assert loops["interface"][0]["edges"] == rows + ratio * rows
+
+
+def test_three_to_one_interface_names_two_nodes_per_coarse_edge():
+    # By construction: fine nodes at y = 0.1 and 0.2 inside the single coarse edge.
+    planted = refined_plate(ratio=3, rows=1)
+    hang = found(audit(planted.mesh))["hanging_nodes"]
+    assert hang.count == 2
+    expected = np.array([[SIZE / 2, 0.1, 0.0], [SIZE / 2, 0.2, 0.0]])
+    assert same_points(hang.node_xyz, expected)
+    assert hang.pairs[:, 1].tolist() == [1, 1]
+
+
+def test_shell_with_a_non_conforming_interface():
+    # The 2:1 plate rolled onto a cylinder and turned in space: the hanging nodes are 3-D
+    # points still on their hosts (x = 0.15 is a straight generator of the cylinder).
+    planted = bent(refined_plate(ratio=2, rows=2))
+    report = audit(planted.mesh)
+    assert report.summary.frame == "shell"
+    hang = found(report)["hanging_nodes"]
+    assert hang.count == 2
+    assert same_points(hang.node_xyz, planted.hanging_xyz)
+    assert sorted(hang.element_ids.tolist()) == planted.involved
+    loops = loops_by_kind(report)
+    assert sorted(loops) == ["boundary", "interface"]
+    # arc length is x: the boundary keeps its flat length 1.2, the interface 2 x 0.3
+    assert loops["boundary"][0]["length"] == pytest.approx(4 * SIZE, rel=1e-2)
+    assert loops["interface"][0]["length"] == pytest.approx(2 * SIZE)
+
+
+def test_embedded_fine_patch_makes_a_closed_interface_inside_the_part():
+    planted = embedded_patch()
+    report = audit(planted.mesh)
+    hang = found(report)["hanging_nodes"]
+    assert hang.count == 4
+    assert same_points(hang.node_xyz, planted.hanging_xyz)
+    assert sorted(set(hang.pairs[:, 1].tolist())) == planted.hosts
+    assert sorted(hang.element_ids.tolist()) == planted.involved
+    loops = loops_by_kind(report)
+    assert sorted(loops) == ["interface", "outer"]  # not a hole: the patch fills it
+    assert loops["outer"][0]["length"] == pytest.approx(4 * SIZE)
+    assert loops["interface"][0]["length"] == pytest.approx(2 * 0.4)  # centre's perimeter
+
+
+# -- clean meshes stay clean -------------------------------------------------------------
+
+
+def test_clean_meshes_have_no_hanging_nodes():
+    pts, quads = grid_points(NX, NY), grid_quads(NX, NY)
+    with_hole = np.delete(quads, 1 * NX + 2, axis=0)
+    right = (np.arange(len(quads)) % NX) >= NX // 2
+    tris = np.vstack([quads[right][:, [0, 1, 2]], quads[right][:, [0, 2, 3]]])
+    pts3 = np.column_stack([pts, 0.2 * pts[:, 0] * pts[:, 1]])
+    for mesh in (
+        meshio.Mesh(pts, [("quad", quads)]),
+        meshio.Mesh(pts, [("quad", with_hole)]),
+        meshio.Mesh(pts, [("quad", quads[~right]), ("triangle", tris)]),
+        meshio.Mesh(pts3, [("quad", quads)]),
+    ):
+        report = audit(mesh)
+        assert report.findings == []
+        assert "interface" not in loops_by_kind(report)
+
+
+def test_an_intended_crack_is_a_crack_not_an_interface():
+    mesh, _, _ = with_crack(2, 4)
+    report = audit(mesh)
+    assert "hanging_nodes" not in found(report)
+    assert sorted(loops_by_kind(report)) == ["crack", "outer"]
+
+
+def test_override_to_info_passes_the_mesh(tmp_path):
+    path = tmp_path / "tied.toml"
+    path.write_text('[findings]\nhanging_nodes = "info"\n', encoding="utf-8")
+    mesh = refined_plate(ratio=2, rows=1).mesh
+    report = audit(mesh, profile=path)
+    assert report.passed
+    assert [(f.kind, f.severity) for f in report.findings] == [("hanging_nodes", "info")]
+    off = tmp_path / "off.toml"
+    off.write_text('[findings]\nhanging_nodes = "off"\n', encoding="utf-8")
+    report = audit(mesh, profile=off)
+    assert report.passed and report.findings == []
+    # without the check the interface is not known: the old single loop of 1.8
+    assert [lp["kind"] for lp in report.free_edges.loops()] == ["outer"]
