@@ -165,3 +165,108 @@ def embedded_patch() -> Planted:
     users = list(range(9, 13))  # the four fine quads, after the eight coarse ones
     xyz = np.column_stack([points[hanging], np.zeros(4)])
     return Planted(meshio.Mesh(points, cells), xyz, hosts, users, {"hanging": hanging})
+
+
+def quad8_beside_fine(
+    bulge: float = 0.0,
+    fine: str = "quad",
+    split: bool = False,
+    ratio: int = 2,
+    along: float = 0.0,
+) -> Planted:
+    """A coarse quad8 on [0, 0.15] x [0, 0.3] whose right side (corners 1 and 2) has its
+    midside node 5 at (0.15 + bulge, 0.15 + along); beside it ``ratio`` fine elements reaching
+    x = 0.3, their left corners on that side's curve x(t) = a N1 + m N2 + b N3 (the
+    quadratic shape functions N1 = (1-t)(1-2t), N2 = 4t(1-t), N3 = t(2t-1)) at
+    t = k / ratio. ``fine``: "quad" or "quad8" (midside nodes at the chord midpoints).
+    ``split``: the fine corner at t = 1/2 is a node of its own at node 5's place (not
+    merged) instead of node 5 itself."""
+    a, b = np.array([HALF, 0.0]), np.array([HALF, SIZE])
+    m = np.array([HALF + bulge, HALF + along])
+    pts = [[0, 0], a, b, [0, SIZE], [HALF / 2, 0], m, [HALF / 2, SIZE], [0, HALF]]
+    coarse = np.array([[0, 1, 2, 3, 4, 5, 6, 7]])
+
+    def curve(t: float) -> np.ndarray:
+        return a * (1 - t) * (1 - 2 * t) + m * 4 * t * (1 - t) + b * t * (2 * t - 1)
+
+    left = [1]
+    hanging = []
+    for k in range(1, ratio):
+        if 2 * k == ratio and not split:
+            left.append(5)
+        else:
+            left.append(len(pts))
+            pts.append(curve(k / ratio).tolist())
+        hanging.append(left[-1])
+    left.append(2)
+    right = []
+    for k in range(ratio + 1):
+        right.append(len(pts))
+        pts.append([SIZE, SIZE * k / ratio])
+    quads = np.array([[left[k], right[k], right[k + 1], left[k + 1]] for k in range(ratio)])
+    points = np.array(pts, dtype=float)
+    if fine == "quad8":
+        mids = len(points) + np.arange(4 * len(quads)).reshape(-1, 4)
+        sides = 0.5 * (points[quads] + points[np.roll(quads, -1, axis=1)])
+        points = np.vstack([points, sides.reshape(-1, 2)])
+        quads = np.hstack([quads, mids])
+    cells = [("quad8", coarse), (fine, quads)]
+    hanging = np.array(hanging)
+    xyz = np.column_stack([points[hanging], np.zeros(hanging.size)])
+    users = _ids_using(cells[1:], hanging)
+    return Planted(
+        meshio.Mesh(points, cells), xyz, [1], [u + 1 for u in users], {"hanging": hanging}
+    )
+
+
+def stiffened_plate(kind: str) -> Planted:
+    """A flat NX x NY unit-grid plate (z = 0) with a stiffener standing on grid line
+    y = 2 (height 1, in the x-z plane): a shell T-joint.
+
+    - "conforming": one stiffener quad per plate edge, on the plate's nodes (non-manifold
+      edges, no hanging node);
+    - "finer": two stiffener quads per plate edge, on the plate's nodes at whole x and
+      nodes of their own at half x: those hang inside shared plate edges;
+    - "offset": stiffener nodes of its own at x = 0.5, 1.5, ..., NX - 0.5: the plate's
+      nodes at x = 1 .. NX - 1 hang inside the stiffener's free bottom edges.
+    """
+    nx, ny, line = 6, 4, 2
+    x, y = np.meshgrid(np.arange(nx + 1.0), np.arange(ny + 1.0))
+    pts = np.column_stack([x.ravel(), y.ravel(), np.zeros(x.size)])
+    i, j = np.meshgrid(np.arange(nx), np.arange(ny))
+    n0 = (j * (nx + 1) + i).ravel()
+    plate = np.stack([n0, n0 + 1, n0 + nx + 2, n0 + nx + 1], axis=1)
+    on_line = line * (nx + 1) + np.arange(nx + 1)
+
+    def add(xyz: np.ndarray) -> np.ndarray:
+        nonlocal pts
+        idx = len(pts) + np.arange(len(xyz))
+        pts = np.vstack([pts, xyz])
+        return idx
+
+    if kind == "conforming":
+        bottom = on_line
+        hanging = np.zeros(0, dtype=np.int64)
+    elif kind == "finer":
+        half = add(np.column_stack([np.arange(nx) + 0.5, np.full(nx, line), np.zeros(nx)]))
+        bottom = np.empty(2 * nx + 1, dtype=np.int64)
+        bottom[0::2], bottom[1::2] = on_line, half
+        hanging = half
+    else:
+        xs = np.arange(nx) + 0.5
+        bottom = add(np.column_stack([xs, np.full(nx, line), np.zeros(nx)]))
+        hanging = on_line[1:-1]
+    top = add(np.column_stack([pts[bottom, 0], np.full(bottom.size, line), np.ones(bottom.size)]))
+    stiff = np.stack([bottom[:-1], bottom[1:], top[1:], top[:-1]], axis=1)
+    cells = [("quad", plate), ("quad", stiff)]
+    if kind == "finer":  # hosts: plate elements on both sides of the line
+        hosts = sorted(
+            {h for k in range(nx) for h in _ids_with_edge(cells[:1], on_line[k], on_line[k + 1])}
+        )
+        users = [len(plate) + u for u in _ids_using(cells[1:], hanging)]
+    elif kind == "offset":
+        hosts = [len(plate) + u for u in range(1, len(stiff) + 1)]  # each holds one
+        users = _ids_using(cells[:1], hanging)
+    else:
+        hosts, users = [], []
+    return Planted(meshio.Mesh(pts, cells), pts[hanging], hosts, users, {"hanging": hanging})

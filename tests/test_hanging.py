@@ -16,7 +16,14 @@ import shapely
 
 from meshaudit import audit
 from tests.finding_meshes import NX, NY, grid_points, grid_quads, polygons, with_crack
-from tests.hanging_meshes import SIZE, bent, embedded_patch, refined_plate
+from tests.hanging_meshes import (
+    SIZE,
+    bent,
+    embedded_patch,
+    quad8_beside_fine,
+    refined_plate,
+    stiffened_plate,
+)
 
 
 def found(report) -> dict:
@@ -181,3 +188,143 @@ def test_override_to_info_passes_the_mesh(tmp_path):
     assert report.passed and report.findings == []
     # without the check the interface is not known: the old single loop of 1.8
     assert [lp["kind"] for lp in report.free_edges.loops()] == ["outer"]
+
+
+# -- quadratic elements -------------------------------------------------------------------
+
+
+@pytest.mark.parametrize("bulge", [0.0, 0.02, -0.03])
+def test_fine_corner_on_a_coarse_quad8_midside_node(bulge):
+    # By construction: the fine quads' shared corner is the coarse quad8's midside node 5;
+    # with a bulge it is off the chord (by the bulge) but on the curved side.
+    planted = quad8_beside_fine(bulge=bulge)
+    report = audit(planted.mesh)
+    hang = found(report)["hanging_nodes"]
+    assert hang.count == 1
+    assert same_points(hang.node_xyz, np.array([[SIZE / 2 + bulge, SIZE / 2, 0.0]]))
+    assert sorted(hang.element_ids.tolist()) == planted.involved == [1, 2, 3]
+    loops = loops_by_kind(report)
+    assert sorted(loops) == ["interface", "outer"]
+
+
+def test_fine_corner_at_the_midside_place_but_not_merged():
+    # A node of its own exactly at node 5's place: unmerged (coincident_nodes) and hanging.
+    planted = quad8_beside_fine(split=True)
+    f = found(audit(planted.mesh))
+    assert f["hanging_nodes"].count == 1
+    assert same_points(f["hanging_nodes"].node_xyz, np.array([[SIZE / 2, SIZE / 2, 0.0]]))
+    assert f["coincident_nodes"].count == 1
+
+
+def test_quad8_on_both_sides_reports_only_the_corner_not_the_fine_midside_nodes():
+    # Fine quad8 midside nodes sit at the coarse side's quarter points: on the coarse
+    # edge, but midside nodes, so only the fine corner (node 5) is counted.
+    planted = quad8_beside_fine(fine="quad8")
+    hang = found(audit(planted.mesh))["hanging_nodes"]
+    assert hang.count == 1
+    assert sorted(hang.element_ids.tolist()) == [1, 2, 3]
+
+
+@pytest.mark.parametrize(("bulge", "along"), [(0.0, 0.0), (0.015, 0.0), (0.015, 0.02)])
+def test_three_to_one_on_a_curved_quad8_side(bulge, along):
+    # The two fine corners at t = 1/3 and 2/3 of the curve (shape functions): off the
+    # chord by 8/9 of the bulge, on the curve; with the midside node moved along the
+    # side too, the curve's parameter is no longer the chord's.
+    planted = quad8_beside_fine(bulge=bulge, ratio=3, along=along)
+    hang = found(audit(planted.mesh))["hanging_nodes"]
+    assert hang.count == 2
+    assert same_points(hang.node_xyz, planted.hanging_xyz)
+
+
+def test_a_clean_quad8_mesh_has_no_hanging_nodes():
+    # A 2 x 2 quad8 grid: the midside nodes of its boundary edges lie inside those free
+    # edges, but they are the edges' own midside nodes.
+    pts, quads = grid_points(2, 2), grid_quads(2, 2)
+    mids = len(pts) + np.arange(16).reshape(4, 4)
+    sides = 0.5 * (pts[quads] + pts[np.roll(quads, -1, axis=1)])
+    mesh = meshio.Mesh(
+        np.vstack([pts, sides.reshape(-1, 2)]), [("quad8", np.hstack([quads, mids]))]
+    )
+    report = audit(mesh)
+    assert "hanging_nodes" not in found(report)
+    assert [lp["kind"] for lp in report.free_edges.loops()] == ["outer"]
+
+
+# -- shell T-joints -----------------------------------------------------------------------
+
+
+def test_conforming_stiffener_is_a_t_joint_not_hanging_nodes():
+    report = audit(stiffened_plate("conforming").mesh)
+    f = found(report)
+    assert "hanging_nodes" not in f
+    assert f["non_manifold_edges"].count == 6  # one per plate edge on the line
+
+
+def test_finer_stiffener_on_plate_nodes_hangs_inside_shared_plate_edges():
+    planted = stiffened_plate("finer")
+    report = audit(planted.mesh)
+    hang = found(report)["hanging_nodes"]
+    assert hang.count == 6
+    assert same_points(hang.node_xyz, planted.hanging_xyz)
+    assert sorted(set(hang.pairs[:, 1].tolist())) == planted.hosts
+    assert sorted(hang.element_ids.tolist()) == planted.involved
+    interface = loops_by_kind(report)["interface"]
+    assert sum(lp["length"] for lp in interface) == pytest.approx(6.0)  # one side only
+
+
+def test_offset_stiffener_has_plate_nodes_inside_its_bottom_edges():
+    planted = stiffened_plate("offset")
+    hang = found(audit(planted.mesh))["hanging_nodes"]
+    assert hang.count == 5
+    assert same_points(hang.node_xyz, planted.hanging_xyz)
+    assert sorted(set(hang.pairs[:, 1].tolist())) == planted.hosts
+    assert sorted(hang.element_ids.tolist()) == planted.involved
+
+
+# -- cracks next to interfaces ----------------------------------------------------------------
+
+
+def test_crack_from_the_boundary_to_the_interface():
+    # refined 2:1 plate with two coarse rows; the left end (0, 0.15) of the edge between
+    # the two coarse quads is duplicated for the upper one: a cut from the boundary to the
+    # interface node (0.15, 0.15), which stays shared.
+    planted = refined_plate(ratio=2, rows=2)
+    mesh = planted.mesh
+    pts = np.vstack([mesh.points, mesh.points[2]])
+    coarse = mesh.cells[0].data.copy()
+    coarse[1][coarse[1] == 2] = len(pts) - 1
+    mesh = meshio.Mesh(pts, [("quad", coarse), ("quad", mesh.cells[1].data)])
+    report = audit(mesh)
+    f = found(report)
+    assert f["coincident_nodes"].count == 1
+    assert f["crack_edges"].count == 2
+    assert f["hanging_nodes"].count == 2
+    assert same_points(f["hanging_nodes"].node_xyz, planted.hanging_xyz)
+    loops = loops_by_kind(report)
+    assert sorted(loops) == ["interface", "outer"]
+    (outer,) = loops["outer"]
+    assert outer["crack_edges"] == 2
+    assert outer["length"] == pytest.approx(4 * SIZE + 2 * SIZE / 2)  # boundary + both lips
+    assert loops["interface"][0]["length"] == pytest.approx(2 * SIZE)
+
+
+def test_interface_whose_shared_nodes_are_not_merged_either():
+    # Every coarse node on x = 0.15 duplicated for the fine side: unmerged there (a cut)
+    # and hanging in between.
+    planted = refined_plate(ratio=2, rows=2)
+    mesh = planted.mesh
+    shared = np.array([1, 3, 5])
+    copies = len(mesh.points) + np.arange(3)
+    fine = mesh.cells[1].data.copy()
+    for o, c in zip(shared, copies):
+        fine[fine == o] = c
+    pts = np.vstack([mesh.points, mesh.points[shared]])
+    report = audit(meshio.Mesh(pts, [("quad", mesh.cells[0].data), ("quad", fine)]))
+    f = found(report)
+    assert f["coincident_nodes"].count == 3
+    assert f["hanging_nodes"].count == 2
+    assert "crack_edges" not in f  # no two free edges join the same two places
+    loops = loops_by_kind(report)
+    assert "interface" in loops
+    assert sum(lp["length"] for lp in loops["interface"]) == pytest.approx(2 * SIZE)
+    assert sum(lp["length"] for lp in loops["outer"]) == pytest.approx(4 * SIZE)
