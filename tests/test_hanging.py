@@ -14,7 +14,8 @@ import numpy as np
 import pytest
 import shapely
 
-from meshaudit import audit
+from meshaudit import InputError, audit
+from meshaudit.mesh_checks import hanging
 from tests.finding_meshes import NX, NY, grid_points, grid_quads, polygons, with_crack
 from tests.hanging_meshes import (
     SIZE,
@@ -328,3 +329,94 @@ def test_interface_whose_shared_nodes_are_not_merged_either():
     assert "interface" in loops
     assert sum(lp["length"] for lp in loops["interface"]) == pytest.approx(2 * SIZE)
     assert sum(lp["length"] for lp in loops["outer"]) == pytest.approx(4 * SIZE)
+
+
+# -- pathological input: bounded work ----------------------------------------------------
+
+
+@pytest.fixture
+def pair_counter(monkeypatch):
+    """Counts the node/edge pairs the hanging-node check tests."""
+    tested: list[int] = []
+    batches = hanging._batches
+
+    def counting(*args):
+        for nodes_, segments in batches(*args):
+            tested.append(nodes_.size)
+            yield nodes_, segments
+
+    monkeypatch.setattr(hanging, "_batches", counting)
+    return tested
+
+
+def no_overlap_check(tmp_path):
+    # the overlap check is not what these tests are about (and is slow on such piles)
+    path = tmp_path / "no_overlap.toml"
+    path.write_text('[findings]\noverlapping_elements = "off"\n', encoding="utf-8")
+    return path
+
+
+def column(n: int) -> meshio.Mesh:
+    """A unit quad beside a column of n fine quads of 1 x 1/n: n - 1 hanging nodes piled
+    on one coarse edge (by construction)."""
+    right = [[2.0, k / n] for k in range(n + 1)]
+    inner = [[1.0, k / n] for k in range(1, n)]
+    pts = np.array([[0, 0], [1, 0], [1, 1], [0, 1], *right, *inner], dtype=float)
+    left = [1, *range(5 + n, 4 + 2 * n), 2]
+    quads = [[0, 1, 2, 3]] + [[left[k], 4 + k, 5 + k, left[k + 1]] for k in range(n)]
+    return meshio.Mesh(pts, [("quad", np.array(quads))])
+
+
+def test_thousands_of_hanging_nodes_on_one_edge(pair_counter, tmp_path):
+    n = 3000
+    report = audit(column(n), profile=no_overlap_check(tmp_path))
+    hang = found(report)["hanging_nodes"]
+    assert hang.count == n - 1
+    assert hang.pairs[:, 1].tolist() == [1] * (n - 1)
+    loops = loops_by_kind(report)
+    assert loops["outer"][0]["length"] == pytest.approx(6.0)  # the 2 x 1 rectangle
+    assert loops["interface"][0]["length"] == pytest.approx(2.0)
+    assert loops["interface"][0]["edges"] == n + 1
+    # bounded: a few pairs per node, not nodes x edges (3000 x 6000)
+    assert sum(pair_counter) <= 16 * (2 * n + 4 * n)
+
+
+def sticks(n: int, width: float = 1e-3) -> meshio.Mesh:
+    """n separate thin quads of length 2 crossing at the origin at angles k pi / n: every
+    free edge and node in a few cells of a grid sized by the edges. No node lies on
+    another stick's edge (the corners sit 2 pi / n apart on the unit circle, more than
+    the width), so no hanging node (by construction)."""
+    th = np.arange(n) * np.pi / n
+    d = np.stack([np.cos(th), np.sin(th)], axis=1)
+    across = np.stack([-np.sin(th), np.cos(th)], axis=1) * width / 2
+    corners = np.stack([-d - across, d - across, d + across, -d + across], axis=1)
+    return meshio.Mesh(corners.reshape(-1, 2), [("quad", np.arange(4 * n).reshape(-1, 4))])
+
+
+def test_edges_crowding_one_cell_are_bucketed_again(pair_counter, tmp_path):
+    n = 1500
+    report = audit(sticks(n), profile=no_overlap_check(tmp_path))
+    assert "hanging_nodes" not in found(report)
+    # 4n nodes and 4n free edges; every pair would be 3.6e7, one coarse grid about 1.1e7
+    assert sum(pair_counter) <= 2_000_000
+
+
+def test_stacked_copies_with_nodes_of_their_own_are_one_place(pair_counter, tmp_path):
+    # 400 unit squares on distinct nodes at the same place: unmerged nodes and cracks,
+    # tested once per place (coincident nodes are one place), no hanging node.
+    n = 400
+    square = np.array([[0, 0], [1, 0], [1, 1], [0, 1]], dtype=float)
+    mesh = meshio.Mesh(np.tile(square, (n, 1)), [("quad", np.arange(4 * n).reshape(-1, 4))])
+    f = found(audit(mesh, profile=no_overlap_check(tmp_path)))
+    assert "hanging_nodes" not in f
+    assert f["crack_edges"].count == 4 * n
+    assert sum(pair_counter) <= 64 * n
+
+
+def test_a_pile_no_finer_grid_separates_is_refused_with_a_clear_message(monkeypatch, tmp_path):
+    # The guard itself, with the refinement switched off and a small limit: the check
+    # stops with one clear line (exit status 2 on the command line), not hours of pairs.
+    monkeypatch.setattr(hanging, "MAX_REFINE", 0)
+    monkeypatch.setattr(hanging, "CROWDED_PAIRS", 10_000)
+    with pytest.raises(InputError, match=r'hanging-node check: .* set hanging_nodes = "off"'):
+        audit(sticks(300), profile=no_overlap_check(tmp_path))
