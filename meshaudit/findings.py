@@ -215,10 +215,9 @@ def find_topology(
         out.add(
             "hanging_nodes",
             hang.nodes.size,
-            f"{hang.nodes.size} node(s) lie inside free edges of elements "
-            f"{_some(ids[hang.hosts])} and are not shared with them (a non-conforming "
-            f"interface, not connected unless the solver ties it); used by elements "
-            f"{_some(ids[hang.users])}",
+            f"{hang.nodes.size} node(s) inside free edges of elements {_some(ids[hang.hosts])} "
+            "without being their nodes: a non-conforming interface, not connected unless "
+            f"the solver ties it; the nodes are used by elements {_some(ids[hang.users])}",
             hang.elements,
             hang.nodes,
             pairs,

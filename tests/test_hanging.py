@@ -9,6 +9,10 @@ area 0.09; an interface of length l is walked on both sides, 2 l) and against sh
 
 from __future__ import annotations
 
+import json
+import xml.etree.ElementTree as ET
+from pathlib import Path
+
 import meshio
 import numpy as np
 import pytest
@@ -420,3 +424,68 @@ def test_a_pile_no_finer_grid_separates_is_refused_with_a_clear_message(monkeypa
     monkeypatch.setattr(hanging, "CROWDED_PAIRS", 10_000)
     with pytest.raises(InputError, match=r'hanging-node check: .* set hanging_nodes = "off"'):
         audit(sticks(300), profile=no_overlap_check(tmp_path))
+
+
+# -- reports ----------------------------------------------------------------------------------
+
+
+def write_plate(tmp_path) -> Path:
+    mesh = refined_plate(ratio=2, rows=1).mesh
+    path = tmp_path / "bracket_refined.vtu"
+    points = np.column_stack([mesh.points, np.zeros(len(mesh.points))])
+    meshio.write(path, meshio.Mesh(points, mesh.cells))
+    return path
+
+
+def test_cli_reports_hanging_nodes_in_terminal_json_and_junit(tmp_path, run_cli):
+    path = write_plate(tmp_path)
+    out_json, out_xml = tmp_path / "r.json", tmp_path / "r.xml"
+    res = run_cli("check", path, "--json", out_json, "--junit", out_xml)
+    assert res.returncode == 1, res.stderr
+    assert "hanging_nodes" in res.stdout
+    loops_row = next(ln for ln in res.stdout.splitlines() if "free-edge loops" in ln)
+    assert "outer 9 edges (length 1.2)" in loops_row  # 3 coarse + 6 fine boundary edges
+    assert "non-conforming interface 3 edges (length 0.6)" in loops_row
+    doc = json.loads(out_json.read_text())
+    (finding,) = doc["findings"]
+    assert finding["kind"] == "hanging_nodes" and finding["counts"] == "nodes"
+    assert finding["count"] == 1 and sorted(finding["element_ids"]) == [1, 2, 4]
+    loops = {lp["kind"]: lp for lp in doc["free_edge_loops"]}
+    assert loops["outer"]["length"] == pytest.approx(1.2)
+    assert loops["interface"]["length"] == pytest.approx(0.6)
+    suite = ET.parse(out_xml).getroot().find("testsuite")
+    cases = {c.get("name"): c for c in suite.findall("testcase")}
+    assert cases["no hanging nodes"].find("failure") is not None
+    assert int(suite.get("failures")) == 1
+
+
+def test_cli_passes_when_the_profile_marks_the_interface_intended(tmp_path, run_cli):
+    path = write_plate(tmp_path)
+    profile = tmp_path / "tied.toml"
+    profile.write_text('[findings]\nhanging_nodes = "info"\n', encoding="utf-8")
+    out_xml = tmp_path / "r.xml"
+    res = run_cli("check", path, "--profile", profile, "--junit", out_xml)
+    assert res.returncode == 0, res.stderr
+    assert "hanging_nodes" in res.stdout  # still listed, as info
+    case = next(
+        c
+        for c in ET.parse(out_xml).getroot().iter("testcase")
+        if c.get("name") == "no hanging nodes"
+    )
+    assert case.find("failure") is None
+
+
+def test_plot_draws_the_interface_and_crosses_the_hanging_node(tmp_path):
+    from meshaudit.inspection import audit_mesh
+    from meshaudit.outputs import plot
+
+    audited = audit_mesh(write_plate(tmp_path))
+    fig = plot.draw(audited.report, audited.elements)
+    main = fig.axes[0]
+    lines = next(c for c in main.collections if c.get_gid() == "findings")
+    # the coarse edge and the two fine edges on it, all on x = 0.15 (by construction)
+    segments = np.array(lines.get_segments())
+    assert segments.shape == (3, 2, 2)
+    np.testing.assert_allclose(segments[:, :, 0], SIZE / 2)
+    (cross,) = [ln for ln in main.lines if ln.get_gid() == "finding-nodes"]
+    np.testing.assert_allclose(cross.get_xydata(), [[SIZE / 2, SIZE / 2]])
