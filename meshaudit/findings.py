@@ -206,10 +206,11 @@ def find_topology(
         )
 
     interface = None
+    free_use = edges.free_uses(table)
     if out.on("hanging_nodes"):
-        hang = hanging.hanging_nodes(
-            mesh, table, coincident, settings.coincident_tolerance, frame.kind != "planar"
-        )
+        shell = frame.kind != "planar"
+        tolerance = settings.coincident_tolerance
+        hang = hanging.hanging_nodes(mesh, table, coincident, tolerance, shell, free_use)
         interface = hang.interface_uses
         pairs = np.stack([hang.host_element[:, 0], ids[hang.host_element[:, 1]]], axis=1)
         out.add(
@@ -223,7 +224,7 @@ def find_topology(
             pairs,
             hang.edges,
         )
-    free = edges.free_edges(table, mesh.points, coincident, interface=interface)
+    free = edges.free_edges(table, mesh.points, coincident, interface=interface, uses=free_use)
     if out.on("crack_edges"):
         crack = np.flatnonzero(free.crack)
         loops = unique_values(free.loop[crack])

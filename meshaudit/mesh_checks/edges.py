@@ -28,6 +28,13 @@ def kept_table(table: EdgeTable, keep: np.ndarray) -> EdgeTable:
     )
 
 
+def free_uses(table: EdgeTable) -> np.ndarray:
+    """Positions (ascending) of the edge uses whose edge no other element uses: the free
+    edges. (A flag per edge gathered per use: several times faster on large meshes than
+    gathering the use counts.)"""
+    return np.flatnonzero(np.take(table.uses == 1, table.edge))
+
+
 def minority_winding(sign: np.ndarray) -> np.ndarray:
     """Positions of elements wound against the majority (ties: clockwise is the odd one)."""
     majority = 1 if int(sign.sum()) >= 0 else -1
@@ -85,6 +92,7 @@ def free_edges(
     sign: np.ndarray | None = None,
     normal: np.ndarray | None = None,
     interface: np.ndarray | None = None,
+    uses: np.ndarray | None = None,
 ) -> FreeEdges:
     """Free edges, their loops and which of them are cracks.
 
@@ -94,9 +102,11 @@ def free_edges(
     :func:`with_winding`); without them every loop is a ``boundary``. ``interface``:
     edge-table use positions of the free edges on a non-conforming interface
     (:attr:`HangingNodes.interface_uses <meshaudit.mesh_checks.hanging.HangingNodes>`):
-    they make ``interface`` loops of their own.
+    they make ``interface`` loops of their own. ``uses``: :func:`free_uses` of
+    ``table``, worked out here unless given.
     """
-    uses = np.flatnonzero(table.uses[table.edge] == 1)
+    if uses is None:
+        uses = free_uses(table)
     a, b = table.start[uses].astype(np.int64), table.end[uses].astype(np.int64)
     element = table.element[uses].astype(np.int64)
     n_points = points.shape[0]
@@ -163,7 +173,7 @@ def with_winding(
 def non_manifold_edges(table: EdgeTable) -> tuple[np.ndarray, np.ndarray]:
     """(edges, elements): unique edges used three or more times, and the elements using them."""
     edges = np.flatnonzero(table.uses > 2)
-    on = table.uses[table.edge] > 2
+    on = np.take(table.uses > 2, table.edge)
     return edges, unique_values(table.element[on]).astype(np.int64)
 
 

@@ -38,6 +38,7 @@ from ..arrays import unique_values
 from ..elements import ElementMesh
 from ..errors import InputError
 from ..topology import CORNERS_PER_FAMILY, EdgeTable, connected_labels
+from .edges import free_uses
 from .nodes import shortest_edge_at
 
 #: Candidate pairs tested per batch (the memory bound: a few arrays of this length).
@@ -95,8 +96,17 @@ class HangingNodes:
     @property
     def edges(self) -> np.ndarray:
         """(e, 2) node pairs to draw: the hosts and the interface edges, each once."""
-        both = np.sort(np.concatenate([self.host_nodes, self.interface_nodes]), axis=1)
-        return np.unique(both, axis=0) if both.size else both
+        return _unique_rows(
+            np.sort(np.concatenate([self.host_nodes, self.interface_nodes]), axis=1)
+        )
+
+
+def _unique_rows(pairs: np.ndarray) -> np.ndarray:
+    """Distinct rows of non-negative integer pairs (k, 2), in ascending order."""
+    if pairs.size == 0:
+        return pairs.reshape(0, 2)
+    width = np.int64(pairs.max()) + 1
+    return np.stack(np.divmod(unique_values(pairs[:, 0] * width + pairs[:, 1]), width), axis=1)
 
 
 def none_found() -> HangingNodes:
@@ -105,7 +115,12 @@ def none_found() -> HangingNodes:
 
 
 def hanging_nodes(
-    mesh: ElementMesh, table: EdgeTable, coincident: np.ndarray, relative: float, shell: bool
+    mesh: ElementMesh,
+    table: EdgeTable,
+    coincident: np.ndarray,
+    relative: float,
+    shell: bool,
+    free_use: np.ndarray | None = None,
 ) -> HangingNodes:
     """Find the hanging nodes of ``mesh`` (definitions in the module text).
 
@@ -114,9 +129,12 @@ def hanging_nodes(
     every corner node and also shared edges whose ends lie on free edges (T-joints); on
     a planar mesh the ends of free edges are enough (a node inside the part lying on a
     free edge means overlapping elements, which the overlap check reports).
+    ``free_use``: :func:`~meshaudit.mesh_checks.edges.free_uses` of ``table``, worked
+    out here unless given.
     """
     n = mesh.n_points
-    free_use = np.flatnonzero(table.uses[table.edge] == 1)
+    if free_use is None:
+        free_use = free_uses(table)
     if free_use.size == 0:
         return none_found()
     on_free = np.zeros(n, dtype=bool)
@@ -124,11 +142,13 @@ def hanging_nodes(
     on_free[table.end[free_use]] = True
     host_use = free_use
     if shell:
-        shared = table.uses[table.edge] >= 2
+        shared = np.take(table.uses >= 2, table.edge)
         shared &= on_free[table.start]
         shared &= on_free[table.end]
         inner = np.flatnonzero(shared)
-        _, first = np.unique(table.edge[inner], return_index=True)
+        inner = inner[np.argsort(table.edge[inner], kind="stable")]
+        first = np.ones(inner.size, dtype=bool)
+        first[1:] = table.edge[inner[1:]] != table.edge[inner[:-1]]
         host_use = np.concatenate([free_use, inner[first]])
         corner = np.zeros(n, dtype=bool)
         corner[table.start] = True
@@ -212,7 +232,13 @@ def _search(
     # nodes merged by the coincident check are one place: one tester per group (its
     # smallest node), the result is then handed to every candidate of the group
     group = rep[candidates]
-    testers = unique_values(group)
+    merged = bool((group != candidates).any())
+    if merged:
+        is_tester = np.zeros(rep.size, dtype=bool)
+        is_tester[group] = True
+        testers = np.flatnonzero(is_tester)
+    else:
+        testers = candidates
     margin = hosts.bulge[rows] + relative * hosts.length[rows]
     found_n, found_h = [_EMPTY], [_EMPTY]
     for node_pos, piece in _grid_pairs(hosts.a[rows], hosts.b(rows), margin, points[testers]):
@@ -226,11 +252,14 @@ def _search(
     n_hosts = np.int64(hosts.length.size)
     key = unique_values(np.concatenate(found_n) * n_hosts + np.concatenate(found_h))
     p, h = np.divmod(key, n_hosts)
-    order = np.argsort(group, kind="stable")
-    sorted_group = group[order]
-    lo = np.searchsorted(sorted_group, p, side="left")
-    row, at = _expand(lo, np.searchsorted(sorted_group, p, side="right") - lo)
-    return candidates[order[at]], h[row]
+    if not merged or p.size == 0:
+        return p, h
+    hit = np.zeros(rep.size, dtype=bool)
+    hit[p] = True
+    members = candidates[hit[group]]  # candidates whose group's tester was found
+    lo = np.searchsorted(p, rep[members], side="left")
+    row, at = _expand(lo, np.searchsorted(p, rep[members], side="right") - lo)
+    return members[row], h[at]
 
 
 def _expand(lo: np.ndarray, count: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -262,10 +291,20 @@ def _grid_pairs(
     median = float(np.median(length))
     cell = _fit_cell(a, b, margin, length, median if cell is None else min(cell, median), xyz)
     grid = _Grid.build(a, b, margin, length, cell)
-    node_cell = np.floor((xyz - grid.origin) / cell)
+    node_cell = xyz - grid.origin
+    node_cell *= 1.0 / cell
+    np.floor(node_cell, out=node_cell)
     inside = np.all((node_cell >= 0) & (node_cell < grid.dims), axis=1)
     node_rows = np.flatnonzero(inside)
-    node_key = grid.flat(node_cell[inside].astype(np.int64))
+    ijk = node_cell[inside].astype(np.int64)
+    del node_cell, inside
+    near = grid.near(ijk)
+    node_rows, node_key = node_rows[near], grid.flat(ijk[near])
+    # only nodes in cells some piece covers; those few are then sorted by cell
+    cells = unique_values(grid.key)
+    at = np.minimum(np.searchsorted(cells, node_key), cells.size - 1)
+    used = cells[at] == node_key
+    node_rows, node_key = node_rows[used], node_key[used]
     order = np.argsort(node_key, kind="stable")
     node_rows, node_key = node_rows[order], node_key[order]
     lo = np.searchsorted(node_key, grid.key, side="left")
@@ -273,8 +312,9 @@ def _grid_pairs(
     total = int(count.sum())
     seg = grid.segment[grid.piece]
     if total > PAIR_BUDGET + 16 * (grid.key.size + node_rows.size) and depth < MAX_REFINE:
-        _, inverse, pieces = np.unique(grid.key, return_inverse=True, return_counts=True)
-        crowded = pieces[inverse.ravel()] * count > CELL_PAIRS
+        by_cell = np.sort(grid.key)
+        pieces = np.searchsorted(by_cell, grid.key, "right") - np.searchsorted(by_cell, grid.key)
+        crowded = pieces * count > CELL_PAIRS
         if crowded.any():
             yield from _batches(seg[~crowded], lo[~crowded], count[~crowded], node_rows)
             # the pieces entered in crowded cells and the nodes there, on a finer grid
@@ -364,8 +404,26 @@ class _Grid:
         grid = _Grid(segment, p0, p1, piece, np.zeros(0, dtype=np.int64), origin, dims)
         return _Grid(segment, p0, p1, piece, grid.flat(ijk), origin, dims)
 
-    def flat(self, ijk: np.ndarray) -> np.ndarray:
-        return (ijk[:, 0] * self.dims[1] + ijk[:, 1]) * self.dims[2] + ijk[:, 2]
+    def flat(self, ijk: np.ndarray, dims: np.ndarray | None = None) -> np.ndarray:
+        dims = self.dims if dims is None else dims
+        return (ijk[:, 0] * dims[1] + ijk[:, 1]) * dims[2] + ijk[:, 2]
+
+    def near(self, ijk: np.ndarray) -> np.ndarray:
+        """(n,) bool: cell ``ijk`` (n, 3) lies in a block of 2^s x 2^s x 2^s cells that
+        some piece covers, s the smallest shift giving at most a few cells per node: a
+        cheap first cut (one flag lookup per node) before the exact cell lookup."""
+        limit = 4 * ijk.shape[0] + (1 << 20)
+        shift = 0
+        while np.prod((self.dims >> shift) + 1) > limit:
+            shift += 1
+        dims = (self.dims >> shift) + 1
+        flags = np.zeros(int(np.prod(dims)), dtype=bool)
+        k, j = np.divmod(self.key, self.dims[2])
+        i, j = np.divmod(k, self.dims[1])
+        flags[
+            self.flat(np.stack([i, j, np.remainder(self.key, self.dims[2])], axis=1) >> shift, dims)
+        ] = True
+        return flags[self.flat(ijk >> shift, dims)]
 
 
 def _batches(
@@ -458,7 +516,7 @@ def _assemble(
         owner.append(
             np.stack([node[~free_host][row], table.element[uses[at]].astype(np.int64)], axis=1)
         )
-    host_element = np.unique(np.concatenate(owner), axis=0)
+    host_element = _unique_rows(np.concatenate(owner))
     hanging = np.zeros(mesh.n_points, dtype=bool)
     hanging[node] = True
     users = [b.index[hanging[b.connectivity].any(axis=1)] for b in mesh.blocks]
