@@ -227,6 +227,8 @@ def stiffened_plate(kind: str) -> Planted:
       edges, no hanging node);
     - "finer": two stiffener quads per plate edge, on the plate's nodes at whole x and
       nodes of their own at half x: those hang inside shared plate edges;
+    - "own": as "finer", but the stiffener has nodes of its own at whole x too, at the
+      plate's nodes' places (unmerged): those are coincident nodes, the half-x ones hang;
     - "offset": stiffener nodes of its own at x = 0.5, 1.5, ..., NX - 0.5: the plate's
       nodes at x = 1 .. NX - 1 hang inside the stiffener's free bottom edges.
     """
@@ -247,10 +249,12 @@ def stiffened_plate(kind: str) -> Planted:
     if kind == "conforming":
         bottom = on_line
         hanging = np.zeros(0, dtype=np.int64)
-    elif kind == "finer":
+    elif kind in ("finer", "own"):
         half = add(np.column_stack([np.arange(nx) + 0.5, np.full(nx, line), np.zeros(nx)]))
         bottom = np.empty(2 * nx + 1, dtype=np.int64)
         bottom[0::2], bottom[1::2] = on_line, half
+        if kind == "own":
+            bottom[0::2] = add(pts[on_line])
         hanging = half
     else:
         xs = np.arange(nx) + 0.5
@@ -259,7 +263,7 @@ def stiffened_plate(kind: str) -> Planted:
     top = add(np.column_stack([pts[bottom, 0], np.full(bottom.size, line), np.ones(bottom.size)]))
     stiff = np.stack([bottom[:-1], bottom[1:], top[1:], top[:-1]], axis=1)
     cells = [("quad", plate), ("quad", stiff)]
-    if kind == "finer":  # hosts: plate elements on both sides of the line
+    if kind in ("finer", "own"):  # hosts: plate elements on both sides of the line
         hosts = sorted(
             {h for k in range(nx) for h in _ids_with_edge(cells[:1], on_line[k], on_line[k + 1])}
         )

@@ -265,10 +265,15 @@ def test_conforming_stiffener_is_a_t_joint_not_hanging_nodes():
     assert f["non_manifold_edges"].count == 6  # one per plate edge on the line
 
 
-def test_finer_stiffener_on_plate_nodes_hangs_inside_shared_plate_edges():
-    planted = stiffened_plate("finer")
+@pytest.mark.parametrize("kind", ["finer", "own"])
+def test_finer_stiffener_on_plate_nodes_hangs_inside_shared_plate_edges(kind):
+    # "own": the stiffener's whole-x nodes are copies of the plate's (unmerged, coincident
+    # nodes); its half-x nodes hang on the plate's shared edges all the same.
+    planted = stiffened_plate(kind)
     report = audit(planted.mesh)
-    hang = found(report)["hanging_nodes"]
+    f = found(report)
+    assert ("coincident_nodes" in f) == (kind == "own")
+    hang = f["hanging_nodes"]
     assert hang.count == 6
     assert same_points(hang.node_xyz, planted.hanging_xyz)
     assert sorted(set(hang.pairs[:, 1].tolist())) == planted.hosts

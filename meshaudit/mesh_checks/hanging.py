@@ -7,8 +7,9 @@ nodes. Definitions (lengths in the mesh's units, ``relative`` the coincident-nod
 tolerance):
 
 - a *host* is a free edge (used by one element); on a shell also an edge used by
-  several elements whose two ends both lie on free edges (a finer stiffener edge running
-  along a skin edge), where the node must then be an end of a free edge;
+  several elements whose two ends both lie on free edges or are merged with nodes that
+  do (a finer stiffener edge running along a skin edge), where the node must then be an
+  end of a free edge;
 - a corner node p is *hanging* on a host with ends a and b when p is not a corner of the
   host's element, is not a or b nor merged with them by the coincident-node check, its
   distance to the host is at most ``relative x min(L, s_p)`` (L the host's chord length,
@@ -126,7 +127,8 @@ def hanging_nodes(
 
     ``table`` the edge table (duplicate elements left out), ``coincident`` (k, 2) the node
     pairs the coincident-node check merged, ``relative`` its tolerance. ``shell``: test
-    every corner node and also shared edges whose ends lie on free edges (T-joints); on
+    every corner node and also shared edges whose ends lie on free edges, or are merged
+    with nodes that do (T-joints); on
     a planar mesh the ends of free edges are enough (a node inside the part lying on a
     free edge means overlapping elements, which the overlap check reports).
     ``free_use``: :func:`~meshaudit.mesh_checks.edges.free_uses` of ``table``, worked
@@ -140,11 +142,18 @@ def hanging_nodes(
     on_free = np.zeros(n, dtype=bool)
     on_free[table.start[free_use]] = True
     on_free[table.end[free_use]] = True
+    rep = connected_labels(n, coincident[:, 0], coincident[:, 1])
     host_use = free_use
     if shell:
+        # a place is on a free edge when any node merged there is (an unmerged stiffener)
+        near_free = on_free
+        if coincident.size:
+            place = np.zeros(n, dtype=bool)
+            place[rep[on_free]] = True
+            near_free = place[rep]
         shared = np.take(table.uses >= 2, table.edge)
-        shared &= on_free[table.start]
-        shared &= on_free[table.end]
+        shared &= near_free[table.start]
+        shared &= near_free[table.end]
         inner = np.flatnonzero(shared)
         inner = inner[np.argsort(table.edge[inner], kind="stable")]
         first = np.ones(inner.size, dtype=bool)
@@ -156,7 +165,6 @@ def hanging_nodes(
     else:
         candidates = np.flatnonzero(on_free)
     hosts = _Hosts.build(mesh, table, host_use)
-    rep = connected_labels(n, coincident[:, 0], coincident[:, 1])
     node, host = _search(hosts, mesh.points, candidates, rep, relative)
     free_host = table.uses[table.edge[hosts.use[host]]] == 1
     node, host = node[free_host | on_free[node]], host[free_host | on_free[node]]
