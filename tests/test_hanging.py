@@ -494,3 +494,27 @@ def test_plot_draws_the_interface_and_crosses_the_hanging_node(tmp_path):
     np.testing.assert_allclose(segments[:, :, 0], SIZE / 2)
     (cross,) = [ln for ln in main.lines if ln.get_gid() == "finding-nodes"]
     np.testing.assert_allclose(cross.get_xydata(), [[SIZE / 2, SIZE / 2]])
+
+
+# -- tolerance -----------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize("h", [1.0, 1e-3, 250.0])
+def test_tolerance_is_relative_to_the_local_edge(h, tmp_path):
+    # The stated rule: within 1e-6 x min(host length, shortest edge at the node). Here the
+    # host is 0.3 h long and the shortest edge at the node 0.075 h (the fine quads are
+    # 0.075 h x 0.15 h): tolerance 0.075e-6 h. The node is moved off the host, away from it.
+    planted = refined_plate(ratio=2, rows=1)
+    node = planted.extra["hanging"][0]
+    tol = 1e-6 * 0.075 * h
+
+    def moved(d: float) -> meshio.Mesh:
+        pts = planted.mesh.points * h
+        pts[node, 0] += d
+        return meshio.Mesh(pts, planted.mesh.cells)
+
+    assert found(audit(moved(0.4 * tol)))["hanging_nodes"].count == 1
+    assert "hanging_nodes" not in found(audit(moved(3.0 * tol)))  # a gap, not an interface
+    loose = tmp_path / "loose.toml"
+    loose.write_text("[findings]\ncoincident_tolerance = 1e-5\n", encoding="utf-8")
+    assert found(audit(moved(3.0 * tol), profile=loose))["hanging_nodes"].count == 1

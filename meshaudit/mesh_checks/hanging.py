@@ -128,9 +128,9 @@ def hanging_nodes(
     ``table`` the edge table (duplicate elements left out), ``coincident`` (k, 2) the node
     pairs the coincident-node check merged, ``relative`` its tolerance. ``shell``: test
     every corner node and also shared edges whose ends lie on free edges, or are merged
-    with nodes that do (T-joints); on
-    a planar mesh the ends of free edges are enough (a node inside the part lying on a
-    free edge means overlapping elements, which the overlap check reports).
+    with nodes that do (T-joints); on a planar mesh the ends of free edges are enough (a
+    node inside the part lying on a free edge means overlapping elements, which the
+    overlap check reports).
     ``free_use``: :func:`~meshaudit.mesh_checks.edges.free_uses` of ``table``, worked
     out here unless given.
     """
@@ -166,8 +166,8 @@ def hanging_nodes(
         candidates = np.flatnonzero(on_free)
     hosts = _Hosts.build(mesh, table, host_use)
     node, host = _search(hosts, mesh.points, candidates, rep, relative)
-    free_host = table.uses[table.edge[hosts.use[host]]] == 1
-    node, host = node[free_host | on_free[node]], host[free_host | on_free[node]]
+    keep = (table.uses[table.edge[hosts.use[host]]] == 1) | on_free[node]
+    node, host = node[keep], host[keep]
     node, host = _exact(mesh, table, hosts, node, host, relative)
     if node.size == 0:
         return none_found()
