@@ -40,8 +40,9 @@ class Finding:
     arrays), ``element_ids`` the same elements' labels. ``node_ids`` are 0-based node
     indices in the mesh's point order. ``pairs`` (k, 2) pair up the items the finding is
     about (node indices for coincident nodes, element ids for duplicates and
-    overlaps, hanging node index and host element id for hanging nodes), ``edges`` (m, 2) node indices of the edges involved, ``edge_xyz``
-    (m, 2, 3) and ``node_xyz`` (n, 3) their coordinates.
+    overlaps, hanging node index and host element id for hanging nodes), ``edges``
+    (m, 2) node indices of the edges involved, ``edge_xyz`` (m, 2, 3) and ``node_xyz``
+    (n, 3) their coordinates.
     """
 
     kind: str
