@@ -29,10 +29,7 @@ from tests.hanging_meshes import (
     refined_plate,
     stiffened_plate,
 )
-
-
-def found(report) -> dict:
-    return {f.kind: f for f in report.findings}
+from tests.test_findings import found
 
 
 def loops_by_kind(report) -> dict[str, list[dict]]:
