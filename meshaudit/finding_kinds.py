@@ -53,6 +53,15 @@ KINDS: tuple[FindingKind, ...] = (
         "the part is split along them; loads do not cross (common practice)",
     ),
     FindingKind(
+        "hanging_nodes",
+        "fail",
+        "nodes",
+        "corner nodes lying inside another element's free edge: a non-conforming "
+        "interface (a coarse element beside finer ones) with no shared node there",
+        "the two sides are not connected unless the solver constrains the hanging nodes; "
+        'set "info" where the interface is tied on purpose (common practice)',
+    ),
+    FindingKind(
         "orphan_nodes",
         "warn",
         "nodes",

@@ -1,6 +1,6 @@
 """Mesh-level findings: defects no single element shows (unmerged nodes and the cracks
-they open, orphan nodes, duplicate and overlapping elements, inconsistent orientation,
-non-manifold edges).
+they open, hanging nodes of non-conforming interfaces, orphan nodes, duplicate and
+overlapping elements, inconsistent orientation, non-manifold edges).
 
 :func:`find` runs every enabled check of :mod:`meshaudit.mesh_checks` on the element
 arrays and returns the findings (only kinds that occur: a clean mesh has none) plus the
@@ -21,7 +21,7 @@ from .arrays import unique_values
 from .elements import ElementMesh
 from .finding_kinds import KIND_INFO, FindingSettings
 from .frames import Frame
-from .mesh_checks import duplicates, edges, nodes, overlap
+from .mesh_checks import duplicates, edges, hanging, nodes, overlap
 from .topology import EdgeTable, edge_table
 
 #: How many ids a finding's message names.
@@ -40,8 +40,9 @@ class Finding:
     arrays), ``element_ids`` the same elements' labels. ``node_ids`` are 0-based node
     indices in the mesh's point order. ``pairs`` (k, 2) pair up the items the finding is
     about (node indices for coincident nodes, element ids for duplicates and
-    overlaps), ``edges`` (m, 2) node indices of the edges involved, ``edge_xyz``
-    (m, 2, 3) and ``node_xyz`` (n, 3) their coordinates.
+    overlaps, hanging node index and host element id for hanging nodes), ``edges``
+    (m, 2) node indices of the edges involved, ``edge_xyz`` (m, 2, 3) and ``node_xyz``
+    (n, 3) their coordinates.
     """
 
     kind: str
@@ -192,8 +193,8 @@ def find_topology(
     table: EdgeTable | None = None,
 ) -> TopologyPart:
     """The checks that need only connectivity and nodes: orphan nodes, duplicate
-    elements, coincident nodes, free edges and cracks, non-manifold edges and (shells)
-    neighbours with opposite normals."""
+    elements, coincident nodes, hanging nodes, free edges and cracks, non-manifold edges
+    and (shells) neighbours with opposite normals."""
     settings = settings or FindingSettings()
     out = _Builder(mesh, ids, settings)
     if out.on("orphan_nodes"):
@@ -223,7 +224,26 @@ def find_topology(
             coincident,
         )
 
-    free = edges.free_edges(table, mesh.points, coincident)
+    interface = None
+    free_use = edges.free_uses(table)
+    if out.on("hanging_nodes"):
+        shell = frame.kind != "planar"
+        tolerance = settings.coincident_tolerance
+        hang = hanging.hanging_nodes(mesh, table, coincident, tolerance, shell, free_use)
+        interface = hang.interface_uses
+        pairs = np.stack([hang.host_element[:, 0], ids[hang.host_element[:, 1]]], axis=1)
+        out.add(
+            "hanging_nodes",
+            hang.nodes.size,
+            f"{hang.nodes.size} node(s) inside free edges of elements {_some(ids[hang.hosts])} "
+            "without being their nodes: a non-conforming interface, not connected unless "
+            f"the solver ties it; the nodes are used by elements {_some(ids[hang.users])}",
+            hang.elements,
+            hang.nodes,
+            pairs,
+            hang.edges,
+        )
+    free = edges.free_edges(table, mesh.points, coincident, interface=interface, uses=free_use)
     if out.on("crack_edges"):
         crack = np.flatnonzero(free.crack)
         loops = unique_values(free.loop[crack])

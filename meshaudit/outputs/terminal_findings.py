@@ -15,6 +15,10 @@ if TYPE_CHECKING:
 SHOWN_IDS = 6
 #: How many loops the summary line describes one by one.
 SHOWN_LOOPS = 6
+#: Order of the loop kinds on the summary line: the part's boundary first.
+LOOP_ORDER = {"outer": 0, "boundary": 0, "hole": 1, "crack": 2, "interface": 3}
+#: How a loop kind reads on that line, where the bare name needs a word more.
+LOOP_WORDS = {"interface": "non-conforming interface"}
 
 
 def _ids(values: object, word: str) -> str:
@@ -54,20 +58,23 @@ def findings_table(report: Report) -> Table | None:
 
 
 def loops_line(report: Report) -> str:
-    """Summary of the free-edge loops, e.g. '2: outer 14 edges (14), hole 4 edges (4)'."""
+    """Summary of the free-edge loops, e.g. '2: outer 14 edges (length 14); hole 4 edges
+    (length 4)': the part's boundary first, then cracks and non-conforming interfaces."""
     free = report.free_edges
     if free is None:
         return "not checked"
     if free.n_loops == 0:
         return "none (closed surface)"
+    shown = sorted(free.loops(), key=lambda r: LOOP_ORDER.get(str(r["kind"]), 4))[:SHOWN_LOOPS]
     parts = [
-        f"{rec['kind']} {rec['edges']} edges (length {rec['length']:.4g})"
+        f"{LOOP_WORDS.get(str(rec['kind']), rec['kind'])} {rec['edges']} edges "
+        f"(length {rec['length']:.4g})"
         + (
             f", {rec['crack_edges']} on a crack"
             if rec["crack_edges"] and rec["kind"] != "crack"
             else ""
         )
-        for rec in free.loops()[:SHOWN_LOOPS]
+        for rec in shown
     ]
     more = f", and {free.n_loops - SHOWN_LOOPS} more" if free.n_loops > SHOWN_LOOPS else ""
     return f"{free.n_loops}: " + "; ".join(parts) + more
