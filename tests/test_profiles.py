@@ -120,5 +120,7 @@ def test_invalid_elements_fail_even_with_no_limits():
 def test_with_limit_replaces_one_limit_only():
     prof = with_limit(BUILTIN["standard"], "quad", "skew", Limit(10.0, 20.0, "test"))
     assert prof.limit("quad", "skew").fail == 20.0
-    assert BUILTIN["standard"].limit("quad", "skew").fail == 45.0
+    # the built-in is untouched: its skew fail limit is 90 - 30 degrees (a parallelogram
+    # whose acute angle is at the min_angle fail limit, 30, has skew 60)
+    assert BUILTIN["standard"].limit("quad", "skew").fail == 60.0
     assert with_limit(prof, "quad", "skew", None).limit("quad", "skew") is None
