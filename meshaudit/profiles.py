@@ -102,7 +102,7 @@ def _limits(table: dict[str, tuple[float, float, str]]) -> dict[str, Limit]:
 # warp) or as reasoned meshaudit defaults (taper, midside offsets); every other limit is
 # derived from an anchor through a closed form of an analytic shape, so that the two rules
 # breach at the same shape and no rule quietly fires before the one named after the
-# distortion. Derived values are rounded to four significant figures away from the ideal
+# distortion. Derived values are rounded to five significant figures away from the ideal
 # (up for a ceiling, down for a floor), so the shape at the anchor limit breaches neither.
 
 _SQRT3 = math.sqrt(3.0)
@@ -111,9 +111,9 @@ _GAUSS3 = math.sqrt(0.6)
 
 
 def _outward(value: float, worse: str) -> float:
-    """``value`` to four significant figures, rounded away from the ideal (see above)."""
+    """``value`` to five significant figures, rounded away from the ideal (see above)."""
     exact = Decimal(f"{value:.12g}")
-    step = Decimal(1).scaleb(exact.adjusted() - 3)
+    step = Decimal(1).scaleb(exact.adjusted() - 4)
     rounding = ROUND_CEILING if worse == "high" else ROUND_FLOOR
     return float(exact.quantize(step, rounding=rounding))
 
