@@ -54,6 +54,8 @@ IDEAL: dict[str, dict[str, float]] = {
 
 #: Width of each verdict's band of scores.
 BAND = 1.0 / 3.0
+#: Where the bands meet: below 2/3 an element warns, below 1/3 it fails.
+BAND_EDGES: tuple[tuple[str, float], ...] = (("warn", 2.0 * BAND), ("fail", BAND))
 
 
 def distance(

@@ -251,3 +251,20 @@ def test_a_parallelogram_breaches_skew_exactly_when_it_breaches_min_angle(pairs)
         report = audit_shapes(shapes, profile)
         np.testing.assert_array_equal(report.levels["skew"], report.levels["min_angle"])
         np.testing.assert_array_equal(report.levels["max_angle"], report.levels["min_angle"])
+
+
+def test_a_quad8_midside_node_moved_along_its_edge_reads_the_ratio_the_readme_quotes():
+    # Unit-square quad8, the midside node of edge 1-2 (reference (0, -1)) moved d along x:
+    # x = bilinear + d N5, N5 = (1 - xi^2)(1 - eta)/2, so det J = (1 - 2 d xi (1 - eta))/4,
+    # and over the 3x3 Gauss points |xi (1 - eta)| peaks at m = sqrt0.6 (1 + sqrt0.6):
+    # ratio (1 + 2 m d)/(1 - 2 m d): 1.76 at d = 0.1 and 3.44 at d = 0.2 (README, Profiles).
+    m = math.sqrt(0.6) * (1 + math.sqrt(0.6))
+    report = audit_shapes(
+        [shifted_midside(rectangle(1.0), d) for d in (0.1, 0.2)], cell_type="quad8"
+    )
+    expected = [(1 + 2 * m * d) / (1 - 2 * m * d) for d in (0.1, 0.2)]
+    np.testing.assert_allclose(report.metrics["jacobian_ratio"], expected, rtol=1e-9)
+    assert [round(x, 2) for x in expected] == [1.76, 3.44]
+    # standard: at d = 0.1 (the along warn limit) the ratio is still below its warn limit
+    # (1.8979); at d = 0.2 (the along fail limit) it is past its fail limit (2.7367)
+    assert report.levels["jacobian_ratio"].tolist() == [0, 2]
