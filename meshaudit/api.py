@@ -201,14 +201,19 @@ def audit_elements(
             sink.done += size
             if progress is not None:
                 progress("measure", sink.done, n)
+        # the statistics and the overlap check's grid of box centres need only the
+        # finished columns: worked out while the other checks finish (on a shell, the
+        # statistics wait for the orientation check, which may move scores to warn)
+        shell = frame.kind == "shell"
         if pool is not None:
-            # the statistics and the overlap check's grid of box centres need only the
-            # finished columns: worked out while the other checks finish
-            summing = pool.submit(metric_statistics, sink.metrics, sink.ordered_levels())
+            if not shell:
+                summing = pool.submit(metric_statistics, sink.metrics, sink.ordered_levels())
             if shapes is not None and prof.findings.enabled("overlapping_elements"):
                 grid = pool.submit(BoxGrid.build, shapes.boxes)
         table, part = topology() if pending is None else pending.result()
         notes = mark_orientation(mesh, frame, sink.bits, sink.verdict, table, sink.metrics["score"])
+        if pool is not None and shell:
+            summing = pool.submit(metric_statistics, sink.metrics, sink.ordered_levels())
         mesh_findings = None
         if part is not None:
             mesh_findings = finish(part, mesh, frame, shapes, None if grid is None else grid.result)

@@ -29,8 +29,11 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import meshaudit
+from meshaudit import api
 from meshaudit.metrics import METRIC_INFO
-from meshaudit.profiles import BUILTIN, Profile
+from meshaudit.profiles import BUILTIN, Profile, ProfileError, profile_from_dict
+from meshaudit.reading import load
+from meshaudit.report import metric_statistics
 
 PROFILES = sorted(BUILTIN)
 
@@ -224,16 +227,20 @@ def test_region_elements_are_scored_under_their_region_profile(tmp_path):
     assert report.score[1] == pytest.approx((1 + 2.0**-strict) / 3)
 
 
-def test_a_flipped_shell_element_scores_in_the_warn_band():
-    # a flat strip of squares bent into a shell (a fold along x = 2), the second element
-    # wound the other way: its normal disagrees with its neighbours'
+def _bent_strip_with_a_flipped_element() -> meshio.Mesh:
+    """A strip of four squares bent into a shell (a fold along x = 2), the second element
+    wound the other way: its normal disagrees with its neighbours'."""
     xs = np.arange(5.0)
     top = [[x, 0.0, abs(x - 2.0) * 0.5] for x in xs]
     bottom = [[x, 1.0, abs(x - 2.0) * 0.5] for x in xs]
     pts = np.array(top + bottom)
     cells = np.array([[i, i + 1, i + 6, i + 5] for i in range(4)])
     cells[1] = cells[1][[0, 3, 2, 1]]
-    report = meshaudit.audit(meshio.Mesh(pts, [("quad", cells)]))
+    return meshio.Mesh(pts, [("quad", cells)])
+
+
+def test_a_flipped_shell_element_scores_in_the_warn_band():
+    report = meshaudit.audit(_bent_strip_with_a_flipped_element())
     assert report.summary.frame == "shell"
     flipped = report.flag("flipped_normal")
     assert flipped.tolist() == [False, True, False, False]
@@ -241,6 +248,23 @@ def test_a_flipped_shell_element_scores_in_the_warn_band():
     # same shape as element 0 (a 1 x 1.118 rectangle, mirrored): the same place in its band
     assert report.verdict_names.tolist() == ["ok", "warn", "ok", "ok"]
     assert report.score[1] == pytest.approx(report.score[0] - 1 / 3)
+
+
+def test_score_statistics_follow_the_flipped_element_on_the_thread_pool(monkeypatch):
+    # one element per chunk, so the threaded engine works out the statistics itself; they
+    # must see the scores as the orientation check leaves them
+    monkeypatch.setattr(api, "CHUNK_SIZE", 1)
+    seen = []
+
+    def statistics(metrics, levels):
+        seen.append(metrics["score"].copy())
+        return metric_statistics(metrics, levels)
+
+    monkeypatch.setattr(api, "metric_statistics", statistics)
+    report = api.audit_elements(load(_bent_strip_with_a_flipped_element()), workers=2)
+    assert len(seen) == 1
+    np.testing.assert_array_equal(seen[0], report.score)
+    assert report.statistics()["score"]["min"] == report.score.min() < 2 / 3
 
 
 def test_quarter_point_elements_score_in_the_warn_band():
@@ -259,3 +283,9 @@ def test_worst_lists_failing_then_warn_then_ok_lowest_score_first():
     order = report.worst(6, only_flagged=False)
     assert report.verdict[order].tolist() == sorted(report.verdict.tolist(), reverse=True)
     assert _strictly_falling(-report.score[order])  # worst first: rising scores
+
+
+def test_a_profile_cannot_limit_the_score():
+    # the score is worked out from the verdict: a limit on it would judge by itself
+    with pytest.raises(ProfileError, match="not a metric that takes limits"):
+        profile_from_dict({"quad": {"score": {"warn": 0.5, "fail": 0.2}}})
