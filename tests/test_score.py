@@ -289,3 +289,18 @@ def test_a_profile_cannot_limit_the_score():
     # the score is worked out from the verdict: a limit on it would judge by itself
     with pytest.raises(ProfileError, match="not a metric that takes limits"):
         profile_from_dict({"quad": {"score": {"warn": 0.5, "fail": 0.2}}})
+
+
+def test_explain_says_where_the_score_sits():
+    # 6 x 1 rectangle under standard: warn (aspect 6 > 5); T = (6 - 1)/(10 - 1) +
+    # (37/12 - 1)/(101/20 - 1) from the closed forms of aspect ratio and condition
+    from meshaudit.explain import explain
+    from meshaudit.inspection import audit_mesh
+
+    pts = np.vstack([rectangle(6.0), rectangle(1.0) + np.array([10.0, 0.0])])
+    audited = audit_mesh(meshio.Mesh(pts, [("quad", np.array([[0, 1, 2, 3], [4, 5, 6, 7]]))]))
+    lines = {m.name: m for m in explain(audited, 1).metrics}
+    t = 5 / 9 + (37 / 12 - 1) / (101 / 20 - 1)
+    assert lines["score"].value == pytest.approx((1 + 2.0**-t) / 3)
+    assert "warn band" in lines["score"].reason and f"T = {t:.3g}" in lines["score"].reason
+    assert "T = 0 " in {m.name: m for m in explain(audited, 2).metrics}["score"].reason
