@@ -201,7 +201,7 @@ def _score_reason(score: float, verdict: int, invalid: bool) -> str:
         return "0: an invalid element"
     lo, hi = (2 - verdict) * BAND, (3 - verdict) * BAND
     within = 3.0 * score - (2 - verdict)  # 2^-T
-    distortion = max(-math.log2(within), 0.0) if within > 0.0 else math.inf
+    distortion = max(0.0 - math.log2(within), 0.0) if within > 0.0 else math.inf
     return (
         f"in the {VERDICT_NAMES[verdict]} band {lo:.3g} to {hi:.3g}; distortion "
         f"T = {distortion:.3g} summed over the limited metrics (0 = all ideal, 1 = one at "
