@@ -268,3 +268,28 @@ def test_a_quad8_midside_node_moved_along_its_edge_reads_the_ratio_the_readme_qu
     # standard: at d = 0.1 (the along warn limit) the ratio is still below its warn limit
     # (1.8979); at d = 0.2 (the along fail limit) it is past its fail limit (2.7367)
     assert report.levels["jacobian_ratio"].tolist() == [0, 2]
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.integers(0, 2**32 - 1))
+def test_a_convex_quad_breaches_scaled_jacobian_exactly_when_it_breaches_an_angle_limit(seed):
+    # in a convex quad each corner's scaled Jacobian is the sine of its angle, and sine
+    # is least at the extreme angles: min(sin(min_angle), sin(max_angle))
+    rng = np.random.default_rng(seed)
+    square = np.array([[0, 0], [1, 0], [1, 1], [0, 1]], float)
+    shapes = list(
+        square[None] * rng.uniform(0.2, 5.0, (200, 1, 2)) + rng.normal(0, 0.3, (200, 4, 2))
+    )
+    for profile in PROFILES:
+        report = audit_shapes(shapes, profile)
+        valid = np.ones(len(report), dtype=bool)
+        for name in ("inverted", "nonconvex", "self_intersecting", "degenerate"):
+            valid &= ~report.flag(name)
+        # leave out the few within round-off of a limit (the rounded sine limits)
+        for metric in ("min_angle", "max_angle"):
+            for kind in ("warn", "fail"):
+                limit = _limit(profile, "quad", metric, kind)
+                valid &= np.abs(report.metrics[metric] - limit) > 1e-3
+        angles = np.maximum(report.levels["min_angle"], report.levels["max_angle"])
+        np.testing.assert_array_equal(report.levels["scaled_jacobian"][valid], angles[valid])
+        assert valid.sum() > 20
