@@ -21,6 +21,7 @@ from .profiles import Profile, load_profile
 from .reading import load
 from .regions import judge_by_region, region_codes
 from .report import FLAG_BIT, MeshSummary, Report, metric_statistics
+from .score import rebanded
 from .topology import EdgeTable, edge_table, flipped_elements
 from .verdicts import WARN
 
@@ -75,13 +76,17 @@ def measure_chunk(
     """Metrics, flag bits, breach levels and verdicts of one chunk of one family.
 
     Element i is judged under ``profile`` when ``codes[i]`` is 0 (or ``codes`` is None),
-    else under ``region_profiles[codes[i] - 1]``.
+    else under ``region_profiles[codes[i] - 1]``. Its score (``metrics["score"]``, see
+    :mod:`meshaudit.score`) is worked out here, with the verdict it belongs with.
     Pure: depends only on its arguments, so chunks can be measured in any order or place.
     """
     metrics, flags = measure_elements(family, coords3, frame, cell_type)
     if codes is None:
         codes = np.zeros(len(coords3), dtype=np.int16)
-    levels, verdict = judge_by_region(family, metrics, flags, (profile, *region_profiles), codes)
+    levels, verdict, score = judge_by_region(
+        family, metrics, flags, (profile, *region_profiles), codes
+    )
+    metrics["score"] = score
     bits = np.zeros(len(verdict), dtype=np.uint32)
     for name, flag in flags.items():
         bits |= flag.astype(np.uint32) << np.uint32(FLAG_BIT[name])
@@ -196,14 +201,19 @@ def audit_elements(
             sink.done += size
             if progress is not None:
                 progress("measure", sink.done, n)
+        # the statistics and the overlap check's grid of box centres need only the
+        # finished columns: worked out while the other checks finish (on a shell, the
+        # statistics wait for the orientation check, which may move scores to warn)
+        shell = frame.kind == "shell"
         if pool is not None:
-            # the statistics and the overlap check's grid of box centres need only the
-            # finished columns: worked out while the other checks finish
-            summing = pool.submit(metric_statistics, sink.metrics, sink.ordered_levels())
+            if not shell:
+                summing = pool.submit(metric_statistics, sink.metrics, sink.ordered_levels())
             if shapes is not None and prof.findings.enabled("overlapping_elements"):
                 grid = pool.submit(BoxGrid.build, shapes.boxes)
         table, part = topology() if pending is None else pending.result()
-        notes = mark_orientation(mesh, frame, sink.bits, sink.verdict, table)
+        notes = mark_orientation(mesh, frame, sink.bits, sink.verdict, table, sink.metrics["score"])
+        if pool is not None and shell:
+            summing = pool.submit(metric_statistics, sink.metrics, sink.ordered_levels())
         mesh_findings = None
         if part is not None:
             mesh_findings = finish(part, mesh, frame, shapes, None if grid is None else grid.result)
@@ -311,19 +321,24 @@ def mark_orientation(
     bits: np.ndarray,
     verdict: np.ndarray,
     table: EdgeTable | None = None,
+    score: np.ndarray | None = None,
 ) -> list[str]:
     """Shells only: flag elements whose normal disagrees with their patch (in place).
 
     A surface has no absolute orientation, so each connected patch is split into the
     elements that agree across shared edges; the smaller group gets ``flipped_normal``
-    (verdict at least warn). Planar meshes are judged against the plane normal instead.
+    (verdict at least warn; ``score``, when given, moves to the warn band with it).
+    Planar meshes are judged against the plane normal instead.
     Returns report notes (e.g. a patch that cannot be oriented at all).
     """
     if frame.kind != "shell":
         return []
     groups = flipped_elements(mesh, table)
     bits |= groups.flipped.astype(np.uint32) << np.uint32(FLAG_BIT["flipped_normal"])
-    verdict[groups.flipped] = np.maximum(verdict[groups.flipped], WARN)
+    raised = np.flatnonzero(groups.flipped & (verdict < WARN))
+    if score is not None:
+        rebanded(score, raised, verdict[raised], np.full(raised.size, WARN))
+    verdict[raised] = WARN
     twisted = int(groups.twisted.sum())
     if twisted:
         return [f"{twisted} elements lie on a patch that cannot be consistently oriented"]

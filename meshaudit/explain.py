@@ -8,6 +8,7 @@ uses, evaluated in the same measuring plane (:mod:`meshaudit.frames`).
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -29,7 +30,8 @@ from .reference import (
     TRIANGLE_GAUSS_3,
 )
 from .report import finite_or_none
-from .verdicts import VERDICT_NAMES
+from .score import BAND
+from .verdicts import INVALID_FLAGS, VERDICT_NAMES
 
 #: One-point rule at the centroid of the reference triangle: what a solver uses for a
 #: linear (constant-strain) triangle; det J is constant there anyway (common practice).
@@ -192,6 +194,21 @@ def _reason(name: str, value: float, worse: str, level: str, warn, fail) -> str:
     return text
 
 
+def _score_reason(score: float, verdict: int, invalid: bool) -> str:
+    """Where the score sits: its verdict's band and the distortion T within it (the
+    definition is in :mod:`meshaudit.score`)."""
+    if invalid:
+        return "0: an invalid element"
+    lo, hi = (2 - verdict) * BAND, (3 - verdict) * BAND
+    within = 3.0 * score - (2 - verdict)  # 2^-T
+    distortion = max(0.0 - math.log2(within), 0.0) if within > 0.0 else math.inf
+    return (
+        f"in the {VERDICT_NAMES[verdict]} band {lo:.3g} to {hi:.3g}; distortion "
+        f"T = {distortion:.3g} summed over the limited metrics (0 = all ideal, 1 = one at "
+        "its fail limit)"
+    )
+
+
 def metric_lines(audited: AuditedMesh, i: int) -> list[MetricLine]:
     report = audited.report
     family = report.cell_families[int(report.families[i])]
@@ -206,18 +223,11 @@ def metric_lines(audited: AuditedMesh, i: int) -> list[MetricLine]:
             level = "no limit"
         else:
             level = VERDICT_NAMES[int(lvl[i])]
-        lines.append(
-            MetricLine(
-                name,
-                value,
-                info.unit,
-                info.worse,
-                warn,
-                fail,
-                level,
-                _reason(name, value, info.worse, level, warn, fail),
-            )
-        )
+        reason = _reason(name, value, info.worse, level, warn, fail)
+        if name == "score":
+            invalid = any(report.flag(f)[i] for f in INVALID_FLAGS)
+            reason = _score_reason(value, int(report.verdict[i]), invalid)
+        lines.append(MetricLine(name, value, info.unit, info.worse, warn, fail, level, reason))
     return lines
 
 

@@ -25,6 +25,8 @@ import math
 import os
 import sys
 from dataclasses import dataclass, field, replace
+from decimal import ROUND_CEILING, ROUND_FLOOR, Decimal
+from fractions import Fraction
 from pathlib import Path
 from typing import Any
 
@@ -95,89 +97,218 @@ def _limits(table: dict[str, tuple[float, float, str]]) -> dict[str, Limit]:
     return {m: Limit(w, f, s) for m, (w, f, s) in table.items()}
 
 
-_COND = OWN + "; set to agree with the aspect-ratio limits (5:1 rectangle reads 2.6)"
-_JR = OWN + "; Gauss-point ratio, taper 0.5 alone reads 1.8"
+# -- How the built-in limits are derived ---------------------------------------------------
+# Each family has a few anchor limits, chosen as common practice (min_angle, aspect_ratio,
+# warp) or as reasoned meshaudit defaults (taper, midside offsets); every other limit is
+# derived from an anchor through a closed form of an analytic shape, so that the two rules
+# breach at the same shape and no rule quietly fires before the one named after the
+# distortion. Derived values are rounded to five significant figures away from the ideal
+# (up for a ceiling, down for a floor), so the shape at the anchor limit breaches neither.
+
+_SQRT3 = math.sqrt(3.0)
+#: Outermost Gauss coordinate of the 3 x 3 rule at which quadratic quads sample det J.
+_GAUSS3 = math.sqrt(0.6)
+
+
+def _outward(value: float, worse: str) -> float:
+    """``value`` to five significant figures, rounded away from the ideal (see above)."""
+    exact = Decimal(f"{value:.12g}")
+    step = Decimal(1).scaleb(exact.adjusted() - 4)
+    rounding = ROUND_CEILING if worse == "high" else ROUND_FLOOR
+    return float(exact.quantize(step, rounding=rounding))
+
+
+def rectangle_condition(aspect: float) -> float:
+    """Condition number of an aspect:1 rectangle, (r^2 + 1) / (2 r), at every corner."""
+    return (aspect * aspect + 1.0) / (2.0 * aspect)
+
+
+def trapezoid_jacobian_ratio(taper: float) -> float:
+    """det J ratio of a trapezoid of taper t over the 3 x 3 Gauss points, where det J is
+    proportional to 1 + t eta: (1 + sqrt(0.6) t) / (1 - sqrt(0.6) t)."""
+    return (1.0 + _GAUSS3 * taper) / (1.0 - _GAUSS3 * taper)
+
+
+def cap_triangle_aspect(base_angle: float) -> float:
+    """Aspect ratio of the isosceles triangle with two base angles ``base_angle`` (deg)
+    on its longest edge: sqrt(3) L^2 / (4 A) = sqrt(3) cot(base_angle)."""
+    return _SQRT3 / math.tan(math.radians(base_angle))
+
+
+def _pairs(fn: Any, warn: float, fail: float, worse: str, why: str) -> tuple[float, float, str]:
+    return (_outward(fn(warn), worse), _outward(fn(fail), worse), why)
+
+
+_MAX_ANGLE_Q = (
+    "180 deg minus the min-angle limits: a parallelogram reaches both at the same shape; "
+    "alone it catches a corner flattening towards 180 deg"
+)
+_SKEW = (
+    "90 deg minus the min-angle limits: a parallelogram's skew is 90 deg minus its acute "
+    "angle, so it reaches both at the same shape"
+)
+_SJ_Q = (
+    "sine of the min-angle limits (= sine of the max-angle limits): a convex quad reads "
+    "the sine of its worst corner, so this agrees with the two angle rules"
+)
+_COND_Q = (
+    "a w:1 rectangle reads (w^2 + 1)/(2w): the rectangles at the aspect-ratio limits "
+    "sit at these limits"
+)
+_TAPER = (
+    "a trapezoid with parallel sides c < a reads (a - c)/(a + c): it warns when c is under "
+    "{kw} of a and fails when under {kf}"
+)
+_JR_Q = (
+    "det J ratio of the trapezoid at the taper limits over the 3x3 Gauss points of "
+    "quadratic quads, (1 + t sqrt0.6)/(1 - t sqrt0.6); a bilinear quad, sampled at the "
+    "2x2 points, reaches it only when tapered both ways"
+)
+_WARP = "a unit square with one corner lifted by {hw} ({hf}) reads the warn (fail) limit"
+_MAX_ANGLE_T = (
+    "180 deg minus twice the min-angle limits: the flat isosceles triangle with base "
+    "angles at the min-angle limit reaches both; no triangle breaches this alone"
+)
+_SJ_T = (
+    "2/sqrt3 times the sine of the min-angle limits: a triangle reads that of its smallest angle"
+)
+_ASPECT_T = (
+    "sqrt3 cot of the min-angle limits: the flat isosceles triangle with base angles at the "
+    "min-angle limit reaches both; every triangle past it is past the min-angle limit too"
+)
+_COND_T = (
+    "(r^2 + 1)/(2r) at the aspect-ratio limits r: the same flat isosceles triangle reaches "
+    "all three; every triangle past it is past the min-angle limit too"
+)
+_JR_T = (
+    "det J ratio (1 + 2d)/(1 - 2d) of a straight triangle6 whose midside node is moved d "
+    "along its edge, at the midside along-offset limits d; a linear triangle reads 1"
+)
 
 #: Midside-node limits (quadratic elements; linear ones read NaN and never breach).
 #: Along: det J vanishes at a corner when its edge's midside node reaches the quarter
 #: point, 0.25 (Henshell and Shaw 1975; Barsoum 1976, from memory); the warn and fail
 #: limits keep a working margin below it. Across: a midside node at h off the chord bends
 #: the edge's end tangents by atan(4 h / L) (14 deg at 0.0625, 31 deg at 0.15).
-_ALONG = OWN + "; margin below the quarter point 0.25 where det J vanishes at the corner"
-_ACROSS = OWN + "; 0.15 tilts the edge's end tangents 31 deg off the chord, 0.3 tilts 50 deg"
-_JR6 = _JR + "; applies to triangle6 (a linear triangle always reads 1)"
+_ALONG = "margin below the quarter point 0.25 where det J vanishes at the corner"
+_ACROSS = "{w} tilts the edge's end tangents {tw} deg off the chord, {f} tilts {tf} deg"
 
 
-def _midside(along: tuple[float, float], across: tuple[float, float], note: str = "") -> dict:
+def _midside(along: tuple[float, float], across: tuple[float, float], own: str) -> dict:
+    """Midside-offset limits with their reasons (``own``: the profile's own-choice source)."""
+    tilt = [f"{math.degrees(math.atan(4.0 * h)):.0f}" for h in across]
+    why = _ACROSS.format(w=across[0], tw=tilt[0], f=across[1], tf=tilt[1])
     return {
-        "midside_offset_along": (*along, _ALONG + note),
-        "midside_offset_across": (*across, _ACROSS + note),
+        "midside_offset_along": (*along, f"{own}; {_ALONG}"),
+        "midside_offset_across": (*across, f"{own}; {why}"),
     }
 
+
+def _fraction(taper: float) -> str:
+    """Short side over long side of the trapezoid of this taper, (1 - t)/(1 + t)."""
+    return str(Fraction((1.0 - taper) / (1.0 + taper)).limit_denominator(20))
+
+
+def _lift(warp: float) -> str:
+    """Corner lift h of the unit square that reads this warp: acos(1/(1 + h^2)) = warp."""
+    return f"{math.sqrt(1.0 / math.cos(math.radians(warp)) - 1.0):.3f}"
+
+
+def _quad(
+    min_angle: tuple[float, float],
+    aspect: tuple[float, float],
+    taper: tuple[float, float],
+    warp: tuple[float, float],
+    along: tuple[float, float],
+    across: tuple[float, float],
+    anchor: str,
+    own: str,
+) -> dict[str, Limit]:
+    """Quad limits from the anchors (source ``anchor``; taper and the midside offsets are
+    meshaudit's own choices, source ``own``), the rest derived as described above."""
+    (aw, af), (tw, tf) = min_angle, taper
+    taper_why = _TAPER.format(kw=_fraction(tw), kf=_fraction(tf))
+    return _limits(
+        {
+            "scaled_jacobian": _pairs(lambda a: math.sin(math.radians(a)), aw, af, "low", _SJ_Q),
+            "jacobian_ratio": _pairs(trapezoid_jacobian_ratio, tw, tf, "high", _JR_Q),
+            "aspect_ratio": (*aspect, anchor),
+            "skew": (90.0 - aw, 90.0 - af, _SKEW),
+            "taper": (tw, tf, f"{own}; {taper_why}"),
+            "warp": (*warp, f"{anchor}; " + _WARP.format(hw=_lift(warp[0]), hf=_lift(warp[1]))),
+            "min_angle": (aw, af, anchor),
+            "max_angle": (180.0 - aw, 180.0 - af, _MAX_ANGLE_Q),
+            "condition": _pairs(rectangle_condition, *aspect, "high", _COND_Q),
+            **_midside(along, across, own),
+        }
+    )
+
+
+def _triangle(
+    min_angle: tuple[float, float],
+    along: tuple[float, float],
+    across: tuple[float, float],
+    anchor: str,
+    own: str,
+) -> dict[str, Limit]:
+    """Triangle limits: every shape rule derived from the min_angle anchor (a triangle's
+    shape metrics are all functions of its angles), the Jacobian ratio from ``along``."""
+    aw, af = min_angle
+    aspect = (cap_triangle_aspect(aw), cap_triangle_aspect(af))
+    return _limits(
+        {
+            "scaled_jacobian": _pairs(
+                lambda a: 2.0 / _SQRT3 * math.sin(math.radians(a)), aw, af, "low", _SJ_T
+            ),
+            "aspect_ratio": _pairs(cap_triangle_aspect, aw, af, "high", _ASPECT_T),
+            "min_angle": (aw, af, anchor),
+            "max_angle": (180.0 - 2.0 * aw, 180.0 - 2.0 * af, _MAX_ANGLE_T),
+            "condition": _pairs(rectangle_condition, *aspect, "high", _COND_T),
+            "jacobian_ratio": _pairs(lambda d: (1 + 2 * d) / (1 - 2 * d), *along, "high", _JR_T),
+            **_midside(along, across, own),
+        }
+    )
+
+
+_TIGHT = OWN + "; tighter variant of 'standard'"
+_LOOSE = OWN + "; looser variant of 'standard'"
 
 STANDARD = Profile(
     "standard",
     "General structural analysis with linear and quadratic 2-D and shell elements.",
     {
-        "quad": _limits(
-            {
-                "scaled_jacobian": (0.5, 0.2, COMMON),
-                "jacobian_ratio": (2.5, 5.0, _JR),
-                "aspect_ratio": (5.0, 10.0, COMMON),
-                "skew": (30.0, 45.0, COMMON),
-                "taper": (0.5, 0.8, COMMON),
-                "warp": (10.0, 20.0, COMMON),
-                "min_angle": (45.0, 30.0, COMMON),
-                "max_angle": (135.0, 160.0, COMMON),
-                "condition": (3.0, 6.0, _COND),
-                **_midside((0.1, 0.2), (0.15, 0.3)),
-            }
+        "quad": _quad(
+            min_angle=(45.0, 30.0),
+            aspect=(5.0, 10.0),
+            taper=(0.4, 0.6),
+            warp=(10.0, 20.0),
+            along=(0.1, 0.2),
+            across=(0.15, 0.3),
+            anchor=COMMON,
+            own=OWN,
         ),
-        "triangle": _limits(
-            {
-                "scaled_jacobian": (0.5, 0.2, COMMON),
-                "aspect_ratio": (3.0, 6.0, COMMON),
-                "min_angle": (30.0, 15.0, COMMON),
-                "max_angle": (120.0, 150.0, COMMON),
-                "condition": (2.0, 4.0, OWN),
-                "jacobian_ratio": (2.5, 5.0, _JR6),
-                **_midside((0.1, 0.2), (0.15, 0.3)),
-            }
+        "triangle": _triangle(
+            min_angle=(30.0, 15.0), along=(0.1, 0.2), across=(0.15, 0.3), anchor=COMMON, own=OWN
         ),
     },
 )
-
-_TIGHT = OWN + "; tighter variant of 'standard'"
-_LOOSE = OWN + "; looser variant of 'standard'"
 
 STRICT = Profile(
     "strict",
     "Regions where stresses are read directly (fillets, notches, contact zones).",
     {
-        "quad": _limits(
-            {
-                "scaled_jacobian": (0.7, 0.5, _TIGHT),
-                "jacobian_ratio": (1.8, 3.0, _TIGHT),
-                "aspect_ratio": (3.0, 5.0, _TIGHT),
-                "skew": (20.0, 35.0, _TIGHT),
-                "taper": (0.3, 0.5, _TIGHT),
-                "warp": (5.0, 10.0, _TIGHT),
-                "min_angle": (60.0, 45.0, _TIGHT),
-                "max_angle": (120.0, 135.0, _TIGHT),
-                "condition": (2.0, 3.0, _TIGHT),
-                **_midside((0.05, 0.1), (0.1, 0.2), "; tighter variant"),
-            }
+        "quad": _quad(
+            min_angle=(60.0, 45.0),
+            aspect=(3.0, 5.0),
+            taper=(0.25, 0.4),
+            warp=(5.0, 10.0),
+            along=(0.05, 0.1),
+            across=(0.1, 0.2),
+            anchor=_TIGHT,
+            own=_TIGHT,
         ),
-        "triangle": _limits(
-            {
-                "scaled_jacobian": (0.7, 0.5, _TIGHT),
-                "aspect_ratio": (2.0, 3.0, _TIGHT),
-                "min_angle": (40.0, 30.0, _TIGHT),
-                "max_angle": (100.0, 120.0, _TIGHT),
-                "condition": (1.5, 2.0, _TIGHT),
-                "jacobian_ratio": (1.8, 3.0, _TIGHT),
-                **_midside((0.05, 0.1), (0.1, 0.2), "; tighter variant"),
-            }
+        "triangle": _triangle(
+            min_angle=(40.0, 30.0), along=(0.05, 0.1), across=(0.1, 0.2), anchor=_TIGHT, own=_TIGHT
         ),
     },
 )
@@ -186,30 +317,18 @@ LENIENT = Profile(
     "lenient",
     "Stiffness or load-path models where local stress accuracy is not the goal.",
     {
-        "quad": _limits(
-            {
-                "scaled_jacobian": (0.3, 0.1, _LOOSE),
-                "jacobian_ratio": (5.0, 10.0, _LOOSE),
-                "aspect_ratio": (10.0, 20.0, _LOOSE),
-                "skew": (45.0, 60.0, _LOOSE),
-                "taper": (0.7, 0.9, _LOOSE),
-                "warp": (20.0, 35.0, _LOOSE),
-                "min_angle": (30.0, 15.0, _LOOSE),
-                "max_angle": (150.0, 170.0, _LOOSE),
-                "condition": (6.0, 12.0, _LOOSE),
-                **_midside((0.15, 0.22), (0.2, 0.4), "; looser variant"),
-            }
+        "quad": _quad(
+            min_angle=(30.0, 15.0),
+            aspect=(10.0, 20.0),
+            taper=(0.6, 0.8),
+            warp=(20.0, 35.0),
+            along=(0.15, 0.22),
+            across=(0.2, 0.4),
+            anchor=_LOOSE,
+            own=_LOOSE,
         ),
-        "triangle": _limits(
-            {
-                "scaled_jacobian": (0.3, 0.1, _LOOSE),
-                "aspect_ratio": (6.0, 12.0, _LOOSE),
-                "min_angle": (20.0, 10.0, _LOOSE),
-                "max_angle": (140.0, 165.0, _LOOSE),
-                "condition": (4.0, 8.0, _LOOSE),
-                "jacobian_ratio": (5.0, 10.0, _LOOSE),
-                **_midside((0.15, 0.22), (0.2, 0.4), "; looser variant"),
-            }
+        "triangle": _triangle(
+            min_angle=(20.0, 10.0), along=(0.15, 0.22), across=(0.2, 0.4), anchor=_LOOSE, own=_LOOSE
         ),
     },
 )
@@ -261,7 +380,7 @@ def profile_from_dict(
         if not isinstance(table, dict):
             raise ProfileError(f"{where}: [{family}] must be a table")
         for metric, spec in table.items():
-            if metric not in METRIC_INFO or METRIC_INFO[metric].worse == "none":
+            if metric not in METRIC_INFO or not METRIC_INFO[metric].limited:
                 raise ProfileError(f"{where}: {family}.{metric} is not a metric that takes limits")
             if not isinstance(spec, dict):
                 raise ProfileError(

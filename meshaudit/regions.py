@@ -85,13 +85,15 @@ def judge_by_region(
     flags: dict[str, np.ndarray],
     profiles: Sequence[Profile],
     codes: np.ndarray,
-) -> tuple[dict[str, np.ndarray], np.ndarray]:
-    """Like :func:`meshaudit.verdicts.judge`, with element i judged under
-    ``profiles[codes[i]]``. Loops over the profiles, never over elements."""
+) -> tuple[dict[str, np.ndarray], np.ndarray, np.ndarray]:
+    """Like :func:`meshaudit.verdicts.judge` (levels, verdict, score), with element i
+    judged and scored under ``profiles[codes[i]]``. Loops over the profiles, never over
+    elements."""
     if len(profiles) == 1 or not codes.any():
         return judge(family, metrics, flags, profiles[0])
     n = len(codes)
     verdict = np.zeros(n, dtype=np.int8)
+    score = np.zeros(n)
     levels: dict[str, np.ndarray] = {}
     for k, profile in enumerate(profiles):
         rows = np.flatnonzero(codes == k)
@@ -100,8 +102,9 @@ def judge_by_region(
         needed = {"area", *profile.limits.get(family, {})}  # all judge reads
         sub_metrics = {name: metrics[name][rows] for name in needed if name in metrics}
         sub_flags = {name: values[rows] for name, values in flags.items()}
-        lv, v = judge(family, sub_metrics, sub_flags, profile)
+        lv, v, s = judge(family, sub_metrics, sub_flags, profile)
         verdict[rows] = v
+        score[rows] = s
         for name, lvl in lv.items():
             levels.setdefault(name, np.zeros(n, dtype=np.int8))[rows] = lvl
-    return levels, verdict
+    return levels, verdict, score

@@ -13,7 +13,7 @@ import numpy as np
 from .arrays import unique_values
 from .findings import Finding
 from .mesh_checks.edges import FreeEdges
-from .metrics import METRIC_INFO, METRIC_NAMES, VALIDITY_FLAGS, WARNING_FLAGS
+from .metrics import LIMITED_METRICS, METRIC_NAMES, VALIDITY_FLAGS, WARNING_FLAGS
 from .percentiles import linear_percentiles
 from .profiles import Profile
 from .verdicts import FAIL, VERDICT_NAMES, WARN
@@ -21,11 +21,7 @@ from .verdicts import FAIL, VERDICT_NAMES, WARN
 #: Every flag an element can carry, in report order: validity flags, warning flags, then
 #: one flag per metric whose limit it breached (warn or fail). Bit i of
 #: ``Report.flag_bits`` is ``FLAG_NAMES[i]``.
-FLAG_NAMES: tuple[str, ...] = (
-    VALIDITY_FLAGS
-    + WARNING_FLAGS
-    + tuple(m for m in METRIC_NAMES if METRIC_INFO[m].worse != "none")
-)
+FLAG_NAMES: tuple[str, ...] = VALIDITY_FLAGS + WARNING_FLAGS + LIMITED_METRICS
 FLAG_BIT: dict[str, int] = {name: i for i, name in enumerate(FLAG_NAMES)}
 
 PERCENTILES = (("min", 0.0), ("p5", 5.0), ("median", 50.0), ("p95", 95.0), ("max", 100.0))

@@ -1,4 +1,5 @@
-"""Judge measured elements against a profile: breach levels per metric and a verdict."""
+"""Judge measured elements against a profile: breach levels per metric, a verdict and
+the score (see :mod:`meshaudit.score`)."""
 
 from __future__ import annotations
 
@@ -6,6 +7,7 @@ import numpy as np
 
 from .metrics import METRIC_INFO, VALIDITY_FLAGS, WARNING_FLAGS
 from .profiles import Limit, Profile
+from .score import banded, distance
 
 OK, WARN, FAIL = 0, 1, 2
 VERDICT_NAMES: tuple[str, ...] = ("ok", "warn", "fail")
@@ -42,13 +44,21 @@ def breach_level(values: np.ndarray, limit: Limit, worse: str) -> np.ndarray:
 
 def judge(
     family: str, metrics: dict[str, np.ndarray], flags: dict[str, np.ndarray], profile: Profile
-) -> tuple[dict[str, np.ndarray], np.ndarray]:
-    """Breach levels of every limited metric, and the verdict (0 ok, 1 warn, 2 fail)."""
+) -> tuple[dict[str, np.ndarray], np.ndarray, np.ndarray]:
+    """Breach levels of every limited metric, the verdict (0 ok, 1 warn, 2 fail) and the
+    score (:mod:`meshaudit.score`: in the band of the verdict, lower the farther the
+    limited metrics are from their ideals)."""
     n = len(metrics["area"])
     verdict = np.zeros(n, dtype=np.int8)
+    distortion = np.zeros(n)
     levels: dict[str, np.ndarray] = {}
     for metric, limit in profile.limits.get(family, {}).items():
-        lvl = breach_level(metrics[metric], limit, METRIC_INFO[metric].worse)
+        worse = METRIC_INFO[metric].worse
+        values = metrics[metric]
+        lvl = breach_level(values, limit, worse)
+        t = distance(family, metric, values, limit, worse, lvl)
+        if t is not None:
+            distortion += t
         if metric in QUARTER_POINT_CAPPED and "quarter_point" in flags:
             lvl = np.where(flags["quarter_point"], np.minimum(lvl, np.int8(WARN)), lvl)
         levels[metric] = lvl
@@ -60,4 +70,4 @@ def judge(
     for name in INVALID_FLAGS:
         invalid |= flags[name]
     verdict[invalid] = FAIL
-    return levels, verdict
+    return levels, verdict, banded(distortion, verdict, invalid)

@@ -14,6 +14,7 @@ from meshaudit.explain import explain
 from meshaudit.inspection import audit_mesh
 from meshaudit.metrics.quad import corner_jacobians, gauss_jacobians
 from meshaudit.outputs import explain_plot
+from meshaudit.profiles import BUILTIN
 
 G = 1.0 / np.sqrt(3.0)  # 2x2 Gauss-Legendre abscissa
 
@@ -59,7 +60,8 @@ def test_reversed_quad_explained(run_cli, tmp_path):
     assert {"inverted", "reversed"} <= set(doc["flags"])
     assert "clockwise" in doc["flag_reasons"]["reversed"]
     sj = next(m for m in doc["metrics"] if m["name"] == "scaled_jacobian")
-    assert sj["level"] == "fail" and "below the fail limit 0.2" in sj["reason"]
+    sj_fail = BUILTIN["standard"].limit("quad", "scaled_jacobian").fail
+    assert sj["level"] == "fail" and f"below the fail limit {sj_fail:g}" in sj["reason"]
     assert "det J at the Gauss points" in result.stdout and "-0.25" in result.stdout
     assert (tmp_path / "e.png").read_bytes().startswith(b"\x89PNG")
     # neighbours share a node with quad 8 (index 7 at column 1, row 1 of a 6 x 4 grid)

@@ -61,10 +61,11 @@ def test_aspect_ratio_verdicts_follow_the_limits():
     # A w x 1 rectangle has aspect ratio w (Robinson's principal axes: common practice).
     report = meshaudit.audit(_rectangles([1.0, 4.0, 7.0, 12.0]))
     np.testing.assert_allclose(report.metrics["aspect_ratio"], [1, 4, 7, 12])
-    # standard: warn above 5, fail above 10; the 12:1 also breaks condition (> 6)
+    # standard: warn above 5, fail above 10; the 12:1 also breaks condition:
+    # (144 + 1)/24 = 6.04 past the 10:1 rectangle's 101/20 (Knupp 2001 corner condition)
     assert report.verdict_names.tolist() == ["ok", "ok", "warn", "fail"]
     assert not report.passed
-    assert "aspect_ratio" in report.flags_of(3)
+    assert {"aspect_ratio", "condition"} <= set(report.flags_of(3))
 
 
 def test_fail_on_warn_gates_on_warnings():
@@ -120,5 +121,7 @@ def test_invalid_elements_fail_even_with_no_limits():
 def test_with_limit_replaces_one_limit_only():
     prof = with_limit(BUILTIN["standard"], "quad", "skew", Limit(10.0, 20.0, "test"))
     assert prof.limit("quad", "skew").fail == 20.0
-    assert BUILTIN["standard"].limit("quad", "skew").fail == 45.0
+    # the built-in is untouched: its skew fail limit is 90 - 30 degrees (a parallelogram
+    # whose acute angle is at the min_angle fail limit, 30, has skew 60)
+    assert BUILTIN["standard"].limit("quad", "skew").fail == 60.0
     assert with_limit(prof, "quad", "skew", None).limit("quad", "skew") is None

@@ -17,15 +17,18 @@ from . import quad, quadratic, triangle
 @dataclass(frozen=True)
 class MetricInfo:
     name: str
-    worse: str  # "high" (larger is worse), "low" (smaller is worse) or "none" (no limit)
+    worse: str  # "high" (larger is worse), "low" (smaller is worse) or "none"
     unit: str
     meaning: str
+    #: Whether a profile can set warn/fail limits on it: not for "none", nor for the
+    #: score, which is worked out from the verdict (see :mod:`meshaudit.score`).
+    limited: bool = True
 
 
 METRICS: tuple[MetricInfo, ...] = (
     MetricInfo("area", "low", "length^2", "surface area of the element"),
     MetricInfo("det_j_min", "low", "length^2", "smallest det J over the Gauss points"),
-    MetricInfo("det_j_max", "none", "length^2", "largest det J over the Gauss points"),
+    MetricInfo("det_j_max", "none", "length^2", "largest det J over the Gauss points", False),
     MetricInfo("det_j_corner_min", "low", "length^2", "smallest det J over the corner nodes"),
     MetricInfo("jacobian_ratio", "high", "1", "largest over smallest Gauss-point det J"),
     MetricInfo("scaled_jacobian", "low", "1", "Knupp's scaled Jacobian, worst corner"),
@@ -36,7 +39,13 @@ METRICS: tuple[MetricInfo, ...] = (
     MetricInfo("min_angle", "low", "deg", "smallest interior angle"),
     MetricInfo("max_angle", "high", "deg", "largest interior angle (reflex > 180)"),
     MetricInfo("condition", "high", "1", "Knupp's condition number, worst corner"),
-    MetricInfo("score", "low", "1", "composite shape score, 1 ideal, 0 invalid"),
+    MetricInfo(
+        "score",
+        "low",
+        "1",
+        "meshaudit's score: fail below 1/3, warn 1/3 to 2/3, ok above 2/3; 1 ideal, 0 invalid",
+        False,
+    ),
     MetricInfo(
         "midside_offset_along",
         "high",
@@ -53,6 +62,8 @@ METRICS: tuple[MetricInfo, ...] = (
 )
 METRIC_NAMES: tuple[str, ...] = tuple(m.name for m in METRICS)
 METRIC_INFO: dict[str, MetricInfo] = {m.name: m for m in METRICS}
+#: The metrics a profile can limit, in report order.
+LIMITED_METRICS: tuple[str, ...] = tuple(m.name for m in METRICS if m.limited)
 
 #: Validity flags, in report order. Any of them makes an element invalid (fail), except
 #: ``reversed``, which only says why an element is inverted.
@@ -81,6 +92,7 @@ QUADRATIC_CELLS: frozenset[str] = frozenset(quadratic.ELEMENTS)
 
 __all__ = [
     "KERNELS",
+    "LIMITED_METRICS",
     "METRICS",
     "METRIC_INFO",
     "METRIC_NAMES",

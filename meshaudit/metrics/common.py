@@ -51,28 +51,3 @@ def degenerate(coords3: np.ndarray, area: np.ndarray) -> np.ndarray:
             | (edges.min(axis=1) <= DEGENERATE_TOLERANCE * longest)
             | ~(np.abs(area) > DEGENERATE_TOLERANCE * longest**2)
         )
-
-
-def score(
-    scaled_jacobian: np.ndarray,
-    condition: np.ndarray,
-    warp_deg: np.ndarray | None,
-    invalid: np.ndarray,
-) -> np.ndarray:
-    """meshaudit's composite score in [0, 1].
-
-    score = sqrt(max(scaled_jacobian, 0) / condition) * cos(warp), and 0 for an invalid
-    element. It is 1 for the ideal shape (square, equilateral triangle) and falls as
-    angle distortion (scaled Jacobian), stretching (condition number) or warp grows.
-    """
-    with np.errstate(invalid="ignore", divide="ignore"):
-        s = np.clip(scaled_jacobian, 0.0, 1.0)
-        s /= condition
-        np.sqrt(s, out=s)
-    if warp_deg is not None:  # cos(0) = 1 exactly: only warped elements need the cosine
-        rows = np.flatnonzero(warp_deg != 0.0)
-        s[rows] *= np.cos(np.radians(np.clip(warp_deg[rows], 0.0, 90.0)))
-    np.copyto(s, 0.0, where=~np.isfinite(s))
-    np.clip(s, 0.0, 1.0, out=s)
-    np.copyto(s, 0.0, where=invalid)
-    return s

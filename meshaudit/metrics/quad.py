@@ -48,7 +48,6 @@ from .columns import (
     square,
     sub,
 )
-from .common import score
 
 _G = float(QUAD_GAUSS_2X2[2, 0])  # 1 / sqrt(3)
 
@@ -470,7 +469,8 @@ def _spatial_warp(x: tuple[Point, ...], sides: list[Point]) -> np.ndarray:
 def measure(
     coords3: np.ndarray, p: np.ndarray
 ) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
-    """All quad metrics and validity flags.
+    """All quad metrics (but ``score``, added with the verdict: :mod:`meshaudit.score`)
+    and validity flags.
 
     ``coords3`` (n, 4, 3) are the nodes in space, ``p`` (n, 4, 2) the same nodes laid in
     the measuring plane. Returns (metrics, flags) dictionaries of (n,) arrays.
@@ -482,7 +482,6 @@ def measure(
     inverted = (m["corner_lo"] < threshold) & ~collapsed  # some corner det J negative
     reversed_ = (m["corner_hi"] < threshold) & ~collapsed  # all four negative
     nonconvex = (m["max_angle"] > 180.0) & ~bowtie & ~collapsed
-    invalid = collapsed | bowtie | inverted | nonconvex
 
     metrics = {
         "area": area,
@@ -498,7 +497,6 @@ def measure(
         "min_angle": m["min_angle"],
         "max_angle": m["max_angle"],
         "condition": m["condition"],
-        "score": score(m["scaled_jacobian"], m["condition"], warp_deg, invalid),
     }
     flags = {
         "inverted": inverted,

@@ -146,7 +146,6 @@ TRIANGLE_SHAPE_METRICS = (
     "min_angle",
     "max_angle",
     "condition",
-    "score",
 )
 
 
@@ -260,6 +259,4 @@ def measure(
             out_flags[name] = out_flags[name].copy()
             out_flags[name][rows] = tri_flags[name]
         out_flags["quarter_point"] = quarter & ~out_flags["degenerate"]
-    newly_invalid = inverted & ~flags["inverted"]
-    out["score"] = np.where(newly_invalid, 0.0, out["score"])
     return out, out_flags

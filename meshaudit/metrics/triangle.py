@@ -25,7 +25,6 @@ from .columns import (
     sub,
 )
 from .columns import length as length_columns
-from .common import score
 
 _SQRT3 = np.sqrt(3.0)
 #: Columns are the edge vectors of the unit equilateral triangle: the ideal shape.
@@ -109,7 +108,8 @@ def _area_and_collapse(x3d: tuple[Point, ...]) -> tuple[np.ndarray, np.ndarray]:
 def measure(
     coords3: np.ndarray, p: np.ndarray
 ) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
-    """All triangle metrics and validity flags (see :func:`meshaudit.metrics.quad.measure`).
+    """All triangle metrics but the score, and validity flags (see
+    :func:`meshaudit.metrics.quad.measure`).
 
     Skew, taper and warp have no meaning for a triangle and are NaN.
     """
@@ -123,7 +123,6 @@ def measure(
     sj = _scaled_jacobian(corners)
     cond = _condition(corners, det)
     inverted = (det < 0.0) & ~collapsed
-    invalid = collapsed | inverted
     nan = np.full(n, np.nan)
     metrics = {
         "area": area,
@@ -139,7 +138,6 @@ def measure(
         "min_angle": min_angle,
         "max_angle": max_angle,
         "condition": cond,
-        "score": score(sj, cond, None, invalid),
     }
     false = np.zeros(n, dtype=bool)
     flags = {

@@ -268,6 +268,10 @@ def _caption(report: Report, name: str) -> str:
         per_family.setdefault(family, []).append(f"{kind} {v:g}")
     limits = "; ".join(f"{f} {', '.join(v)}" for f, v in per_family.items())
     legend = f" Limits (dashed warn, solid fail): {limits}." if limits else ""
+    if name == "score":
+        legend = (
+            " Verdict bands: fail below 1/3 (solid mark), warn from 1/3 to 2/3 (dashed), ok above."
+        )
     return f"<b>{name}</b>{escape(unit)}: {escape(info.meaning)}.{escape(extra)}{escape(legend)}"
 
 

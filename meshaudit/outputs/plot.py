@@ -27,6 +27,7 @@ from ..frames import area_vectors
 from ..inspection import corner_table, has_curved_cells, outline_points
 from ..metrics import METRIC_INFO, METRIC_NAMES
 from ..report import Report
+from ..score import BAND_EDGES
 from ..verdicts import FAIL, WARN
 from . import raster
 from .projection import View, best_fit_view, flatness, tilted
@@ -85,7 +86,13 @@ def mesh_view(report: Report, elements: ElementMesh) -> View:
 
 
 def metric_limits(report: Report, metric: str) -> list[tuple[str, str, float]]:
-    """(family, 'warn'|'fail', value) of every limit on ``metric`` for the families present."""
+    """(family, 'warn'|'fail', value) of every limit on ``metric`` for the families present.
+
+    The score has no limits but its verdict bands: its marks are their edges (family
+    "all"), below 2/3 warn and below 1/3 fail (see :mod:`meshaudit.score`).
+    """
+    if metric == "score":
+        return [("all", kind, edge) for kind, edge in BAND_EDGES]
     out = []
     for family in report.cell_families:
         lim = report.profile.limit(family, metric)
@@ -146,7 +153,9 @@ def colour_scale(report: Report, color_by: str) -> tuple[np.ndarray, Any, Any, s
     direction = {"high": "larger is worse", "low": "smaller is worse"}.get(info.worse, "")
     label = f"{color_by}{unit}: {info.meaning}" + (f" ({direction}; darker)" if direction else "")
     limits = metric_limits(report, color_by)
-    if limits:
+    if color_by == "score":
+        label += "\nmarks on the bar: warn below the dashed mark (2/3), fail below the solid (1/3)"
+    elif limits:
         per_family = {}
         for family, _kind, v in limits:
             per_family.setdefault(family, []).append(f"{v:g}")
