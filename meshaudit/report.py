@@ -39,6 +39,9 @@ class MeshSummary:
     skipped: dict[str, int]  # cell type -> number not audited
     frame: str  # "planar" or "shell"
     normal: list[float] | None = None
+    #: what element orientation is judged against: "+z" or "relative"
+    #: (see :mod:`meshaudit.orientation`)
+    orientation: str = "+z"
 
     @property
     def n_elements(self) -> int:
@@ -53,6 +56,7 @@ class MeshSummary:
             "skipped_cells": dict(self.skipped),
             "geometry": self.frame,
             "plane_normal": self.normal,
+            "orientation": self.orientation,
         }
 
 

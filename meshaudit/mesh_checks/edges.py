@@ -28,12 +28,6 @@ def kept_table(table: EdgeTable, keep: np.ndarray) -> EdgeTable:
     )
 
 
-def minority_winding(sign: np.ndarray) -> np.ndarray:
-    """Positions of elements wound against the majority (ties: clockwise is the odd one)."""
-    majority = 1 if int(sign.sum()) >= 0 else -1
-    return np.flatnonzero(sign == -majority)
-
-
 @dataclass(frozen=True)
 class FreeEdges:
     """Edges used by one element, chained into loops, as plain arrays a plot can draw.

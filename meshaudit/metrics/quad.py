@@ -96,7 +96,8 @@ def _det_at(c: tuple[np.ndarray, ...], points: np.ndarray) -> list[np.ndarray]:
 
 
 def _det_extremes(c: tuple[np.ndarray, ...], scale: float) -> dict[str, np.ndarray]:
-    """Smallest and largest det J over the 2x2 Gauss points and over the corners.
+    """Smallest and largest det J over the 2x2 Gauss points and over the corners, and
+    det J at the centre.
 
     At (+-t, +-t) det J is c0 +- c1 t +- c2 t, so the smallest is (c0 - |c1| t) - |c2| t
     and the largest (c0 + |c1| t) + |c2| t: the same numbers as the minimum and maximum
@@ -114,6 +115,7 @@ def _det_extremes(c: tuple[np.ndarray, ...], scale: float) -> dict[str, np.ndarr
     }
     for v in out.values():
         v *= scale
+    out["centre"] = c0 * scale  # det J at the centre: a quarter of the signed area
     return out
 
 
@@ -480,7 +482,9 @@ def measure(
     bowtie = m["crossing"] & ~collapsed
     threshold = -1e-12 * np.maximum(m["longest"], 1e-300) ** 2
     inverted = (m["corner_lo"] < threshold) & ~collapsed  # some corner det J negative
-    reversed_ = (m["corner_hi"] < threshold) & ~collapsed  # all four negative
+    # wound clockwise in the measuring plane: negative signed area (det J at the centre is
+    # a quarter of it; never without a negative corner, so always inverted too)
+    reversed_ = (m["centre"] < threshold) & ~collapsed
     nonconvex = (m["max_angle"] > 180.0) & ~bowtie & ~collapsed
     invalid = collapsed | bowtie | inverted | nonconvex
 
