@@ -8,7 +8,7 @@ orientation is judged as it sees it: against +z, by the sign of each element's a
 projected on x-y (the plane normal is taken with a positive z component). A planar
 mesh whose plane contains the z direction (its projection on x-y is a line) has no such
 reference. Anything else is a shell surface: each element is measured in its own
-best-fit plane (normal = its area vector), which has no absolute orientation either.
+best-fit plane (see :func:`element_normals`), which has no absolute orientation either.
 Without a reference, only relative orientation is judged: neighbours must agree
 (see :mod:`meshaudit.orientation`).
 """
@@ -143,11 +143,14 @@ def centroids(coords: np.ndarray) -> np.ndarray:
 def element_normals(corners: np.ndarray) -> np.ndarray:
     """Unit normal of each element's best-fit plane, (n, 3), from corners (n, k, 3).
 
-    The area vector (Newell's normal) is used where it is sound. A bow-tie's area vector
-    is the difference of its two lobes and may vanish or point anywhere; where it is less
-    than half of the corner-triangle measure sum |a_k x b_k| / 4 (equal to it for any
-    convex quad, whatever its aspect ratio) the least-squares plane of the corners is used
-    instead, turned to agree with the area vector where that has a direction.
+    The area vector (Newell's normal) is used where it is sound. A quad's area vector is
+    the sum of its two triangles' (either diagonal split), so it shrinks where they face
+    apart: a bow-tie's is the difference of its two lobes and may vanish or point
+    anywhere, and a deep re-entrant or far-folded quad's is short too. Where its length is
+    less than half of the corner-triangle measure sum |a_k x b_k| / 4 (equal to it for any
+    flat convex quad, whatever its aspect ratio) the least-squares plane of the corners is
+    used instead, turned to agree with the area vector where that has a direction.
+    Triangles always use their area vector.
     """
     av = area_vectors(corners)
     normal = _unit(av)

@@ -239,7 +239,7 @@ class Report:
         thousand elements costs well under a second.
         """
         rows = np.asarray(rows, dtype=np.int64)
-        metrics = {m: _plain_floats(self.metrics[m][rows]) for m in METRIC_NAMES}
+        metrics = {m: json_floats(self.metrics[m][rows]) for m in METRIC_NAMES}
         breaches: list[dict[str, Any]] = [{} for _ in range(rows.size)]
         for metric, lvl in self.levels.items():
             codes = lvl[rows]
@@ -323,12 +323,21 @@ def _pattern_counts(bits: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return patterns.astype(np.uint64), counts
 
 
-def _plain_floats(values: np.ndarray) -> list[float | None]:
-    """Python floats of ``values``, None where NaN or infinite (JSON has no such numbers)."""
-    out = values.astype(np.float64).tolist()
+def json_floats(values: np.ndarray) -> list[float | str | None]:
+    """The JSON values of ``values``: Python floats (-0.0 as 0.0), None where not defined
+    (NaN), the string "inf" or "-inf" where infinite (JSON has no infinite number; the
+    CSV report writes the same words, and an empty cell where JSON has null)."""
+    values = values.astype(np.float64) + 0.0
+    out: list[float | str | None] = values.tolist()
     for k in np.flatnonzero(~np.isfinite(values)).tolist():
-        out[k] = None
+        v = values[k]
+        out[k] = None if np.isnan(v) else ("inf" if v > 0 else "-inf")
     return out
+
+
+def json_float(x: Any) -> float | str | None:
+    """One value as :func:`json_floats` writes it."""
+    return json_floats(np.array([x], dtype=np.float64))[0]
 
 
 SCORE_COLUMN = METRIC_NAMES.index("score")
