@@ -17,7 +17,7 @@ from .findings import TopologyPart, find_topology, finish
 from .frames import Frame, centroids, choose_frame, to_local
 from .mesh_checks.overlap import BoxGrid, PlanarShapes
 from .metrics import KERNELS, METRIC_NAMES, QUADRATIC_CELLS, quadratic
-from .orientation import Orientation, judge
+from .orientation import Orientation, judge, nearly_flat_shell_note
 from .profiles import Profile, load_profile
 from .reading import load
 from .regions import judge_by_region, region_codes
@@ -206,7 +206,8 @@ def audit_elements(
         table, part = topology() if pending is None else pending.result()
         reversed_ = (sink.bits >> np.uint32(FLAG_BIT["reversed"])) & np.uint32(1) == 1
         orientation = judge(mesh, frame, reversed_, table)
-        notes = frame_notes(frame) + mark_orientation(orientation, sink.bits, sink.verdict)
+        notes = frame_notes(frame) + nearly_flat_shell_note(mesh, frame)
+        notes += mark_orientation(orientation, sink.bits, sink.verdict)
         mesh_findings = None
         if part is not None:
             grid_result = None if grid is None else grid.result
@@ -336,11 +337,15 @@ def frame_notes(frame: Frame) -> list[str]:
             "see it edge-on; elements are measured in their plane and orientation is "
             "judged only between neighbours (flipped_normal, opposite_normals)"
         ]
-    return [
-        f"the mesh plane is tilted {frame.tilt:.3g} deg from x-y: elements are measured "
-        "in their plane, orientation against +z as a 2-D solver reading x and y sees it "
-        f"(its projection shrinks areas by the factor {abs(float(frame.normal[2])):.6g})"
-    ]
+    text = (
+        f"the mesh plane is tilted {frame.tilt:.3g} deg from x-y: elements are measured in "
+        "their plane, their orientation against +z as a 2-D solver reading x and y sees it"
+    )
+    if frame.tilt > 45.0:
+        text += (
+            f" (it would see the mesh squashed to {abs(float(frame.normal[2])):.2g} of its area)"
+        )
+    return [text]
 
 
 def audit(

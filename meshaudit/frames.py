@@ -42,6 +42,10 @@ class Frame:
     #: Planar only: the plane contains the z direction (its projection on x-y is a line,
     #: within the planar tolerance), so a 2-D solver reading x and y sees it edge-on.
     vertical: bool = False
+    #: Shell only: the largest distance of a node from the nodes' least-squares plane,
+    #: over the mesh extent, and that plane's unit normal (for the report notes).
+    flatness: float | None = None
+    fit_normal: np.ndarray | None = None
 
     @property
     def orientation(self) -> str:
@@ -112,8 +116,9 @@ def choose_frame(mesh: ElementMesh) -> Frame:
     sample = pts if len(pts) <= 200_000 else pts[:: len(pts) // 200_000 + 1]
     _, _, vt = np.linalg.svd(sample - centre, full_matrices=False)
     normal = vt[-1]
-    if float(np.abs((pts - centre) @ normal).max()) > tolerance:
-        return Frame("shell")
+    deviation = float(np.abs((pts - centre) @ normal).max())
+    if deviation > tolerance:
+        return Frame("shell", flatness=deviation / extent, fit_normal=normal)
     # Across the plane's trace on x-y, the nodes' projection is |n_z| / |n_xy| times as
     # wide as their spread in z: a line when the plane contains z.
     trace_normal = normal[:2] / max(float(np.hypot(normal[0], normal[1])), 1e-300)

@@ -26,7 +26,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .elements import ElementMesh
-from .frames import Frame
+from .frames import Frame, area_vectors
 from .topology import EdgeTable, flipped_elements
 
 
@@ -92,3 +92,42 @@ def describe(orientation: Orientation, ids: np.ndarray, some: Callable[[np.ndarr
             f"(a Moebius-like band): {some(ids[twisted])}"
         )
     return "; ".join(parts)
+
+
+#: A shell whose nodes stay within this fraction of its size of one plane is nearly flat:
+#: perhaps a 2-D model written with uneven z. meshaudit default, no published source.
+NEARLY_FLAT = 1e-3
+
+#: Elements per slice in :func:`clockwise_about_z` (bounds its temporaries).
+_SLICE = 65_536
+
+
+def clockwise_about_z(mesh: ElementMesh) -> int:
+    """How many elements' corner polygons wind clockwise about +z (negative z component
+    of the area vector): what a 2-D solver reading x and y would see inverted."""
+    count = 0
+    for block, sl in mesh.chunks(_SLICE):
+        k = 3 if block.family == "triangle" else 4
+        av = area_vectors(mesh.points[block.connectivity[sl, :k]])
+        count += int(np.count_nonzero(av[:, 2] < 0.0))
+    return count
+
+
+def nearly_flat_shell_note(mesh: ElementMesh, frame: Frame) -> list[str]:
+    """A report note for a shell that is nearly flat and faces +z (within 60 degrees) with
+    elements wound clockwise about +z: audited as a shell, it is not judged against +z,
+    though a 2-D solver reading x and y would see those elements inverted."""
+    if frame.kind != "shell" or frame.flatness is None or frame.flatness > NEARLY_FLAT:
+        return []
+    if frame.fit_normal is None or abs(float(frame.fit_normal[2])) < 0.5:
+        return []
+    clockwise = clockwise_about_z(mesh)
+    if clockwise == 0:
+        return []
+    return [
+        f"the nodes leave their best-fit plane by up to {frame.flatness:.2g} of the mesh "
+        "size, more than the planar tolerance, so the mesh is audited as a shell and "
+        "orientation is judged only between neighbours; a 2-D solver reading x and y "
+        f"would see {clockwise} of {mesh.n_elements} elements wound clockwise about +z "
+        "(inverted): if this is a 2-D model, make its z exact"
+    ]

@@ -245,3 +245,22 @@ def test_a_shell_names_the_same_elements_in_flags_and_finding():
     clash = found(report)["opposite_normals"]
     assert clash.element_ids.tolist() == [3, 12, 21] and clash.count == 3
     assert clash.message.startswith("3 of 24 elements face against the rest of their patch")
+
+
+def test_a_nearly_flat_shell_says_what_a_2d_solver_would_see():
+    # z noise of 1e-6 of the mesh size (above the planar tolerance 1e-9): a shell, judged
+    # between neighbours only; the note counts the elements clockwise about +z (shapely,
+    # on the outlines with z dropped), which a 2-D solver would see inverted.
+    pts, tris, _ = triangle_grid(8, 47, clockwise=524)
+    noisy = pts.copy()
+    noisy[:, 2] = np.random.default_rng(2).uniform(-1.0, 1.0, len(pts)) * 47e-6
+    report = audit(meshio.Mesh(noisy, [("triangle", tris)]))
+    assert report.summary.frame == "shell" and report.summary.orientation == "relative"
+    assert not report.flag("reversed").any()
+    expected = int(shapely_clockwise(noisy, tris).sum())
+    assert expected == 524
+    assert any(f"{expected} of 752 elements wound clockwise about +z" in n for n in report.notes)
+    # a clean flat-ish shell (every element counter-clockwise) gets no such note
+    pts, tris, _ = triangle_grid(8, 47, clockwise=0)
+    pts[:, 2] = np.random.default_rng(2).uniform(-1.0, 1.0, len(pts)) * 47e-6
+    assert not any("clockwise" in n for n in audit(meshio.Mesh(pts, [("triangle", tris)])).notes)
