@@ -47,6 +47,17 @@ class MeshSummary:
     def n_elements(self) -> int:
         return sum(self.element_counts.values())
 
+    def geometry_text(self) -> str:
+        """The geometry in words, with what orientation is judged against (for reports)."""
+        if self.frame != "planar":
+            return (
+                "shell surface in 3-D (each element in its own best-fit plane; orientation "
+                "judged between neighbours)"
+            )
+        if self.orientation == "+z":
+            return "planar (orientation against +z: clockwise elements are reversed)"
+        return "planar, plane contains z (orientation judged between neighbours)"
+
     def to_dict(self) -> dict[str, Any]:
         return {
             "source": self.source,

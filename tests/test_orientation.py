@@ -264,3 +264,29 @@ def test_a_nearly_flat_shell_says_what_a_2d_solver_would_see():
     pts, tris, _ = triangle_grid(8, 47, clockwise=0)
     pts[:, 2] = np.random.default_rng(2).uniform(-1.0, 1.0, len(pts)) * 47e-6
     assert not any("clockwise" in n for n in audit(meshio.Mesh(pts, [("triangle", tris)])).notes)
+
+
+def test_junit_and_html_tell_which_reference_applies():
+    # The JUnit case of the check that does not apply is skipped; the HTML summary names
+    # the reference and carries the report notes.
+    import xml.etree.ElementTree as ET
+
+    from meshaudit.outputs import html_report, junit_report
+
+    pts, tris, _ = triangle_grid(8, 47, clockwise=524)
+    upright = np.column_stack([pts[:, 0], np.zeros(len(pts)), pts[:, 1]])
+    for points, applies, skipped in (
+        (pts, "no inconsistent winding", "no opposite normals"),
+        (upright, "no opposite normals", "no inconsistent winding"),
+    ):
+        report = audit(meshio.Mesh(points, [("triangle", tris)]))
+        root = ET.fromstring(junit_report.render(report))
+        cases = {c.get("name"): c for c in root.iter("testcase")}
+        assert cases[skipped].find("skipped") is not None
+        assert cases[applies].find("skipped") is None
+        assert ("524" if applies == "no inconsistent winding" else "228") in ET.tostring(
+            cases[applies], encoding="unicode"
+        )
+        page = html_report._summary(report)  # the summary block of the page
+        assert report.summary.geometry_text() in page
+    assert "contains the z direction" in page

@@ -56,16 +56,7 @@ def summary_table(report: Report) -> Table:
     t.add_row("nodes", f"{s.n_points:,}")
     t.add_row("elements", ", ".join(f"{v:,} {k}" for k, v in s.element_counts.items()))
     t.add_row("skipped cells", ", ".join(f"{v:,} {k}" for k, v in s.skipped.items()) or "none")
-    if s.frame != "planar":
-        geometry = (
-            "shell surface in 3-D (each element in its own best-fit plane; orientation "
-            "judged between neighbours)"
-        )
-    elif s.orientation == "+z":
-        geometry = "planar (orientation against +z: clockwise elements are reversed)"
-    else:
-        geometry = "planar, plane contains z (orientation judged between neighbours)"
-    t.add_row("geometry", geometry)
+    t.add_row("geometry", s.geometry_text())
     t.add_row("profile", f"{report.profile.name} ({report.profile.origin})")
     if report.region_names:
         t.add_row("regions", _regions_text(report))
