@@ -17,7 +17,8 @@ from .findings import TopologyPart, find_topology, finish
 from .frames import Frame, centroids, choose_frame, to_local
 from .mesh_checks.overlap import BoxGrid, PlanarShapes
 from .metrics import KERNELS, METRIC_NAMES, QUADRATIC_CELLS, quadratic
-from .orientation import Orientation, judge, nearly_flat_shell_note
+from .orientation import Orientation, nearly_flat_shell_note
+from .orientation import judge as judge_orientation
 from .profiles import Profile, load_profile
 from .reading import load
 from .regions import judge_by_region, region_codes
@@ -205,7 +206,7 @@ def audit_elements(
                 grid = pool.submit(BoxGrid.build, shapes.boxes)
         table, part = topology() if pending is None else pending.result()
         reversed_ = (sink.bits >> np.uint32(FLAG_BIT["reversed"])) & np.uint32(1) == 1
-        orientation = judge(mesh, frame, reversed_, table)
+        orientation = judge_orientation(mesh, frame, reversed_, table)
         notes = frame_notes(frame) + nearly_flat_shell_note(mesh, frame)
         notes += mark_orientation(orientation, sink.bits, sink.verdict)
         mesh_findings = None
