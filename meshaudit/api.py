@@ -17,12 +17,14 @@ from .findings import TopologyPart, find_topology, finish, unaudited_cells
 from .frames import Frame, centroids, choose_frame, to_local
 from .mesh_checks.overlap import BoxGrid, PlanarShapes
 from .metrics import KERNELS, METRIC_NAMES, QUADRATIC_CELLS, quadratic
+from .orientation import Orientation, nearly_flat_shell_note
+from .orientation import judge as judge_orientation
 from .profiles import Profile, load_profile
 from .reading import load
 from .regions import judge_by_region, region_codes
 from .report import FLAG_BIT, MeshSummary, Report, metric_statistics
 from .score import rebanded
-from .topology import EdgeTable, edge_table, flipped_elements
+from .topology import EdgeTable, edge_table
 from .verdicts import WARN
 
 #: Elements measured per kernel call. Chunking bounds the kernels' temporaries (a few
@@ -174,7 +176,7 @@ def audit_elements(
         return sl.stop - sl.start
 
     def topology() -> tuple[EdgeTable | None, TopologyPart | None]:
-        if not checks and frame.kind != "shell":  # every finding kind is off
+        if not checks and frame.orientation == "+z":  # every finding kind is off
             return None, None
         table = edge_table(mesh)  # shared by the orientation flags and the findings
         if not checks:
@@ -202,21 +204,26 @@ def audit_elements(
             if progress is not None:
                 progress("measure", sink.done, n)
         # the statistics and the overlap check's grid of box centres need only the
-        # finished columns: worked out while the other checks finish (on a shell, the
-        # statistics wait for the orientation check, which may move scores to warn)
-        shell = frame.kind == "shell"
+        # finished columns: worked out while the other checks finish (where orientation is
+        # relative, the statistics wait for the orientation check, which may move scores
+        # to warn)
+        relative = frame.orientation == "relative"
         if pool is not None:
-            if not shell:
+            if not relative:
                 summing = pool.submit(metric_statistics, sink.metrics, sink.ordered_levels())
             if shapes is not None and prof.findings.enabled("overlapping_elements"):
                 grid = pool.submit(BoxGrid.build, shapes.boxes)
         table, part = topology() if pending is None else pending.result()
-        notes = mark_orientation(mesh, frame, sink.bits, sink.verdict, table, sink.metrics["score"])
-        if pool is not None and shell:
+        reversed_ = (sink.bits >> np.uint32(FLAG_BIT["reversed"])) & np.uint32(1) == 1
+        orientation = judge_orientation(mesh, frame, reversed_, table)
+        notes = frame_notes(frame) + nearly_flat_shell_note(mesh, frame)
+        notes += mark_orientation(orientation, sink.bits, sink.verdict, sink.metrics["score"])
+        if pool is not None and relative:
             summing = pool.submit(metric_statistics, sink.metrics, sink.ordered_levels())
         mesh_findings = None
         if part is not None:
-            mesh_findings = finish(part, mesh, frame, shapes, None if grid is None else grid.result)
+            grid_result = None if grid is None else grid.result
+            mesh_findings = finish(part, mesh, frame, shapes, grid_result, orientation)
         stats = None if summing is None else summing.result()
     finally:
         if pool is not None:
@@ -232,6 +239,7 @@ def audit_elements(
         skipped=dict(mesh.skipped),
         frame=frame.kind,
         normal=None if frame.normal is None else [float(c) for c in frame.normal],
+        orientation=frame.orientation,
     )
     return Report(
         summary=summary,
@@ -316,33 +324,53 @@ def _nan_column(n: int) -> np.ndarray:
 
 
 def mark_orientation(
-    mesh: ElementMesh,
-    frame: Frame,
+    orientation: Orientation,
     bits: np.ndarray,
     verdict: np.ndarray,
-    table: EdgeTable | None = None,
     score: np.ndarray | None = None,
 ) -> list[str]:
-    """Shells only: flag elements whose normal disagrees with their patch (in place).
+    """Flag the elements facing against the rest of their patch (in place).
 
-    A surface has no absolute orientation, so each connected patch is split into the
-    elements that agree across shared edges; the smaller group gets ``flipped_normal``
-    (verdict at least warn; ``score``, when given, moves to the warn band with it).
-    Planar meshes are judged against the plane normal instead.
-    Returns report notes (e.g. a patch that cannot be oriented at all).
+    Only where orientation is relative (shells, planar meshes whose plane contains z;
+    see :mod:`meshaudit.orientation`): the smaller orientation group of each patch gets
+    ``flipped_normal`` (verdict at least warn; ``score``, when given, moves to the warn
+    band with it). Against +z the kernels have flagged the clockwise elements
+    ``reversed`` already. Returns report notes (e.g. a patch that cannot be oriented at
+    all).
     """
-    if frame.kind != "shell":
+    if orientation.reference != "relative":
         return []
-    groups = flipped_elements(mesh, table)
-    bits |= groups.flipped.astype(np.uint32) << np.uint32(FLAG_BIT["flipped_normal"])
-    raised = np.flatnonzero(groups.flipped & (verdict < WARN))
+    flipped = orientation.turned
+    bits |= flipped.astype(np.uint32) << np.uint32(FLAG_BIT["flipped_normal"])
+    raised = np.flatnonzero(flipped & (verdict < WARN))
     if score is not None:
         rebanded(score, raised, verdict[raised], np.full(raised.size, WARN))
     verdict[raised] = WARN
-    twisted = int(groups.twisted.sum())
+    twisted = int(orientation.twisted.sum())
     if twisted:
         return [f"{twisted} elements lie on a patch that cannot be consistently oriented"]
     return []
+
+
+def frame_notes(frame: Frame) -> list[str]:
+    """Report notes on where a planar mesh lies when that is not the x-y plane."""
+    if frame.kind != "planar" or frame.tilt is None or frame.tilt == 0.0:
+        return []
+    if frame.vertical:
+        return [
+            "the mesh plane contains the z direction: a 2-D solver reading x and y would "
+            "see it edge-on; elements are measured in their plane and orientation is "
+            "judged only between neighbours (flipped_normal, opposite_normals)"
+        ]
+    text = (
+        f"the mesh plane is tilted {frame.tilt:.3g} deg from x-y: elements are measured in "
+        "their plane, their orientation against +z as a 2-D solver reading x and y sees it"
+    )
+    if frame.tilt > 45.0:
+        text += (
+            f" (it would see the mesh squashed to {abs(float(frame.normal[2])):.2g} of its area)"
+        )
+    return [text]
 
 
 def audit(

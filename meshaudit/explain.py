@@ -29,7 +29,7 @@ from .reference import (
     TRIANGLE6_NODES,
     TRIANGLE_GAUSS_3,
 )
-from .report import finite_or_none
+from .report import finite_or_none, json_float
 from .score import BAND
 from .verdicts import INVALID_FLAGS, VERDICT_NAMES
 
@@ -41,13 +41,15 @@ TRIANGLE_CORNERS = np.array([[0.0, 0.0], [1.0, 0.0], [0.0, 1.0]])
 FLAG_REASONS = {
     "inverted": "det J is negative at {negative}: the map from the reference element "
     "folds over itself there",
-    "reversed": "det J is negative at every corner: the nodes run clockwise "
-    "(reverse the node order)",
+    "reversed": "the nodes run clockwise about +z (negative signed area), as a 2-D solver "
+    "reading x and y sees them (reverse the node order)",
     "nonconvex": "an interior angle exceeds 180 deg (largest {max_angle:.4g} deg): "
     "a re-entrant corner",
     "self_intersecting": "two opposite edges cross each other (a bow-tie): "
     "the node order is scrambled",
-    "degenerate": "an edge or the area has collapsed to (nearly) zero",
+    "degenerate": "two corners are at the same place, or all corners lie on one line",
+    "flipped_normal": "the element faces against the rest of its patch, which has no "
+    "absolute orientation (reverse the node order)",
 }
 
 
@@ -67,7 +69,7 @@ class MetricLine:
     def to_dict(self) -> dict[str, Any]:
         return {
             "name": self.name,
-            "value": finite_or_none(self.value),
+            "value": json_float(self.value),
             "unit": self.unit,
             "worse": self.worse,
             "warn": self.warn,
@@ -189,8 +191,8 @@ def _reason(name: str, value: float, worse: str, level: str, warn, fail) -> str:
     limit = fail if level == "fail" else warn
     side = "above" if worse == "high" else "below"
     text = f"{value:.4g} is {side} the {level} limit {limit:g}"
-    if not np.isfinite(value):
-        text = f"{value} (undefined: a corner has det J <= 0) is past the {level} limit {limit:g}"
+    if np.isinf(value):
+        text = f"{value} (infinite) is past the {level} limit {limit:g}"
     return text
 
 

@@ -32,9 +32,16 @@ class FindingKind:
     meaning: str
     rationale: str  # why the default severity
     geometry: str = "any"  # "any", or the only frame kind it applies to ("planar", "shell")
+    #: "any", or the only orientation reference it applies to ("+z" or "relative", see
+    #: meshaudit.orientation)
+    orientation: str = "any"
 
-    def applies_to(self, frame_kind: str) -> bool:
-        return self.geometry in ("any", frame_kind)
+    def applies_to(self, frame_kind: str, orientation: str = "any") -> bool:
+        """Whether this check runs on a mesh of ``frame_kind`` whose orientation is judged
+        against ``orientation`` ("any": whatever the reference)."""
+        return self.geometry in ("any", frame_kind) and (
+            self.orientation in ("any", orientation) or orientation == "any"
+        )
 
 
 KINDS: tuple[FindingKind, ...] = (
@@ -88,18 +95,21 @@ KINDS: tuple[FindingKind, ...] = (
         "inconsistent_winding",
         "fail",
         "elements",
-        "planar mesh: elements wound the other way from the majority",
-        "a 2-D solver reads them as inverted, negative det J (common practice)",
+        "planar mesh: elements wound clockwise about +z (the elements flagged reversed)",
+        "a 2-D solver reads x and y, so it sees them inverted, negative det J (common practice)",
         "planar",
+        "+z",
     ),
     FindingKind(
         "opposite_normals",
         "warn",
-        "edges",
-        "shell: neighbours across an edge with opposite normals (same traversal direction)",
+        "elements",
+        "shell, or planar mesh whose plane contains z: elements facing against the rest of "
+        "their patch (the elements flagged flipped_normal)",
         "shell solvers accept either normal, but top/bottom results, pressures and offsets "
         "flip across the seam (common practice)",
-        "shell",
+        "any",
+        "relative",
     ),
     FindingKind(
         "non_manifold_edges",

@@ -22,6 +22,7 @@ from .elements import ElementMesh
 from .finding_kinds import KIND_INFO, FindingSettings
 from .frames import Frame
 from .mesh_checks import duplicates, edges, hanging, nodes, overlap
+from .orientation import Orientation, describe, judge
 from .topology import EdgeTable, edge_table
 
 #: How many ids a finding's message names.
@@ -167,12 +168,16 @@ def find(
     settings: FindingSettings | None = None,
     table: EdgeTable | None = None,
     shapes: overlap.PlanarShapes | None = None,
+    orientation: Orientation | None = None,
 ) -> MeshFindings:
     """Run the mesh-level checks enabled in ``settings`` on ``mesh``.
 
     ``ids`` (n_elements,) element labels in audit order; ``frame`` says whether the mesh
-    is planar (winding and overlap checks) or a shell (neighbour normals check).
-    ``table`` and ``shapes`` (planar meshes) are worked out here unless given.
+    is planar (overlap checks) or a shell, and what orientation is judged against.
+    ``table``, ``shapes`` (planar meshes) and ``orientation`` (the elements flagged
+    ``reversed`` or ``flipped_normal``, see :mod:`meshaudit.orientation`) are worked out
+    here unless given; without the element flags at hand, an element counts as reversed
+    when its corner polygon winds clockwise about the plane normal.
 
     The work comes in two parts that :func:`meshaudit.api.audit_elements` runs apart:
     :func:`find_topology` needs only the connectivity and the nodes, so it can run while
@@ -182,7 +187,10 @@ def find(
     part = find_topology(mesh, ids, frame, settings, table)
     if shapes is None and frame.kind == "planar" and frame.axes is not None:
         shapes = overlap.planar_shapes(mesh, frame.axes)
-    return finish(part, mesh, frame, shapes)
+    if orientation is None:
+        clockwise = shapes.sign < 0 if shapes is not None else np.zeros(len(ids), dtype=bool)
+        orientation = judge(mesh, frame, clockwise, table)
+    return finish(part, mesh, frame, shapes, orientation=orientation)
 
 
 def find_topology(
@@ -193,8 +201,7 @@ def find_topology(
     table: EdgeTable | None = None,
 ) -> TopologyPart:
     """The checks that need only connectivity and nodes: orphan nodes, duplicate
-    elements, coincident nodes, hanging nodes, free edges and cracks, non-manifold edges
-    and (shells) neighbours with opposite normals."""
+    elements, coincident nodes, hanging nodes, free edges and cracks, non-manifold edges."""
     settings = settings or FindingSettings()
     out = _Builder(mesh, ids, settings)
     if out.on("orphan_nodes"):
@@ -268,19 +275,6 @@ def find_topology(
             None,
             table.nodes[nm_edges],
         )
-    if frame.kind != "planar" and out.on("opposite_normals"):
-        clash, first, second = edges.same_direction_pairs(table)
-        both = np.concatenate([first, second])
-        out.add(
-            "opposite_normals",
-            clash.size,
-            f"{clash.size} edge(s) between neighbours with opposite normals; elements "
-            f"{_some(ids[unique_values(both)])}",
-            both,
-            None,
-            None,
-            table.nodes[clash],
-        )
     runs = None
     if frame.kind == "planar" and out.on("overlapping_elements"):
         runs = edges.forward_runs(table)
@@ -293,13 +287,17 @@ def finish(
     frame: Frame,
     shapes: overlap.PlanarShapes | None,
     grid: Callable[[], overlap.BoxGrid] | None = None,
+    orientation: Orientation | None = None,
 ) -> MeshFindings:
-    """Add the checks that need each element's winding and shape (planar meshes with
-    ``shapes``: loop kinds, inconsistent winding, overlaps) and return the findings.
+    """Add the checks that need each element's winding and shape (the orientation
+    finding from ``orientation``; planar meshes with ``shapes``: loop kinds and
+    overlaps) and return the findings.
 
     ``grid``: returns the :class:`~meshaudit.mesh_checks.overlap.BoxGrid` of
     ``shapes`` when the caller builds it elsewhere (e.g. on another thread); called
     only when the overlap check gets that far."""
+    if orientation is not None:
+        _orientation_finding(part, orientation)
     free = part.free
     if shapes is not None and frame.kind == "planar" and frame.normal is not None:
         sign = shapes.sign.copy()
@@ -309,6 +307,35 @@ def finish(
             grid = partial(overlap.BoxGrid.build, shapes.boxes)
         _planar_checks(part, mesh, free, shapes, sign, grid)
     return MeshFindings(part.out.findings, free)
+
+
+def _orientation_finding(part: TopologyPart, orientation: Orientation) -> None:
+    """The finding that names the elements flagged ``reversed`` (``inconsistent_winding``,
+    orientation against +z) or ``flipped_normal`` (``opposite_normals``, relative
+    orientation), with the same count and the same remedy; see
+    :mod:`meshaudit.orientation`. The edges are the seams where neighbours disagree."""
+    out = part.out
+    if orientation.reference == "+z":
+        kind = "inconsistent_winding"
+        named = orientation.turned
+    else:
+        kind = "opposite_normals"
+        named = orientation.turned | orientation.twisted
+    if not out.on(kind) or not named.any():
+        return
+    seams = _empty_int(0, 2)
+    if kind == "opposite_normals":
+        clash, _, _ = edges.same_direction_pairs(part.table)
+        seams = part.table.nodes[clash]
+    out.add(
+        kind,
+        int(np.count_nonzero(named)),
+        describe(orientation, out.ids, _some),
+        np.flatnonzero(named),
+        None,
+        None,
+        seams,
+    )
 
 
 def _coincident(mesh: ElementMesh, table: EdgeTable, relative: float) -> np.ndarray:
@@ -360,14 +387,6 @@ def _planar_checks(
 ) -> None:
     out, table, keep = part.out, part.table, part.keep
     ids = out.ids
-    if out.on("inconsistent_winding"):
-        odd = edges.minority_winding(sign)
-        out.add(
-            "inconsistent_winding",
-            odd.size,
-            f"{odd.size} element(s) wound against the majority: {_some(ids[odd])}",
-            odd,
-        )
     if not out.on("overlapping_elements"):
         return
     _, fold_a, fold_b = edges.same_direction_pairs(table, flip=sign < 0, runs=part.runs)

@@ -1,11 +1,16 @@
-"""Where each element is measured: the mesh plane or the element's own best-fit plane.
+"""Where each element is measured, and what its orientation is judged against.
 
 A mesh whose nodes all share one z (or that has two coordinates) is planar 2-D and is
-measured in x-y, so orientation is against +z: a clockwise element has negative det J.
-A mesh whose nodes all lie in one other plane is measured in that plane, its normal
-chosen to agree with the majority of the elements (with +z preferred when the plane is
-x-y). Anything else is a shell surface: each element is measured in its own best-fit
-plane (normal = its area vector), which has no absolute orientation.
+measured in x-y. A mesh whose nodes all lie in one other plane (within
+:data:`PLANAR_TOLERANCE` of its size, plus the rounding of its coordinates) is
+measured in that plane. Either way a 2-D solver reads x and y and drops z, so element
+orientation is judged as it sees it: against +z, by the sign of each element's area
+projected on x-y (the plane normal is taken with a positive z component). A planar
+mesh whose plane contains the z direction (its projection on x-y is a line) has no such
+reference. Anything else is a shell surface: each element is measured in its own
+best-fit plane (see :func:`element_normals`), which has no absolute orientation either.
+Without a reference, only relative orientation is judged: neighbours must agree
+(see :mod:`meshaudit.orientation`).
 """
 
 from __future__ import annotations
@@ -20,6 +25,12 @@ from .metrics.columns import as_elements, node_columns
 #: Relative out-of-plane tolerance (of the mesh extent) under which a mesh is planar.
 PLANAR_TOLERANCE = 1e-9
 
+#: Rounding allowance added to the planar tolerance, in units of the largest coordinate
+#: magnitude: a rigid motion worked out in double precision moves each coordinate by a
+#: few units in the last place (2.2e-16 relative), so a flat mesh turned and moved far
+#: from the origin stays planar. 64 units: a margin over the few a rotation makes.
+ROUNDING = 64 * float(np.finfo(np.float64).eps)
+
 
 @dataclass(frozen=True)
 class Frame:
@@ -28,6 +39,32 @@ class Frame:
     kind: str  # "planar" or "shell"
     normal: np.ndarray | None = None  # unit normal of the mesh plane (planar only)
     axes: np.ndarray | None = None  # (2, 3) in-plane unit axes t1, t2 (planar only)
+    #: Planar only: the plane contains the z direction (its projection on x-y is a line,
+    #: within the planar tolerance), so a 2-D solver reading x and y sees it edge-on.
+    vertical: bool = False
+    #: Shell only: the largest distance of a node from the nodes' least-squares plane,
+    #: over the mesh extent, and that plane's unit normal (for the report notes).
+    flatness: float | None = None
+    fit_normal: np.ndarray | None = None
+
+    @property
+    def orientation(self) -> str:
+        """What element orientation is judged against: ``"+z"`` (a planar mesh whose plane
+        does not contain z: each element's area projected on x-y must be positive) or
+        ``"relative"`` (shells and planar meshes whose plane contains z: neighbours must
+        agree, see :mod:`meshaudit.orientation`)."""
+        return "+z" if self.kind == "planar" and not self.vertical else "relative"
+
+    @property
+    def tilt(self) -> float | None:
+        """Angle in degrees between the mesh plane and x-y (planar only), 0 to 90."""
+        if self.normal is None:
+            return None
+        return float(np.degrees(np.arccos(min(1.0, abs(float(self.normal[2]))))))
+
+
+#: The frame of a mesh in a plane z = const.
+XY_FRAME = Frame("planar", np.array([0.0, 0.0, 1.0]), np.eye(3)[:2])
 
 
 def area_vectors(coords: np.ndarray) -> np.ndarray:
@@ -48,41 +85,51 @@ def _unit(v: np.ndarray) -> np.ndarray:
 
 
 def _plane_axes(normal: np.ndarray) -> np.ndarray:
-    """Two in-plane unit axes completing ``normal`` to a right-handed frame."""
+    """Two in-plane unit axes completing ``normal`` to a right-handed frame: t1 is the x
+    axis projected on the plane (the y axis when the normal lies near x), so a plane near
+    x-y gets axes near x and y."""
     helper = np.array([1.0, 0.0, 0.0]) if abs(normal[0]) < 0.9 else np.array([0.0, 1.0, 0.0])
-    t1 = _unit(np.cross(helper, normal))
+    t1 = _unit(helper - (helper @ normal) * normal)
     t2 = np.cross(normal, t1)
     return np.stack([t1, t2])
 
 
 def choose_frame(mesh: ElementMesh) -> Frame:
-    """Decide whether ``mesh`` is planar (and in which plane) or a shell surface."""
+    """Decide whether ``mesh`` is planar (in which plane, judged against what) or a shell.
+
+    Planar: every used node within ``PLANAR_TOLERANCE`` x the mesh extent (plus
+    :data:`ROUNDING` x the largest coordinate magnitude) of the least-squares plane of the
+    nodes. The plane normal is taken with a positive z component, so orientation is
+    judged against +z; when the nodes' projection on x-y is a line (thinner than the same
+    tolerance across it), the plane contains z and the frame is ``vertical``.
+    """
     z = mesh.points[:, 2]
     if z.min() == z.max():  # every node in one plane z = const: no need to select nodes
-        return Frame("planar", np.array([0.0, 0.0, 1.0]), np.eye(3)[:2])
+        return XY_FRAME
     pts = mesh.points[mesh.used_nodes()]
     if np.ptp(pts[:, 2]) == 0.0:
-        return Frame("planar", np.array([0.0, 0.0, 1.0]), np.eye(3)[:2])
+        return XY_FRAME
     extent = float(np.ptp(pts, axis=0).max())
+    tolerance = PLANAR_TOLERANCE * extent + ROUNDING * float(np.abs(pts).max())
     centre = pts.mean(axis=0)
     # Smallest principal direction of the node cloud is the candidate plane normal.
     sample = pts if len(pts) <= 200_000 else pts[:: len(pts) // 200_000 + 1]
     _, _, vt = np.linalg.svd(sample - centre, full_matrices=False)
     normal = vt[-1]
-    out_of_plane = float(np.abs((pts - centre) @ normal).max())
-    if out_of_plane > PLANAR_TOLERANCE * extent:
-        return Frame("shell")
-    if abs(normal[2]) > 1.0 - 1e-9:
-        normal = np.array([0.0, 0.0, 1.0])
-    else:
-        votes = 0.0
-        for block in mesh.blocks:
-            corners = 3 if block.family == "triangle" else 4
-            av = area_vectors(mesh.points[block.connectivity[:, :corners]])
-            votes += float(np.sign(av @ normal).sum())
-        if votes < 0:
+    deviation = float(np.abs((pts - centre) @ normal).max())
+    if deviation > tolerance:
+        return Frame("shell", flatness=deviation / extent, fit_normal=normal)
+    # Across the plane's trace on x-y, the nodes' projection is |n_z| / |n_xy| times as
+    # wide as their spread in z: a line when the plane contains z.
+    trace_normal = normal[:2] / max(float(np.hypot(normal[0], normal[1])), 1e-300)
+    vertical = float(np.ptp(pts[:, :2] @ trace_normal)) <= tolerance
+    if vertical:
+        normal = np.array([normal[0], normal[1], 0.0]) / np.hypot(normal[0], normal[1])
+        if normal[np.argmax(np.abs(normal))] < 0.0:  # any fixed choice: no reference
             normal = -normal
-    return Frame("planar", normal, _plane_axes(normal))
+    elif normal[2] < 0.0:
+        normal = -normal
+    return Frame("planar", normal, _plane_axes(normal), vertical=vertical)
 
 
 def centroids(coords: np.ndarray) -> np.ndarray:
@@ -101,11 +148,14 @@ def centroids(coords: np.ndarray) -> np.ndarray:
 def element_normals(corners: np.ndarray) -> np.ndarray:
     """Unit normal of each element's best-fit plane, (n, 3), from corners (n, k, 3).
 
-    The area vector (Newell's normal) is used where it is sound. A bow-tie's area vector
-    is the difference of its two lobes and may vanish or point anywhere; where it is less
-    than half of the corner-triangle measure sum |a_k x b_k| / 4 (equal to it for any
-    convex quad, whatever its aspect ratio) the least-squares plane of the corners is used
-    instead, turned to agree with the area vector where that has a direction.
+    The area vector (Newell's normal) is used where it is sound. A quad's area vector is
+    the sum of its two triangles' (either diagonal split), so it shrinks where they face
+    apart: a bow-tie's is the difference of its two lobes and may vanish or point
+    anywhere, and a deep re-entrant or far-folded quad's is short too. Where its length is
+    less than half of the corner-triangle measure sum |a_k x b_k| / 4 (equal to it for any
+    flat convex quad, whatever its aspect ratio) the least-squares plane of the corners is
+    used instead, turned to agree with the area vector where that has a direction.
+    Triangles always use their area vector.
     """
     av = area_vectors(corners)
     normal = _unit(av)
@@ -179,11 +229,15 @@ def _dot3(a: np.ndarray, b: np.ndarray) -> np.ndarray:
 def to_local(coords: np.ndarray, frame: Frame, n_corners: int | None = None) -> np.ndarray:
     """Lay elements ``coords`` (n, k, 3) flat: (n, k, 2) in-plane coordinates.
 
-    Planar meshes use the mesh plane (origin at each element's centroid); shells use each
-    element's own best-fit plane through its centroid, with its area vector as normal.
-    Only the first ``n_corners`` nodes (default: all) define the centroid and the plane,
-    so a quadratic element's corners land exactly where its linear twin's would; the
-    midside nodes are projected onto that plane.
+    Planar meshes use the mesh plane (origin at each element's centroid; in-plane axes
+    right-handed about the normal, so with a positive z component a clockwise element
+    about +z gets a negative det J); shells use each element's own best-fit plane through
+    its centroid (see :func:`element_normals`). In a plane that contains z there is no
+    reference, so each element is measured in its own winding, as a shell element is:
+    one wound clockwise in the plane's axes is mirrored (a reflection changes no shape).
+    Only the first ``n_corners`` nodes (default: all) define the centroid, the plane and
+    the winding, so a quadratic element's corners land exactly where its linear twin's
+    would; the midside nodes are projected onto that plane.
     """
     corners = coords if n_corners is None else coords[:, :n_corners]
     in_xy = frame.kind == "planar" and np.array_equal(frame.axes, np.eye(3)[:2])
@@ -193,5 +247,16 @@ def to_local(coords: np.ndarray, frame: Frame, n_corners: int | None = None) -> 
         rel = coords - centroids(corners)[:, None, :]
         if in_xy:
             return rel[:, :, :2] + 0.0  # what the product with the axes gives, to the bit
-        return rel @ frame.axes.T
+        local = rel @ frame.axes.T
+        if frame.vertical:
+            _own_winding(local, corners.shape[1])
+        return local
     return _to_local_own_plane(coords, corners)
+
+
+def _own_winding(local: np.ndarray, n_corners: int) -> None:
+    """Mirror (in place) the elements of ``local`` (n, k, 2) whose first ``n_corners``
+    nodes run clockwise (negative shoelace area), so every element is counter-clockwise."""
+    x, y = local[:, :n_corners, 0], local[:, :n_corners, 1]
+    twice = (x * np.roll(y, -1, axis=1) - np.roll(x, -1, axis=1) * y).sum(axis=1)
+    local[twice < 0.0, :, 1] *= -1.0

@@ -35,6 +35,9 @@ class MeshSummary:
     skipped: dict[str, int]  # cell type -> number not audited
     frame: str  # "planar" or "shell"
     normal: list[float] | None = None
+    #: what element orientation is judged against: "+z" or "relative"
+    #: (see :mod:`meshaudit.orientation`)
+    orientation: str = "+z"
 
     @property
     def n_elements(self) -> int:
@@ -43,6 +46,17 @@ class MeshSummary:
     def skipped_text(self) -> str:
         """The cells not audited, e.g. '120 tetra, 40 line' ('' when every cell was)."""
         return ", ".join(f"{n:,} {t}" for t, n in self.skipped.items())
+
+    def geometry_text(self) -> str:
+        """The geometry in words, with what orientation is judged against (for reports)."""
+        if self.frame != "planar":
+            return (
+                "shell surface in 3-D (each element in its own best-fit plane; orientation "
+                "judged between neighbours)"
+            )
+        if self.orientation == "+z":
+            return "planar (orientation against +z: clockwise elements are reversed)"
+        return "planar, plane contains z (orientation judged between neighbours)"
 
     def to_dict(self) -> dict[str, Any]:
         return {
@@ -53,6 +67,7 @@ class MeshSummary:
             "skipped_cells": dict(self.skipped),
             "geometry": self.frame,
             "plane_normal": self.normal,
+            "orientation": self.orientation,
         }
 
 
@@ -235,7 +250,7 @@ class Report:
         thousand elements costs well under a second.
         """
         rows = np.asarray(rows, dtype=np.int64)
-        metrics = {m: _plain_floats(self.metrics[m][rows]) for m in METRIC_NAMES}
+        metrics = {m: json_floats(self.metrics[m][rows]) for m in METRIC_NAMES}
         breaches: list[dict[str, Any]] = [{} for _ in range(rows.size)]
         for metric, lvl in self.levels.items():
             codes = lvl[rows]
@@ -319,12 +334,21 @@ def _pattern_counts(bits: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return patterns.astype(np.uint64), counts
 
 
-def _plain_floats(values: np.ndarray) -> list[float | None]:
-    """Python floats of ``values``, None where NaN or infinite (JSON has no such numbers)."""
-    out = values.astype(np.float64).tolist()
+def json_floats(values: np.ndarray) -> list[float | str | None]:
+    """The JSON values of ``values``: Python floats (-0.0 as 0.0), None where not defined
+    (NaN), the string "inf" or "-inf" where infinite (JSON has no infinite number; the
+    CSV report writes the same words, and an empty cell where JSON has null)."""
+    values = values.astype(np.float64) + 0.0
+    out: list[float | str | None] = values.tolist()
     for k in np.flatnonzero(~np.isfinite(values)).tolist():
-        out[k] = None
+        v = values[k]
+        out[k] = None if np.isnan(v) else ("inf" if v > 0 else "-inf")
     return out
+
+
+def json_float(x: Any) -> float | str | None:
+    """One value as :func:`json_floats` writes it."""
+    return json_floats(np.array([x], dtype=np.float64))[0]
 
 
 SCORE_COLUMN = METRIC_NAMES.index("score")

@@ -182,16 +182,27 @@ def _rotation(rng: np.random.Generator) -> np.ndarray:
 
 def test_planar_quad_rotated_in_space_has_no_warp():
     """Analytic: a planar quad stays planar under any rigid motion, so warp is 0 and its
-    in-plane metrics are those of the unrotated quad."""
+    in-plane metrics are those of the unrotated quad. Its det J keeps its sign while the
+    rotation keeps the plane facing +z; one that turns the plane over shows a 2-D solver
+    reading x and y the mirror image: det J negated, the extremes swapped."""
     rng = np.random.default_rng(40)
     flat = np.array([[0.0, 0.0, 0.0], [3.0, 0.2, 0.0], [2.5, 1.8, 0.0], [0.4, 1.2, 0.0]])
     m0, _, _ = audit_one(flat)
     for _ in range(5):
-        moved = flat @ _rotation(rng).T + rng.uniform(-10, 10, size=3)
-        m, _, _ = audit_one(moved)
+        turn = _rotation(rng)
+        moved = flat @ turn.T + rng.uniform(-10, 10, size=3)
+        m, flags, _ = audit_one(moved)
         assert m["warp"] == approx(0.0, abs_=1e-9)
-        for name in ("area", "det_j_min", "det_j_max", "aspect_ratio", "taper", "condition"):
+        for name in ("area", "aspect_ratio", "taper", "min_angle", "max_angle"):
             assert m[name] == approx(m0[name], rel=1e-9)
+        if turn[2, 2] > 0.0:  # the plane still faces +z
+            for name in ("det_j_min", "det_j_max", "condition"):
+                assert m[name] == approx(m0[name], rel=1e-9)
+            assert "reversed" not in flags
+        else:
+            assert m["det_j_min"] == approx(-m0["det_j_max"], rel=1e-9)
+            assert m["det_j_max"] == approx(-m0["det_j_min"], rel=1e-9)
+            assert "reversed" in flags
 
 
 @pytest.mark.parametrize("h", [0.01, 0.1, 0.5, 2.0])

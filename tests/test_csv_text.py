@@ -1,9 +1,9 @@
 """The CSV report against numpy's string formatting and Python's csv reader.
 
 Reference: each cell formatted by ``numpy.char.mod`` ("%d" for numbers of elements,
-"%.10g" for floats, NaN as an empty cell) and rows joined by commas; the file must be
-exactly that text, also when written a few rows at a time, and read back by the csv
-module with one row per element.
+"%.10g" for floats, so an infinity reads inf; -0.0 as 0; NaN, not defined, as an empty
+cell) and rows joined by commas; the file must be exactly that text, also when written a
+few rows at a time, and read back by the csv module with one row per element.
 """
 
 from __future__ import annotations
@@ -24,7 +24,7 @@ SAMPLES = Path(__file__).resolve().parents[1] / "samples"
 
 def _reference(report) -> str:
     def floats(values):
-        out = np.char.mod("%.10g", values).astype(object)
+        out = np.char.mod("%.10g", np.where(values == 0.0, 0.0, values)).astype(object)
         out[np.isnan(values)] = ""
         return out
 
@@ -71,3 +71,7 @@ def test_csv_text_is_numpy_formatting_joined(name, tmp_path, monkeypatch):
     assert rows[0] == list(csv_report.COLUMNS)
     assert len(rows) == len(report) + 1
     assert [int(r[1]) for r in rows[1:]] == report.ids.tolist()
+    if name == "planted":  # the planted cells, as the JSON report carries them
+        column = {c: k for k, c in enumerate(csv_report.COLUMNS)}
+        assert rows[5][column["condition"]] == "inf"
+        assert rows[6][column["warp"]] == "" and rows[7][column["skew"]] == "0"

@@ -278,12 +278,19 @@ def test_one_element_wound_the_other_way_in_a_planar_mesh():
     assert [lp["kind"] for lp in report.free_edges.loops()] == ["outer"]
 
 
-def test_minority_winding_is_reported_whichever_way_the_majority_runs():
+def test_clockwise_elements_are_named_even_when_they_are_the_majority():
+    # A 2-D solver reads x and y: clockwise about +z is inverted whatever the others do
+    # (common practice). The finding names the same elements the flags call reversed.
     quads = grid_quads(NX, NY)[:, ::-1].copy()  # all clockwise ...
     keep_ccw = [0, 17]  # ... except these two, by construction
     quads[keep_ccw] = quads[keep_ccw][:, ::-1]
-    f = found(audit(meshio.Mesh(grid_points(NX, NY), [("quad", quads)])))
-    assert ids(f["inconsistent_winding"].element_ids) == [1, 18]
+    report = audit(meshio.Mesh(grid_points(NX, NY), [("quad", quads)]))
+    winding = found(report)["inconsistent_winding"]
+    clockwise = [i + 1 for i in range(NX * NY) if i not in keep_ccw]
+    assert ids(winding.element_ids) == clockwise
+    assert ids(report.ids[report.flag("reversed")]) == clockwise
+    assert winding.count == NX * NY - 2
+    assert winding.message.startswith(f"{NX * NY - 2} of {NX * NY} elements are wound clockwise")
 
 
 def test_shell_neighbours_with_opposite_normals():
@@ -295,9 +302,13 @@ def test_shell_neighbours_with_opposite_normals():
     report = audit(meshio.Mesh(pts3, [("quad", quads)]))
     f = found(report)
     clash = f["opposite_normals"]
-    assert clash.count == 4  # fact: an interior quad has four neighbours across edges
-    neighbours = [element_id(3, 0), element_id(2, 1), element_id(4, 1), element_id(3, 2)]
-    assert ids(clash.element_ids) == sorted([element_id(3, 1), *neighbours])
+    # The finding names the element to reverse, as the flag does; its seams are the
+    # four edges to its neighbours (fact: an interior quad has four neighbours).
+    assert ids(clash.element_ids) == [element_id(3, 1)]
+    assert ids(report.ids[report.flag("flipped_normal")]) == [element_id(3, 1)]
+    assert clash.count == 1
+    assert len(clash.edges) == 4
+    assert clash.message.startswith(f"1 of {NX * NY} elements face against the rest")
     assert clash.severity == "warn"
 
 

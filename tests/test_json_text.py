@@ -66,13 +66,17 @@ def test_render_matches_the_json_module(name, every_element):
 
 
 def test_infinite_metrics_and_int_limits_are_written_as_json_writes_them():
-    """Planted: an infinite condition number and NaN warp (null), a whole-number limit."""
+    """Planted: an infinite condition number (the string "inf", as the CSV report writes
+    it), NaN warp (null), -0.0 (0.0), a whole-number limit."""
     report = _region_report()
     report.metrics["condition"][[0, 5]] = np.inf
     report.metrics["warp"][1] = np.nan
+    report.metrics["skew"][2] = -0.0
     text = "\n".join(element_lines(report, report.index[:10]))
     assert text == "\n".join(map(ENCODE, report.element_records(report.index[:10])))
-    assert '"condition": null' in text
+    lines = text.splitlines()
+    assert '"condition": "inf"' in lines[0] and '"condition": "inf"' in lines[5]
+    assert '"warp": null' in lines[1] and '"skew": 0.0' in lines[2]
     assert any('"limit": 100}' in line for line in element_lines(report, report.worst()))
 
 

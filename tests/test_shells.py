@@ -67,14 +67,35 @@ def assert_same_audit(a, b) -> None:
     assert list(a.flag_bits) == list(b.flag_bits)
 
 
+def upright(r: np.ndarray) -> np.ndarray:
+    """``r``, or ``r`` followed by a half turn about x when ``r`` turns +z downwards:
+    either way a proper rotation that keeps the x-y side of a plane facing up."""
+    return r if r[2, 2] > 0.0 else np.diag([1.0, -1.0, -1.0]) @ r
+
+
 @pytest.mark.parametrize("seed", [0, 1])
 def test_a_planar_mesh_rotated_in_space_audits_like_the_flat_one(seed):
-    # Geometry fact: a rigid motion keeps every length, angle and area.
+    # Geometry fact: a rigid motion keeps every length, angle and area; one that keeps
+    # the plane facing +z also keeps each element's winding as a 2-D solver sees it.
     flat = mixed_planar_mesh()
-    turned = meshio.Mesh(flat.points @ rotation(seed).T + [3.0, -1.0, 7.0], flat.cells)
+    turned = meshio.Mesh(flat.points @ upright(rotation(seed)).T + [3.0, -1.0, 7.0], flat.cells)
     a, b = audit(flat), audit(turned)
-    assert b.summary.frame == "planar"
+    assert b.summary.frame == "planar" and b.summary.orientation == "+z"
     assert_same_audit(a, b)
+
+
+def test_a_planar_mesh_turned_over_is_wound_clockwise_about_z():
+    # A half turn about x mirrors the mesh as a 2-D solver reading x and y sees it: every
+    # element runs clockwise about +z (geometry fact), while its shape is unchanged.
+    flat = mixed_planar_mesh()
+    over = meshio.Mesh(flat.points * [1.0, -1.0, -1.0] + [0.0, 0.0, 2.0], flat.cells)
+    a, b = audit(flat), audit(over)
+    assert b.flag("reversed").all() and (b.verdict == 2).all()
+    for name in ("area", "aspect_ratio", "min_angle", "max_angle", "skew", "taper"):
+        np.testing.assert_allclose(a.metrics[name], b.metrics[name], rtol=1e-9, atol=1e-9)
+    np.testing.assert_allclose(a.metrics["det_j_min"], -b.metrics["det_j_max"], rtol=1e-9)
+    winding = {f.kind: f for f in b.findings}["inconsistent_winding"]
+    assert winding.count == len(b) and winding.message.startswith(f"all {len(b)} elements")
 
 
 def test_a_curved_shell_rotated_in_space_audits_the_same():

@@ -35,12 +35,6 @@ def free_uses(table: EdgeTable) -> np.ndarray:
     return np.flatnonzero(np.take(table.uses == 1, table.edge))
 
 
-def minority_winding(sign: np.ndarray) -> np.ndarray:
-    """Positions of elements wound against the majority (ties: clockwise is the odd one)."""
-    majority = 1 if int(sign.sum()) >= 0 else -1
-    return np.flatnonzero(sign == -majority)
-
-
 @dataclass(frozen=True)
 class FreeEdges:
     """Edges used by one element, chained into loops, as plain arrays a plot can draw.

@@ -35,7 +35,7 @@ METRICS: tuple[MetricInfo, ...] = (
     MetricInfo("aspect_ratio", "high", "1", "Robinson's aspect ratio (triangles: edge/altitude)"),
     MetricInfo("skew", "high", "deg", "Robinson's skew: principal axes off perpendicular"),
     MetricInfo("taper", "high", "1", "Robinson's taper"),
-    MetricInfo("warp", "high", "deg", "angle between the planes of the two halves"),
+    MetricInfo("warp", "high", "deg", "fold angle between the two halves, 0 (flat) to 180"),
     MetricInfo("min_angle", "low", "deg", "smallest interior angle"),
     MetricInfo("max_angle", "high", "deg", "largest interior angle (reflex > 180)"),
     MetricInfo("condition", "high", "1", "Knupp's condition number, worst corner"),

@@ -116,14 +116,21 @@ def edges(x: tuple[Point, ...]) -> list[Point]:
     return [sub(x[(k + 1) % len(x)], x[k]) for k in range(len(x))]
 
 
-def degenerate_edges(vectors: list[Point], area: np.ndarray) -> np.ndarray:
-    """Collapsed polygons: a (near) zero-length edge or (near) zero area, from the edge
-    vectors (in 3-D for the rule of :func:`meshaudit.metrics.common.degenerate`).
+def degenerate_edges(
+    vectors: list[Point], area: np.ndarray, diagonals: tuple[Point, ...] = ()
+) -> np.ndarray:
+    """Collapsed polygons: two corners at the same place (a (near) zero-length edge, or
+    diagonal of a quad, given as ``diagonals``) or corners on one line (a (near) zero
+    unsigned ``area``), from the edge vectors (in 3-D for the rule of
+    :func:`meshaudit.metrics.common.degenerate`); lengths relative to the longest edge.
 
     The square root is taken of the longest and shortest squared length only: it is
     monotonic, so they are the longest and shortest lengths to the bit.
     """
-    shortest, longest = extremes([square(v) for v in vectors])
+    squares = [square(v) for v in vectors]
+    shortest, longest = extremes(squares)
+    for d in diagonals:
+        shortest = np.minimum(shortest, square(d))
     shortest, longest = np.sqrt(shortest), np.sqrt(longest)
     with np.errstate(invalid="ignore"):
         return (
@@ -150,12 +157,25 @@ class PolygonCorners:
     length: list[np.ndarray]
 
     def scaled_jacobian(self) -> np.ndarray:
-        """min over corners of det[a, b] / (|a| |b|) (unscaled; in [-1, 1])."""
+        """min over corners of det[a, b] / (|a| |b|) (unscaled; in [-1, 1]).
+
+        A corner with a zero-length edge has det[a, b] = 0 (the determinant of a zero
+        vector) and counts as 0, not as the undefined 0/0: a collapsed corner breaches
+        any positive limit. Never -0.0.
+        """
         out = None
         with np.errstate(divide="ignore", invalid="ignore"):
             for k, cross in enumerate(self.cross):
                 v = cross / (self.length[k] * self.length[k - 1])
                 out = v if out is None else np.minimum(out, v)
+            rows = np.flatnonzero(np.isnan(out))  # 0/0 at a corner with a zero edge
+            if rows.size:
+                fixed = np.zeros(rows.size)
+                for k, cross in enumerate(self.cross):
+                    v = cross[rows] / (self.length[k][rows] * self.length[k - 1][rows])
+                    fixed = np.fmin(fixed, v)
+                out[rows] = fixed
+        out += 0.0
         return out
 
     def condition(self) -> np.ndarray:
@@ -182,7 +202,8 @@ class PolygonCorners:
         return out
 
     def angle_range(self, orientation: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        """Smallest and largest interior angle in degrees, in [0, 360).
+        """Smallest and largest interior angle in degrees, in [0, 360); 0 (never -0.0)
+        at a corner with a zero-length edge.
 
         Same convention as :func:`meshaudit.metrics.common.interior_angles`. An element
         that is :attr:`convex` and measured counter-clockwise (``orientation`` +1) has
@@ -209,7 +230,7 @@ class PolygonCorners:
         angles = []
         for cross, dot_ in zip(self.cross, self.dot):
             ang = np.arctan2(orientation * cross[rows], dot_[rows] + 0.0) * DEGREES
-            angles.append(np.where(ang < 0.0, ang + 360.0, ang))
+            angles.append(np.where(ang < 0.0, ang + 360.0, ang + 0.0))  # no -0.0
         return extremes(angles)
 
     def longest_edge(self) -> np.ndarray:

@@ -95,7 +95,8 @@ def _det_at(c: tuple[np.ndarray, ...], points: np.ndarray) -> list[np.ndarray]:
 
 
 def _det_extremes(c: tuple[np.ndarray, ...], scale: float) -> dict[str, np.ndarray]:
-    """Smallest and largest det J over the 2x2 Gauss points and over the corners.
+    """Smallest and largest det J over the 2x2 Gauss points and over the corners, and
+    det J at the centre.
 
     At (+-t, +-t) det J is c0 +- c1 t +- c2 t, so the smallest is (c0 - |c1| t) - |c2| t
     and the largest (c0 + |c1| t) + |c2| t: the same numbers as the minimum and maximum
@@ -113,6 +114,8 @@ def _det_extremes(c: tuple[np.ndarray, ...], scale: float) -> dict[str, np.ndarr
     }
     for v in out.values():
         v *= scale
+        v += 0.0  # a collapsed element's zero is never -0.0
+    out["centre"] = c0 * scale  # det J at the centre: a quarter of the signed area
     return out
 
 
@@ -189,7 +192,12 @@ def shape_parameters(e: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]
       rectangle;
     - skew = |90 deg - angle(e1, e2)|: 0 when the principal axes are perpendicular;
     - taper = max(|alpha|, |beta|) with e3 = alpha e1 + beta e2: 0 for any parallelogram,
-      |c - a| / (c + a) for a trapezoid with parallel sides a and c.
+      |c - a| / (c + a) for a trapezoid with parallel sides a and c; infinite where e1
+      and e2 are parallel (no such decomposition: a bow-tie whose lobes cancel, corners
+      on a line).
+
+    Where an axis has zero length the aspect ratio is infinite (a quad collapsed to a
+    point included).
     """
     e1, e2, e3 = (tuple(e[:, i, k] for k in range(2)) for i in (1, 2, 3))
     return _shape_parameters(e1, e2, _coefficients(e1, e2, e3))
@@ -201,9 +209,10 @@ def _shape_parameters(
     """Aspect ratio, skew and taper; the axes and ``c`` may carry any common factor.
 
     Aspect ratio is sqrt(max(|e1|^2, |e2|^2) / min(...)), one square root instead of
-    two (equal to round-off). Taper is max(|c1|, |c2|) / |c0|, the same number as
-    max(|c2 / c0|, |c1 / c0|) (division by |c0| is monotonic), which also holds where
-    c0 = 0 except for the NaN that |0 / 0| gives, put back by hand.
+    two (equal to round-off); infinite where min(...) = 0 (the 0/0 of a point too).
+    Taper is max(|c1|, |c2|) / |c0|, the same number as max(|c2 / c0|, |c1 / c0|)
+    (division by |c0| is monotonic); infinite where c0 = 0 (the 0/0 of a quad whose
+    corners lie on a line too).
     """
     c0, c1, c2 = c
     q1, q2 = square(e1), square(e2)
@@ -219,35 +228,56 @@ def _shape_parameters(
         taper /= abs_c0
     flat = np.flatnonzero(c0 == 0.0)
     if flat.size:
-        taper[flat[(a1[flat] == 0.0) | (a2[flat] == 0.0)]] = np.nan
+        taper[flat] = np.inf
+        aspect[flat[np.isnan(aspect[flat])]] = np.inf  # only c0 = 0 can have an axis 0
     return aspect, skew, taper
 
 
 def warp(coords3: np.ndarray) -> np.ndarray:
-    """Warp angle in degrees of quads in 3-D (n, 4, 3): 0 for any planar quad.
+    """Warp angle in degrees of quads in 3-D (n, 4, 3), in [0, 180]: how far the element
+    is folded out of one plane; 0 for any flat quad that does not cross itself.
 
-    The quad is split into two triangles along each diagonal in turn; warp is the larger
-    of the two angles between the triangles' planes (unsigned, so a planar re-entrant
-    quad reads 0). Common practice, no single source.
+    The quad is split along each diagonal into two triangles, each with its normal in
+    the element's own winding (split 1-3: nodes 1 2 3 and 1 3 4; split 2-4: nodes 2 3 4
+    and 2 4 1). A split's fold angle is the angle between its two normals, 0 to 180: a
+    square folded about a diagonal until its triangles' normals are theta apart reads
+    theta on that split. Only splits whose two triangles both face along the element
+    normal N (the area vector, half the cross product of the diagonals; n . N >= 0)
+    count: a flat re-entrant quad's split along its outside diagonal has one triangle
+    facing back, so only the inside split counts and the quad reads 0. Warp is the
+    larger fold angle of the splits that count; where neither counts (a bow-tie, whose
+    lobes face apart) the larger of both, 180 for a flat bow-tie. A collapsed triangle
+    (zero normal) faces every way and folds nothing. A unit square with one corner lifted
+    by h reads arccos(1 / (1 + h^2)) (the split along the diagonal through the lifted
+    corner; the other reads less). Common practice, no single source.
 
-    The angle is atan2(|na x nb|, |na . nb|) of the two normals, which stays accurate
-    near 0 (an arccos of the cosine resolves only ~1e-6 degrees there). A split with a
-    collapsed triangle has no angle (NaN) and the other split decides.
+    Each angle is atan2(|na x nb|, na . nb), which stays accurate near 0 and 180 (an
+    arccos of the cosine resolves only ~1e-6 degrees there).
     """
     return _warp(split(coords3))
 
 
 def _warp(x: tuple[Point, ...]) -> np.ndarray:
     x1, x2, x3, x4 = x
-    angles = []
+    normal = cross3(sub(x3, x1), sub(x4, x2))  # twice the area vector
+    angles, counts = [], []
     for (a1, a2, a3), (b1, b2, b3) in (((x1, x2, x3), (x1, x3, x4)), ((x2, x3, x4), (x2, x4, x1))):
         na = cross3(sub(a2, a1), sub(a3, a1))
         nb = cross3(sub(b2, b1), sub(b3, b1))
-        sine = length(cross3(na, nb))
-        cosine = np.abs(dot(na, nb))
-        angle = np.arctan2(sine, cosine) * DEGREES
-        angles.append(np.where(length(na) * length(nb) > 0.0, angle, np.nan))
-    return np.fmax(angles[0], angles[1])
+        angles.append(np.arctan2(length(cross3(na, nb)), dot(na, nb)) * DEGREES)
+        counts.append((dot(na, normal) >= 0.0) & (dot(nb, normal) >= 0.0))
+    return _larger_counted(angles, counts)
+
+
+def _larger_counted(angles: list[np.ndarray], counts: list[np.ndarray]) -> np.ndarray:
+    """The larger of the two splits' ``angles`` that count, or of both where neither
+    does (angles are >= 0, so -1 marks one that does not count)."""
+    first = np.where(counts[0], angles[0], -1.0)
+    second = np.where(counts[1], angles[1], -1.0)
+    out = np.maximum(first, second)
+    neither = out < 0.0
+    out[neither] = np.maximum(angles[0][neither], angles[1][neither])
+    return out
 
 
 def gauss_normals(coords3: np.ndarray) -> np.ndarray:
@@ -324,7 +354,7 @@ def _flat_in_z(x: tuple[Point, ...]) -> bool:
 # formulas reduce exactly to 2-D ones: n . m = n_z m_z + 0.0 and |n| = sqrt(n_z n_z),
 # which is |n_z| (barring underflow). Each Gauss term of :func:`_area` is then
 # sign(total) * n_z, so the signed-fold area is |n_z0 + n_z1 + n_z2 + n_z3| to the bit;
-# the warp of a split is 0, or NaN where one of its triangles has collapsed.
+# the fold angle of a split is 0, or 180 where its triangles' normals point apart.
 def _flat_areas(xy: tuple[Point, ...]) -> tuple[np.ndarray, np.ndarray]:
     """(signed-fold area, swept area) of quads in a plane z = c, as :func:`_area` and
     :func:`_swept` give them, from the x-y columns ``xy``."""
@@ -345,25 +375,32 @@ def _flat_areas(xy: tuple[Point, ...]) -> tuple[np.ndarray, np.ndarray]:
 
 
 def _flat_warp(xy: tuple[Point, ...], sides: list[Point]) -> np.ndarray:
-    """:func:`_warp` of quads in a plane z = c: 0, or NaN where both splits collapse.
+    """:func:`_warp` of quads in a plane z = c, from the signed doubled areas of the split
+    triangles: 0, or 180 where the splits that count (:func:`_warp`) fold (a bow-tie).
 
-    ``sides`` are the edge vectors (node k+1 - node k). A split counts when both its
-    triangles have a nonzero normal; the second split is only looked at where the
-    first does not count.
+    ``sides`` are the edge vectors (node k+1 - node k). Where both triangles of split 1-3
+    have a nonzero area of one sign, that split counts and folds nothing, and the area
+    vector (their sum) is not 0, so the other split cannot both count and fold: 0. Only
+    the other elements are looked at further.
     """
     x1, x2, x3, x4 = xy
     d13 = sub(x3, x1)
-    # |x4 - x1| is side 4 reversed; the sign does not matter for a zero test.
-    first = (cross2(sides[0], d13) * cross2(d13, sides[3])) != 0.0
-    out = np.zeros(len(first))
-    rows = np.flatnonzero(~first)
+    first_a = cross2(sides[0], d13)  # triangle 1 2 3
+    first_b = cross2(sides[3], d13)  # triangle 1 3 4: (x3 - x1) x (x4 - x1)
+    out = np.zeros(len(first_a))
+    rows = np.flatnonzero(~(first_a * first_b > 0.0))
     if rows.size:
-        x2r, x4r = (tuple(v[rows] for v in pt) for pt in (x2, x4))
-        d24 = sub(x4r, x2r)
-        side2 = tuple(v[rows] for v in sides[1])
-        side1 = tuple(v[rows] for v in sides[0])
-        second = (cross2(side2, d24) * cross2(d24, side1)) != 0.0
-        out[rows[~second]] = np.nan
+        pick = [tuple(v[rows] for v in pt) for pt in (x1, x2, x4)]
+        side1, side2 = (tuple(v[rows] for v in sides[k]) for k in (0, 1))
+        d13r = tuple(v[rows] for v in d13)
+        d24 = sub(pick[2], pick[1])
+        normal = cross2(d13r, d24)
+        splits = ((first_a[rows], first_b[rows]), (cross2(side2, d24), cross2(side1, d24)))
+        angles, counts = [], []
+        for a, b in splits:
+            angles.append(np.where(a * b < 0.0, 180.0, 0.0))
+            counts.append((a * normal >= 0.0) & (b * normal >= 0.0))
+        out[rows] = _larger_counted(angles, counts)
     return out
 
 
@@ -409,10 +446,15 @@ def _surface_metrics(x3d: tuple[Point, ...]) -> tuple[np.ndarray, ...]:
         xy = tuple(pt[:2] for pt in x3d)
         sides = edges(xy)
         area, swept = _flat_areas(xy)
-        return area, _flat_warp(xy, sides), degenerate_edges(sides, swept)
+        return area, _flat_warp(xy, sides), degenerate_edges(sides, swept, _diagonals(xy))
     sides = edges(x3d)
     area, swept = _spatial_areas(x3d)
-    return area, _spatial_warp(x3d, sides), degenerate_edges(sides, swept)
+    return area, _spatial_warp(x3d, sides), degenerate_edges(sides, swept, _diagonals(x3d))
+
+
+def _diagonals(x: tuple[Point, ...]) -> tuple[Point, Point]:
+    """Diagonals 1-3 and 2-4: two opposite corners at the same place collapse a quad."""
+    return sub(x[2], x[0]), sub(x[3], x[1])
 
 
 def _shared_gauss_normals(x: tuple[Point, ...]) -> list[Point]:
@@ -449,21 +491,22 @@ def _spatial_areas(x3d: tuple[Point, ...]) -> tuple[np.ndarray, np.ndarray]:
 
 def _spatial_warp(x: tuple[Point, ...], sides: list[Point]) -> np.ndarray:
     """:func:`_warp` from the edge vectors ``sides`` (node k+1 - node k) and the two
-    diagonals. Where a split's side runs the other way than in :func:`_warp`, its
-    triangle normal comes out negated exactly, which changes neither |na x nb|,
-    |na . nb| nor |nb|."""
+    diagonals: each triangle normal is the cross product of one side and one diagonal,
+    in the element's own winding (triangle 1 3 4: (x3 - x1) x (x4 - x1) = side 4 x d13;
+    triangle 2 4 1: (x4 - x2) x (x1 - x2) = side 1 x d24)."""
     x1, x2, x3, x4 = x
     d13, d24 = sub(x3, x1), sub(x4, x2)
-    angles = []
+    normal = cross3(d13, d24)
+    angles, counts = [], []
     for na, nb in (
-        (cross3(sides[0], d13), cross3(d13, sides[3])),
-        (cross3(sides[1], d24), cross3(d24, sides[0])),
+        (cross3(sides[0], d13), cross3(sides[3], d13)),
+        (cross3(sides[1], d24), cross3(sides[0], d24)),
     ):
-        angle = np.arctan2(length(cross3(na, nb)), np.abs(dot(na, nb)))
+        angle = np.arctan2(length(cross3(na, nb)), dot(na, nb))
         angle *= DEGREES
-        np.copyto(angle, np.nan, where=~((square(na) > 0.0) & (square(nb) > 0.0)))
         angles.append(angle)
-    return np.fmax(angles[0], angles[1])
+        counts.append((dot(na, normal) >= 0.0) & (dot(nb, normal) >= 0.0))
+    return _larger_counted(angles, counts)
 
 
 def measure(
@@ -480,7 +523,10 @@ def measure(
     bowtie = m["crossing"] & ~collapsed
     threshold = -1e-12 * np.maximum(m["longest"], 1e-300) ** 2
     inverted = (m["corner_lo"] < threshold) & ~collapsed  # some corner det J negative
-    reversed_ = (m["corner_hi"] < threshold) & ~collapsed  # all four negative
+    # wound clockwise in the measuring plane: negative signed area (det J at the centre is
+    # a quarter of it; never without a negative corner, so always inverted too). A
+    # bow-tie's outline has no winding to reverse: it is self-intersecting instead.
+    reversed_ = (m["centre"] < threshold) & ~collapsed & ~bowtie
     nonconvex = (m["max_angle"] > 180.0) & ~bowtie & ~collapsed
 
     metrics = {

@@ -85,9 +85,13 @@ def aspect_ratio(p: np.ndarray) -> np.ndarray:
 
 
 def _aspect_ratio(corners: PolygonCorners, det: np.ndarray) -> np.ndarray:
+    """Infinite for a triangle of zero area, one collapsed to a point included."""
     area = np.abs(det) / 2.0
     with np.errstate(divide="ignore", invalid="ignore"):
-        return _SQRT3 * corners.longest_edge() ** 2 / (4.0 * area)
+        out = _SQRT3 * corners.longest_edge() ** 2 / (4.0 * area)
+    flat = np.flatnonzero(area == 0.0)
+    out[flat] = np.inf  # L^2 / 0, or the 0/0 of a point
+    return out
 
 
 def _area_and_collapse(x3d: tuple[Point, ...]) -> tuple[np.ndarray, np.ndarray]:
@@ -116,6 +120,7 @@ def measure(
     n = p.shape[0]
     x = split(p)
     det = _det(x)
+    det += 0.0  # a collapsed triangle's zero is never -0.0
     area, collapsed = _area_and_collapse(split(coords3))
     corners = polygon_corners(x)
     orientation = 1.0 - 2.0 * (det < 0.0)

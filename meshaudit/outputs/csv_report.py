@@ -31,7 +31,9 @@ ROWS_PER_PIECE = 65_536
 
 
 def _numbers(values: np.ndarray) -> list[str]:
-    """Format floats with 10 significant digits; NaN (not defined) becomes empty.
+    """Format floats with 10 significant digits (-0.0 as 0); NaN (not defined) becomes
+    empty, an infinity ``inf`` or ``-inf``: the words the JSON report writes as strings,
+    where it writes null for the empty cell.
 
     Python's own ``%`` formatting over the column's floats: the same text as numpy's
     ``char.mod`` gives, several times faster.
@@ -39,7 +41,7 @@ def _numbers(values: np.ndarray) -> list[str]:
     nan = np.flatnonzero(np.isnan(values))
     if nan.size == values.size:  # e.g. midside metrics of linear elements
         return [""] * values.size
-    out = list(map("%.10g".__mod__, values.astype(np.float64).tolist()))
+    out = list(map("%.10g".__mod__, (values.astype(np.float64) + 0.0).tolist()))
     for k in nan.tolist():
         out[k] = ""
     return out

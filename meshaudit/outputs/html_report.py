@@ -284,11 +284,12 @@ def _summary(report: Report) -> str:
         ("nodes", f"{s.n_points:,}"),
         ("elements", ", ".join(f"{v:,} {k}" for k, v in s.element_counts.items())),
         ("not audited", s.skipped_text() or "none"),
-        ("geometry", s.frame),
+        ("geometry", s.geometry_text()),
         ("profile", f"{report.profile.name} ({report.profile.origin})"),
         ("gate", f"fails on {report.fail_on}"),
         ("verdicts", f"{counts['fail']} fail, {counts['warn']} warn, {counts['ok']} ok"),
         ("flags", flags),
+        *(("note", note) for note in report.notes),
     ]
     items = "".join(f"<dt>{escape(k)}</dt><dd>{escape(v)}</dd>" for k, v in facts)
     return f'<dl class="facts" id="summary">{items}</dl>'

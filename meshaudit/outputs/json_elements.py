@@ -63,13 +63,16 @@ def element_lines(report: Report, rows: np.ndarray) -> list[str]:
 
 
 def numbers(values: np.ndarray) -> list[str]:
-    """JSON text of each float: its repr (as the json module writes it), null if not finite."""
-    bad = np.flatnonzero(~np.isfinite(values))
-    if bad.size == values.size:  # e.g. midside metrics of linear elements
+    """JSON text of each float, as :func:`meshaudit.report.json_floats` gives it to the json
+    module: its repr (-0.0 written 0.0), ``null`` where not defined (NaN), the string
+    ``"inf"`` or ``"-inf"`` where infinite (JSON has no infinite number)."""
+    values = values.astype(np.float64) + 0.0
+    if np.isnan(values).all():  # e.g. midside metrics of linear elements
         return ["null"] * values.size
-    out = list(map(float.__repr__, values.astype(np.float64).tolist()))
-    for k in bad.tolist():
-        out[k] = "null"
+    out = list(map(float.__repr__, values.tolist()))
+    for k in np.flatnonzero(~np.isfinite(values)).tolist():
+        v = values[k]
+        out[k] = "null" if np.isnan(v) else ('"inf"' if v > 0 else '"-inf"')
     return out
 
 

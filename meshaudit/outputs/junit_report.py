@@ -43,10 +43,11 @@ def _case(suite: ET.Element, classname: str, name: str, failed: bool, message: s
 
 def _warning_flags_that_apply(report: Report) -> list[str]:
     """Warning flags this mesh can raise: quarter points need quadratic elements, flipped
-    normals a shell. They fail their case only with ``--fail-on warn``, like warn limits."""
+    normals a mesh without absolute orientation (a shell, or a plane containing z).
+    They fail their case only with ``--fail-on warn``, like warn limits."""
     applies = {
         "quarter_point": bool(set(report.cell_types) & QUADRATIC_CELLS),
-        "flipped_normal": report.summary.frame == "shell",
+        "flipped_normal": report.summary.orientation == "relative",
     }
     return [f for f in WARNING_FLAGS if applies.get(f, True)]
 
@@ -62,11 +63,14 @@ def finding_cases(suite: ET.Element, report: Report) -> None:
         if not settings.enabled(kind):
             continue
         name = f"no {kind.replace('_', ' ')}"
-        if not KIND_INFO[kind].applies_to(report.summary.frame):
+        if not KIND_INFO[kind].applies_to(report.summary.frame, report.summary.orientation):
             case = ET.SubElement(
                 suite, "testcase", classname="meshaudit.findings", name=name, time="0"
             )
-            ET.SubElement(case, "skipped", message=f"not checked on a {report.summary.frame} mesh")
+            why = f"not checked on a {report.summary.frame} mesh"
+            ET.SubElement(
+                case, "skipped", message=f"{why} (orientation {report.summary.orientation})"
+            )
             continue
         f = found.get(kind)
         if f is None:

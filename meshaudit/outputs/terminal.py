@@ -58,12 +58,7 @@ def summary_table(report: Report) -> Table:
     t.add_row("nodes", f"{s.n_points:,}")
     t.add_row("elements", ", ".join(f"{v:,} {k}" for k, v in s.element_counts.items()))
     t.add_row("not audited", s.skipped_text() or "none")
-    geometry = (
-        "planar (orientation against the plane normal)"
-        if s.frame == "planar"
-        else ("shell surface in 3-D (each element in its own best-fit plane)")
-    )
-    t.add_row("geometry", geometry)
+    t.add_row("geometry", s.geometry_text())
     t.add_row("profile", f"{report.profile.name} ({report.profile.origin})")
     if report.region_names:
         t.add_row("regions", _regions_text(report))
