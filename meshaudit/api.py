@@ -203,7 +203,10 @@ def audit_elements(
             if shapes is not None and prof.findings.enabled("overlapping_elements"):
                 grid = pool.submit(BoxGrid.build, shapes.boxes)
         table, part = topology() if pending is None else pending.result()
-        notes = mark_orientation(mesh, frame, sink.bits, sink.verdict, table)
+        notes = [
+            *mesh.numbering.notes,
+            *mark_orientation(mesh, frame, sink.bits, sink.verdict, table),
+        ]
         mesh_findings = None
         if part is not None:
             mesh_findings = finish(part, mesh, frame, shapes, None if grid is None else grid.result)
@@ -218,6 +221,8 @@ def audit_elements(
         skipped=dict(mesh.skipped),
         frame=frame.kind,
         normal=None if frame.normal is None else [float(c) for c in frame.normal],
+        element_numbers=mesh.numbering.elements,
+        node_numbers=mesh.numbering.nodes,
     )
     return Report(
         summary=summary,

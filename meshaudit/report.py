@@ -39,6 +39,9 @@ class MeshSummary:
     skipped: dict[str, int]  # cell type -> number not audited
     frame: str  # "planar" or "shell"
     normal: list[float] | None = None
+    #: Which numbers the reports give elements and nodes (see meshaudit.labels).
+    element_numbers: str = ""
+    node_numbers: str = ""
 
     @property
     def n_elements(self) -> int:
@@ -53,6 +56,7 @@ class MeshSummary:
             "skipped_cells": dict(self.skipped),
             "geometry": self.frame,
             "plane_normal": self.normal,
+            "numbering": {"elements": self.element_numbers, "nodes": self.node_numbers},
         }
 
 

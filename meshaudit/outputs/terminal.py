@@ -56,6 +56,9 @@ def summary_table(report: Report) -> Table:
     t.add_row("nodes", f"{s.n_points:,}")
     t.add_row("elements", ", ".join(f"{v:,} {k}" for k, v in s.element_counts.items()))
     t.add_row("skipped cells", ", ".join(f"{v:,} {k}" for k, v in s.skipped.items()) or "none")
+    if s.element_numbers:
+        t.add_row("element numbers", s.element_numbers)
+        t.add_row("node numbers", s.node_numbers)
     geometry = (
         "planar (orientation against the plane normal)"
         if s.frame == "planar"
