@@ -12,8 +12,9 @@ Files written next to this script (VTU, which keeps quad8 and triangle6 as such)
 ``bracket_flange_shell.vtu``
     A 3-D shell: a quarter-cylinder flange (radius 40 mm, height 30 mm) of 6 x 3 quad8
     elements, midside nodes on the cylinder. Element id 7 (the VTK cell index) is wound the
-    other way round. Expected: that one element warns with ``flipped_normal`` (and the edges around it
-    are reported as opposite normals); nothing is inverted, no node is unused.
+    other way round. Expected: that one element warns with ``flipped_normal`` (and the
+    edges around it are reported as opposite normals); nothing is inverted, no node is
+    unused.
 
 Run ``python samples/make_quadratic_samples.py``; it checks the files read back unchanged.
 """
