@@ -12,7 +12,6 @@ several ``*NODE`` sections, keywords written without their ``*``) get no labels.
 
 from __future__ import annotations
 
-import re
 from os import PathLike
 from pathlib import Path
 from typing import Any
@@ -20,11 +19,17 @@ from typing import Any
 import numpy as np
 
 from .common import FileLabels, LabelBlock, LabelsUnavailable
-from .text import TextLabelError, as_bytes, integers, leading_integers, line_bounds
+from .text import (
+    TextLabelError,
+    as_bytes,
+    integers,
+    leading_integers,
+    line_bounds,
+    separator_table,
+    skip_blanks,
+)
 
 _STAR = ord("*")
-#: A line meshio would take for a keyword although it does not start with "*".
-_BARE_KEYWORD = re.compile(rb"(?m)^(?!\*)[ \t]*([A-Za-z*]+)[ \t]*(?:,|$)")
 _SECTION_KEYWORDS = {b"NODE", b"ELEMENT", b"NSET", b"ELSET", b"INCLUDE"}
 
 
@@ -44,12 +49,10 @@ def read_abaqus(path: str | PathLike[str], mesh: Any) -> FileLabels:
 
 
 def _labels(data: bytes, mesh: Any) -> FileLabels:
-    for match in _BARE_KEYWORD.finditer(data):
-        if match.group(1).replace(b"*", b"").upper() in _SECTION_KEYWORDS:
-            raise LabelsUnavailable("a keyword line that does not start with '*'")
     buf = as_bytes(data)
     starts, ends = line_bounds(buf, 0, buf.size)
     starred = np.flatnonzero((buf[starts] == _STAR) & (ends > starts))
+    _refuse_bare_keywords(data, buf, starts, ends)
     bounds = np.append(starred, starts.size)
     node_sections, element_sections = [], []
     for i, stop in zip(starred.tolist(), bounds[1:].tolist()):
@@ -89,3 +92,22 @@ def _labels(data: bytes, mesh: Any) -> FileLabels:
             LabelBlock(cells.type, records[:, 0].copy(), lambda rows, r=records: r[rows, 1:])
         )
     return FileLabels(blocks, nodes)
+
+
+def _refuse_bare_keywords(
+    data: bytes, buf: np.ndarray, starts: np.ndarray, ends: np.ndarray
+) -> None:
+    """meshio takes any line outside a section for a keyword when its text before the
+    first comma, stripped, with every "*" removed, is a keyword: a line the pass would
+    not see as one. Only lines not starting with "*" whose first non-blank byte is a
+    letter or "*" can be one; those few are looked at one by one."""
+    first = starts.copy()
+    skip_blanks(buf, first, ends, separator_table(b" \t"))
+    lead = buf[np.minimum(first, buf.size - 1)]
+    lower = lead | 0x20  # the lower case of a letter
+    wordlike = ((lower >= ord("a")) & (lower <= ord("z"))) | (lead == _STAR)
+    maybe = np.flatnonzero(wordlike & (first < ends) & (buf[starts] != _STAR))
+    for i in maybe.tolist():
+        word = data[starts[i] : ends[i]].partition(b",")[0].strip().replace(b"*", b"")
+        if word.upper() in _SECTION_KEYWORDS:
+            raise LabelsUnavailable("a keyword line that does not start with '*'")
