@@ -2,9 +2,11 @@
 
 NEW regresses when, beyond the tolerances of :class:`meshaudit.config.Tolerances`:
 more elements fail, the median element score drops, or the worst element score drops.
-Elements are matched between the two meshes by element id (and type); for formats that
-keep no element labels the id is the position in the file, so matching is meaningful when
-the element order was kept (e.g. a smoothing pass that only moved nodes).
+Elements are matched between the two meshes by element id (and type): the file's own
+labels where it has them (gmsh tags, Abaqus labels, Nastran ids, see
+:mod:`meshaudit.labels`); for formats that keep no element labels the id is a position,
+so matching is meaningful when the element order was kept (e.g. a smoothing pass that only
+moved nodes).
 """
 
 from __future__ import annotations

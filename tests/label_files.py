@@ -155,6 +155,11 @@ def _runs(elements):
     return runs
 
 
+def nastran_card(*fields: object) -> str:
+    """One small-field Nastran bulk data card: 8 columns per field."""
+    return "".join(f"{f!s:<8}" for f in fields)
+
+
 def write_gmsh(directory: Path, variant: str) -> Path:
     """Write the web corner as ``variant``: 22a, 22b, 41a or 41b."""
     path = directory / f"web_{variant}.msh"

@@ -16,6 +16,7 @@ import meshio
 import numpy as np
 import pytest
 from io_meshes import EXPECTED, EXPECTED_TYPES, FORMATS, N_LINES, write_format
+from label_files import nastran_card
 
 import meshaudit
 from meshaudit.cli import main
@@ -200,22 +201,17 @@ def test_nastran_labels_are_the_element_ids(written: dict[str, Path]) -> None:
     assert report.ids.tolist() != list(range(1, 6))  # the test can tell them apart
 
 
-def _card(*fields: object) -> str:
-    """One small-field Nastran card: 8 columns per field."""
-    return "".join(f"{f!s:<8}" for f in fields)
-
-
 HAND_WRITTEN_BDF = "\n".join(
     [
         "$ bracket plate corner, labels chosen by hand",
         "BEGIN BULK",
-        _card("GRID", 1, "", "0.0", "0.0", "0.0"),
-        _card("GRID", 2, "", "1.0", "0.0", "0.0"),
-        _card("GRID", 3, "", "1.0", "1.0", "0.0"),
-        _card("GRID", 4, "", "0.0", "1.0", "0.0"),
-        _card("GRID", 5, "", "2.0", "0.0", "0.0"),
-        _card("CQUAD4", 1001, 1, 1, 2, 3, 4),
-        _card("CTRIA3", 2002, 1, 2, 5, 3),
+        nastran_card("GRID", 1, "", "0.0", "0.0", "0.0"),
+        nastran_card("GRID", 2, "", "1.0", "0.0", "0.0"),
+        nastran_card("GRID", 3, "", "1.0", "1.0", "0.0"),
+        nastran_card("GRID", 4, "", "0.0", "1.0", "0.0"),
+        nastran_card("GRID", 5, "", "2.0", "0.0", "0.0"),
+        nastran_card("CQUAD4", 1001, 1, 1, 2, 3, 4),
+        nastran_card("CTRIA3", 2002, 1, 2, 5, 3),
         "ENDDATA",
         "",
     ]

@@ -25,6 +25,7 @@ from label_files import (
     gmsh22_ascii,
     gmsh41_ascii,
     gmsh41_binary,
+    nastran_card,
     reversed_nodes,
     write_gmsh,
 )
@@ -244,20 +245,16 @@ def test_abaqus_with_include_falls_back_with_a_note(tmp_path):
 
 
 # -- Nastran --------------------------------------------------------------------------
-def _card(*fields: object) -> str:
-    return "".join(f"{f!s:<8}" for f in fields)
-
-
 NASTRAN = "\n".join(
     [
         "$ bracket plate web corner, GRID ids chosen by hand",
         "BEGIN BULK",
-        _card("GRID", 101, "", "0.0", "0.0", "0.0"),
-        _card("GRID", 205, "", "10.0", "0.0", "0.0"),
-        _card("GRID", 307, "", "10.0", "10.0", "0.0"),
-        _card("GRID", 411, "", "0.0", "10.0", "0.0"),
-        _card("GRID", 999, "", "50.0", "50.0", "0.0"),  # used by no element
-        _card("CQUAD4", 71, 1, 101, 411, 307, 205),  # clockwise: reversed
+        nastran_card("GRID", 101, "", "0.0", "0.0", "0.0"),
+        nastran_card("GRID", 205, "", "10.0", "0.0", "0.0"),
+        nastran_card("GRID", 307, "", "10.0", "10.0", "0.0"),
+        nastran_card("GRID", 411, "", "0.0", "10.0", "0.0"),
+        nastran_card("GRID", 999, "", "50.0", "50.0", "0.0"),  # used by no element
+        nastran_card("CQUAD4", 71, 1, 101, 411, 307, 205),  # clockwise: reversed
         "ENDDATA",
         "",
     ]
