@@ -106,7 +106,8 @@ def test_plot_html_and_annotated_mesh_use_the_tags(tmp_path, run_cli):
     assert done.returncode == 1, done.stderr
     labelled = {int(m) for m in re.findall(rb'id="fail-id-(\d+)"', svg.read_bytes())}
     assert labelled == {REVERSED_TAG}
-    assert f">{REVERSED_TAG}<" in html.read_text()
+    page = html.read_text()
+    assert f">{REVERSED_TAG}<" in page and "<dd>gmsh element tags</dd>" in page
     back = meshio.read(vtu)
     quads = [np.asarray(d) for c, d in zip(back.cells, back.cell_data["element_id"])]
     audited = [ids for ids, c in zip(quads, back.cells) if c.type in ("quad", "triangle")]

@@ -280,6 +280,8 @@ def _summary(report: Report) -> str:
         ("nodes", f"{s.n_points:,}"),
         ("elements", ", ".join(f"{v:,} {k}" for k, v in s.element_counts.items())),
         ("skipped cells", ", ".join(f"{v:,} {k}" for k, v in s.skipped.items()) or "none"),
+        ("element numbers", s.element_numbers or "-"),
+        ("node numbers", s.node_numbers or "-"),
         ("geometry", s.frame),
         ("profile", f"{report.profile.name} ({report.profile.origin})"),
         ("gate", f"fails on {report.fail_on}"),
