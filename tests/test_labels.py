@@ -54,6 +54,14 @@ def test_gmsh_tags_are_the_ids_through_the_api(tmp_path, variant):
     assert report.notes == []
 
 
+@pytest.mark.parametrize("writer", [gmsh22_ascii, gmsh41_ascii])
+def test_gmsh_ascii_with_crlf_line_ends(tmp_path, writer):
+    path = tmp_path / "crlf.msh"
+    path.write_bytes(writer().replace("\n", "\r\n").encode())
+    report = meshaudit.audit(path)
+    assert report.ids.tolist() == AUDITED_TAGS and report.notes == []
+
+
 @pytest.mark.parametrize("variant", GMSH_VARIANTS)
 def test_reversed_quad_carries_its_tag_in_every_report(tmp_path, run_cli, variant):
     path = write_gmsh(tmp_path, variant)
