@@ -165,7 +165,7 @@ def test_gmsh_format_4_0_falls_back_to_positions_with_a_note(tmp_path, run_cli):
     report = meshaudit.audit(path)
     # 10 lines first: the audited elements are cells 11..17 of the file, from 1
     assert report.ids.tolist() == list(range(11, 18))
-    assert report.summary.element_numbers.startswith("cell position in the file, from 1")
+    assert report.summary.element_numbers.startswith("position among all cells read, from 1")
     (note,) = report.notes
     assert "gmsh format 4.0" in note
     done = run_cli("check", path, "--json", tmp_path / "r.json", "--quiet")
@@ -249,7 +249,7 @@ def test_abaqus_with_include_falls_back_with_a_note(tmp_path):
     report = meshaudit.audit(path)
     # cells in order: 2 lines, 2 quads, the included quad; positions from 1
     assert report.ids.tolist() == [3, 4, 5]
-    assert report.summary.element_numbers.startswith("cell position in the file, from 1")
+    assert report.summary.element_numbers.startswith("position among all cells read, from 1")
     assert any("*INCLUDE" in note for note in report.notes)
 
 
@@ -285,6 +285,28 @@ def test_nastran_grid_ids_in_findings_and_explain(tmp_path):
 
 
 # -- VTK and memory -------------------------------------------------------------------
+def test_vtu_with_cells_meshio_skips_is_numbered_by_position_with_a_note(tmp_path):
+    # By construction: a poly-vertex cell (VTK type 2, which meshio does not read) before
+    # a quad; meshio skips it, so the quad's VTK cell index (1) cannot be known from what
+    # meshio read: positions among the cells read, and a note.
+    path = tmp_path / "skipped.vtu"
+    path.write_text(
+        '<?xml version="1.0"?><VTKFile type="UnstructuredGrid" version="0.1">'
+        '<UnstructuredGrid><Piece NumberOfPoints="5" NumberOfCells="2"><Points>'
+        '<DataArray type="Float64" NumberOfComponents="3" format="ascii">'
+        "0 0 0 1 0 0 1 1 0 0 1 0 2 0 0</DataArray></Points><Cells>"
+        '<DataArray type="Int64" Name="connectivity" format="ascii">0 4 0 1 2 3</DataArray>'
+        '<DataArray type="Int64" Name="offsets" format="ascii">2 6</DataArray>'
+        '<DataArray type="UInt8" Name="types" format="ascii">2 9</DataArray>'
+        "</Cells></Piece></UnstructuredGrid></VTKFile>"
+    )
+    report = meshaudit.audit(path)
+    assert report.ids.tolist() == [1]
+    assert report.summary.element_numbers.startswith("position among all cells read, from 1")
+    (note,) = report.notes
+    assert "skipped cells it cannot handle" in note
+
+
 def test_vtu_counts_vertex_and_line_cells_before_the_quads(tmp_path, run_cli):
     pts = np.array([[x, y] for y in (0.0, 1.0) for x in (0.0, 1.0, 2.0, 3.0)])
     quads = np.array([[0, 1, 5, 4], [1, 2, 6, 5], [2, 6, 7, 3]])  # the last is clockwise

@@ -10,7 +10,7 @@ Nastran ``.bdf``               element ids                 GRID ids
 ``.vtu``, ``.vtk``, ``.xdmf``  VTK cell index from 0 over  VTK point index from 0
                                all cells in file order
 medit ``.mesh``, ``.med``,     position from 1 over all    position from 1
-other formats                  cells in file order
+other formats                  cells read
 ``meshio.Mesh`` in memory      position from 0 over all    point index from 0
                                cell blocks (or cells_id)   (or points_id)
 =============================  ==========================  ===========================
@@ -34,7 +34,7 @@ import numpy as np
 from .common import FileLabels, LabelsUnavailable, check_alignment
 
 #: The position convention files without labels (and failed label passes) use.
-POSITION_ELEMENTS = "cell position in the file, from 1 (all cells, in file order)"
+POSITION_ELEMENTS = "position among all cells read, from 1 (every cell block in the order read)"
 POSITION_NODES = "node position in the file, from 1"
 
 
