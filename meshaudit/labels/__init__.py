@@ -121,8 +121,11 @@ def file_format_of(path: Path, file_format: str | None) -> str:
 
 
 def _starts_like_gmsh(path: Path) -> bool:
-    with open(path, "rb") as fh:
-        head = fh.read(64).lstrip()
+    try:
+        with open(path, "rb") as fh:
+            head = fh.read(64).lstrip()
+    except OSError:
+        return False
     return head.startswith((b"$MeshFormat", b"$Comments"))
 
 
@@ -215,6 +218,8 @@ def _from_pass(kind: str, path: Path, mesh: Any) -> Numbering:
         return _fallback(f"the {name} could not be matched with the cells read: {exc}")
     except (OSError, MemoryError) as exc:
         return _fallback(f"the file could not be read again for its labels: {exc}")
+    except Exception as exc:  # a layout no check above foresaw: positions, never a guess
+        return _fallback(f"the label pass stopped ({type(exc).__name__}: {exc})")
     elements, nodes = _PASSES[kind]
     return Numbering(elements, nodes, tuple(b.labels for b in found.blocks), 0, found.nodes, 0)
 
