@@ -13,7 +13,8 @@ written as binary gmsh msh 4.1 and as VTU. For each file, in the same run:
 - element audit alone: the same with a profile that turns every mesh-level finding
   kind off (written next to the meshes as ``elements_only.toml``), which leaves the
   element metrics, verdicts and reports;
-- stages: one more child (:mod:`benchmarks.stages`) that times read, element arrays,
+- stages: one more child (:mod:`benchmarks.stages`) that times read, the label pass
+  (the file's own element and node numbers, :mod:`meshaudit.labels`), element arrays,
   metrics, verdicts, the rest of the engine, reports (statistics and JSON) and the plot.
 
 Both wall times include starting Python and importing what the command needs, so the
@@ -39,6 +40,7 @@ from .meshgen import distorted_plate, write_mesh
 REPO = Path(__file__).resolve().parents[1]
 STAGES = (
     "read",
+    "labels",
     "elements",
     "metrics",
     "verdicts",

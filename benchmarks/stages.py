@@ -1,7 +1,9 @@
 """Time the stages of one audit in this process and print them as JSON (run as a child).
 
-``python -m benchmarks.stages MESH OUTDIR [--plot]`` reads MESH, builds the element
-arrays, measures and judges every element, computes the statistics, writes the JSON
+``python -m benchmarks.stages MESH OUTDIR [--plot]`` reads MESH, reads the file's own
+element and node numbers where meshio drops them (the label pass of
+:mod:`meshaudit.labels`: gmsh tags, Abaqus labels), builds the element arrays, measures
+and judges every element, computes the statistics, writes the JSON
 report and (with ``--plot``, when the plot module exists) draws the mesh, timing each.
 
 The engine runs here in one thread (``workers=1``) so that its stages add up; the
@@ -65,7 +67,7 @@ def run(mesh: Path, outdir: Path, plot: bool) -> dict[str, Any]:
     t0 = time.perf_counter()
     import meshio  # noqa: F401  (imported here so that "read" is the reading alone)
 
-    from meshaudit import api, reading
+    from meshaudit import api, labels, reading
     from meshaudit.memory import return_large_blocks
     from meshaudit.outputs import atomic, json_report
 
@@ -76,11 +78,15 @@ def run(mesh: Path, outdir: Path, plot: bool) -> dict[str, Any]:
     _instrument(inner)
 
     t = time.perf_counter()
-    raw = reading.read_meshio(mesh)
+    raw, said = reading.read_meshio_said(mesh)
     times["read"] = time.perf_counter() - t
 
     t = time.perf_counter()
-    elements = reading.build_elements(raw, str(mesh))
+    numbering = labels.for_file(mesh, None, raw, said)
+    times["labels"] = time.perf_counter() - t
+
+    t = time.perf_counter()
+    elements = reading.build_elements(raw, str(mesh), numbering)
     times["elements"] = time.perf_counter() - t
 
     t = time.perf_counter()
@@ -106,6 +112,7 @@ def run(mesh: Path, outdir: Path, plot: bool) -> dict[str, Any]:
         "elements": len(report),
         "verdicts": report.verdict_counts(),
         "plot_available": _plot_module() is not None,
+        "numbering": numbering.as_dict(),
     }
 
 

@@ -216,7 +216,7 @@ def audit_elements(
         table, part = topology() if pending is None else pending.result()
         reversed_ = (sink.bits >> np.uint32(FLAG_BIT["reversed"])) & np.uint32(1) == 1
         orientation = judge_orientation(mesh, frame, reversed_, table)
-        notes = frame_notes(frame) + nearly_flat_shell_note(mesh, frame)
+        notes = [*mesh.numbering.notes, *frame_notes(frame), *nearly_flat_shell_note(mesh, frame)]
         notes += mark_orientation(orientation, sink.bits, sink.verdict, sink.metrics["score"])
         if pool is not None and relative:
             summing = pool.submit(metric_statistics, sink.metrics, sink.ordered_levels())
@@ -240,6 +240,8 @@ def audit_elements(
         frame=frame.kind,
         normal=None if frame.normal is None else [float(c) for c in frame.normal],
         orientation=frame.orientation,
+        element_numbers=mesh.numbering.elements,
+        node_numbers=mesh.numbering.nodes,
     )
     return Report(
         summary=summary,

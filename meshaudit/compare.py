@@ -11,6 +11,10 @@ nodes (by node number, in any order, so reversing a reversed element keeps it). 
 than half of the elements of the smaller mesh are the same (two unrelated meshes, a
 remesh with new numbering), the comparison says so plainly and compares distributions,
 counts and findings only.
+
+Element numbers are the file's own labels where it has them (gmsh tags, Abaqus labels,
+Nastran ids, see :mod:`meshaudit.labels`), else a stated position convention; node
+numbers likewise.
 """
 
 from __future__ import annotations
@@ -146,8 +150,7 @@ def match_elements(old: Report, new: Report) -> tuple[np.ndarray, np.ndarray]:
 
 def node_numbers(mesh: ElementMesh) -> np.ndarray:
     """Node number of every node of ``mesh`` as reports show it."""
-    labels = getattr(mesh, "node_ids", None)
-    return np.arange(mesh.n_points, dtype=np.int64) if labels is None else np.asarray(labels)
+    return mesh.numbering.node_numbers(np.arange(mesh.n_points, dtype=np.int64))
 
 
 def _sorted_nodes(mesh: ElementMesh, rows: np.ndarray) -> list[np.ndarray]:

@@ -11,6 +11,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from .labels import IN_MEMORY, Numbering
+
 #: meshio cell type -> (metric family, number of nodes). The family selects the
 #: metric kernel and the profile limits; quadratic cell types add their own Jacobian
 #: part (see :mod:`meshaudit.metrics.quadratic`). Node order as in meshio.
@@ -51,7 +53,7 @@ class ElementBlock:
 
     cell_type: str
     connectivity: np.ndarray  # (n, k) int64 node indices into ElementMesh.points
-    ids: np.ndarray  # (n,) int64: the file's element label, else 1-based position
+    ids: np.ndarray  # (n,) int64: the element's number (see meshaudit.labels)
     index: np.ndarray  # (n,) int64: 0-based position among audited elements
 
     @property
@@ -73,6 +75,8 @@ class ElementMesh:
     cell_sets: dict[str, np.ndarray] = field(default_factory=dict)  # name -> element indices
     #: Nodes that cells not audited (lines, vertices, solids...) refer to: not orphans.
     other_nodes: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.int64))
+    #: How elements and nodes are numbered in reports (the file's labels or positions).
+    numbering: Numbering = IN_MEMORY
 
     @property
     def n_elements(self) -> int:

@@ -90,6 +90,7 @@ class Explanation:
     verdict: str
     profile: str
     node_indices: np.ndarray  # (k,) 0-based node indices, in element order
+    node_numbers: np.ndarray  # (k,) the same nodes' numbers (the file's node labels)
     coordinates: np.ndarray  # (k, 3)
     gauss_points: np.ndarray  # (m, 2) reference coordinates
     det_j_gauss: np.ndarray  # (m,)
@@ -103,6 +104,8 @@ class Explanation:
     measured_in: str  # "mesh plane" or "element's best-fit plane"
     notes: list[str] = field(default_factory=list)
     findings: list[str] = field(default_factory=list)  # mesh-level findings naming it
+    node_numbering: str = ""  # what the node numbers are (e.g. "gmsh node tags")
+    element_numbering: str = ""  # what the element numbers are (e.g. "gmsh element tags")
 
     @property
     def breaches(self) -> list[MetricLine]:
@@ -119,9 +122,12 @@ class Explanation:
             "verdict": self.verdict,
             "profile": self.profile,
             "measured_in": self.measured_in,
+            "numbering": {"elements": self.element_numbering, "nodes": self.node_numbering},
             "nodes": [
-                {"node": int(n), "position": k + 1, "xyz": floats(c)}
-                for k, (n, c) in enumerate(zip(self.node_indices, self.coordinates))
+                {"node": int(n), "node_index": int(i), "position": k + 1, "xyz": floats(c)}
+                for k, (n, i, c) in enumerate(
+                    zip(self.node_numbers, self.node_indices, self.coordinates)
+                )
             ],
             "gauss_points": [
                 {"xi": float(g[0]), "eta": float(g[1]), "det_j": finite_or_none(d)}
@@ -129,7 +135,7 @@ class Explanation:
             ],
             "det_j_nodes": [
                 {
-                    "node": int(self.node_indices[k]),
+                    "node": int(self.node_numbers[k]),
                     "xi": float(r[0]),
                     "eta": float(r[1]),
                     "det_j": finite_or_none(d),
@@ -233,9 +239,9 @@ def metric_lines(audited: AuditedMesh, i: int) -> list[MetricLine]:
     return lines
 
 
-def _flag_reasons(flags: list[str], node_indices, det_nodes, metrics) -> dict[str, str]:
+def _flag_reasons(flags: list[str], node_numbers, det_nodes, metrics) -> dict[str, str]:
     negative = ", ".join(
-        f"node {int(n)} (det J {d:.4g})" for n, d in zip(node_indices, det_nodes) if d < 0
+        f"node {int(n)} (det J {d:.4g})" for n, d in zip(node_numbers, det_nodes) if d < 0
     )
     values = {m.name: m.value for m in metrics}
     out = {}
@@ -253,14 +259,16 @@ def explain(audited: AuditedMesh, element_id: int) -> Explanation:
         i = report.position_of(int(element_id))
     except KeyError:
         lo, hi = int(report.ids.min()), int(report.ids.max())
+        scheme = report.summary.element_numbers or "element numbers"
         raise InputError(
-            f"no element with id {element_id} in {report.summary.source} (ids {lo}..{hi})"
+            f"no element with id {element_id} in {report.summary.source} (ids {lo}..{hi}: {scheme})"
         ) from None
     family = report.cell_families[int(report.families[i])]
     cell_type = report.cell_types[int(report.type_codes[i])]
     local, where = local_nodes(audited, i)
     gauss_pts, det_gauss, ref_corners, det_corners = jacobians(cell_type, family, local)
     nodes = element_nodes(audited.elements, i)
+    numbers = audited.elements.numbering.node_numbers(nodes)
     lines = metric_lines(audited, i)
     flags = report.flags_of(i)
     near = neighbours(corner_table(audited.elements), i)
@@ -272,6 +280,7 @@ def explain(audited: AuditedMesh, element_id: int) -> Explanation:
         verdict=VERDICT_NAMES[int(report.verdict[i])],
         profile=report.profile_of(i).name,
         node_indices=nodes,
+        node_numbers=numbers,
         coordinates=audited.elements.points[nodes],
         gauss_points=gauss_pts,
         det_j_gauss=det_gauss,
@@ -279,11 +288,13 @@ def explain(audited: AuditedMesh, element_id: int) -> Explanation:
         det_j_nodes=det_corners,
         metrics=lines,
         flags=flags,
-        flag_reasons=_flag_reasons(flags, nodes, det_corners, lines),
+        flag_reasons=_flag_reasons(flags, numbers, det_corners, lines),
         neighbour_ids=report.ids[near],
         neighbour_rows=near,
         measured_in=where,
         findings=findings_naming(report, int(report.ids[i])),
+        node_numbering=audited.elements.numbering.nodes,
+        element_numbering=audited.elements.numbering.elements,
     )
 
 

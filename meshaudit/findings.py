@@ -4,8 +4,9 @@ overlapping elements, inconsistent orientation, non-manifold edges).
 
 :func:`find` runs every enabled check of :mod:`meshaudit.mesh_checks` on the element
 arrays and returns the findings (only kinds that occur: a clean mesh has none) plus the
-free-edge loops. Each finding carries plain arrays a plot can draw: element positions,
-node indices and coordinates, edge end coordinates.
+free-edge loops. Each finding names elements and nodes by the numbers every report uses
+(:mod:`meshaudit.labels`: the file's own labels where it has them) and carries plain
+arrays a plot can draw: element positions, node coordinates, edge end coordinates.
 """
 
 from __future__ import annotations
@@ -38,12 +39,13 @@ class Finding:
     """One kind of mesh-level defect and everything involved in it.
 
     ``element_index`` are 0-based audited-element positions (rows of the report
-    arrays), ``element_ids`` the same elements' labels. ``node_ids`` are 0-based node
-    indices in the mesh's point order. ``pairs`` (k, 2) pair up the items the finding is
-    about (node indices for coincident nodes, element ids for duplicates and
-    overlaps, hanging node index and host element id for hanging nodes), ``edges``
-    (m, 2) node indices of the edges involved, ``edge_xyz`` (m, 2, 3) and ``node_xyz``
-    (n, 3) their coordinates.
+    arrays), ``element_ids`` the same elements' numbers. ``node_ids`` are the nodes'
+    numbers (the file's node labels where it has them, see :mod:`meshaudit.labels`).
+    ``pairs`` (k, 2) pair up the items the finding is about (node numbers for coincident
+    nodes, element numbers for duplicates and overlaps, hanging node number and host
+    element number for hanging nodes), ``edges`` (m, 2) the node
+    numbers of the edges involved. For drawing: ``edge_xyz`` (m, 2, 3) and ``node_xyz``
+    (n, 3) the coordinates of those edges and nodes.
     """
 
     kind: str
@@ -88,16 +90,23 @@ def _some(values: np.ndarray) -> str:
 
 
 class _Builder:
-    """Collects findings, mapping positions to labels and nodes to coordinates."""
+    """Collects findings, mapping element positions and node indices to the numbers the
+    reports use, and nodes to coordinates."""
 
     def __init__(self, mesh: ElementMesh, ids: np.ndarray, settings: FindingSettings) -> None:
         self.points = mesh.points
         self.ids = ids
+        self.node_numbers = mesh.numbering.node_numbers
         self.settings = settings
         self.findings: list[Finding] = []
 
     def on(self, kind: str) -> bool:
         return self.settings.enabled(kind)
+
+    def some_nodes(self, nodes_: np.ndarray) -> str:
+        """The first few of ``nodes_`` (0-based node indices) by their numbers, for a
+        message."""
+        return _some(self.node_numbers(nodes_))
 
     def add(
         self,
@@ -108,25 +117,33 @@ class _Builder:
         nodes_: np.ndarray | None = None,
         pairs: np.ndarray | None = None,
         edge_nodes: np.ndarray | None = None,
+        node_pairs: np.ndarray | None = None,
     ) -> None:
+        """Add a finding. ``elements``: 0-based element positions; ``nodes_``,
+        ``edge_nodes`` (m, 2) and ``node_pairs`` (k, 2): 0-based node indices, reported
+        by their numbers; ``pairs`` (k, 2): element numbers already (or node pairs given
+        as ``node_pairs``). Messages name nodes through :meth:`some_nodes`."""
         if count == 0:
             return
         elements = _empty_int() if elements is None else unique_values(elements)
         if nodes_ is None:
             nodes_ = _empty_int() if edge_nodes is None else unique_values(edge_nodes)
+        nodes_ = unique_values(nodes_)
         edge_nodes = _empty_int(0, 2) if edge_nodes is None else edge_nodes
+        if node_pairs is not None:
+            pairs = self.node_numbers(node_pairs).reshape(-1, 2)
         self.findings.append(
             Finding(
                 kind=kind,
                 severity=self.settings.severity[kind],
                 count=int(count),
                 element_ids=self.ids[elements],
-                node_ids=unique_values(nodes_),
+                node_ids=self.node_numbers(nodes_),
                 message=message,
                 element_index=elements,
                 pairs=_empty_int(0, 2) if pairs is None else pairs,
-                edges=edge_nodes,
-                node_xyz=self.points[unique_values(nodes_)],
+                edges=self.node_numbers(edge_nodes).reshape(-1, 2),
+                node_xyz=self.points[nodes_],
                 edge_xyz=self.points[edge_nodes].reshape(-1, 2, 3),
             )
         )
@@ -207,7 +224,11 @@ def find_topology(
     if out.on("orphan_nodes"):
         orphans = nodes.orphan_nodes(mesh)
         out.add(
-            "orphan_nodes", orphans.size, f"nodes no cell uses: {_some(orphans)}", None, orphans
+            "orphan_nodes",
+            orphans.size,
+            f"nodes no cell uses: {out.some_nodes(orphans)}",
+            None,
+            orphans,
         )
 
     copies, originals = duplicates.duplicate_elements(mesh)
@@ -225,10 +246,11 @@ def find_topology(
         out.add(
             "coincident_nodes",
             len(coincident),
-            f"{len(coincident)} node pair(s) at the same place, not merged; nodes {_some(nodes_)}",
+            f"{len(coincident)} node pair(s) at the same place, not merged; "
+            f"nodes {out.some_nodes(nodes_)}",
             None,
             nodes_,
-            coincident,
+            node_pairs=coincident,
         )
 
     interface = None
@@ -238,7 +260,8 @@ def find_topology(
         tolerance = settings.coincident_tolerance
         hang = hanging.hanging_nodes(mesh, table, coincident, tolerance, shell, free_use)
         interface = hang.interface_uses
-        pairs = np.stack([hang.host_element[:, 0], ids[hang.host_element[:, 1]]], axis=1)
+        hung = out.node_numbers(hang.host_element[:, 0])
+        pairs = np.stack([hung, ids[hang.host_element[:, 1]]], axis=1)
         out.add(
             "hanging_nodes",
             hang.nodes.size,

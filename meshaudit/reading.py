@@ -15,8 +15,10 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from . import labels
 from .elements import SUPPORTED_CELLS, ElementBlock, ElementMesh
 from .errors import InputError
+from .labels import Numbering
 from .regions import element_sets
 
 if TYPE_CHECKING:
@@ -31,6 +33,13 @@ def read_meshio(path: str | os.PathLike[str], file_format: str | None = None) ->
 
     Returns the meshio mesh; meshio's console chatter is swallowed.
     """
+    return read_meshio_said(path, file_format)[0]
+
+
+def read_meshio_said(
+    path: str | os.PathLike[str], file_format: str | None = None
+) -> tuple[meshio.Mesh, str]:
+    """:func:`read_meshio`, also returning what meshio printed while reading."""
     import meshio
 
     p = Path(path)
@@ -81,7 +90,7 @@ def read_meshio(path: str | os.PathLike[str], file_format: str | None = None) ->
         raise InputError(
             f"{p}: cannot read mesh (corrupt or not a mesh file: {_one_line(exc)})"
         ) from None
-    return mesh
+    return mesh, sink.getvalue()
 
 
 def _one_line(exc: BaseException, with_kind: bool = True) -> str:
@@ -100,20 +109,6 @@ def _reader_said(sink: io.StringIO) -> str:
     return " ".join(lines)[:200] or "the format reader gave up"
 
 
-def _cell_labels(mesh: Any, block_no: int, n: int) -> np.ndarray | None:
-    """The file's own element labels for a block, where the reader kept them."""
-    ids = getattr(mesh, "cells_id", None)  # meshio's Nastran reader
-    if ids is not None and block_no < len(ids) and len(ids[block_no]) == n:
-        return np.asarray(ids[block_no], dtype=np.int64)
-    for key in ("element_id", "element_ids", "cell_id", "ids"):
-        data = mesh.cell_data.get(key)
-        if data is not None and block_no < len(data) and len(data[block_no]) == n:
-            arr = np.asarray(data[block_no])
-            if np.issubdtype(arr.dtype, np.integer):
-                return arr.astype(np.int64)
-    return None
-
-
 def _referenced_nodes(data: np.ndarray, n_points: int) -> np.ndarray:
     """Valid node indices a cell block not audited refers to (anything else is ignored)."""
     if data.size == 0 or not np.issubdtype(data.dtype, np.integer):
@@ -122,12 +117,16 @@ def _referenced_nodes(data: np.ndarray, n_points: int) -> np.ndarray:
     return flat[(flat >= 0) & (flat < n_points)]
 
 
-def build_elements(mesh: meshio.Mesh, source: str = "<memory>") -> ElementMesh:
+def build_elements(
+    mesh: meshio.Mesh, source: str = "<memory>", numbering: Numbering | None = None
+) -> ElementMesh:
     """Turn a meshio mesh into validated element arrays.
 
-    Raises :class:`InputError` for non-finite coordinates, out-of-range connectivity and
-    meshes without any supported element.
+    ``numbering`` (default: the in-memory convention, see :mod:`meshaudit.labels`) gives
+    each element its reported number. Raises :class:`InputError` for non-finite
+    coordinates, out-of-range connectivity and meshes without any supported element.
     """
+    numbering = numbering or labels.for_memory(mesh)
     points = np.asarray(mesh.points)
     if points.ndim != 2 or points.shape[1] not in (2, 3):
         raise InputError(f"{source}: points must have 2 or 3 coordinates")
@@ -141,11 +140,13 @@ def build_elements(mesh: meshio.Mesh, source: str = "<memory>") -> ElementMesh:
     blocks: list[ElementBlock] = []
     skipped: dict[str, int] = {}
     position = 0
-    labels_seen = False
-    raw_blocks: list[tuple[int, str, np.ndarray, np.ndarray | None]] = []
+    first_cell = 0  # position of the next block's first cell among all cells of the mesh
+    raw_blocks: list[tuple[int, str, np.ndarray, np.ndarray]] = []
     other_nodes: list[np.ndarray] = [np.zeros(0, dtype=np.int64)]
     for block_no, cells in enumerate(mesh.cells):
         cell_type = cells.type
+        first = first_cell
+        first_cell += len(cells.data)
         data = np.asarray(cells.data)
         if cell_type not in SUPPORTED_CELLS:
             skipped[cell_type] = skipped.get(cell_type, 0) + len(data)
@@ -158,12 +159,11 @@ def build_elements(mesh: meshio.Mesh, source: str = "<memory>") -> ElementMesh:
             continue
         if not np.issubdtype(data.dtype, np.integer):
             raise InputError(f"{source}: {cell_type} connectivity is not integer")
-        labels = _cell_labels(mesh, block_no, len(data))
-        labels_seen |= labels is not None
-        raw_blocks.append((block_no, cell_type, data.astype(np.int64, copy=False), labels))
+        ids = numbering.block_numbers(block_no, first, len(data))
+        raw_blocks.append((block_no, cell_type, data.astype(np.int64, copy=False), ids))
 
     block_rows: list[tuple[int, np.ndarray]] = []
-    for block_no, cell_type, conn, labels in raw_blocks:
+    for block_no, cell_type, conn, ids in raw_blocks:
         n = len(conn)
         lo, hi = int(conn.min()), int(conn.max())
         if lo < 0 or hi >= n_points:
@@ -173,7 +173,6 @@ def build_elements(mesh: meshio.Mesh, source: str = "<memory>") -> ElementMesh:
                 f"but the mesh has nodes 0..{n_points - 1}"
             )
         index = np.arange(position, position + n, dtype=np.int64)
-        ids = labels if (labels is not None and labels_seen) else index + 1
         blocks.append(ElementBlock(cell_type, conn, ids, index))
         block_rows.append((block_no, index))
         position += n
@@ -182,6 +181,7 @@ def build_elements(mesh: meshio.Mesh, source: str = "<memory>") -> ElementMesh:
         found = ", ".join(f"{v} {k}" for k, v in skipped.items()) or "no cells"
         kinds = ", ".join(SUPPORTED_CELLS)
         raise InputError(f"{source}: no supported elements ({kinds}) to audit; found {found}")
+    numbering = labels.note_repeats(numbering, [b.ids for b in blocks])
     element_mesh = ElementMesh(
         points=points,
         blocks=blocks,
@@ -189,6 +189,7 @@ def build_elements(mesh: meshio.Mesh, source: str = "<memory>") -> ElementMesh:
         source=source,
         cell_sets=element_sets(mesh, block_rows),
         other_nodes=np.concatenate(other_nodes),
+        numbering=numbering,
     )
     # Fast path: all coordinates finite. Else only the nodes an element uses must be.
     if not np.isfinite(points).all() and not np.isfinite(points[element_mesh.used_nodes()]).all():
@@ -199,8 +200,9 @@ def build_elements(mesh: meshio.Mesh, source: str = "<memory>") -> ElementMesh:
 def load_with_mesh(source: Any, file_format: str | None = None) -> tuple[Any, ElementMesh]:
     """Like :func:`load`, but also return the meshio mesh the element arrays came from."""
     if isinstance(source, (str, os.PathLike)):
-        mesh = read_meshio(source, file_format)
-        return mesh, build_elements(mesh, str(source))
+        mesh, said = read_meshio_said(source, file_format)
+        numbering = labels.for_file(source, file_format, mesh, said)
+        return mesh, build_elements(mesh, str(source), numbering)
     if hasattr(source, "points") and hasattr(source, "cells"):
         return source, build_elements(source)
     raise InputError(f"cannot audit an object of type {type(source).__name__}")

@@ -38,6 +38,9 @@ class MeshSummary:
     #: what element orientation is judged against: "+z" or "relative"
     #: (see :mod:`meshaudit.orientation`)
     orientation: str = "+z"
+    #: Which numbers the reports give elements and nodes (see meshaudit.labels).
+    element_numbers: str = ""
+    node_numbers: str = ""
 
     @property
     def n_elements(self) -> int:
@@ -68,6 +71,7 @@ class MeshSummary:
             "geometry": self.frame,
             "plane_normal": self.normal,
             "orientation": self.orientation,
+            "numbering": {"elements": self.element_numbers, "nodes": self.node_numbers},
         }
 
 

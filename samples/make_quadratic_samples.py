@@ -11,9 +11,10 @@ Files written next to this script (VTU, which keeps quad8 and triangle6 as such)
     ``quarter_point``, everything else is ok.
 ``bracket_flange_shell.vtu``
     A 3-D shell: a quarter-cylinder flange (radius 40 mm, height 30 mm) of 6 x 3 quad8
-    elements, midside nodes on the cylinder. Element id 8 (index 7) is wound the other way
-    round. Expected: that one element warns with ``flipped_normal`` (and the edges around it
-    are reported as opposite normals); nothing is inverted, no node is unused.
+    elements, midside nodes on the cylinder. Element id 7 (the VTK cell index) is wound the
+    other way round. Expected: that one element warns with ``flipped_normal`` (and the
+    edges around it are reported as opposite normals); nothing is inverted, no node is
+    unused.
 
 Run ``python samples/make_quadratic_samples.py``; it checks the files read back unchanged.
 """

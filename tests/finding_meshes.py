@@ -27,7 +27,7 @@ def quad_grid(nx: int, ny: int, h: float = 1.0) -> meshio.Mesh:
     return meshio.Mesh(grid_points(nx, ny, h), [("quad", grid_quads(nx, ny))])
 
 
-NX, NY = 6, 4  # the test grid: 24 unit quads, 35 nodes; element (i, j) has id j*NX+i+1
+NX, NY = 6, 4  # the test grid: 24 unit quads, 35 nodes; element (i, j) has id j*NX+i
 
 
 def node(i: int, j: int, nx: int = NX) -> int:
@@ -35,8 +35,9 @@ def node(i: int, j: int, nx: int = NX) -> int:
 
 
 def element_id(i: int, j: int, nx: int = NX) -> int:
-    """1-based id (meshaudit's default label) of grid element (i, j)."""
-    return j * nx + i + 1
+    """Id of grid element (i, j): a mesh built in memory numbers its cells by position
+    over all cell blocks, from 0 (meshaudit's documented convention)."""
+    return j * nx + i
 
 
 def with_crack(i0: int, i1: int, row: int = 2) -> tuple[meshio.Mesh, np.ndarray, np.ndarray]:

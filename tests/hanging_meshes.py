@@ -2,8 +2,8 @@
 
 Every builder returns a meshio mesh plus what is true of it by construction: which
 nodes hang (their coordinates), the elements whose edge each lies inside (hosts) and
-the elements using them (users), as 1-based ids in block order (meshaudit's default
-element label).
+the elements using them (users), as 0-based ids in block order (how meshaudit numbers
+the elements of a mesh in memory).
 """
 
 from __future__ import annotations
@@ -36,21 +36,21 @@ def _split(quads: np.ndarray) -> np.ndarray:
 
 
 def _ids_using(cells: list[tuple[str, np.ndarray]], nodes: np.ndarray) -> list[int]:
-    """1-based ids (block order) of the cells using any of ``nodes``."""
+    """0-based ids (block order) of the cells using any of ``nodes``."""
     out, at = [], 0
     for _, conn in cells:
         hit = np.isin(conn, nodes).any(axis=1)
-        out += (at + 1 + np.flatnonzero(hit)).tolist()
+        out += (at + np.flatnonzero(hit)).tolist()
         at += len(conn)
     return sorted(out)
 
 
 def _ids_with_edge(cells: list[tuple[str, np.ndarray]], a: int, b: int) -> list[int]:
-    """1-based ids of the cells having both corner nodes a and b."""
+    """0-based ids of the cells having both corner nodes a and b."""
     out, at = [], 0
     for _, conn in cells:
         hit = np.isin(conn, [a]).any(axis=1) & np.isin(conn, [b]).any(axis=1)
-        out += (at + 1 + np.flatnonzero(hit)).tolist()
+        out += (at + np.flatnonzero(hit)).tolist()
         at += len(conn)
     return sorted(out)
 
@@ -161,8 +161,8 @@ def embedded_patch() -> Planted:
     hanging = np.array([s, e, nn, w])
     # side neighbours of the centre, by construction: (1, 0), (2, 1), (1, 2), (0, 1)
     order = [(i, j) for j in range(3) for i in range(3) if (i, j) != (1, 1)]
-    hosts = sorted(order.index(ij) + 1 for ij in [(1, 0), (2, 1), (1, 2), (0, 1)])
-    users = list(range(9, 13))  # the four fine quads, after the eight coarse ones
+    hosts = sorted(order.index(ij) for ij in [(1, 0), (2, 1), (1, 2), (0, 1)])
+    users = list(range(8, 12))  # the four fine quads, after the eight coarse ones
     xyz = np.column_stack([points[hanging], np.zeros(4)])
     return Planted(meshio.Mesh(points, cells), xyz, hosts, users, {"hanging": hanging})
 
@@ -215,7 +215,7 @@ def quad8_beside_fine(
     xyz = np.column_stack([points[hanging], np.zeros(hanging.size)])
     users = _ids_using(cells[1:], hanging)
     return Planted(
-        meshio.Mesh(points, cells), xyz, [1], [u + 1 for u in users], {"hanging": hanging}
+        meshio.Mesh(points, cells), xyz, [0], [u + 1 for u in users], {"hanging": hanging}
     )
 
 
@@ -269,7 +269,7 @@ def stiffened_plate(kind: str) -> Planted:
         )
         users = [len(plate) + u for u in _ids_using(cells[1:], hanging)]
     elif kind == "offset":
-        hosts = [len(plate) + u for u in range(1, len(stiff) + 1)]  # each holds one
+        hosts = [len(plate) + u for u in range(len(stiff))]  # each holds one
         users = _ids_using(cells[:1], hanging)
     else:
         hosts, users = [], []

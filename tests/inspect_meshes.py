@@ -20,9 +20,12 @@ def planted_plate() -> meshio.Mesh:
     """A 6 x 4 grid of unit squares with two planted failures, two triangles on top (one
     of them a warn) and a line block (lines are skipped by the audit).
 
-    - quad at position 8 (index 7): node order reversed (clockwise: inverted);
-    - quad at position 15 (index 14): bow-tie (positions 2 and 3 swapped);
-    - triangle at position 25 (index 24): flat (height 1/4 on a unit base): warn only.
+    - quad id 7 (index 7): node order reversed (clockwise: inverted);
+    - quad id 14 (index 14): bow-tie (positions 2 and 3 swapped);
+    - triangle id 24 (index 24): flat (height 1/4 on a unit base): warn only.
+
+    Ids are positions from 0 over all cells (the lines come last): the convention of a
+    mesh in memory and, written as .vtu, of the VTK cell index.
     """
     points, quads = grid(6, 4)
     points = points.astype(float)

@@ -44,13 +44,13 @@ def test_an_inverted_element_is_a_regression_and_named():
     assert cmp.regressed
     failed = {c.name for c in cmp.checks if not c.passed}
     assert failed == {"failing_elements", "worst_score"}  # 1 of 6 leaves the median at 1
-    assert cmp.worse[:, 0].tolist() == [3.0]  # element id 3 (1-based position)
+    assert cmp.worse[:, 0].tolist() == [2.0]  # element id 2 (in memory: position from 0)
     assert cmp.worse[0, 1:].tolist() == [1.0, 0.0]
     assert cmp.verdict_changes == {"ok->fail": 1}
     # the reverse direction is an improvement, never a regression
     back = compare(new, old)
     assert not back.regressed
-    assert back.better[:, 0].tolist() == [3.0]
+    assert back.better[:, 0].tolist() == [2.0]
 
 
 def test_tolerances_decide():
@@ -70,10 +70,10 @@ def test_matching_uses_ids_and_skips_repeated_ones():
     a = meshaudit.audit(grid(2, 1))
     b = meshaudit.audit(grid(3, 1))
     ro, rn = match_elements(a, b)
-    assert a.ids[ro].tolist() == b.ids[rn].tolist() == [1, 2]
-    b.ids[:] = [1, 1, 2]
+    assert a.ids[ro].tolist() == b.ids[rn].tolist() == [0, 1]
+    b.ids[:] = [0, 0, 1]
     ro, rn = match_elements(a, b)
-    assert a.ids[ro].tolist() == [2]
+    assert a.ids[ro].tolist() == [1]
 
 
 def test_cli_exit_status_json_and_tolerance_from_config(tmp_path, run_cli):

@@ -180,15 +180,15 @@ def test_orphan_node_is_found_and_a_node_of_a_vertex_cell_is_not():
 
 def test_duplicate_elements_in_any_order_or_rotation():
     quads = grid_quads(NX, NY)
-    rotated = np.roll(quads[5], 2)  # same nodes, rotated: a copy of element id 6
-    shuffled = quads[9][[2, 0, 3, 1]]  # same node set in another order: copy of id 10
+    rotated = np.roll(quads[5], 2)  # same nodes, rotated: a copy of element id 5
+    shuffled = quads[9][[2, 0, 3, 1]]  # same node set in another order: copy of id 9
     mesh = meshio.Mesh(grid_points(NX, NY), [("quad", np.vstack([quads, rotated, shuffled]))])
     f = found(audit(mesh))
     n = len(quads)
     dup = f["duplicate_elements"]
     assert dup.count == 2
-    assert ids(dup.element_ids) == [n + 1, n + 2]
-    assert dup.pairs.tolist() == [[6, n + 1], [10, n + 2]]
+    assert ids(dup.element_ids) == [n, n + 1]
+    assert dup.pairs.tolist() == [[5, n], [9, n + 1]]
     # The copies are reported once, not again as overlaps, non-manifold edges or winding.
     assert list(f) == ["duplicate_elements"]
 
@@ -205,7 +205,7 @@ def test_loose_overlapping_element_pairs_match_shapely():
     f = found(report)
     got = sorted(map(tuple, f["overlapping_elements"].pairs.tolist()))
     assert got == reference_overlaps(all_pts, all_quads)
-    assert got == [(element_id(i, j), len(quads) + 1) for j in (1, 2) for i in (2, 3)]
+    assert got == [(element_id(i, j), len(quads)) for j in (1, 2) for i in (2, 3)]
     assert list(f) == ["overlapping_elements"]
 
 
@@ -225,7 +225,7 @@ def test_triangles_laid_on_a_quad_overlap_it_and_make_non_manifold_edges():
     got = sorted(map(tuple, f["overlapping_elements"].pairs.tolist()))
     all_pts = pts
     assert got == reference_overlaps(all_pts, list(quads) + list(tris))
-    assert got == [(element_id(2, 1), n + 1), (element_id(2, 1), n + 2)]
+    assert got == [(element_id(2, 1), n), (element_id(2, 1), n + 1)]
 
 
 def test_a_node_dragged_across_its_neighbours_overlaps_what_shapely_says():
@@ -252,7 +252,7 @@ def test_random_node_drags_overlap_exactly_where_shapely_says(seed):
 
 
 def reference_overlaps(pts, cells, fraction: float = 1e-3) -> list[tuple[int, int]]:
-    """shapely, brute force over all pairs: (id, id) pairs (1-based) sharing more than
+    """shapely, brute force over all pairs: (id, id) pairs (positions from 0) sharing more than
     ``fraction`` of the smaller element's area."""
     polys = polygons(np.asarray(pts), [np.asarray(c) for c in cells])
     out = []
@@ -260,7 +260,7 @@ def reference_overlaps(pts, cells, fraction: float = 1e-3) -> list[tuple[int, in
         common = polys[a].intersection(polys[b]).area
         smaller = min(polys[a].area, polys[b].area)
         if smaller > 0 and common > fraction * smaller:
-            out.append((a + 1, b + 1))
+            out.append((a, b))
     return out
 
 
@@ -269,7 +269,7 @@ def reference_overlaps(pts, cells, fraction: float = 1e-3) -> list[tuple[int, in
 
 def test_one_element_wound_the_other_way_in_a_planar_mesh():
     quads = grid_quads(NX, NY)
-    flipped = 1 * NX + 3  # by construction: element (3, 1), id 10
+    flipped = 1 * NX + 3  # by construction: element (3, 1), id 9
     quads[flipped] = quads[flipped][::-1]
     report = audit(meshio.Mesh(grid_points(NX, NY), [("quad", quads)]))
     f = found(report)
@@ -286,7 +286,7 @@ def test_clockwise_elements_are_named_even_when_they_are_the_majority():
     quads[keep_ccw] = quads[keep_ccw][:, ::-1]
     report = audit(meshio.Mesh(grid_points(NX, NY), [("quad", quads)]))
     winding = found(report)["inconsistent_winding"]
-    clockwise = [i + 1 for i in range(NX * NY) if i not in keep_ccw]
+    clockwise = [i for i in range(NX * NY) if i not in keep_ccw]
     assert ids(winding.element_ids) == clockwise
     assert ids(report.ids[report.flag("reversed")]) == clockwise
     assert winding.count == NX * NY - 2
@@ -324,5 +324,5 @@ def test_fin_on_a_plate_makes_a_non_manifold_edge():
     nm = f["non_manifold_edges"]
     assert nm.count == 1
     assert nm.edges.tolist() == [[a, b]]
-    assert ids(nm.element_ids) == [element_id(2, 1), element_id(2, 2), NX * NY + 1]
+    assert ids(nm.element_ids) == [element_id(2, 1), element_id(2, 2), NX * NY]
     assert nm.edge_xyz.tolist() == [[pts[a].tolist(), pts[b].tolist()]]

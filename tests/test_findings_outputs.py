@@ -92,7 +92,8 @@ def test_cli_fails_a_cracked_mesh_whose_elements_are_all_ok(tmp_path, run_cli):
     kinds = {f["kind"]: f for f in doc["findings"]}
     assert set(kinds) == {"coincident_nodes", "crack_edges"}
     assert kinds["crack_edges"]["count"] == 8
-    assert sorted(kinds["crack_edges"]["element_ids"]) == [8, 9, 10, 11, 14, 15, 16, 17]
+    # elements (1..4, 1) and (1..4, 2) of the grid, by VTK cell index (row j * NX + i)
+    assert sorted(kinds["crack_edges"]["element_ids"]) == [7, 8, 9, 10, 13, 14, 15, 16]
     assert {lp["kind"] for lp in doc["free_edge_loops"]} == {"outer", "crack"}
     suite = ET.parse(out_xml).getroot().find("testsuite")
     cases = {c.get("name"): c for c in suite.findall("testcase")}

@@ -16,6 +16,7 @@ import meshio
 import numpy as np
 import pytest
 from io_meshes import EXPECTED, EXPECTED_TYPES, FORMATS, N_LINES, write_format
+from label_files import nastran_card
 
 import meshaudit
 from meshaudit.cli import main
@@ -100,15 +101,94 @@ def _labels_in_bdf(path: Path) -> dict[str, list[int]]:
     return labels
 
 
-@pytest.mark.parametrize("name", [n for n in FORMATS if n != "nastran"])
-def test_formats_without_labels_use_1_based_positions(written: dict[str, Path], name: str) -> None:
-    """meshio keeps no element labels for these readers: ids are the 1-based positions.
+def _element_tags_in_text(path: Path) -> list[int]:
+    """Tags of the quads and triangles of an ASCII gmsh file, read from its text.
 
-    (Gmsh and Abaqus files do number their elements, but meshio's readers drop the
-    numbers; the ids then fall back to positions, as documented.)
+    Source: the gmsh file format: 2.2 lists 'tag type ...' per element line; 4.1 lists
+    per entity block 'dim entity type count', then 'tag nodes...' lines. Types 2 and 3
+    are the triangle and the quad.
     """
+    lines = path.read_text().split("$Elements\n")[1].split("$EndElements")[0].splitlines()
+    if path.read_text().split("\n")[1].startswith("2.2"):
+        return [int(ln.split()[0]) for ln in lines[1:] if ln.split()[1] in ("2", "3")]
+    tags, k = [], 1
+    while k < len(lines):
+        _, _, kind, count = map(int, lines[k].split())
+        if kind in (2, 3):
+            tags += [int(ln.split()[0]) for ln in lines[k + 1 : k + 1 + count]]
+        k += 1 + count
+    return tags
+
+
+def _element_labels_in_inp(path: Path) -> list[int]:
+    """Labels of the elements with 3 or 4 nodes of an Abaqus file, read from its text
+    (Abaqus input format: under *ELEMENT, each data line is the label, then the nodes)."""
+    labels, keep = [], False
+    for line in path.read_text().splitlines():
+        if line.startswith("*"):
+            keep = line.upper().startswith("*ELEMENT")
+        elif keep and len(line.split(",")) in (4, 5):
+            labels.append(int(line.split(",")[0]))
+    return labels
+
+
+@pytest.mark.parametrize("variant", ["ascii", "binary"])
+@pytest.mark.parametrize("version", ["22", "41"])
+def test_gmsh_elements_are_numbered_by_their_tags(written, version, variant) -> None:
+    """The two line cells come first in the file, so the tags of the quads and triangles
+    differ from their positions among the audited elements (1..5).
+
+    Source: the ASCII file's own $Elements text (meshio's writer numbers the binary file
+    the same way: it writes the same blocks in the same order).
+    """
+    report = meshaudit.audit(written[f"gmsh{version}-{variant}"])
+    assert report.ids.tolist() == _element_tags_in_text(written[f"gmsh{version}-ascii"])
+    assert report.ids.tolist() != list(range(1, 6))  # the test can tell them apart
+    assert report.summary.element_numbers == "gmsh element tags"
+    assert report.summary.node_numbers == "gmsh node tags"
+    assert report.notes == []
+
+
+def test_abaqus_elements_are_numbered_by_their_labels(written) -> None:
+    """Source: the labels written in the .inp file's *ELEMENT sections."""
+    report = meshaudit.audit(written["abaqus"])
+    assert report.ids.tolist() == _element_labels_in_inp(written["abaqus"])
+    assert report.summary.element_numbers == "Abaqus element labels"
+
+
+@pytest.mark.parametrize("name", ["vtu", "vtk-ascii", "vtk-binary", "xdmf"])
+def test_vtk_family_numbers_cells_from_0_over_all_cells(written, name) -> None:
+    """VTK's convention (common practice): a cell's id is its position among all cells
+    of the file from 0, lines included. The file lists the 2 lines first (tests/io_meshes.py
+    writes the blocks line, quad, triangle), so the 3 quads are 2..4, the triangles 5, 6."""
     report = meshaudit.audit(written[name])
-    np.testing.assert_array_equal(report.ids, np.arange(1, 6))
+    assert report.ids.tolist() == [2, 3, 4, 5, 6]
+    assert report.summary.element_numbers.startswith("VTK cell index, from 0")
+    assert report.summary.node_numbers == "VTK point index, from 0"
+
+
+def test_medit_numbers_cells_by_position_from_1(written) -> None:
+    """medit keeps no element numbers: position from 1 over all cells in file order. The
+    file's text lists the Edges (2) before the Quadrilaterals and the Triangles."""
+    text = written["medit"].read_text()
+    assert text.index("Edges") < text.index("Quadrilaterals") < text.index("Triangles")
+    report = meshaudit.audit(written["medit"])
+    assert report.ids.tolist() == [3, 4, 5, 6, 7]
+    assert report.summary.node_numbers == "vertex number in the file, from 1"
+
+
+def test_med_numbers_cells_by_position_from_1(written) -> None:
+    """A .med file stores its cells per cell type in HDF5 groups, read in the order of
+    their names: QU4 (the 3 quads), SE2 (the 2 lines), TR3 (the 2 triangles); positions
+    from 1 over all cells in that order."""
+    import h5py
+
+    with h5py.File(written["med"], "r") as f:
+        (mesh,) = f["ENS_MAA"].values()
+        groups = list(mesh["MAI"]) if "MAI" in mesh else list(next(iter(mesh.values()))["MAI"])
+    assert groups == ["QU4", "SE2", "TR3"]
+    report = meshaudit.audit(written["med"])
+    assert report.ids.tolist() == [1, 2, 3, 6, 7]
 
 
 def test_nastran_labels_are_the_element_ids(written: dict[str, Path]) -> None:
@@ -121,22 +201,17 @@ def test_nastran_labels_are_the_element_ids(written: dict[str, Path]) -> None:
     assert report.ids.tolist() != list(range(1, 6))  # the test can tell them apart
 
 
-def _card(*fields: object) -> str:
-    """One small-field Nastran card: 8 columns per field."""
-    return "".join(f"{f!s:<8}" for f in fields)
-
-
 HAND_WRITTEN_BDF = "\n".join(
     [
         "$ bracket plate corner, labels chosen by hand",
         "BEGIN BULK",
-        _card("GRID", 1, "", "0.0", "0.0", "0.0"),
-        _card("GRID", 2, "", "1.0", "0.0", "0.0"),
-        _card("GRID", 3, "", "1.0", "1.0", "0.0"),
-        _card("GRID", 4, "", "0.0", "1.0", "0.0"),
-        _card("GRID", 5, "", "2.0", "0.0", "0.0"),
-        _card("CQUAD4", 1001, 1, 1, 2, 3, 4),
-        _card("CTRIA3", 2002, 1, 2, 5, 3),
+        nastran_card("GRID", 1, "", "0.0", "0.0", "0.0"),
+        nastran_card("GRID", 2, "", "1.0", "0.0", "0.0"),
+        nastran_card("GRID", 3, "", "1.0", "1.0", "0.0"),
+        nastran_card("GRID", 4, "", "0.0", "1.0", "0.0"),
+        nastran_card("GRID", 5, "", "2.0", "0.0", "0.0"),
+        nastran_card("CQUAD4", 1001, 1, 1, 2, 3, 4),
+        nastran_card("CTRIA3", 2002, 1, 2, 5, 3),
         "ENDDATA",
         "",
     ]

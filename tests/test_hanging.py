@@ -67,8 +67,8 @@ def test_one_coarse_quad_beside_two_fine_quads():
     assert hang.severity == "fail" and not report.passed
     assert hang.count == 1 and hang.counts == "nodes"
     assert same_points(hang.node_xyz, np.array([[HALF, HALF, 0.0] for HALF in [SIZE / 2]]))
-    assert sorted(hang.element_ids.tolist()) == planted.involved == [1, 2, 4]
-    assert hang.pairs[:, 1].tolist() == planted.hosts == [1]
+    assert sorted(hang.element_ids.tolist()) == planted.involved == [0, 1, 3]
+    assert hang.pairs[:, 1].tolist() == planted.hosts == [0]
     # drawn: the coarse edge and the two fine edges on it (total 2 x 0.3)
     drawn = np.linalg.norm(hang.edge_xyz[:, 1] - hang.edge_xyz[:, 0], axis=1).sum()
     assert drawn == pytest.approx(2 * SIZE)
@@ -116,7 +116,7 @@ def test_three_to_one_interface_names_two_nodes_per_coarse_edge():
     assert hang.count == 2
     expected = np.array([[SIZE / 2, 0.1, 0.0], [SIZE / 2, 0.2, 0.0]])
     assert same_points(hang.node_xyz, expected)
-    assert hang.pairs[:, 1].tolist() == [1, 1]
+    assert hang.pairs[:, 1].tolist() == [0, 0]
 
 
 def test_shell_with_a_non_conforming_interface():
@@ -204,7 +204,7 @@ def test_fine_corner_on_a_coarse_quad8_midside_node(bulge):
     hang = found(report)["hanging_nodes"]
     assert hang.count == 1
     assert same_points(hang.node_xyz, np.array([[SIZE / 2 + bulge, SIZE / 2, 0.0]]))
-    assert sorted(hang.element_ids.tolist()) == planted.involved == [1, 2, 3]
+    assert sorted(hang.element_ids.tolist()) == planted.involved == [0, 1, 2]
     loops = loops_by_kind(report)
     assert sorted(loops) == ["interface", "outer"]
 
@@ -224,7 +224,7 @@ def test_quad8_on_both_sides_reports_only_the_corner_not_the_fine_midside_nodes(
     planted = quad8_beside_fine(fine="quad8")
     hang = found(audit(planted.mesh))["hanging_nodes"]
     assert hang.count == 1
-    assert sorted(hang.element_ids.tolist()) == [1, 2, 3]
+    assert sorted(hang.element_ids.tolist()) == [0, 1, 2]
 
 
 @pytest.mark.parametrize(("bulge", "along"), [(0.0, 0.0), (0.015, 0.0), (0.015, 0.02)])
@@ -378,7 +378,7 @@ def test_thousands_of_hanging_nodes_on_one_edge(pair_counter, tmp_path):
     report = audit(column(n), profile=no_overlap_check(tmp_path))
     hang = found(report)["hanging_nodes"]
     assert hang.count == n - 1
-    assert hang.pairs[:, 1].tolist() == [1] * (n - 1)
+    assert hang.pairs[:, 1].tolist() == [0] * (n - 1)
     loops = loops_by_kind(report)
     assert loops["outer"][0]["length"] == pytest.approx(6.0)  # the 2 x 1 rectangle
     assert loops["interface"][0]["length"] == pytest.approx(2.0)
@@ -451,7 +451,7 @@ def test_cli_reports_hanging_nodes_in_terminal_json_and_junit(tmp_path, run_cli)
     doc = json.loads(out_json.read_text())
     (finding,) = doc["findings"]
     assert finding["kind"] == "hanging_nodes" and finding["counts"] == "nodes"
-    assert finding["count"] == 1 and sorted(finding["element_ids"]) == [1, 2, 4]
+    assert finding["count"] == 1 and sorted(finding["element_ids"]) == [0, 1, 3]
     loops = {lp["kind"]: lp for lp in doc["free_edge_loops"]}
     assert loops["outer"]["length"] == pytest.approx(1.2)
     assert loops["interface"]["length"] == pytest.approx(0.6)

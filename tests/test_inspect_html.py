@@ -55,7 +55,7 @@ def test_self_contained_and_lists_non_ok_elements(plate_html):
     parsed.feed(text)
     assert all(u.startswith("data:image/png;base64,") for u in parsed.urls)  # no network
     assert "link" not in parsed.tags and not re.search(r"https?://(?!www\.w3\.org/2000/svg)", text)
-    assert parsed.row_ids == report.ids[report.worst()].tolist() == [8, 15, 25]
+    assert parsed.row_ids == report.ids[report.worst()].tolist() == [7, 14, 24]
     assert text.count('role="img" aria-label="histogram of') == sum(
         1 for m in METRIC_NAMES if np.isfinite(report.metrics[m]).any()
     )
@@ -121,7 +121,7 @@ def test_renders_sorts_and_filters_in_a_browser(browser, tmp_path):
     plot = browser.find_element("id", "plot")
     assert browser.execute_script("return arguments[0].naturalWidth", plot) > 800
     assert browser.find_element("id", "verdict").text == "FAIL"
-    assert _visible_ids(browser) == [8, 15, 25]
+    assert _visible_ids(browser) == [7, 14, 24]
     assert browser.find_element("id", "shown").text == "3"
 
     heads = browser.find_elements("css selector", "#elements thead th")
@@ -137,7 +137,7 @@ def test_renders_sorts_and_filters_in_a_browser(browser, tmp_path):
     assert col.get_attribute("aria-sort") == "descending"
     assert _visible_ids(browser) == report.ids[listed[np.argsort(-values, kind="stable")]].tolist()
     heads[names.index("id")].click()
-    assert _visible_ids(browser) == [8, 15, 25]
+    assert _visible_ids(browser) == [7, 14, 24]
 
     # filtering by words and by verdict
     box = browser.find_element("id", "filter")
@@ -145,16 +145,16 @@ def test_renders_sorts_and_filters_in_a_browser(browser, tmp_path):
     expected = [
         int(i) for i in report.ids[listed] if report.flag("inverted")[report.position_of(i)]
     ]
-    assert _visible_ids(browser) == expected == [8, 15]
+    assert _visible_ids(browser) == expected == [7, 14]
     box.send_keys(" self_intersecting")
-    assert _visible_ids(browser) == [15]
+    assert _visible_ids(browser) == [14]
     assert browser.find_element("id", "shown").text == "1"
     box.clear()
     box.send_keys(" ")  # an input event with no terms
     from selenium.webdriver.support.ui import Select
 
     Select(browser.find_element("id", "verdict-filter")).select_by_value("warn")
-    assert _visible_ids(browser) == [25]
+    assert _visible_ids(browser) == [24]
     browser.save_screenshot(str(tmp_path / "report-filtered.png"))
 
 

@@ -36,7 +36,7 @@ def plate():
 def test_failing_ids_are_exactly_the_labelled_ones(plate):
     fig = plot.draw(plate.report, plate.elements)
     expected = set(plate.report.ids[plate.report.verdict == 2].tolist())
-    assert expected == {8, 15}  # planted: reversed quad and bow-tie (tests/inspect_meshes.py)
+    assert expected == {7, 14}  # planted: reversed quad and bow-tie (tests/inspect_meshes.py)
     assert labelled_ids(fig) == expected
 
 
@@ -64,7 +64,7 @@ def test_colourbar_labelled_and_title_has_verdict(plate):
 def test_insets_show_worst_elements(plate):
     fig = plot.draw(plate.report, plate.elements)
     titles = [a.get_title() for a in fig.axes[1:] if a.get_title().startswith("id ")]
-    assert [t.split(":")[0] for t in titles] == ["id 8", "id 15", "id 25"]
+    assert [t.split(":")[0] for t in titles] == ["id 7", "id 14", "id 24"]
 
 
 @pytest.mark.parametrize("suffix", [".png", ".svg", ".pdf"])
@@ -87,7 +87,7 @@ def test_file_formats_are_valid(run_cli, tmp_path, suffix):
         root = ET.fromstring(data)  # well-formed XML with the SVG root
         assert root.tag == "{http://www.w3.org/2000/svg}svg"
         ids = {int(m) for m in re.findall(rb'id="fail-id-(\d+)"', data)}
-        assert ids == {8, 15}
+        assert ids == {7, 14}
 
 
 def test_bad_plot_extension_is_one_line_exit_2(run_cli, tmp_path):
@@ -138,7 +138,7 @@ def test_large_mesh_uses_a_few_artists_not_one_per_element():
     # element is in the single polygon collection drawn over the (empty) image
     large = next(c for c in main.collections if c.get_gid() == "large-faces")
     assert len(large.get_paths()) == 30_000
-    assert labelled_ids(fig) == {11, 5001}
+    assert labelled_ids(fig) == {10, 5000}
     outline = next(c for c in main.collections if c.get_gid() == "fail-outline")
     assert len(outline.get_paths()) == 2
 
@@ -216,7 +216,7 @@ def test_mesh_level_findings_are_drawn_when_the_report_has_them(plate):
     outlined = next(c for c in main.collections if c.get_gid() == "finding-outline")
     assert len(outlined.get_paths()) == 2
     assert "1 mesh-level finding" in fig.get_suptitle()
-    assert labelled_ids(fig) == {8, 15}  # findings do not change the failing-id labels
+    assert labelled_ids(fig) == {7, 14}  # findings do not change the failing-id labels
 
 
 def test_quadratic_element_drawn_with_its_curved_edge():

@@ -230,6 +230,9 @@ def _same(got: object, shown: object) -> bool:
 
     if shown is Ellipsis:  # '...' stands for any value
         return True
+    if isinstance(shown, str) and "..." in shown:  # elided text: the rest must match
+        pattern = ".*".join(re.escape(part) for part in shown.split("..."))
+        return isinstance(got, str) and re.fullmatch(pattern, got, flags=re.S) is not None
     if isinstance(got, np.ndarray):
         got = got.tolist()
     if isinstance(got, (tuple, list)) and isinstance(shown, (tuple, list)):

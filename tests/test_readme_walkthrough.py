@@ -29,6 +29,10 @@ def test_the_walkthrough_runs_and_its_numbers_are_right():
     ns: dict = {}
     exec(compile(_walkthrough(), "README walkthrough", "exec"), ns)
     first = ns["meshaudit"].audit(ns["mesh"])
+    # positions from 0 over all cell blocks: meshaudit's stated convention for a mesh in
+    # memory (the two quads are the mesh's only cells)
+    assert first.ids.tolist() == [0, 1]
+    assert first.summary.element_numbers.startswith("position among all cells of the mesh")
     np.testing.assert_allclose(first.metrics["aspect_ratio"], [2.0, 6.0])
     np.testing.assert_allclose(first.metrics["det_j_min"], [1.0 * 0.5, 3.0 * 0.5])
     np.testing.assert_allclose(first.metrics["condition"], [5 / 4, 37 / 12])

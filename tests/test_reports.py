@@ -298,7 +298,8 @@ def test_junit_counts_warning_flags_under_fail_on_warn(tmp_path: Path, run_cli) 
     failed = {n for n, case in cases.items() if case.find("failure") is not None}
     # The same clash is also a mesh-level finding (opposite normals, warn severity).
     assert failed == {"no flipped_normal elements", "no opposite normals"}
-    assert "ids: 3" in cases["no flipped_normal elements"].find("failure").get("message")
+    # the third cell of the file: VTK cell index 2
+    assert "ids: 2" in cases["no flipped_normal elements"].find("failure").get("message")
 
 
 # -- atomic writes ------------------------------------------------------------------

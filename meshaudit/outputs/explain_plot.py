@@ -170,7 +170,7 @@ def _nodes_and_gauss(ax: Axes, ex: Explanation, nodes: np.ndarray) -> None:
     centre = nodes[: CORNERS[ex.family]].mean(axis=0)
     for k, p in enumerate(nodes):
         ax.plot(*p, "o", color=OUTLINE, ms=5 if k < CORNERS[ex.family] else 3.5, zorder=5)
-        label = f"{k + 1}: node {int(ex.node_indices[k])}"
+        label = f"{k + 1}: node {int(ex.node_numbers[k])}"
         if k < len(ex.det_j_nodes):
             label += f"\ndet J {ex.det_j_nodes[k]:.4g}"
         away = p - centre

@@ -17,11 +17,12 @@ def _limit(x: float | None) -> str:
 
 
 def nodes_table(ex: Explanation) -> Table:
-    t = Table(title="Nodes (node = 0-based node index)", title_justify="left")
+    title = f"Nodes (node = {ex.node_numbering or 'node number'})"
+    t = Table(title=title, title_justify="left")
     for col in ("position", "node", "x", "y", "z", "det J at node"):
         t.add_column(col, justify="right")
     corners = len(ex.det_j_nodes)
-    for k, (n, c) in enumerate(zip(ex.node_indices, ex.coordinates)):
+    for k, (n, c) in enumerate(zip(ex.node_numbers, ex.coordinates)):
         det = _fmt(float(ex.det_j_nodes[k])) if k < corners else "-"
         t.add_row(str(k + 1), str(int(n)), *(f"{v:.6g}" for v in c), det)
     return t
@@ -60,7 +61,8 @@ def metrics_table(ex: Explanation) -> Table:
 def headline(ex: Explanation) -> Text:
     text = Text()
     text.append(f"element {ex.id}", style="bold")
-    text.append(f" ({ex.cell_type}, index {ex.index}): ")
+    numbering = f"; numbered by {ex.element_numbering}" if ex.element_numbering else ""
+    text.append(f" ({ex.cell_type}, index {ex.index}{numbering}): ")
     text.append(ex.verdict.upper(), style="bold reverse" if ex.verdict == "fail" else "bold")
     flags = ", ".join(ex.flags) or "none"
     text.append(f"; flags: {flags}")

@@ -284,6 +284,8 @@ def _summary(report: Report) -> str:
         ("nodes", f"{s.n_points:,}"),
         ("elements", ", ".join(f"{v:,} {k}" for k, v in s.element_counts.items())),
         ("not audited", s.skipped_text() or "none"),
+        ("element numbers", s.element_numbers or "-"),
+        ("node numbers", s.node_numbers or "-"),
         ("geometry", s.geometry_text()),
         ("profile", f"{report.profile.name} ({report.profile.origin})"),
         ("gate", f"fails on {report.fail_on}"),

@@ -536,8 +536,10 @@ def finding_geometry(
     coordinates (k, 3); report indices of the elements involved).
 
     Read from each finding, where present: ``edge_xyz`` (m, 2, 3) segments, ``polylines``
-    (node-index or coordinate arrays), ``node_xyz`` (k, 3) or else ``node_ids`` (0-based
-    node indices), and ``element_index`` (report rows). Anything else adds nothing.
+    (node-index or coordinate arrays), ``node_xyz`` (k, 3) or else ``node_ids`` taken as
+    0-based node indices (a :class:`~meshaudit.findings.Finding` always has ``node_xyz``:
+    its ``node_ids`` are node numbers, see :mod:`meshaudit.labels`), and ``element_index``
+    (report rows). Anything else adds nothing.
     """
     lines: list[np.ndarray] = []
     nodes: list[np.ndarray] = [np.zeros((0, 3))]

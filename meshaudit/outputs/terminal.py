@@ -58,6 +58,9 @@ def summary_table(report: Report) -> Table:
     t.add_row("nodes", f"{s.n_points:,}")
     t.add_row("elements", ", ".join(f"{v:,} {k}" for k, v in s.element_counts.items()))
     t.add_row("not audited", s.skipped_text() or "none")
+    if s.element_numbers:
+        t.add_row("element numbers", s.element_numbers)
+        t.add_row("node numbers", s.node_numbers)
     t.add_row("geometry", s.geometry_text())
     t.add_row("profile", f"{report.profile.name} ({report.profile.origin})")
     if report.region_names:
