@@ -34,7 +34,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .. import reference as ref
-from . import triangle
+from . import bernstein, triangle
 from .common import DEGENERATE_TOLERANCE, norm
 
 #: How close (fraction of the edge length, along and across the chord) to the quarter
@@ -55,10 +55,28 @@ class QuadraticElement:
     gauss_derivatives: np.ndarray  # (g, 2, k) dN/dxi, dN/deta at the Gauss points
     node_derivatives: np.ndarray  # (k, 2, k) the same at every node
     midside_edges: np.ndarray  # (s, 3) corner a, corner b, midside node
+    space: bernstein.BernsteinSpace  # det J's polynomial space
+    sample_points: np.ndarray  # (g + k, 2) the Gauss points, then the nodes
+    #: dN/dxi, dN/deta at the Gauss points, the nodes and (where they are other points)
+    #: the space's sample points: one table, so det J at all of them is one product
+    all_derivatives: np.ndarray
+    samples_are_nodes: bool  # the space's sample points are the nodes (triangle6)
 
 
-def _element(n_corners, nodes, gauss, weights, derivatives, edges) -> QuadraticElement:
-    return QuadraticElement(n_corners, weights, derivatives(gauss), derivatives(nodes), edges)
+def _element(n_corners, nodes, gauss, weights, derivatives, edges, space) -> QuadraticElement:
+    same = len(space.points) == len(nodes) and bool(np.array_equal(space.points, nodes))
+    points = [gauss, nodes] if same else [gauss, nodes, space.points]
+    return QuadraticElement(
+        n_corners,
+        weights,
+        derivatives(gauss),
+        derivatives(nodes),
+        edges,
+        space,
+        np.vstack([gauss, nodes]),
+        np.concatenate([derivatives(q) for q in points]),
+        same,
+    )
 
 
 ELEMENTS: dict[str, QuadraticElement] = {
@@ -69,6 +87,7 @@ ELEMENTS: dict[str, QuadraticElement] = {
         ref.QUAD_WEIGHTS_3X3,
         ref.quad8_shape_derivatives,
         ref.QUAD_MIDSIDE_EDGES,
+        bernstein.SQUARE,
     ),
     "quad9": _element(
         4,
@@ -77,6 +96,7 @@ ELEMENTS: dict[str, QuadraticElement] = {
         ref.QUAD_WEIGHTS_3X3,
         ref.quad9_shape_derivatives,
         ref.QUAD_MIDSIDE_EDGES,
+        bernstein.SQUARE,
     ),
     "triangle6": _element(
         3,
@@ -85,6 +105,7 @@ ELEMENTS: dict[str, QuadraticElement] = {
         ref.TRIANGLE_WEIGHTS_3,
         ref.triangle6_shape_derivatives,
         ref.TRIANGLE_MIDSIDE_EDGES,
+        bernstein.TRIANGLE,
     ),
 }
 
@@ -203,6 +224,141 @@ def _as_triangles(
     return out, tri_flags
 
 
+#: Metrics whose breaches the quarter-point construction causes by itself (det J vanishes
+#: at the tip, so det J's minima are near zero and the Gauss-point spread is large; the
+#: node sits a quarter of the edge off centre). For an element flagged ``quarter_point``
+#: each is also measured on the element without its quarter-point construction (see
+#: :func:`without_quarter_points`), under the name :func:`without_quarter_points_name`.
+QUARTER_POINT_METRICS: tuple[str, ...] = (
+    "det_j_min",
+    "det_j_corner_min",
+    "det_j_lower_bound",
+    "jacobian_ratio",
+    "midside_offset_along",
+)
+
+
+def without_quarter_points_name(metric: str) -> str:
+    """Key, in a metrics dict, of ``metric`` measured without the quarter-point nodes."""
+    return f"{metric}|without_quarter_points"
+
+
+#: Reference areas: of the square [-1, 1]^2 and of the triangle (0, 0), (1, 0), (0, 1).
+REFERENCE_AREA = {"quad8": 4.0, "quad9": 4.0, "triangle6": 0.5}
+
+
+@dataclass(frozen=True)
+class JacobianPart:
+    """det J of quadratic elements: at the Gauss points (n, g), at the nodes (n, k) and
+    bounded over the whole element (:class:`meshaudit.metrics.bernstein.Bounds`), with
+    the ``floor`` (n,) below which a value counts as negative."""
+
+    gauss: np.ndarray
+    nodal: np.ndarray
+    bounds: bernstein.Bounds
+    floor: np.ndarray
+
+    @property
+    def lower(self) -> np.ndarray:
+        """The lower bound of det J, 0 where it is negative only by round-off (above
+        ``floor``): such an element is not inverted, and its bound says so."""
+        lower = self.bounds.lower
+        return np.where((lower < 0.0) & (lower >= self.floor), 0.0, lower)
+
+    def metrics(self) -> dict[str, np.ndarray]:
+        """det_j_min, det_j_max, det_j_corner_min, det_j_lower_bound, jacobian_ratio."""
+        lo, hi = self.gauss.min(axis=1), self.gauss.max(axis=1)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            ratio = np.where(lo > 0.0, hi / lo, np.inf)
+        return {
+            "det_j_min": lo,
+            "det_j_max": hi,
+            "det_j_corner_min": self.nodal.min(axis=1),
+            "det_j_lower_bound": self.lower,
+            "jacobian_ratio": ratio,
+        }
+
+
+def negative_floor(p: np.ndarray, n_corners: int) -> np.ndarray:
+    """det J below this (n,) counts as negative: -1e-12 times the square of the longest
+    corner-to-corner chord, so round-off at an exact zero (the quarter-point tip) is not
+    read as an inverted element."""
+    corners = p[:, :n_corners]
+    edge = norm(np.roll(corners, -1, axis=1) - corners).max(axis=1)
+    return -1e-12 * np.maximum(edge, 1e-300) ** 2
+
+
+def jacobian_part(
+    element: QuadraticElement, p: np.ndarray, floor: np.ndarray | None = None
+) -> JacobianPart:
+    """det J of elements with nodes ``p`` (n, k, 2) in their measuring plane: at the
+    Gauss points, at the nodes, and its bounds over the whole element."""
+    values = jacobian_determinants(element.all_derivatives, p)
+    g, k = len(element.gauss_weights), len(element.node_derivatives)
+    grid = values[:, g : g + k] if element.samples_are_nodes else values[:, g + k :]
+    if floor is None:
+        floor = negative_floor(p, element.n_corners)
+    found = values[:, : g + k]
+    bounds = bernstein.bounds(element.space, grid, floor, found, element.sample_points)
+    return JacobianPart(values[:, :g], values[:, g : g + k], bounds, floor)
+
+
+def _triangle_nodes(order: np.ndarray) -> np.ndarray:
+    """Node numbers (n, 6), in the quad, of the triangle6 a collapsed quad has become, from its
+    corners ``order`` (n, 3) = (tip e, e + 2, e + 3): corners, then the midside nodes of
+    the quad edges e + 1, e + 2, e + 3 (tip -> e + 2, e + 2 -> e + 3, e + 3 -> tip)."""
+    e = order[:, 0]
+    return np.column_stack([order, 4 + (e + 1) % 4, 4 + (e + 2) % 4, 4 + (e + 3) % 4])
+
+
+def without_quarter_points(
+    cell_type: str,
+    p: np.ndarray,
+    along: np.ndarray,
+    near_quarter: np.ndarray,
+    crack_tip: np.ndarray,
+    tri_order: np.ndarray | None,
+) -> dict[str, np.ndarray]:
+    """The :data:`QUARTER_POINT_METRICS` of elements measured without their quarter-point
+    construction, one value per element given (n,).
+
+    The element's twin has every midside node that sits at a quarter point moved to its
+    chord midpoint; the rest (other midside nodes, curved edges, the quad9 centre) is
+    kept. A collapsed crack-tip quad (``crack_tip``) is measured as the triangle6 it has
+    become, so it gets the same values as that triangle6; its det J is converted to the
+    quad's reference area. What the twin breaches is not caused by the quarter points.
+    """
+    out: dict[str, np.ndarray] = {}
+    n = len(p)
+    twin_along = np.fmax.reduce(np.where(near_quarter, 0.0, np.abs(along)), axis=1)
+    for name in QUARTER_POINT_METRICS:
+        out[name] = np.full(n, np.nan)
+    out["midside_offset_along"] = twin_along
+    groups = [(ELEMENTS[cell_type], np.flatnonzero(~crack_tip), None)]
+    if tri_order is not None and crack_tip.any():
+        groups.append((ELEMENTS["triangle6"], np.flatnonzero(crack_tip), tri_order))
+    for element, rows, order in groups:
+        if not rows.size:
+            continue
+        if order is None:
+            nodes, moved = p[rows].copy(), near_quarter[rows]
+        else:
+            pick = _triangle_nodes(order[rows])
+            nodes = np.take_along_axis(p[rows], pick[..., None], axis=1)
+            edge = (order[rows, :1] + np.arange(1, 4)) % 4  # quad edges of the 3 sides
+            moved = np.take_along_axis(near_quarter[rows], edge, axis=1)
+        for side, (a, b, mid) in enumerate(element.midside_edges):
+            centre = 0.5 * (nodes[:, a] + nodes[:, b])
+            nodes[:, mid] = np.where(moved[:, side, None], centre, nodes[:, mid])
+        twin = jacobian_part(element, nodes).metrics()
+        scale = 1.0 if order is None else REFERENCE_AREA["triangle6"] / REFERENCE_AREA[cell_type]
+        for name in QUARTER_POINT_METRICS:
+            if name in twin:
+                value = twin[name] if name == "jacobian_ratio" else twin[name] * scale
+                out[name][rows] = value
+    return out
+
+
 def measure(
     cell_type: str,
     coords3: np.ndarray,
@@ -214,41 +370,35 @@ def measure(
 
     ``coords3`` (n, k, 3) all nodes in space, ``p`` (n, k, 2) the same in the measuring
     plane, ``metrics``/``flags`` what the linear kernel reported for the corners (they
-    are copied, not changed). Returns the updated (metrics, flags).
+    are copied, not changed). Returns the updated (metrics, flags). For elements flagged
+    ``quarter_point`` the metrics dict also holds, under
+    :func:`without_quarter_points_name`, the values the verdict caps against.
     """
     element = ELEMENTS[cell_type]
-    gauss = jacobian_determinants(element.gauss_derivatives, p)
-    nodal = jacobian_determinants(element.node_derivatives, p)
+    floor = negative_floor(p, element.n_corners)
+    jac = jacobian_part(element, p, floor)
     along, across = midside_offsets(coords3, element.midside_edges)
     worst_along = np.fmax.reduce(np.abs(along), axis=1)  # a collapsed side reads NaN
     crack_tip = np.zeros(len(p), dtype=bool)
+    tri_order = None
     if element.n_corners == 4:
         crack_tip, tri_order = collapsed_quarter_point(coords3, along, across)
 
     collapsed = flags["degenerate"] & ~crack_tip
-    corners = p[:, : element.n_corners]
-    edge = norm(np.roll(corners, -1, axis=1) - corners).max(axis=1)
-    floor = -1e-12 * np.maximum(edge, 1e-300)[:, None] ** 2
-    sampled = np.concatenate([gauss, nodal], axis=1)
-    negative = sampled < floor
-    inverted = flags["inverted"] | (negative.any(axis=1) & ~collapsed)
-    reversed_ = flags["reversed"] | (negative.all(axis=1) & ~collapsed)
+    # det J is negative somewhere, or cannot be shown not to be (see bernstein.bounds)
+    inverted = flags["inverted"] | ((jac.bounds.lower < floor) & ~collapsed)
+    sampled = np.concatenate([jac.gauss, jac.nodal], axis=1)
+    reversed_ = flags["reversed"] | ((sampled < floor[:, None]).all(axis=1) & ~collapsed)
     # The singular construction: on the straight chord, a quarter of it from a corner.
     near_quarter = (np.abs(np.abs(along) - 0.25) <= QUARTER_POINT_TOLERANCE) & (
         across <= QUARTER_POINT_TOLERANCE
     )
     quarter = (near_quarter.any(axis=1) | crack_tip) & ~inverted & ~collapsed
 
-    lo, hi = gauss.min(axis=1), gauss.max(axis=1)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        ratio = np.where(lo > 0.0, hi / lo, np.inf)
     out = dict(metrics)
     out.update(
         area=surface_area(element, coords3),
-        det_j_min=lo,
-        det_j_max=hi,
-        det_j_corner_min=nodal.min(axis=1),
-        jacobian_ratio=ratio,
+        **jac.metrics(),
         midside_offset_along=worst_along,
         midside_offset_across=np.fmax.reduce(across, axis=1),
     )
@@ -260,6 +410,20 @@ def measure(
             out_flags[name] = out_flags[name].copy()
             out_flags[name][rows] = tri_flags[name]
         out_flags["quarter_point"] = quarter & ~out_flags["degenerate"]
+    flagged = np.flatnonzero(out_flags["quarter_point"])
+    if flagged.size:
+        twin = without_quarter_points(
+            cell_type,
+            p[flagged],
+            along[flagged],
+            near_quarter[flagged],
+            crack_tip[flagged],
+            None if tri_order is None else tri_order[flagged],
+        )
+        for name, values in twin.items():
+            column = np.full(len(p), np.nan)
+            column[flagged] = values
+            out[without_quarter_points_name(name)] = column
     newly_invalid = inverted & ~flags["inverted"]
     out["score"] = np.where(newly_invalid, 0.0, out["score"])
     return out, out_flags
