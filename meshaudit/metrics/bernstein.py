@@ -196,8 +196,9 @@ class Bounds:
 
     ``lower``: det J >= lower everywhere on the element; ``upper``: the smallest det J
     value found (at the reference point ``where`` (n, 2)), so the minimum of det J lies
-    in [lower, upper]; ``undecided``: lower < floor <= upper still after the deepest
-    subdivision, so the sign of the minimum is not known.
+    in [lower, upper] (NaN where not looked for, see :func:`bounds`); ``undecided``:
+    lower < floor <= upper still after the deepest subdivision, so the sign of the
+    minimum is not known.
     """
 
     lower: np.ndarray
@@ -208,36 +209,47 @@ class Bounds:
 
 def bounds(
     space: BernsteinSpace,
-    values: np.ndarray,
+    coeffs: np.ndarray,
     floor: np.ndarray,
     known: np.ndarray | None = None,
     known_points: np.ndarray | None = None,
+    locate: bool = False,
 ) -> Bounds:
-    """Bounds of det J from its ``values`` (n, s) at ``space.points``.
+    """Bounds of det J from its Bernstein coefficients ``coeffs`` (s, n): one row per
+    coefficient, one column per element (``space.to_bernstein.T`` @ values at
+    ``space.points``; reductions over this layout are fast).
 
     ``floor`` (n,): det J below it counts as negative (a small negative round-off
-    tolerance); ``known`` (n, q): more exact values, at ``known_points`` (q, 2) (the Gauss
+    tolerance); ``known`` (q, n): more exact values, at ``known_points`` (q, 2) (the Gauss
     points and nodes), that need no subdivision to be found. Elements whose smallest
     coefficient is below ``floor`` while every value found is not are subdivided, at
-    most :data:`MAX_DEPTH` times and :data:`MAX_PIECES` open pieces each.
+    most :data:`MAX_DEPTH` times and :data:`MAX_PIECES` open pieces each. ``upper`` and
+    ``where`` are found for every element with ``locate``, otherwise only for those
+    whose lower bound is below ``floor`` (NaN for the others, certainly valid).
     """
-    coeffs = values @ space.to_bernstein
-    lower = coeffs.min(axis=1)
-    at_corners = coeffs[:, space.corners]
-    pick = at_corners.argmin(axis=1)
-    upper = at_corners[np.arange(len(coeffs)), pick]
-    where = space.corner_points[pick]
-    if known is not None and known_points is not None and known.shape[1]:
-        k = known.argmin(axis=1)
-        value = known[np.arange(len(known)), k]
-        better = value < upper
-        upper = np.where(better, value, upper)
-        where[better] = known_points[k[better]]
-    undecided = np.zeros(len(coeffs), dtype=bool)
-    open_rows = np.flatnonzero((lower < floor) & (upper >= floor))
+    lower = coeffs.min(axis=0)
+    n = coeffs.shape[1]
+    upper, where = np.full(n, np.nan), np.full((n, 2), np.nan)
+    undecided = np.zeros(n, dtype=bool)
+    rows = np.arange(n) if locate else np.flatnonzero(lower < floor)
+    if not rows.size:
+        return Bounds(lower, upper, where, undecided)
+    at_corners = coeffs[space.corners][:, rows]
+    pick = at_corners.argmin(axis=0)
+    up = at_corners[pick, np.arange(len(rows))]
+    at = space.corner_points[pick]
+    if known is not None and known_points is not None and len(known):
+        found = known[:, rows]
+        k = found.argmin(axis=0)
+        value = found[k, np.arange(len(rows))]
+        better = value < up
+        up = np.where(better, value, up)
+        at[better] = known_points[k[better]]
+    upper[rows], where[rows] = up, at
+    open_rows = rows[(lower[rows] < floor[rows]) & (up >= floor[rows])]
     for start in range(0, len(open_rows), BATCH):
-        rows = open_rows[start : start + BATCH]
-        _subdivide(space, rows, coeffs[rows], floor, lower, upper, where, undecided)
+        batch = open_rows[start : start + BATCH]
+        _subdivide(space, batch, coeffs[:, batch].T, floor, lower, upper, where, undecided)
     return Bounds(lower, upper, where, undecided)
 
 

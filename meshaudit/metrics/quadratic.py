@@ -56,16 +56,17 @@ class QuadraticElement:
     node_derivatives: np.ndarray  # (k, 2, k) the same at every node
     midside_edges: np.ndarray  # (s, 3) corner a, corner b, midside node
     space: bernstein.BernsteinSpace  # det J's polynomial space
+    space_derivatives: np.ndarray  # (s, 2, k) the derivatives at the space's points
+    #: (s + g + k, s): det J at the space's points -> its s Bernstein coefficients, then
+    #: its values at the g Gauss points and the k nodes (det J is in the space, so this
+    #: interpolation is exact; at the corners the rows are exactly 1 and 0)
+    from_space: np.ndarray
     sample_points: np.ndarray  # (g + k, 2) the Gauss points, then the nodes
-    #: dN/dxi, dN/deta at the Gauss points, the nodes and (where they are other points)
-    #: the space's sample points: one table, so det J at all of them is one product
-    all_derivatives: np.ndarray
-    samples_are_nodes: bool  # the space's sample points are the nodes (triangle6)
 
 
 def _element(n_corners, nodes, gauss, weights, derivatives, edges, space) -> QuadraticElement:
-    same = len(space.points) == len(nodes) and bool(np.array_equal(space.points, nodes))
-    points = [gauss, nodes] if same else [gauss, nodes, space.points]
+    samples = np.vstack([gauss, nodes])
+    to_coeff = space.to_bernstein.T
     return QuadraticElement(
         n_corners,
         weights,
@@ -73,9 +74,9 @@ def _element(n_corners, nodes, gauss, weights, derivatives, edges, space) -> Qua
         derivatives(nodes),
         edges,
         space,
-        np.vstack([gauss, nodes]),
-        np.concatenate([derivatives(q) for q in points]),
-        same,
+        derivatives(space.points),
+        np.vstack([to_coeff, bernstein.basis_at(space, samples) @ to_coeff]),
+        samples,
     )
 
 
@@ -249,9 +250,10 @@ REFERENCE_AREA = {"quad8": 4.0, "quad9": 4.0, "triangle6": 0.5}
 
 @dataclass(frozen=True)
 class JacobianPart:
-    """det J of quadratic elements: at the Gauss points (n, g), at the nodes (n, k) and
-    bounded over the whole element (:class:`meshaudit.metrics.bernstein.Bounds`), with
-    the ``floor`` (n,) below which a value counts as negative."""
+    """det J of quadratic elements, one column per element: at the Gauss points (g, n),
+    at the nodes (k, n) and bounded over the whole element
+    (:class:`meshaudit.metrics.bernstein.Bounds`), with the ``floor`` (n,) below which a
+    value counts as negative."""
 
     gauss: np.ndarray
     nodal: np.ndarray
@@ -267,13 +269,13 @@ class JacobianPart:
 
     def metrics(self) -> dict[str, np.ndarray]:
         """det_j_min, det_j_max, det_j_corner_min, det_j_lower_bound, jacobian_ratio."""
-        lo, hi = self.gauss.min(axis=1), self.gauss.max(axis=1)
+        lo, hi = self.gauss.min(axis=0), self.gauss.max(axis=0)
         with np.errstate(divide="ignore", invalid="ignore"):
             ratio = np.where(lo > 0.0, hi / lo, np.inf)
         return {
             "det_j_min": lo,
             "det_j_max": hi,
-            "det_j_corner_min": self.nodal.min(axis=1),
+            "det_j_corner_min": self.nodal.min(axis=0),
             "det_j_lower_bound": self.lower,
             "jacobian_ratio": ratio,
         }
@@ -289,18 +291,32 @@ def negative_floor(p: np.ndarray, n_corners: int) -> np.ndarray:
 
 
 def jacobian_part(
-    element: QuadraticElement, p: np.ndarray, floor: np.ndarray | None = None
+    element: QuadraticElement,
+    p: np.ndarray,
+    floor: np.ndarray | None = None,
+    locate: bool = False,
 ) -> JacobianPart:
     """det J of elements with nodes ``p`` (n, k, 2) in their measuring plane: at the
-    Gauss points, at the nodes, and its bounds over the whole element."""
-    values = jacobian_determinants(element.all_derivatives, p)
-    g, k = len(element.gauss_weights), len(element.node_derivatives)
-    grid = values[:, g : g + k] if element.samples_are_nodes else values[:, g + k :]
+    Gauss points, at the nodes, and its bounds over the whole element (with ``locate``,
+    the smallest value found and where, for every element: see
+    :func:`meshaudit.metrics.bernstein.bounds`).
+
+    det J is evaluated at the space's points only; its Bernstein coefficients and its
+    values at the Gauss points and nodes follow by one product with a constant table.
+    """
+    values = jacobian_determinants(element.space_derivatives, p)  # (n, s)
+    # a stack of row-vector products, not one matrix product: numpy hands the latter to
+    # a threaded BLAS, whose threads cost more CPU time than this whole step; then one
+    # copy into columns, over which the reductions below are fast
+    columns = np.ascontiguousarray((values[:, None, :] @ element.from_space.T)[:, 0].T)
+    s, g = element.space.size, len(element.gauss_weights)
     if floor is None:
         floor = negative_floor(p, element.n_corners)
-    found = values[:, : g + k]
-    bounds = bernstein.bounds(element.space, grid, floor, found, element.sample_points)
-    return JacobianPart(values[:, :g], values[:, g : g + k], bounds, floor)
+    found = columns[s:]
+    bounds = bernstein.bounds(
+        element.space, columns[:s], floor, found, element.sample_points, locate
+    )
+    return JacobianPart(found[:g], found[g:], bounds, floor)
 
 
 def _triangle_nodes(order: np.ndarray) -> np.ndarray:
@@ -387,8 +403,8 @@ def measure(
     collapsed = flags["degenerate"] & ~crack_tip
     # det J is negative somewhere, or cannot be shown not to be (see bernstein.bounds)
     inverted = flags["inverted"] | ((jac.bounds.lower < floor) & ~collapsed)
-    sampled = np.concatenate([jac.gauss, jac.nodal], axis=1)
-    reversed_ = flags["reversed"] | ((sampled < floor[:, None]).all(axis=1) & ~collapsed)
+    everywhere = (jac.gauss < floor).all(axis=0) & (jac.nodal < floor).all(axis=0)
+    reversed_ = flags["reversed"] | (everywhere & ~collapsed)
     # The singular construction: on the straight chord, a quarter of it from a corner.
     near_quarter = (np.abs(np.abs(along) - 0.25) <= QUARTER_POINT_TOLERANCE) & (
         across <= QUARTER_POINT_TOLERANCE
