@@ -4,7 +4,7 @@ det J of an isoparametric element is a polynomial on the reference element:
 
 - triangle6: each entry of J is linear, so det J is of total degree 2;
 - quad9: x_xi is of degree (1, 2) in (xi, eta) and x_eta of degree (2, 1), so det J is
-  of degree 3 in xi and 3 in eta;
+  of degree 3 in xi and 3 in eta (total degree 5: the xi^3 eta^3 terms cancel);
 - quad8: x_xi lies in span{1, xi, eta, xi eta, eta^2} and x_eta in
   span{1, xi, eta, xi^2, xi eta}, so det J is again of degree 3 in xi and 3 in eta, and
   of total degree 4: its xi^3 eta and xi eta^3 terms cancel, and xi^3 eta^2, xi^2 eta^3,
@@ -225,7 +225,9 @@ def bounds(
     coefficient is below ``floor`` while every value found is not are subdivided, at
     most :data:`MAX_DEPTH` times and :data:`MAX_PIECES` open pieces each. ``upper`` and
     ``where`` are found for every element with ``locate``, otherwise only for those
-    whose lower bound is below ``floor`` (NaN for the others, certainly valid).
+    whose lower bound is below ``floor`` (NaN for the others, certainly valid); with
+    ``locate`` the smallest value is also hunted down by branch and bound (to a piece
+    1/2^MAX_DEPTH of the element's side), for reports on single elements.
     """
     lower = coeffs.min(axis=0)
     n = coeffs.shape[1]
@@ -250,6 +252,13 @@ def bounds(
     for start in range(0, len(open_rows), BATCH):
         batch = open_rows[start : start + BATCH]
         _subdivide(space, batch, coeffs[:, batch].T, floor, lower, upper, where, undecided)
+    if locate:  # hunt the smallest value of every element, the bounds as they stand
+        scratch = lower.copy()
+        for start in range(0, len(rows), BATCH):
+            batch = rows[start : start + BATCH]
+            _subdivide(
+                space, batch, coeffs[:, batch].T, floor, scratch, upper, where, undecided, True
+            )
     return Bounds(lower, upper, where, undecided)
 
 
@@ -262,13 +271,18 @@ def _subdivide(
     upper: np.ndarray,
     where: np.ndarray,
     undecided: np.ndarray,
+    search: bool = False,
 ) -> None:
     """Refine elements ``rows`` in place (``lower``, ``upper``, ``where``, ``undecided``).
 
     Pieces are kept as (owner, coefficients, origin, axes): the piece covers the
-    reference points origin + axes @ q, q in the reference element. A piece whose
-    coefficients are all >= floor is settled and dropped; an owner with an exact value
-    below floor is decided (negative) and dropped.
+    reference points origin + axes @ q, q in the reference element. Deciding the sign
+    (the default): a piece whose coefficients are all >= floor is settled and dropped,
+    an owner with an exact value below floor is decided (negative) and dropped, and an
+    owner left with more than :data:`MAX_PIECES` open pieces stops, undecided. With
+    ``search``, the smallest value is hunted instead (branch and bound): a piece is
+    dropped when its coefficients are all >= the smallest value found, an owner keeps
+    its :data:`MAX_PIECES` lowest pieces, and ``undecided`` is not touched.
     """
     s, n_open = space.size, len(rows)
     owner = np.arange(n_open)
@@ -302,15 +316,25 @@ def _subdivide(
         at[owner[hit]] = origin[hit] + np.einsum(
             "mij,mj->mi", axes[hit], space.corner_points[pick[hit]]
         )
-        done = smallest >= level_floor[owner]
+        done = smallest >= (up[owner] if search else level_floor[owner])
+        if not search:
+            done |= up[owner] < level_floor[owner]  # decided: negative somewhere
         np.minimum.at(settled, owner[done], smallest[done])
-        keep = ~done & (up[owner] >= level_floor[owner])
-        crowded = np.bincount(owner[keep], minlength=n_open) > MAX_PIECES
-        keep &= ~crowded[owner]
+        keep = np.flatnonzero(~done)
+        keep = keep[np.lexsort((smallest[keep], owner[keep]))]  # by owner, lowest first
+        start = np.searchsorted(owner[keep], owner[keep])
+        crowded = np.arange(len(keep)) - start >= MAX_PIECES
+        if search:
+            np.minimum.at(settled, owner[keep[crowded]], smallest[keep[crowded]])
+            keep = keep[~crowded]
+        else:
+            stopped = np.unique(owner[keep[crowded]])
+            undecided[rows[stopped]] = True
+            keep = keep[~np.isin(owner[keep], stopped)]
         owner, coeffs = owner[keep], pieces[keep]
         origin, axes = origin[keep], axes[keep]
-        undecided[rows[crowded]] = True
         if not len(owner):
             break
-    undecided[rows[np.unique(owner)]] = True
+    if not search:
+        undecided[rows[np.unique(owner)]] = True
     lower[rows], upper[rows], where[rows] = low, up, at
