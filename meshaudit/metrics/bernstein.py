@@ -37,10 +37,10 @@ MAX_DEPTH = 6
 
 #: Most pieces one element may keep open at any depth. An element whose sign is still
 #: open in more pieces (det J near zero along a curve, say) stops there, undecided.
-MAX_PIECES = 64
+MAX_PIECES = 16
 
 #: Undecided elements refined together: bounds the temporaries (at most
-#: BATCH x 4 MAX_PIECES pieces of 16 coefficients, 33 MB) whatever the mesh.
+#: BATCH x 4 MAX_PIECES pieces of 16 coefficients, 8 MB) whatever the mesh.
 BATCH = 1024
 
 
@@ -195,8 +195,9 @@ class Bounds:
     """What is certain about det J over each element (n,).
 
     ``lower``: det J >= lower everywhere on the element; ``upper``: the smallest det J
-    value found (at the reference point ``where`` (n, 2)), so the minimum of det J lies
-    in [lower, upper] (NaN where not looked for, see :func:`bounds`); ``undecided``:
+    value found (at the reference point ``where`` (n, 2), NaN unless :func:`bounds` was
+    asked to locate it), so the minimum of det J lies in [lower, upper] (NaN where not
+    looked for, see :func:`bounds`); ``undecided``:
     lower < floor <= upper still after the deepest subdivision, so the sign of the
     minimum is not known.
     """
@@ -247,11 +248,15 @@ def bounds(
         better = value < up
         up = np.where(better, value, up)
         at[better] = known_points[k[better]]
-    upper[rows], where[rows] = up, at
+    upper[rows] = up
+    if locate:
+        where[rows] = at
     open_rows = rows[(lower[rows] < floor[rows]) & (up >= floor[rows])]
     for start in range(0, len(open_rows), BATCH):
         batch = open_rows[start : start + BATCH]
-        _subdivide(space, batch, coeffs[:, batch].T, floor, lower, upper, where, undecided)
+        _subdivide(
+            space, batch, coeffs[:, batch].T, floor, lower, upper, where, undecided, False, locate
+        )
     if locate:  # hunt the smallest value of every element, the bounds as they stand
         scratch = lower.copy()
         for start in range(0, len(rows), BATCH):
@@ -272,6 +277,7 @@ def _subdivide(
     where: np.ndarray,
     undecided: np.ndarray,
     search: bool = False,
+    track: bool = False,
 ) -> None:
     """Refine elements ``rows`` in place (``lower``, ``upper``, ``where``, ``undecided``).
 
@@ -282,8 +288,10 @@ def _subdivide(
     owner left with more than :data:`MAX_PIECES` open pieces stops, undecided. With
     ``search``, the smallest value is hunted instead (branch and bound): a piece is
     dropped when its coefficients are all >= the smallest value found, an owner keeps
-    its :data:`MAX_PIECES` lowest pieces, and ``undecided`` is not touched.
+    its :data:`MAX_PIECES` lowest pieces, and ``undecided`` is not touched. ``where`` is
+    kept up to date only with ``track`` (always when searching).
     """
+    track = track or search
     s, n_open = space.size, len(rows)
     owner = np.arange(n_open)
     origin = np.zeros((n_open, 2))
@@ -296,8 +304,10 @@ def _subdivide(
         m = len(owner)
         pieces = (coeffs @ space.children).reshape(m * 4, s)
         owner = np.repeat(owner, 4)
-        origin = (origin[:, None, :] + np.einsum("mij,cj->mci", axes, space.origin)).reshape(-1, 2)
-        axes = np.einsum("mij,cjk->mcik", axes, space.axes).reshape(-1, 2, 2)
+        if track:  # where each piece lies, for the point named as the smallest value
+            origin = origin[:, None, :] + np.einsum("mij,cj->mci", axes, space.origin)
+            axes = np.einsum("mij,cjk->mcik", axes, space.axes).reshape(-1, 2, 2)
+            origin = origin.reshape(-1, 2)
         smallest = pieces.min(axis=1)
         # the lowest coefficient over all pieces (settled ones too) bounds det J below
         active = np.unique(owner)
@@ -313,9 +323,10 @@ def _subdivide(
         better = value[first] < up[owner[first]]
         hit = first[better]
         up[owner[hit]] = value[hit]
-        at[owner[hit]] = origin[hit] + np.einsum(
-            "mij,mj->mi", axes[hit], space.corner_points[pick[hit]]
-        )
+        if track:
+            at[owner[hit]] = origin[hit] + np.einsum(
+                "mij,mj->mi", axes[hit], space.corner_points[pick[hit]]
+            )
         done = smallest >= (up[owner] if search else level_floor[owner])
         if not search:
             done |= up[owner] < level_floor[owner]  # decided: negative somewhere
@@ -332,7 +343,8 @@ def _subdivide(
             undecided[rows[stopped]] = True
             keep = keep[~np.isin(owner[keep], stopped)]
         owner, coeffs = owner[keep], pieces[keep]
-        origin, axes = origin[keep], axes[keep]
+        if track:
+            origin, axes = origin[keep], axes[keep]
         if not len(owner):
             break
     if not search:
