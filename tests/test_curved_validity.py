@@ -457,3 +457,21 @@ def test_explain_names_the_negative_point_the_sampling_missed(run_cli, tmp_path)
     assert np.hypot(bound["xi"] - where[0], bound["eta"] - where[1]) < 0.1
     assert "no node or Gauss point shows it" in doc["flag_reasons"]["inverted"]
     assert "det J over the whole element: at least" in result.stdout
+
+
+def test_quarter_point_cap_holds_per_region():
+    # Region profiles judge the same twin. The other edge's node at 0.15 along passes the
+    # standard fail limit 0.2 (the quarter-point element warns) but not the strict 0.1;
+    # under lenient (fail 0.22, below the quarter point's own 0.25) a node at 0.05 leaves
+    # the quarter-point element at warn.
+    parts = [
+        _with_second_edge("quad8", a) + np.array([10.0 * k, 0.0])
+        for k, a in enumerate((0.15, 0.15, 0.05))
+    ]
+    cells = [list(range(8 * k, 8 * k + 8)) for k in range(3)]
+    mesh = meshio.Mesh(np.vstack(parts), [("quad8", cells)])
+    mesh.cell_sets = {"fillet": [np.array([1])], "web": [np.array([2])]}
+    report = audit(mesh, regions={"fillet": "strict", "web": "lenient"})
+    assert report.flag("quarter_point").all()
+    assert list(report.verdict_names) == ["warn", "fail", "warn"]
+    assert report.levels["midside_offset_along"].tolist() == [1, 2, 1]
