@@ -9,8 +9,10 @@ This module replaces what the curved map changes:
 
 - ``det_j_min`` / ``det_j_max`` / ``jacobian_ratio``: det J at the solver's Gauss points
   (3x3 for the quads, the 3-point degree-2 rule for triangle6);
-- ``det_j_corner_min``: det J at every node, corners and midsides (and the quad9 centre),
-  where a distorted quadratic map vanishes first;
+- ``det_j_corner_min``: det J at every node, corners and midsides (and the quad9 centre);
+- ``det_j_lower_bound``: det J over the whole element, bounded below by its Bernstein
+  coefficients (:mod:`meshaudit.metrics.bernstein`); the element is ``inverted`` when det
+  J is negative anywhere, or cannot be shown not to be;
 - ``area``: the curved element's true area, the Gauss sum of |x_xi cross x_eta| in 3-D
   (exact for a flat element: det J is a polynomial the rule integrates exactly);
 - ``midside_offset_along`` / ``midside_offset_across``: worst midside node's offset from
@@ -24,7 +26,9 @@ isoparametric finite elements in linear fracture mechanics", Int. J. Numer. Meth
 10 (1976) 25-37 (citations from memory). Such an element is flagged ``quarter_point``
 (a warning), an element pulled past it is ``inverted`` (a failure). Barsoum's collapsed
 form (a quad side collapsed onto the tip) is recognised as well and measured as the
-triangle it becomes.
+triangle it becomes. For a flagged element the metrics the quarter point spoils by itself
+are measured again without it (:func:`without_quarter_points`), so that the verdict
+softens only what the quarter point causes.
 """
 
 from __future__ import annotations
