@@ -20,9 +20,11 @@ coefficients bound det J more tightly, and their corner coefficients are more ex
 values. A. Johnen, J.-F. Remacle and C. Geuzaine, "Geometrical validity of curvilinear
 finite elements", J. Comput. Phys. 233 (2013) 359-372 (cited from memory).
 
-The tables are built once, at import, in exact rational arithmetic and then rounded to
-float: values at the sample points -> coefficients, coefficients -> the four pieces'
-coefficients. Everything is then a batched matrix product over elements.
+The tables are built once, at import: values at the sample points -> coefficients,
+coefficients -> the four pieces' coefficients. Their exact entries are rationals of known
+denominators (sixths and eighths on the line, halves and quarters on the triangle), so the
+float inverse is rounded to them: the tables hold the exact rationals, correctly rounded.
+Everything is then a product with a constant table, over all elements at once.
 """
 
 from __future__ import annotations
