@@ -32,6 +32,8 @@ from test_quadratic import (
 
 from meshaudit import audit
 from meshaudit import reference as ref
+from meshaudit.explain import explain
+from meshaudit.inspection import audit_mesh
 from meshaudit.metrics import bernstein, quadratic
 from meshaudit.profiles import STANDARD
 from meshaudit.verdicts import judge
@@ -414,6 +416,8 @@ def test_det_j_touching_zero_on_a_line_inside_is_reported():
     assert part.bounds.undecided[0]
     report = one("quad9", nodes)
     assert "inverted" in report.flags_of(0) and report.verdict_names[0] == "fail"
+    ex = explain(audit_mesh(meshio.Mesh(nodes, [("quad9", [list(range(9))])])), 1)
+    assert ex.det_j_bound["undecided"] and "could not be shown" in ex.flag_reasons["inverted"]
 
 
 def test_bounds_of_a_known_polynomial():
