@@ -61,6 +61,8 @@ def measure_elements(
         metrics, flags = KERNELS[family](corners, local[:, :n_corners])
         return quadratic.measure(cell_type, coords3, local, metrics, flags)
     metrics, flags = KERNELS[family](corners, to_local(corners, frame))
+    # det J of a linear element is bilinear or constant: its minimum is at a corner
+    metrics["det_j_lower_bound"] = metrics["det_j_corner_min"]
     for name in quadratic.MIDSIDE_METRICS:
         metrics[name] = np.full(len(corners), np.nan)
     return metrics, flags

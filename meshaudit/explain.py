@@ -41,6 +41,9 @@ TRIANGLE_CORNERS = np.array([[0.0, 0.0], [1.0, 0.0], [0.0, 1.0]])
 FLAG_REASONS = {
     "inverted": "det J is negative at {negative}: the map from the reference element "
     "folds over itself there",
+    "undecided": "det J could not be shown to stay positive: it is at least {lower:.4g} "
+    "(Bernstein bound after subdivision) and its smallest value found is {upper:.4g}; "
+    "reported as inverted, since the sign of its minimum stays unknown",
     "reversed": "the nodes run clockwise about +z (negative signed area), as a 2-D solver "
     "reading x and y sees them (reverse the node order)",
     "nonconvex": "an interior angle exceeds 180 deg (largest {max_angle:.4g} deg): "
@@ -102,6 +105,9 @@ class Explanation:
     neighbour_ids: np.ndarray
     neighbour_rows: np.ndarray
     measured_in: str  # "mesh plane" or "element's best-fit plane"
+    #: det J over the whole element: lower (det J >= lower everywhere), upper (smallest
+    #: value found), xi, eta (where), undecided (bool)
+    det_j_bound: dict[str, Any] = field(default_factory=dict)
     notes: list[str] = field(default_factory=list)
     findings: list[str] = field(default_factory=list)  # mesh-level findings naming it
     node_numbering: str = ""  # what the node numbers are (e.g. "gmsh node tags")
@@ -142,6 +148,10 @@ class Explanation:
                 }
                 for k, (r, d) in enumerate(zip(self.node_reference, self.det_j_nodes))
             ],
+            "det_j_bound": {
+                k: (v if isinstance(v, bool) else finite_or_none(v))
+                for k, v in self.det_j_bound.items()
+            },
             "metrics": [m.to_dict() for m in self.metrics],
             "flags": self.flags,
             "flag_reasons": self.flag_reasons,
@@ -189,6 +199,26 @@ def jacobians(cell_type: str, family: str, local: np.ndarray) -> tuple[np.ndarra
         return QUAD_GAUSS_2X2, gauss, QUAD_CORNERS, nodal
     det = float(triangle_metrics.jacobian_determinant(corners[None])[0])
     return TRIANGLE_GAUSS_1, np.array([det]), TRIANGLE_CORNERS, np.full(3, det)
+
+
+def det_j_bound(
+    cell_type: str, local: np.ndarray, node_points: np.ndarray, det_nodes: np.ndarray
+) -> dict[str, Any]:
+    """det J over the whole element: at least ``lower`` everywhere, ``upper`` the smallest
+    value found, at reference point (``xi``, ``eta``), and whether the sign of the minimum
+    stayed ``undecided``. Quadratic elements: the Bernstein bound the audit uses; linear
+    ones: det J is bilinear or constant, so the smallest corner value is the minimum."""
+    if cell_type in quadratic.ELEMENTS:
+        part = quadratic.jacobian_part(quadratic.ELEMENTS[cell_type], local[None], locate=True)
+        lower, upper = float(part.lower[0]), float(part.bounds.upper[0])
+        xi, eta = (float(v) for v in part.bounds.where[0])
+        undecided = bool(part.bounds.undecided[0])
+    else:
+        k = int(np.argmin(det_nodes))
+        lower = upper = float(det_nodes[k])
+        xi, eta = (float(v) for v in node_points[k])
+        undecided = False
+    return {"lower": lower, "upper": upper, "xi": xi, "eta": eta, "undecided": undecided}
 
 
 def _reason(name: str, value: float, worse: str, level: str, warn, fail) -> str:
@@ -239,16 +269,25 @@ def metric_lines(audited: AuditedMesh, i: int) -> list[MetricLine]:
     return lines
 
 
-def _flag_reasons(flags: list[str], node_numbers, det_nodes, metrics) -> dict[str, str]:
+def _flag_reasons(
+    flags: list[str], node_numbers, det_nodes, metrics, bound: dict[str, Any]
+) -> dict[str, str]:
     negative = ", ".join(
         f"node {int(n)} (det J {d:.4g})" for n, d in zip(node_numbers, det_nodes) if d < 0
     )
+    if not negative and bound and bound["upper"] < 0:
+        negative = (
+            f"(xi, eta) = ({bound['xi']:.4g}, {bound['eta']:.4g}) in the element "
+            f"(det J {bound['upper']:.4g}; no node or Gauss point shows it)"
+        )
     values = {m.name: m.value for m in metrics}
     out = {}
     for flag in flags:
         template = FLAG_REASONS.get(flag)
+        if flag == "inverted" and bound.get("undecided"):
+            template = FLAG_REASONS["undecided"]
         if template:
-            out[flag] = template.format(negative=negative or "a corner", **values)
+            out[flag] = template.format(negative=negative or "a corner", **bound, **values)
     return out
 
 
@@ -267,6 +306,7 @@ def explain(audited: AuditedMesh, element_id: int) -> Explanation:
     cell_type = report.cell_types[int(report.type_codes[i])]
     local, where = local_nodes(audited, i)
     gauss_pts, det_gauss, ref_corners, det_corners = jacobians(cell_type, family, local)
+    bound = det_j_bound(cell_type, local, ref_corners, det_corners)
     nodes = element_nodes(audited.elements, i)
     numbers = audited.elements.numbering.node_numbers(nodes)
     lines = metric_lines(audited, i)
@@ -288,10 +328,11 @@ def explain(audited: AuditedMesh, element_id: int) -> Explanation:
         det_j_nodes=det_corners,
         metrics=lines,
         flags=flags,
-        flag_reasons=_flag_reasons(flags, numbers, det_corners, lines),
+        flag_reasons=_flag_reasons(flags, numbers, det_corners, lines, bound),
         neighbour_ids=report.ids[near],
         neighbour_rows=near,
         measured_in=where,
+        det_j_bound=bound,
         findings=findings_naming(report, int(report.ids[i])),
         node_numbering=audited.elements.numbering.nodes,
         element_numbering=audited.elements.numbering.elements,

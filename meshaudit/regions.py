@@ -12,6 +12,7 @@ from typing import Any
 
 import numpy as np
 
+from .metrics.quadratic import without_quarter_points_name
 from .profiles import Profile
 from .verdicts import judge
 
@@ -99,7 +100,8 @@ def judge_by_region(
         rows = np.flatnonzero(codes == k)
         if rows.size == 0:
             continue
-        needed = {"area", *profile.limits.get(family, {})}  # all judge reads
+        limited = profile.limits.get(family, {})
+        needed = {"area", *limited, *map(without_quarter_points_name, limited)}  # all judge reads
         sub_metrics = {name: metrics[name][rows] for name in needed if name in metrics}
         sub_flags = {name: values[rows] for name, values in flags.items()}
         lv, v, s = judge(family, sub_metrics, sub_flags, profile)

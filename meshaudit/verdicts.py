@@ -6,6 +6,7 @@ from __future__ import annotations
 import numpy as np
 
 from .metrics import METRIC_INFO, VALIDITY_FLAGS, WARNING_FLAGS
+from .metrics.quadratic import QUARTER_POINT_METRICS, without_quarter_points_name
 from .profiles import Limit, Profile
 from .score import banded, distance
 
@@ -16,15 +17,12 @@ VERDICT_NAMES: tuple[str, ...] = ("ok", "warn", "fail")
 INVALID_FLAGS: tuple[str, ...] = tuple(f for f in VALIDITY_FLAGS if f != "reversed")
 
 #: Metrics a quarter-point element breaches by construction (det J vanishes at its
-#: corner, so the Gauss-point det J spread is large and the midside node is a quarter of
-#: the edge off centre). For an element flagged ``quarter_point`` their breaches are
-#: reported at warn level at most: the element is reported as what it is, not failed.
-QUARTER_POINT_CAPPED: tuple[str, ...] = (
-    "det_j_min",
-    "det_j_corner_min",
-    "jacobian_ratio",
-    "midside_offset_along",
-)
+#: corner, so det J's minima are near zero and the Gauss-point spread is large; the
+#: midside node is a quarter of the edge off centre). For an element flagged
+#: ``quarter_point`` a breach of one of them is lowered to warn when the same element
+#: without its quarter-point nodes (moved to their chord midpoints, the rest kept) does
+#: not breach that limit too: only what the quarter points cause is softened.
+QUARTER_POINT_CAPPED: tuple[str, ...] = QUARTER_POINT_METRICS
 
 
 def breach_level(values: np.ndarray, limit: Limit, worse: str) -> np.ndarray:
@@ -40,6 +38,18 @@ def breach_level(values: np.ndarray, limit: Limit, worse: str) -> np.ndarray:
             past = values > threshold if worse == "high" else values < threshold
         level = np.maximum(level, np.where(past, np.int8(code), np.int8(0)))
     return level
+
+
+def _quarter_point_capped(
+    lvl: np.ndarray, metric: str, limit: Limit, metrics: dict[str, np.ndarray], quarter: np.ndarray
+) -> np.ndarray:
+    """Breach levels of ``metric`` with quarter-point elements capped at warn unless the
+    element without its quarter points breaches at fail too (missing: not capped)."""
+    twin = metrics.get(without_quarter_points_name(metric))
+    if twin is None or not quarter.any():
+        return lvl
+    ceiling = np.maximum(np.int8(WARN), breach_level(twin, limit, METRIC_INFO[metric].worse))
+    return np.where(quarter, np.minimum(lvl, ceiling), lvl)
 
 
 def judge(
@@ -60,7 +70,7 @@ def judge(
         if t is not None:
             distortion += t
         if metric in QUARTER_POINT_CAPPED and "quarter_point" in flags:
-            lvl = np.where(flags["quarter_point"], np.minimum(lvl, np.int8(WARN)), lvl)
+            lvl = _quarter_point_capped(lvl, metric, limit, metrics, flags["quarter_point"])
         levels[metric] = lvl
         np.maximum(verdict, lvl, out=verdict)
     for name in WARNING_FLAGS:

@@ -17,7 +17,7 @@ from hypothesis import strategies as st
 import meshaudit
 from meshaudit.metrics import METRIC_NAMES
 
-SQUARED = ("area", "det_j_min", "det_j_max", "det_j_corner_min")
+SQUARED = ("area", "det_j_min", "det_j_max", "det_j_corner_min", "det_j_lower_bound")
 DIMENSIONLESS = tuple(m for m in METRIC_NAMES if m not in SQUARED)
 #: Absolute tolerances (degrees) for angle metrics that can sit at zero (skew, and the
 #: warp of a flat element). Warp comes from small out-of-plane differences of coordinates

@@ -46,6 +46,10 @@ def test_crack_tip_rosette_is_reported_as_quarter_point_elements():
     assert tip.sum() == 8
     assert report.flag("quarter_point")[tip].all() and not report.flag("quarter_point")[~tip].any()
     np.testing.assert_allclose(report.metrics["det_j_corner_min"][tip], 0.0, atol=1e-12)
+    # Over the whole element (Bernstein bound): zero at the tip and nowhere below it, as
+    # the quarter-point rule says; the curved rings certainly positive.
+    assert (report.metrics["det_j_lower_bound"][tip] == 0.0).all()
+    assert (report.metrics["det_j_lower_bound"][~tip] > 0.0).all()
     assert set(report.verdict_names[tip]) == {"warn"}
     assert set(report.verdict_names[~tip]) == {"ok"}
     sagitta = (1 - np.cos(np.pi / 8)) / (2 * np.sin(np.pi / 8))
@@ -69,3 +73,4 @@ def test_flange_shell_names_its_flipped_element():
     # element index 7 of the file, the VTK cell index of a file of quad8 cells only
     assert report.ids[report.flag("flipped_normal")].tolist() == [7]
     assert not report.flag("inverted").any()
+    assert (report.metrics["det_j_lower_bound"] > 0.0).all()

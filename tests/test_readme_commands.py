@@ -45,7 +45,7 @@ def _commands() -> list[str]:
 
 
 #: Inline mentions of a command by name in the prose, not commands to run as they stand.
-NAMES = {"meshaudit check", "meshaudit compare"}
+NAMES = {"meshaudit check", "meshaudit compare", "meshaudit explain"}
 
 
 def _concrete(cmd: str) -> bool:

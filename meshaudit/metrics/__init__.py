@@ -30,6 +30,13 @@ METRICS: tuple[MetricInfo, ...] = (
     MetricInfo("det_j_min", "low", "length^2", "smallest det J over the Gauss points"),
     MetricInfo("det_j_max", "none", "length^2", "largest det J over the Gauss points", False),
     MetricInfo("det_j_corner_min", "low", "length^2", "smallest det J over the corner nodes"),
+    MetricInfo(
+        "det_j_lower_bound",
+        "low",
+        "length^2",
+        "det J is at least this everywhere in the element (Bernstein bound; exact minimum "
+        "for linear and straight-sided elements)",
+    ),
     MetricInfo("jacobian_ratio", "high", "1", "largest over smallest Gauss-point det J"),
     MetricInfo("scaled_jacobian", "low", "1", "Knupp's scaled Jacobian, worst corner"),
     MetricInfo("aspect_ratio", "high", "1", "Robinson's aspect ratio (triangles: edge/altitude)"),

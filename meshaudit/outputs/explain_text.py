@@ -39,6 +39,18 @@ def gauss_table(ex: Explanation) -> Table:
     return t
 
 
+def bound_line(ex: Explanation) -> Text:
+    """det J over the whole element, one line."""
+    b = ex.det_j_bound
+    text = (
+        f"det J over the whole element: at least {_fmt(b['lower'])}; smallest value found "
+        f"{_fmt(b['upper'])} at (xi, eta) = ({b['xi']:+.4f}, {b['eta']:+.4f})"
+    )
+    if b["undecided"]:
+        text += "; sign of the minimum undecided (reported as inverted)"
+    return Text(text)
+
+
 def metrics_table(ex: Explanation) -> Table:
     t = Table(title=f"Metrics against profile {ex.profile}", title_justify="left")
     for col in ("metric", "value", "unit", "warn", "fail", "level", "why"):
@@ -71,7 +83,10 @@ def headline(ex: Explanation) -> Text:
 
 def render(ex: Explanation, console: Console) -> None:
     """Print the explanation."""
-    parts: list = [headline(ex), Text(), nodes_table(ex), Text(), gauss_table(ex), Text()]
+    parts: list = [headline(ex), Text(), nodes_table(ex), Text(), gauss_table(ex)]
+    if ex.det_j_bound:
+        parts.append(bound_line(ex))
+    parts.append(Text())
     parts.append(metrics_table(ex))
     if ex.flag_reasons:
         parts.append(Text())
