@@ -121,8 +121,10 @@ def choose_frame(mesh: ElementMesh) -> Frame:
         return Frame("shell", flatness=deviation / extent, fit_normal=normal)
     # Across the plane's trace on x-y, the nodes' projection is |n_z| / |n_xy| times as
     # wide as their spread in z: a line when the plane contains z.
-    trace_normal = normal[:2] / max(float(np.hypot(normal[0], normal[1])), 1e-300)
-    vertical = float(np.ptp(pts[:, :2] @ trace_normal)) <= tolerance
+    # (A plane containing z has |n_xy| = 1 to within the tolerance; a normal near z, down
+    # to exactly z when one node is off by a denormal, has no trace to measure across.)
+    across = float(np.hypot(normal[0], normal[1]))
+    vertical = across > 0.5 and float(np.ptp(pts[:, :2] @ (normal[:2] / across))) <= tolerance
     if vertical:
         normal = np.array([normal[0], normal[1], 0.0]) / np.hypot(normal[0], normal[1])
         if normal[np.argmax(np.abs(normal))] < 0.0:  # any fixed choice: no reference

@@ -290,3 +290,19 @@ def test_junit_and_html_tell_which_reference_applies():
         page = html_report._summary(report)  # the summary block of the page
         assert report.summary.geometry_text() in page
     assert "contains the z direction" in page
+
+
+def test_a_flat_mesh_with_one_node_off_by_a_denormal_is_judged_against_z():
+    # Found by the fuzz test: a z of 1e-321 on one node (a flipped byte) left the plane
+    # normal exactly +z, which was taken for a plane containing z, and the normal became
+    # NaN. Geometry fact: the mesh is the flat grid to within any tolerance.
+    xs, ys = np.meshgrid(np.arange(4.0), np.arange(3.0))
+    pts = np.column_stack([xs.ravel(), ys.ravel(), np.zeros(12)])
+    pts[5, 2] = 1.26e-321
+    i, j = np.meshgrid(np.arange(3), np.arange(2))
+    a = (j * 4 + i).ravel()
+    quads = np.column_stack([a, a + 1, a + 5, a + 4])
+    report = audit(meshio.Mesh(pts, [("quad", quads)]))
+    assert report.summary.frame == "planar" and report.summary.orientation == "+z"
+    np.testing.assert_allclose(report.summary.normal, [0.0, 0.0, 1.0])
+    assert report.verdict_counts() == {"ok": 6, "warn": 0, "fail": 0}
