@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import argparse
 import glob
+import os
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -193,7 +194,7 @@ def _claim_destinations(args: argparse.Namespace, mesh: str, written: dict[Path,
         dest = getattr(args, kind, None)
         if dest is None:
             continue
-        key = Path(dest).resolve()
+        key = Path(os.path.realpath(dest))
         if key in written:
             raise OutputError(
                 f"{dest}: the report of {written[key]} is already there; meshes with the "
