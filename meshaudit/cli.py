@@ -161,12 +161,9 @@ def _check_many(args: argparse.Namespace, inputs: list[tuple[str, str | None]]) 
 
 
 def _console():
-    from rich.console import Console
+    from .outputs.console import terminal_console
 
-    console = Console(highlight=False)
-    if not console.is_terminal:
-        console = Console(highlight=False, width=120)  # logs read better unwrapped
-    return console
+    return terminal_console(120)
 
 
 def _check_single(args: argparse.Namespace) -> int:

@@ -6,7 +6,6 @@ dispatcher; everything heavy (matplotlib, meshio writers) is imported on use onl
 from __future__ import annotations
 
 import argparse
-import sys
 from pathlib import Path
 from typing import TYPE_CHECKING
 
@@ -113,12 +112,11 @@ def add_explain_command(sub: argparse._SubParsersAction) -> None:
 
 def run_explain(args: argparse.Namespace) -> int:
     """The ``explain`` command; returns the exit status."""
-    from rich.console import Console
-
     from .config import settings_for
     from .explain import explain
     from .inspection import audit_mesh
     from .outputs import atomic, explain_text
+    from .outputs.console import terminal_console
     from .outputs.destinations import check_destinations, protected_inputs
     from .outputs.plot import plot_format
     from .process import terminal_output
@@ -147,9 +145,7 @@ def run_explain(args: argparse.Namespace) -> int:
     if args.json is not None:
         outputs.append((args.json, lambda p: atomic.write_text(p, explain_text.render_json(ex))))
     atomic.write_all(outputs, protected)
-    console = Console(highlight=False)
-    if not console.is_terminal:
-        console = Console(highlight=False, width=140, file=sys.stdout)
+    console = terminal_console(140)
     with terminal_output():
         explain_text.render(ex, console)
     return 1 if audited.report.failing[ex.index] else 0

@@ -5,11 +5,14 @@ from __future__ import annotations
 
 import errno
 import os
+import re
 import stat
 from pathlib import Path
 
 from .errors import InputError
 
+#: How os.fsdecode carries a byte that is not UTF-8.
+_NOT_UTF8 = re.compile("[\udc80-\udcff]")
 #: Reasons in words for the errors a path lookup can meet.
 REASONS = {
     errno.ENOENT: "no such file",
@@ -37,6 +40,12 @@ def lookup(path: str | os.PathLike[str]) -> os.stat_result | None:
         return os.stat(path)
     except (FileNotFoundError, NotADirectoryError):
         return None
+
+
+def display_name(path: str | os.PathLike[str]) -> str:
+    """``path`` as text for reports: the bytes of a name that are not UTF-8 (which Python
+    carries as lone surrogates, and no UTF-8 report can hold) written as ``\\xNN``."""
+    return _NOT_UTF8.sub(lambda m: f"\\x{ord(m.group()) - 0xDC00:02x}", os.fsdecode(path))
 
 
 def stat_input(path: Path) -> os.stat_result:

@@ -38,10 +38,10 @@ def expand_inputs(patterns: list[str]) -> list[tuple[str, str | None]]:
     """
     out: list[tuple[str, str | None]] = []
     for pattern in patterns:
-        if Path(pattern).exists() or not GLOB_CHARS & set(pattern):
+        if os.path.exists(pattern) or not GLOB_CHARS & set(pattern):
             out.append((pattern, None))
             continue
-        matches = sorted(p for p in glob.glob(pattern, recursive=True) if Path(p).is_file())
+        matches = sorted(p for p in glob.glob(pattern, recursive=True) if os.path.isfile(p))
         if not matches:
             out.append((pattern, f"{pattern}: no file matches this pattern"))
         out.extend((m, None) for m in matches)
@@ -56,7 +56,7 @@ def expand_inputs(patterns: list[str]) -> list[tuple[str, str | None]]:
 
 def _is_template(text: str) -> bool:
     """A report option naming a directory (existing, or ending in '/') or a {stem} pattern."""
-    return Path(text).is_dir() or text.endswith(("/", "\\")) or "{stem}" in text
+    return os.path.isdir(text) or text.endswith(("/", "\\")) or "{stem}" in text
 
 
 def check_report_options(args: argparse.Namespace) -> None:
@@ -80,7 +80,7 @@ def check_report_options(args: argparse.Namespace) -> None:
 def _destination(given: str, kind: str, mesh: Path) -> tuple[Path, bool]:
     """Where a report given on the command line goes for ``mesh``; and whether it was
     derived from a directory or a ``{stem}`` pattern (then its directory is created)."""
-    if Path(given).is_dir() or given.endswith(("/", "\\")):
+    if os.path.isdir(given) or given.endswith(("/", "\\")):
         return Path(given) / f"{mesh.stem}{REPORT_SUFFIX[kind]}", True
     if "{stem}" in given:
         return Path(given.replace("{stem}", mesh.stem)), True

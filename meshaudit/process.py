@@ -99,8 +99,10 @@ def stopping_signals_held() -> Iterator[None]:
 
 def say(line: str) -> None:
     """Print one line on stderr; a stderr that cannot take it is ignored."""
+    from .outputs.safe_text import one_line
+
     try:
-        print(line, file=sys.stderr, flush=True)
+        print(one_line(line), file=sys.stderr, flush=True)
     except (OSError, ValueError):
         pass
 
