@@ -18,6 +18,7 @@ import numpy as np
 from . import labels
 from .elements import SUPPORTED_CELLS, ElementBlock, ElementMesh
 from .errors import InputError
+from .file_ends import check_file_end
 from .labels import Numbering
 from .paths import display_name, stat_input
 from .regions import element_sets
@@ -49,6 +50,7 @@ def read_meshio_said(
         raise InputError(f"{p}: permission denied")
     if st.st_size == 0:
         raise InputError(f"{p}: file is empty")
+    check_file_end(p, labels.file_format_of(p, file_format))  # a file cut short
     sink = io.StringIO()
     try:
         with (
