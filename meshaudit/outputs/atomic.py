@@ -91,7 +91,8 @@ def write_all(
     try:
         for dest, (_, render) in zip(dests, outputs):
             current = dest.given
-            staged.append((_temporary(dest), dest))
+            with stopping_signals_held():  # a signal now must not orphan the new file
+                staged.append((_temporary(dest), dest))
             render(staged[-1][0])
         for tmp, _ in staged:
             os.chmod(tmp, 0o644)

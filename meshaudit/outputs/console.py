@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import errno
 from collections.abc import Iterable
 
 from rich.console import Console, ConsoleOptions, RenderableType
@@ -27,6 +28,12 @@ class PlainConsole(Console):
                 if safe != segment.text:
                     segment = Segment(safe, segment.style)
             yield segment
+
+    def on_broken_pipe(self) -> None:
+        """Rich would exit with status 1; instead stop printing and let the caller decide
+        (:func:`meshaudit.process.terminal_output` keeps the verdict's exit status)."""
+        self.quiet = True
+        raise BrokenPipeError(errno.EPIPE, "Broken pipe")
 
 
 def terminal_console(log_width: int = 120) -> PlainConsole:
