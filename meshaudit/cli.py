@@ -1,7 +1,8 @@
 """Command line: a thin layer over :func:`meshaudit.audit` and the output modules.
 
 Exit status: 0 no element fails, 1 some element fails, 2 the input cannot be audited
-(one line on stderr, nothing written).
+(one line on stderr, nothing written), 128 + N stopped by signal N (temporary files removed;
+see :mod:`meshaudit.process`).
 """
 
 from __future__ import annotations

@@ -104,7 +104,7 @@ def _name_max(directory: Path) -> int:
     """The longest file name (bytes) ``directory`` takes; 255 when the system does not say."""
     try:
         return os.pathconf(directory, "PC_NAME_MAX")
-    except (OSError, ValueError):
+    except (OSError, ValueError, AttributeError):  # AttributeError: no pathconf here
         return 255
 
 
