@@ -18,6 +18,7 @@ import numpy as np
 
 from .config import settings_for
 from .errors import MeshAuditError, OutputError
+from .paths import reason
 
 EXIT_PASS, EXIT_FAIL, EXIT_UNUSABLE = 0, 1, 2
 
@@ -135,7 +136,7 @@ def _make_parent(dest: Path) -> None:
     try:
         dest.parent.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
-        raise OutputError(f"{dest}: cannot create directory {dest.parent}: {exc}") from None
+        raise OutputError(f"{dest}: cannot create directory {dest.parent}: {reason(exc)}") from None
 
 
 @dataclass
