@@ -1,7 +1,8 @@
 """Command line: a thin layer over :func:`meshaudit.audit` and the output modules.
 
 Exit status: 0 no element fails, 1 some element fails, 2 the input cannot be audited
-(one line on stderr, nothing written).
+(one line on stderr, nothing written), 128 + N stopped by signal N (temporary files removed;
+see :mod:`meshaudit.process`).
 """
 
 from __future__ import annotations
@@ -145,6 +146,8 @@ def _check_many(args: argparse.Namespace, inputs: list[tuple[str, str | None]]) 
     from .pipeline import check_many, check_report_options, overall_status
 
     check_report_options(args)
+    args.run_meshes = [path for path, error in inputs if error is None]
+    from .process import say, terminal_output
     from .progress_bar import stage_bar, wanted
 
     with stage_bar(wanted(args.quiet)) as progress:
@@ -152,18 +155,16 @@ def _check_many(args: argparse.Namespace, inputs: list[tuple[str, str | None]]) 
         outcomes = check_many(args, inputs, _audit_and_write)
     for o in outcomes:
         if o.error is not None:
-            print(f"meshaudit: error: {o.error}", file=sys.stderr)
-    batch_terminal.render(outcomes, _console(), quiet=args.quiet)
+            say(f"meshaudit: error: {o.error}")
+    with terminal_output():
+        batch_terminal.render(outcomes, _console(), quiet=args.quiet)
     return overall_status(outcomes)
 
 
 def _console():
-    from rich.console import Console
+    from .outputs.console import terminal_console
 
-    console = Console(highlight=False)
-    if not console.is_terminal:
-        console = Console(highlight=False, width=120)  # logs read better unwrapped
-    return console
+    return terminal_console(120)
 
 
 def _check_single(args: argparse.Namespace) -> int:
@@ -173,8 +174,10 @@ def _check_single(args: argparse.Namespace) -> int:
         args.progress = progress
         report = _audit_and_write(args)
     from .outputs import terminal
+    from .process import terminal_output
 
-    terminal.render(report, _console(), top=args.top, quiet=args.quiet)
+    with terminal_output():
+        terminal.render(report, _console(), top=args.top, quiet=args.quiet)
     return EXIT_PASS if report.passed else EXIT_FAIL
 
 
@@ -191,13 +194,11 @@ def _audit_and_write(args: argparse.Namespace) -> Report:
     ]
     inspection = cli_inspect.wanted(args)
     dests = [p for p, _ in wanted + inspection]
-    if len(set(map(str, dests))) != len(dests):
-        raise MeshAuditError("two reports would be written to the same file")
-    inputs = [mesh_path]
-    if isinstance(args.profile, str) and Path(args.profile).is_file():
-        inputs.append(Path(args.profile))  # a profile file is an input too
-    for dest in dests:
-        atomic.check_destination(dest, inputs)
+    from .outputs.destinations import check_destinations, protected_inputs
+
+    meshes = getattr(args, "run_meshes", None) or [mesh_path]
+    protected = protected_inputs(meshes, getattr(args, "config_path", None), args.profile)
+    check_destinations(dests, protected)
 
     progress = getattr(args, "progress", None)
     options = {
@@ -222,7 +223,7 @@ def _audit_and_write(args: argparse.Namespace) -> Report:
         outputs.append((dest, cli_inspect.renderer(kind, audited, args)))
     if progress is not None and outputs:
         progress("write", 0, 0)
-    atomic.write_all(outputs)
+    atomic.write_all(outputs, protected)
     return report
 
 
@@ -249,7 +250,20 @@ def _profiles(args: argparse.Namespace) -> int:
 
 
 def main(argv: Sequence[str] | None = None) -> int:
-    """Entry point of the ``meshaudit`` console script; returns the exit status."""
+    """Entry point of the ``meshaudit`` console script; returns the exit status.
+
+    SIGINT, SIGTERM and SIGHUP stop it cleanly (temporary files removed) with exit status
+    128 + the signal number; see :mod:`meshaudit.process`.
+    """
+    from .process import stopping_signals_raise
+
+    with stopping_signals_raise():
+        return _main(argv)
+
+
+def _main(argv: Sequence[str] | None) -> int:
+    from .process import Interrupted, say, silence_stdout, terminal_output
+
     parser = build_parser()
     try:
         args = parser.parse_args(argv)
@@ -259,23 +273,31 @@ def main(argv: Sequence[str] | None = None) -> int:
             return_large_blocks()  # resident memory close to the live arrays (glibc)
             return _check(args)
         if args.command == "profiles":
-            return _profiles(args)
+            with terminal_output():
+                return _profiles(args)
+            return EXIT_PASS
         if args.command == "explain":
             return cli_inspect.run_explain(args)
         if args.command in ("compare", "init"):
             return args.run(args)
-        parser.print_help()
-        return EXIT_UNUSABLE
+        parser.print_usage(sys.stderr)
+        raise MeshAuditError(
+            "a command is required: check, explain, profiles, compare or init "
+            "(see 'meshaudit --help')"
+        )
     except MeshAuditError as exc:
-        print(f"meshaudit: error: {exc}", file=sys.stderr)
+        say(f"meshaudit: error: {exc}")
         return EXIT_UNUSABLE
-    except KeyboardInterrupt:
-        print("meshaudit: interrupted", file=sys.stderr)
-        return 130
+    except KeyboardInterrupt as exc:
+        signum = exc.signum if isinstance(exc, Interrupted) else 2
+        name = exc.name if isinstance(exc, Interrupted) else "SIGINT"
+        say(f"meshaudit: interrupted by {name}")
+        return 128 + signum
     except BrokenPipeError:
+        silence_stdout()
         return EXIT_UNUSABLE
     except Exception as exc:  # never show a traceback to a user
-        print(f"meshaudit: internal error: {type(exc).__name__}: {exc}", file=sys.stderr)
+        say(f"meshaudit: internal error: {type(exc).__name__}: {exc}")
         return EXIT_UNUSABLE
 
 

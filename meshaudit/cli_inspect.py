@@ -6,7 +6,6 @@ dispatcher; everything heavy (matplotlib, meshio writers) is imported on use onl
 from __future__ import annotations
 
 import argparse
-import sys
 from pathlib import Path
 from typing import TYPE_CHECKING
 
@@ -113,24 +112,23 @@ def add_explain_command(sub: argparse._SubParsersAction) -> None:
 
 def run_explain(args: argparse.Namespace) -> int:
     """The ``explain`` command; returns the exit status."""
-    from rich.console import Console
-
     from .config import settings_for
     from .explain import explain
     from .inspection import audit_mesh
     from .outputs import atomic, explain_text
+    from .outputs.console import terminal_console
+    from .outputs.destinations import check_destinations, protected_inputs
     from .outputs.plot import plot_format
+    from .process import terminal_output
 
     mesh_path = Path(args.mesh)
     dests = [p for p in (args.plot, args.json) if p is not None]
     if args.plot is not None:
         plot_format(args.plot)
-    if len(set(map(str, dests))) != len(dests):
-        raise MeshAuditError("two outputs would be written to the same file")
-    for dest in dests:
-        atomic.check_destination(dest, [mesh_path])
     settings = settings_for(mesh_path, args.config, not args.no_config)
     profile = args.profile or settings.profile or "standard"
+    protected = protected_inputs([mesh_path], settings.path, profile)
+    check_destinations(dests, protected)
     audited = audit_mesh(
         mesh_path,
         profile=profile,
@@ -146,9 +144,8 @@ def run_explain(args: argparse.Namespace) -> int:
         outputs.append((args.plot, lambda p: explain_plot.render(p, audited, ex)))
     if args.json is not None:
         outputs.append((args.json, lambda p: atomic.write_text(p, explain_text.render_json(ex))))
-    atomic.write_all(outputs)
-    console = Console(highlight=False)
-    if not console.is_terminal:
-        console = Console(highlight=False, width=140, file=sys.stdout)
-    explain_text.render(ex, console)
+    atomic.write_all(outputs, protected)
+    console = terminal_console(140)
+    with terminal_output():
+        explain_text.render(ex, console)
     return 1 if audited.report.failing[ex.index] else 0

@@ -25,11 +25,13 @@ Layout (``meshaudit.toml``; in ``pyproject.toml`` the same keys sit under
 
 from __future__ import annotations
 
+import os
 from dataclasses import dataclass, field, fields
 from pathlib import Path
 from typing import Any
 
 from .errors import ProfileError
+from .paths import reason
 from .profiles import FAMILIES, Profile, load_profile, profile_from_dict, toml_module
 
 CONFIG_NAME = "meshaudit.toml"
@@ -80,7 +82,9 @@ def _read_toml(path: Path) -> dict[str, Any]:
     tomllib = toml_module()
     try:
         return tomllib.loads(path.read_text(encoding="utf-8"))
-    except (OSError, UnicodeDecodeError) as exc:
+    except OSError as exc:
+        raise ConfigError(f"{path}: cannot read configuration: {reason(exc)}") from None
+    except UnicodeDecodeError as exc:
         raise ConfigError(f"{path}: cannot read configuration: {exc}") from None
     except tomllib.TOMLDecodeError as exc:
         raise ConfigError(f"{path}: not valid TOML: {exc}") from None
@@ -100,11 +104,11 @@ def _table_in(path: Path) -> dict[str, Any] | None:
 
 def find_config(start: Path) -> Path | None:
     """The first configuration file in ``start`` or one of its parents, else None."""
-    here = start.resolve()
+    here = Path(os.path.realpath(start))  # never raises, even on a link loop
     for folder in (here, *here.parents):
         for name in (CONFIG_NAME, "pyproject.toml"):
             candidate = folder / name
-            if candidate.is_file() and _table_in(candidate) is not None:
+            if os.path.isfile(candidate) and _table_in(candidate) is not None:
                 return candidate
     return None
 
@@ -171,7 +175,7 @@ def _base_profile(data: dict[str, Any], path: Path) -> Profile | None:
         if not isinstance(spec, str):
             raise ConfigError(f"{where}: profile must be a name or a file path")
         candidate = path.parent / spec
-        return load_profile(candidate if candidate.is_file() else spec)
+        return load_profile(candidate if os.path.isfile(candidate) else spec)
     return None
 
 

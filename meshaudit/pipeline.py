@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import argparse
 import glob
+import os
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -17,6 +18,7 @@ import numpy as np
 
 from .config import settings_for
 from .errors import MeshAuditError, OutputError
+from .paths import reason
 
 EXIT_PASS, EXIT_FAIL, EXIT_UNUSABLE = 0, 1, 2
 
@@ -37,10 +39,10 @@ def expand_inputs(patterns: list[str]) -> list[tuple[str, str | None]]:
     """
     out: list[tuple[str, str | None]] = []
     for pattern in patterns:
-        if Path(pattern).exists() or not GLOB_CHARS & set(pattern):
+        if os.path.exists(pattern) or not GLOB_CHARS & set(pattern):
             out.append((pattern, None))
             continue
-        matches = sorted(p for p in glob.glob(pattern, recursive=True) if Path(p).is_file())
+        matches = sorted(p for p in glob.glob(pattern, recursive=True) if os.path.isfile(p))
         if not matches:
             out.append((pattern, f"{pattern}: no file matches this pattern"))
         out.extend((m, None) for m in matches)
@@ -55,7 +57,7 @@ def expand_inputs(patterns: list[str]) -> list[tuple[str, str | None]]:
 
 def _is_template(text: str) -> bool:
     """A report option naming a directory (existing, or ending in '/') or a {stem} pattern."""
-    return Path(text).is_dir() or text.endswith(("/", "\\")) or "{stem}" in text
+    return os.path.isdir(text) or text.endswith(("/", "\\")) or "{stem}" in text
 
 
 def check_report_options(args: argparse.Namespace) -> None:
@@ -79,7 +81,7 @@ def check_report_options(args: argparse.Namespace) -> None:
 def _destination(given: str, kind: str, mesh: Path) -> tuple[Path, bool]:
     """Where a report given on the command line goes for ``mesh``; and whether it was
     derived from a directory or a ``{stem}`` pattern (then its directory is created)."""
-    if Path(given).is_dir() or given.endswith(("/", "\\")):
+    if os.path.isdir(given) or given.endswith(("/", "\\")):
         return Path(given) / f"{mesh.stem}{REPORT_SUFFIX[kind]}", True
     if "{stem}" in given:
         return Path(given.replace("{stem}", mesh.stem)), True
@@ -134,7 +136,7 @@ def _make_parent(dest: Path) -> None:
     try:
         dest.parent.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
-        raise OutputError(f"{dest}: cannot create directory {dest.parent}: {exc}") from None
+        raise OutputError(f"{dest}: cannot create directory {dest.parent}: {reason(exc)}") from None
 
 
 @dataclass
@@ -193,7 +195,7 @@ def _claim_destinations(args: argparse.Namespace, mesh: str, written: dict[Path,
         dest = getattr(args, kind, None)
         if dest is None:
             continue
-        key = Path(dest).resolve()
+        key = Path(os.path.realpath(dest))
         if key in written:
             raise OutputError(
                 f"{dest}: the report of {written[key]} is already there; meshes with the "

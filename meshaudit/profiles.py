@@ -441,7 +441,7 @@ def load_profile(spec: str | os.PathLike[str] | Profile | None = None) -> Profil
     if text in BUILTIN:
         return BUILTIN[text]
     path = Path(text)
-    if not path.exists():
+    if not os.path.exists(path):  # False, not an error, for a link loop or a long name
         names = ", ".join(BUILTIN)
         raise ProfileError(f"unknown profile {text!r}: not a built-in ({names}) nor a file")
     tomllib = toml_module()

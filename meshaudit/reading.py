@@ -18,7 +18,9 @@ import numpy as np
 from . import labels
 from .elements import SUPPORTED_CELLS, ElementBlock, ElementMesh
 from .errors import InputError
+from .file_ends import check_file_end
 from .labels import Numbering
+from .paths import display_name, stat_input
 from .regions import element_sets
 
 if TYPE_CHECKING:
@@ -43,14 +45,12 @@ def read_meshio_said(
     import meshio
 
     p = Path(path)
-    if not p.exists():
-        raise InputError(f"{p}: no such file")
-    if p.is_dir():
-        raise InputError(f"{p}: is a directory, not a mesh file")
+    st = stat_input(p)  # missing, a directory, a link loop, a name too long: InputError
     if not os.access(p, os.R_OK):
         raise InputError(f"{p}: permission denied")
-    if p.stat().st_size == 0:
+    if st.st_size == 0:
         raise InputError(f"{p}: file is empty")
+    check_file_end(p, labels.file_format_of(p, file_format))  # a file cut short
     sink = io.StringIO()
     try:
         with (
@@ -202,7 +202,7 @@ def load_with_mesh(source: Any, file_format: str | None = None) -> tuple[Any, El
     if isinstance(source, (str, os.PathLike)):
         mesh, said = read_meshio_said(source, file_format)
         numbering = labels.for_file(source, file_format, mesh, said)
-        return mesh, build_elements(mesh, str(source), numbering)
+        return mesh, build_elements(mesh, display_name(source), numbering)
     if hasattr(source, "points") and hasattr(source, "cells"):
         return source, build_elements(source)
     raise InputError(f"cannot audit an object of type {type(source).__name__}")

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import os
 from pathlib import Path
 
 from .config import CONFIG_NAME
@@ -56,8 +57,8 @@ element_score_change = 0.05  # a shared element changing more is listed as worse
 
 def write_starter(target: Path) -> Path:
     """Write the starter file to ``target`` (a directory or a file path); never overwrite."""
-    dest = target / CONFIG_NAME if target.is_dir() else target
-    if dest.exists():
+    dest = target / CONFIG_NAME if os.path.isdir(target) else target
+    if os.path.lexists(dest):
         raise OutputError(f"{dest}: already exists; not overwriting it")
     atomic.check_destination(dest)
     atomic.write_all([(dest, lambda p: atomic.write_text(p, STARTER))])

@@ -51,10 +51,12 @@ def add_init(sub) -> None:
 
 
 def run_init(args: argparse.Namespace) -> int:
+    from .process import terminal_output
     from .starter import write_starter
 
     dest = write_starter(args.target)
-    print(f"wrote {dest}")
+    with terminal_output():
+        print(f"wrote {dest}")
     return EXIT_OK
 
 
@@ -65,14 +67,17 @@ def run_compare(args: argparse.Namespace) -> int:
     from .config import settings_for
     from .inspection import audit_mesh
     from .outputs import atomic, compare_terminal
+    from .outputs.destinations import check_destinations, protected_inputs
+    from .process import terminal_output
 
     old_path, new_path = Path(args.old), Path(args.new)
     if args.top < 0:
         raise MeshAuditError("--top must be 0 or more")
-    if args.json is not None:
-        atomic.check_destination(args.json, [old_path, new_path])
     settings = settings_for(new_path, args.config, not args.no_config)
     profile = args.profile or settings.profile or "standard"
+    protected = protected_inputs([old_path, new_path], settings.path, profile)
+    if args.json is not None:
+        check_destinations([args.json], protected)
     fail_on = args.fail_on or settings.fail_on or "fail"
     old, new = (
         audit_mesh(p, profile, args.file_format, fail_on, settings.regions)
@@ -85,8 +90,9 @@ def run_compare(args: argparse.Namespace) -> int:
         source = str(settings.path) if settings.path is not None else None
         data = compare.to_dict(result, tolerance_source=source)
         text = json.dumps(data, indent=1, allow_nan=False) + "\n"
-        atomic.write_all([(args.json, lambda p: atomic.write_text(p, text))])
+        atomic.write_all([(args.json, lambda p: atomic.write_text(p, text))], protected)
     from .cli import _console
 
-    compare_terminal.render(result, _console(), top=args.top, quiet=args.quiet)
+    with terminal_output():
+        compare_terminal.render(result, _console(), top=args.top, quiet=args.quiet)
     return EXIT_WORSE if result.regressed else EXIT_OK

@@ -22,6 +22,7 @@ from ..metrics import METRIC_INFO, METRIC_NAMES, VALIDITY_FLAGS
 from ..report import Report
 from . import plot
 from .plot import metric_limits
+from .safe_text import html_safe
 from .terminal import _fmt
 
 #: The table lists at most this many elements (worst first); JSON and CSV list all.
@@ -353,11 +354,11 @@ def _histograms(report: Report) -> str:
 
 
 def render(report: Report, elements: ElementMesh, color_by: str = "score") -> str:
-    """The whole HTML document as a string."""
+    """The whole HTML document as a string (control characters of names escaped)."""
     name = escape(Path(report.summary.source).name)
     word = "PASS" if report.passed else "FAIL"
     png = plot_png(report, elements, color_by)
-    return (
+    return html_safe(
         '<!DOCTYPE html><html lang="en"><head><meta charset="utf-8">'
         '<meta name="viewport" content="width=device-width, initial-scale=1">'
         f"<title>meshaudit: {name}: {word}</title><style>{_CSS}</style></head><body>"

@@ -18,6 +18,7 @@ from ..metrics import METRIC_INFO, QUADRATIC_CELLS, WARNING_FLAGS
 from ..profiles import Profile
 from ..report import Report
 from ..verdicts import FAIL, INVALID_FLAGS, WARN
+from .safe_text import xml_safe
 
 #: How many element ids a failure message names.
 WORST_IDS = 10
@@ -112,7 +113,8 @@ def render(report: Report) -> str:
     root = ET.Element("testsuites", name="meshaudit")
     root.append(suite)
     ET.indent(root)
-    return '<?xml version="1.0" encoding="UTF-8"?>\n' + ET.tostring(root, encoding="unicode") + "\n"
+    text = ET.tostring(root, encoding="unicode")
+    return '<?xml version="1.0" encoding="UTF-8"?>\n' + xml_safe(text) + "\n"
 
 
 def _limit_groups(report: Report) -> list[tuple[str, Profile, np.ndarray]]:

@@ -31,6 +31,7 @@ from ..score import BAND_EDGES
 from ..verdicts import FAIL, WARN
 from . import raster
 from .projection import View, best_fit_view, flatness, tilted
+from .safe_text import one_line
 
 if TYPE_CHECKING:
     from matplotlib.axes import Axes
@@ -237,7 +238,7 @@ def _limit_marks(bar: Any, report: Report, color_by: str, norm: Any) -> None:
 def title(report: Report) -> str:
     c = report.verdict_counts()
     word = "PASS" if report.passed else "FAIL"
-    name = Path(report.summary.source).name
+    name = one_line(Path(report.summary.source).name)  # an SVG title is XML text
     findings = getattr(report, "findings", None) or []
     extra = f"; {len(findings)} mesh-level finding kind(s)" if findings else ""
     return (
