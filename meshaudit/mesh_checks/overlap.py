@@ -24,6 +24,7 @@ import numpy as np
 
 from ..arrays import unique_values
 from ..elements import ElementMesh
+from ..frames import anchor
 from ..topology import CORNERS_PER_FAMILY, EdgeTable, corner_rows, sort_keys
 from . import budget
 
@@ -32,7 +33,7 @@ SHAPE_CHUNK = 65_536
 #: Candidate pairs shapely may measure whatever the input size (about 6 to 30 us each),
 #: plus :data:`~meshaudit.mesh_checks.budget.PER_ITEM` per element; past it the audit is
 #: refused (a pile of elements on one another).
-SHAPE_PAIRS = 1 << 16
+SHAPE_PAIRS = 1 << 18
 
 
 def element_polygons(mesh: ElementMesh, shapes: PlanarShapes, positions: np.ndarray) -> np.ndarray:
@@ -140,7 +141,7 @@ class BoxGrid:
             return cls(boxes, 0.0, np.zeros(2), 1, empty, empty)
         low = boxes[:, :2].min(axis=0)
         span = boxes[:, 2:].max(axis=0) - low
-        limit = 4 * boxes.shape[0] + 4096
+        limit = 2 * boxes.shape[0] + 4096
         h = 2.0 * float(np.median(sized))
         for _ in range(2100):  # enough doublings to pass any float extent
             large = np.flatnonzero(extent > h)
@@ -313,7 +314,7 @@ def _shoelace_and_turns(
 def planar_shapes(mesh: ElementMesh, axes: np.ndarray) -> PlanarShapes:
     """:class:`PlanarShapes` of every element of ``mesh``, plane axes ``axes`` (2, 3),
     measured in slices of :data:`SHAPE_CHUNK` elements (bounded temporaries)."""
-    shapes = PlanarShapes.empty(mesh.n_elements, axes, mesh.points.min(axis=0))
+    shapes = PlanarShapes.empty(mesh.n_elements, axes, anchor(mesh))
     for block, sl in mesh.chunks(SHAPE_CHUNK):
         corners = mesh.points[block.connectivity[sl, : CORNERS_PER_FAMILY[block.family]]]
         shapes.fill(block.index[sl], corners)
