@@ -337,7 +337,11 @@ def overlapping_pairs(
     code = unique_values(low * span + high)  # distinct pairs (a < b), ascending
     pairs = np.stack([code // span, code % span], axis=1)
     pairs = pairs[pairs[:, 0] != pairs[:, 1]]
-    pairs = pairs[~separated(mesh, shapes, pairs)]
+    apart = [
+        separated(mesh, shapes, pairs[i : i + budget.BATCH])
+        for i in range(0, len(pairs), budget.BATCH)
+    ]
+    pairs = pairs[~np.concatenate([np.zeros(0, dtype=bool), *apart])]
     if pairs.size == 0:
         return np.zeros((0, 2), dtype=np.int64), np.zeros(0)
     if len(pairs) > SHAPE_PAIRS + budget.PER_ITEM * mesh.n_elements:
@@ -356,9 +360,12 @@ def overlapping_pairs(
     involved, inverse = np.unique(pairs, return_inverse=True)
     inverse = inverse.reshape(pairs.shape)
     polys = element_polygons(mesh, shapes, involved)
-    pa, pb = polys[inverse[:, 0]], polys[inverse[:, 1]]
-    common = shapely.area(shapely.intersection(pa, pb))
-    smaller = np.minimum(shapely.area(pa), shapely.area(pb))
+    area = shapely.area(polys)
+    smaller = np.minimum(area[inverse[:, 0]], area[inverse[:, 1]])
+    common = np.zeros(len(pairs))
+    for i in range(0, len(pairs), budget.BATCH):  # bounded memory: results a batch at a time
+        pa, pb = polys[inverse[i : i + budget.BATCH, 0]], polys[inverse[i : i + budget.BATCH, 1]]
+        common[i : i + budget.BATCH] = shapely.area(shapely.intersection(pa, pb))
     hit = (smaller > 0.0) & (common > fraction * smaller)
     return pairs[hit], common[hit]
 
