@@ -41,8 +41,9 @@ class Finding:
     ``element_index`` are 0-based audited-element positions (rows of the report
     arrays), ``element_ids`` the same elements' numbers. ``node_ids`` are the nodes'
     numbers (the file's node labels where it has them, see :mod:`meshaudit.labels`).
-    ``pairs`` (k, 2) pair up the items the finding is about (node numbers for coincident
-    nodes, element numbers for duplicates and overlaps, hanging node number and host
+    ``pairs`` (k, 2) pair up the items the finding is about (for coincident nodes, node
+    numbers: each node of a place with the place's representative, k - 1 rows for k
+    nodes at one place; element numbers for duplicates and overlaps, hanging node number and host
     element number for hanging nodes), ``edges`` (m, 2) the node
     numbers of the edges involved. For drawing: ``edge_xyz`` (m, 2, 3) and ``node_xyz``
     (n, 3) the coordinates of those edges and nodes.

@@ -218,6 +218,25 @@ def test_random_quads_piled_in_a_small_area_are_refused_in_one_line(measured, tm
     assert measured == []
 
 
+def test_the_command_line_refuses_a_pile_with_one_line_and_no_report(run_cli, tmp_path):
+    # The same kind of pile, from a file: exit status 2, one "meshaudit: error:" line on
+    # stderr, no traceback and no report written; the way out audits it (exit status 1:
+    # random quads are bow-ties and inverted).
+    rng = np.random.default_rng(0)
+    path = tmp_path / "bracket_pile.vtu"
+    meshio.write(path, separate_quads(rng.random((16_000, 2))))
+    out = tmp_path / "r.json"
+    res = run_cli("check", path, "--json", out)
+    assert res.returncode == 2
+    (line,) = res.stderr.strip().splitlines()
+    assert line.startswith("meshaudit: error: overlap check: ")
+    assert line.endswith('set overlapping_elements = "off" under [findings] to audit without it')
+    assert not out.exists()
+    off = profile(tmp_path, overlapping_elements="off")
+    res = run_cli("check", path, "--profile", off, "--json", out, "--quiet")
+    assert res.returncode == 1 and out.exists()
+
+
 def test_a_pile_the_grid_lets_through_is_refused_before_shapely_measures_it(measured):
     # 1000 random quads: within the grid's budget, but every pair left after the
     # convexity test would go to shapely (about 5 x 10^5): refused before any is measured.
