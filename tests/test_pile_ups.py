@@ -19,7 +19,7 @@ import pytest
 
 from meshaudit import audit
 from meshaudit.errors import InputError
-from meshaudit.mesh_checks import budget, nodes
+from meshaudit.mesh_checks import budget, nodes, overlap
 from tests.finding_meshes import NX, NY, grid_points, grid_quads, polygons, with_crack
 
 
@@ -346,3 +346,25 @@ def test_a_stray_node_does_not_hide_an_overlap(run_cli, tmp_path, stray, vertex)
     polys = polygons(np.array(OVERLAPPING), [[0, 1, 2, 3], [4, 5, 6, 7]])
     assert polys[0].intersection(polys[1]).area == pytest.approx(0.25)
     assert ("orphan_nodes" in kinds) == (not vertex)
+
+
+@pytest.mark.parametrize("seed", range(4))
+def test_the_box_grid_finds_every_pair_of_overlapping_boxes(seed):
+    # 600 boxes with sides from 0.001 to 30 (log-uniform, some thin) scattered over a
+    # 100 x 100 area: pairs_near of every box against numpy, brute force over all pairs.
+    rng = np.random.default_rng(seed)
+    low = rng.uniform(0, 100, size=(600, 2))
+    side = 10.0 ** rng.uniform(-3, 1.5, size=(600, 2))
+    boxes = np.hstack([low, low + side])
+    grid = overlap.BoxGrid.build(boxes)
+    got = {tuple(p) for p in grid.pairs_near(np.arange(600)).tolist()}
+    wx = np.minimum(boxes[:, None, 2], boxes[None, :, 2]) - np.maximum(
+        boxes[:, None, 0], boxes[None, :, 0]
+    )
+    wy = np.minimum(boxes[:, None, 3], boxes[None, :, 3]) - np.maximum(
+        boxes[:, None, 1], boxes[None, :, 1]
+    )
+    meet = (wx > 1e-9 * grid.h) & (wy > 1e-9 * grid.h)
+    np.fill_diagonal(meet, False)
+    expected = set(zip(*np.nonzero(meet)))
+    assert expected and got == {(int(a), int(b)) for a, b in expected}

@@ -113,10 +113,11 @@ class BoxGrid:
     e's box, f has an entry in a cell meeting e's box widened by h/2 on every side (a
     small f: its centre is within h/2 of each point of its box, so of a point the two
     boxes share; a large f: the cells it covers include that point's), so
-    :meth:`pairs_near` reads only those cells: at most 3 x 3 for an element up to h
+    :meth:`pairs_near` reads only the cells meeting e's box widened by h (twice what
+    is needed, so rounding cannot lose a cell): at most 4 x 4 for an element up to h
     across. ``h`` is twice the median element extent, doubled while the large elements'
-    entries pass a budget linear in the number of elements (a few very large elements
-    among small ones), so the grid follows the typical element, not the largest.
+    entries pass twice the number of elements (a few very large elements among small
+    ones), so the grid follows the typical element, not the largest.
 
     Built from every element (:meth:`build`), so it can be built on another thread
     while the other checks run; queried for the few elements that need it.
@@ -147,12 +148,12 @@ class BoxGrid:
             large = np.flatnonzero(extent > h)
             first = np.floor((boxes[large, :2] - low) / h)
             covered = np.floor((boxes[large, 2:] - low) / h) - first + 1.0
-            cells = np.prod(np.floor(span / h) + 4.0)
+            cells = np.prod(np.floor(span / h) + 6.0)
             if float(covered.prod(axis=1).sum()) <= limit and cells < 2.0**62:
                 break
             h *= 2.0
-        origin = low - h
-        width = int(np.floor(span[1] / h)) + 4
+        origin = low - 2.0 * h  # queries reach h below the lowest box
+        width = int(np.floor(span[1] / h)) + 6
         centre = boxes[:, :2] + boxes[:, 2:]
         centre *= 0.5
         centre -= origin
@@ -162,7 +163,7 @@ class BoxGrid:
         key = cell[:, 0] * width
         key += cell[:, 1]
         del cell
-        bound = (int(np.floor(span[0] / h)) + 4) * width
+        bound = (int(np.floor(span[0] / h)) + 6) * width
         if large.size == 0:
             order, sorted_key = sort_keys(key, bound)
             return cls(boxes, h, origin, width, order, sorted_key)
@@ -189,8 +190,8 @@ class BoxGrid:
         boxes, h, origin, width = self.boxes, self.h, self.origin, self.width
         if around.size == 0 or h <= 0.0:
             return np.zeros((0, 2), dtype=np.int64)
-        lo = np.floor((boxes[around, :2] - 0.5 * h - origin) / h).astype(np.int64)
-        span = np.floor((boxes[around, 2:] + 0.5 * h - origin) / h).astype(np.int64) - lo + 1
+        lo = np.floor((boxes[around, :2] - h - origin) / h).astype(np.int64)
+        span = np.floor((boxes[around, 2:] + h - origin) / h).astype(np.int64) - lo + 1
         owner, k = budget.expand(np.zeros(around.size, dtype=np.int64), span.prod(axis=1))
         across, up = np.divmod(k, span[owner, 1])
         qkey = (lo[owner, 0] + across) * width + lo[owner, 1] + up
