@@ -72,12 +72,6 @@ class NodeClusters:
         pairs = np.stack([self.rep[others], others], axis=1)
         return pairs[np.lexsort((pairs[:, 1], pairs[:, 0]))]
 
-    @property
-    def sizes(self) -> np.ndarray:
-        """(count,) nodes in each cluster, in ascending order of representative."""
-        _, size = np.unique(self.rep[self.members], return_counts=True)
-        return size
-
 
 def coincident_clusters(
     points: np.ndarray,
