@@ -113,11 +113,12 @@ class BoxGrid:
     e's box, f has an entry in a cell meeting e's box widened by h/2 on every side (a
     small f: its centre is within h/2 of each point of its box, so of a point the two
     boxes share; a large f: the cells it covers include that point's), so
-    :meth:`pairs_near` reads only the cells meeting e's box widened by h (twice what
-    is needed, so rounding cannot lose a cell): at most 4 x 4 for an element up to h
-    across. ``h`` is twice the median element extent, doubled while the large elements'
-    entries pass twice the number of elements (a few very large elements among small
-    ones), so the grid follows the typical element, not the largest.
+    :meth:`pairs_near` reads only the cells meeting e's box widened by h/2 (plus
+    ``slack``, 1e-9 of the boxes' extent from the origin, far more than rounding can
+    move a centre or a cell boundary): at most 3 x 3 for an element up to h across.
+    ``h`` is twice the median element extent, doubled while the large elements' entries
+    pass twice the number of elements (a few very large elements among small ones), so
+    the grid follows the typical element, not the largest.
 
     Built from every element (:meth:`build`), so it can be built on another thread
     while the other checks run; queried for the few elements that need it.
@@ -125,6 +126,7 @@ class BoxGrid:
 
     boxes: np.ndarray  # (n, 4) xmin, ymin, xmax, ymax
     h: float
+    slack: float  # added to the h/2 a query widens a box by (rounding)
     origin: np.ndarray  # (2,) corner of cell (0, 0)
     width: int  # cells per grid column (key = column * width + row)
     entry: np.ndarray  # (m,) element of each entry, in ascending cell key
@@ -139,7 +141,7 @@ class BoxGrid:
             sized = extent[extent > 0.0]
         if sized.size == 0:  # no element has a box with room inside: nothing overlaps
             empty = np.zeros(0, dtype=np.int64)
-            return cls(boxes, 0.0, np.zeros(2), 1, empty, empty)
+            return cls(boxes, 0.0, 0.0, np.zeros(2), 1, empty, empty)
         low = boxes[:, :2].min(axis=0)
         span = boxes[:, 2:].max(axis=0) - low
         limit = 2 * boxes.shape[0] + 4096
@@ -152,7 +154,8 @@ class BoxGrid:
             if float(covered.prod(axis=1).sum()) <= limit and cells < 2.0**62:
                 break
             h *= 2.0
-        origin = low - 2.0 * h  # queries reach h below the lowest box
+        slack = 1e-9 * (float(np.abs(boxes).max()) + h)
+        origin = low - 2.0 * h  # queries reach below the lowest box
         width = int(np.floor(span[1] / h)) + 6
         centre = boxes[:, :2] + boxes[:, 2:]
         centre *= 0.5
@@ -166,7 +169,7 @@ class BoxGrid:
         bound = (int(np.floor(span[0] / h)) + 6) * width
         if large.size == 0:
             order, sorted_key = sort_keys(key, bound)
-            return cls(boxes, h, origin, width, order, sorted_key)
+            return cls(boxes, h, slack, origin, width, order, sorted_key)
         small = np.flatnonzero(extent <= h)
         lo = np.floor((boxes[large, :2] - origin) / h).astype(np.int64)
         span_cells = np.floor((boxes[large, 2:] - origin) / h).astype(np.int64) - lo + 1
@@ -175,7 +178,7 @@ class BoxGrid:
         covers = (lo[row, 0] + across) * width + lo[row, 1] + up
         order, sorted_key = sort_keys(np.concatenate([key[small], covers]), bound)
         entry = np.concatenate([small, large[row]])[order]
-        return cls(boxes, h, origin, width, entry, sorted_key)
+        return cls(boxes, h, slack, origin, width, entry, sorted_key)
 
     def pairs_near(
         self, around: np.ndarray, place: Callable[[np.ndarray], np.ndarray] | None = None
@@ -190,8 +193,9 @@ class BoxGrid:
         boxes, h, origin, width = self.boxes, self.h, self.origin, self.width
         if around.size == 0 or h <= 0.0:
             return np.zeros((0, 2), dtype=np.int64)
-        lo = np.floor((boxes[around, :2] - h - origin) / h).astype(np.int64)
-        span = np.floor((boxes[around, 2:] + h - origin) / h).astype(np.int64) - lo + 1
+        reach = 0.5 * h + self.slack
+        lo = np.floor((boxes[around, :2] - reach - origin) / h).astype(np.int64)
+        span = np.floor((boxes[around, 2:] + reach - origin) / h).astype(np.int64) - lo + 1
         owner, k = budget.expand(np.zeros(around.size, dtype=np.int64), span.prod(axis=1))
         across, up = np.divmod(k, span[owner, 1])
         qkey = (lo[owner, 0] + across) * width + lo[owner, 1] + up
