@@ -14,7 +14,7 @@ from .elements import ElementBlock, ElementMesh
 from .errors import InputError
 from .finding_kinds import MESH_CHECK_KINDS
 from .findings import TopologyPart, find_topology, finish, unaudited_cells
-from .frames import Frame, centroids, choose_frame, to_local
+from .frames import Frame, anchor, centroids, choose_frame, to_local
 from .mesh_checks.overlap import BoxGrid, PlanarShapes
 from .metrics import KERNELS, METRIC_NAMES, QUADRATIC_CELLS, quadratic
 from .orientation import Orientation, nearly_flat_shell_note
@@ -164,7 +164,7 @@ def audit_elements(
     planar = frame.kind == "planar" and frame.axes is not None
     shapes = None
     if planar and checks:
-        shapes = PlanarShapes.empty(n, frame.axes, mesh.points.min(axis=0))
+        shapes = PlanarShapes.empty(n, frame.axes, anchor(mesh))
 
     def measure(block: ElementBlock, sl: slice) -> int:
         rows = _rows(block.index[sl])

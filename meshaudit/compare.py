@@ -2,7 +2,7 @@
 
 NEW regresses when, beyond the tolerances of :class:`meshaudit.config.Tolerances`:
 more elements fail, the median element score drops, the worst element score drops, or a
-mesh-level finding of warn or fail severity is new or grew (more unmerged node pairs, a
+mesh-level finding of warn or fail severity is new or grew (more places with unmerged nodes, a
 new crack, more duplicate elements...).
 
 Element-by-element changes need the two meshes to correspond. An element of NEW is the

@@ -48,8 +48,9 @@ KINDS: tuple[FindingKind, ...] = (
     FindingKind(
         "coincident_nodes",
         "fail",
-        "node pairs",
-        "distinct nodes at the same place (within the tolerance): not merged",
+        "places",
+        "distinct nodes at the same place (within the tolerance): not merged; counted by "
+        "place (a cluster of nodes at one place counts once, whatever its size)",
         "unmerged nodes cut the load path; the solver sees two parts (common practice)",
     ),
     FindingKind(

@@ -41,8 +41,9 @@ class Finding:
     ``element_index`` are 0-based audited-element positions (rows of the report
     arrays), ``element_ids`` the same elements' numbers. ``node_ids`` are the nodes'
     numbers (the file's node labels where it has them, see :mod:`meshaudit.labels`).
-    ``pairs`` (k, 2) pair up the items the finding is about (node numbers for coincident
-    nodes, element numbers for duplicates and overlaps, hanging node number and host
+    ``pairs`` (k, 2) pair up the items the finding is about (for coincident nodes, node
+    numbers: each node of a place with the place's representative, k - 1 rows for k
+    nodes at one place; element numbers for duplicates and overlaps, hanging node number and host
     element number for hanging nodes), ``edges`` (m, 2) the node
     numbers of the edges involved. For drawing: ``edge_xyz`` (m, 2, 3) and ``node_xyz``
     (n, 3) the coordinates of those edges and nodes.
@@ -240,25 +241,25 @@ def find_topology(
     keep[copies] = False
     table = edges.kept_table(table if table is not None else edge_table(mesh), keep)
 
-    coincident = _coincident(mesh, table, settings.coincident_tolerance)
+    free_use = edges.free_uses(table)
+    clusters = _coincident(mesh, table, settings, free_use, frame.kind != "planar")
     if out.on("coincident_nodes"):
-        nodes_ = unique_values(coincident)
+        count, members = clusters.count, clusters.members
         out.add(
             "coincident_nodes",
-            len(coincident),
-            f"{len(coincident)} node pair(s) at the same place, not merged; "
-            f"nodes {out.some_nodes(nodes_)}",
+            count,
+            f"{members.size} distinct nodes at {count} place(s), not merged: "
+            f"nodes {out.some_nodes(members)}",
             None,
-            nodes_,
-            node_pairs=coincident,
+            members,
+            node_pairs=clusters.pairs,
         )
 
     interface = None
-    free_use = edges.free_uses(table)
     if out.on("hanging_nodes"):
         shell = frame.kind != "planar"
         tolerance = settings.coincident_tolerance
-        hang = hanging.hanging_nodes(mesh, table, coincident, tolerance, shell, free_use)
+        hang = hanging.hanging_nodes(mesh, table, clusters.rep, tolerance, shell, free_use)
         interface = hang.interface_uses
         hung = out.node_numbers(hang.host_element[:, 0])
         pairs = np.stack([hung, ids[hang.host_element[:, 1]]], axis=1)
@@ -273,7 +274,7 @@ def find_topology(
             pairs,
             hang.edges,
         )
-    free = edges.free_edges(table, mesh.points, coincident, interface=interface, uses=free_use)
+    free = edges.free_edges(table, mesh.points, clusters, interface=interface, uses=free_use)
     if out.on("crack_edges"):
         crack = np.flatnonzero(free.crack)
         loops = unique_values(free.loop[crack])
@@ -361,30 +362,54 @@ def _orientation_finding(part: TopologyPart, orientation: Orientation) -> None:
     )
 
 
-def _coincident(mesh: ElementMesh, table: EdgeTable, relative: float) -> np.ndarray:
-    """Node pairs (a < b) used by elements and within ``relative`` x the shorter of their
-    shortest adjacent edges, leaving out pairs of corners of one (degenerate) element.
+#: The finding kinds that use the coincident-node clusters.
+CLUSTER_KINDS = ("coincident_nodes", "crack_edges", "hanging_nodes")
 
-    The sweep first uses one bound for every node (``relative`` x the longest edge); the
-    local tolerance is then worked out only for the few nodes that bound lets through.
+
+def _coincident(
+    mesh: ElementMesh,
+    table: EdgeTable,
+    settings: FindingSettings,
+    free_use: np.ndarray,
+    shell: bool,
+) -> nodes.NodeClusters:
+    """Clusters of distinct nodes at one place (see :mod:`meshaudit.mesh_checks.nodes`):
+    nodes within ``coincident_tolerance`` x the shorter of their shortest adjacent edges,
+    leaving out clusters whose nodes are all corners of one (degenerate) element.
+
+    Only what an enabled check needs is clustered: every node elements use for
+    ``coincident_nodes`` (and for ``hanging_nodes`` on a shell, where every corner node
+    is tested); only the ends of free edges for ``crack_edges`` and for
+    ``hanging_nodes`` on a planar mesh (cracks join free edges, and there only the ends
+    of free edges are tested); nothing when all three are off. The sweep first uses one
+    bound for every node (the tolerance x the longest edge); the local tolerance is then
+    worked out only for the few nodes that bound lets through.
     """
-    if table.n_edges == 0:
-        return _empty_int(0, 2)
+    enabled = tuple(kind for kind in CLUSTER_KINDS if settings.enabled(kind))
+    if table.n_edges == 0 or not enabled:
+        return nodes.NodeClusters.none(mesh.n_points)
+    if "coincident_nodes" in enabled or (shell and "hanging_nodes" in enabled):
+        candidates = np.flatnonzero(mesh.used_nodes())
+    else:
+        ends = np.zeros(mesh.n_points, dtype=bool)
+        ends[table.start[free_use]] = True
+        ends[table.end[free_use]] = True
+        candidates = np.flatnonzero(ends)
     pts = mesh.points
-    longest = float(np.sqrt(_longest_squared(pts, table.nodes)))
-    bound = np.full(mesh.n_points, relative * longest)
-    pairs = nodes.coincident_pairs(pts, np.flatnonzero(mesh.used_nodes()), bound)
-    if pairs.size == 0:
-        return pairs
-    live = table.nodes[table.uses > 0]
-    involved = np.zeros(mesh.n_points, dtype=bool)
-    involved[pairs] = True
-    near = live[involved[live[:, 0]] | involved[live[:, 1]]]
-    tolerance = relative * nodes.shortest_edge_at(pts, near)
-    tolerance[~np.isfinite(tolerance)] = 0.0
-    dist = np.linalg.norm(pts[pairs[:, 0]] - pts[pairs[:, 1]], axis=1)
-    pairs = pairs[dist <= np.minimum(tolerance[pairs[:, 0]], tolerance[pairs[:, 1]])]
-    return nodes.drop_same_element(pairs, mesh)
+    relative = settings.coincident_tolerance
+
+    def local(idx: np.ndarray) -> np.ndarray:
+        live = table.nodes[table.uses > 0]
+        involved = np.zeros(mesh.n_points, dtype=bool)
+        involved[idx] = True
+        near = live[involved[live[:, 0]] | involved[live[:, 1]]]
+        tolerance = relative * nodes.shortest_edge_at(pts, near)[idx]
+        tolerance[~np.isfinite(tolerance)] = 0.0
+        return tolerance
+
+    bound = relative * float(np.sqrt(_longest_squared(pts, table.nodes)))
+    clusters = nodes.coincident_clusters(pts, candidates, bound, local, enabled)
+    return nodes.without_degenerate(clusters, mesh)
 
 
 def _longest_squared(points: np.ndarray, edge_nodes: np.ndarray) -> float:
@@ -419,8 +444,8 @@ def _planar_checks(
     candidates = np.concatenate(
         [
             np.stack([fold_a, fold_b], axis=1),
-            overlap.pairs_on_edges(table, nm_edges),
-            grid().pairs_near(around) if around.size else _empty_int(0, 2),
+            overlap.pairs_on_edges(table, nm_edges, mesh.points),
+            grid().pairs_near(around, shapes.space) if around.size else _empty_int(0, 2),
         ]
     )
     candidates = candidates[keep[candidates[:, 0]] & keep[candidates[:, 1]]]

@@ -94,6 +94,18 @@ def _plane_axes(normal: np.ndarray) -> np.ndarray:
     return np.stack([t1, t2])
 
 
+def anchor(mesh: ElementMesh) -> np.ndarray:
+    """(3,) a point of the mesh the audited elements use (the first node of the first
+    element): the origin plane coordinates are measured from. Every geometric extent is
+    taken from the nodes the audited elements use, never from all points: a node no
+    element uses may lie anywhere, at infinity or NaN (meshaudit reads such files), and
+    must not move the grids the checks bucket elements on."""
+    for block in mesh.blocks:
+        if len(block):
+            return mesh.points[int(block.connectivity[0, 0])].copy()
+    return np.zeros(3)
+
+
 def choose_frame(mesh: ElementMesh) -> Frame:
     """Decide whether ``mesh`` is planar (in which plane, judged against what) or a shell.
 
@@ -104,7 +116,7 @@ def choose_frame(mesh: ElementMesh) -> Frame:
     tolerance across it), the plane contains z and the frame is ``vertical``.
     """
     z = mesh.points[:, 2]
-    if z.min() == z.max():  # every node in one plane z = const: no need to select nodes
+    if z.min() == z.max():  # every point in one plane z = const: no need to select nodes
         return XY_FRAME
     pts = mesh.points[mesh.used_nodes()]
     if np.ptp(pts[:, 2]) == 0.0:

@@ -105,8 +105,8 @@ def test_cli_exit_status_json_and_tolerance_from_config(tmp_path, run_cli):
 
 def _cracked(nx: int = 8, ny: int = 2):
     """The grid with the nodes of its middle row, x = 1 .. nx - 1, duplicated and the
-    upper elements moved onto the copies: nx - 1 unmerged node pairs by construction, a
-    cut inside the part (it reaches neither side)."""
+    upper elements moved onto the copies: nx - 1 places with two unmerged nodes each by
+    construction (the finding counts places), a cut inside the part (it reaches neither side)."""
     mesh = grid(nx, ny)
     pts = np.asarray(mesh.points)
     quads = np.asarray(mesh.cells[0].data).copy()

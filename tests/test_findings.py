@@ -100,6 +100,9 @@ def test_interior_crack_from_unmerged_nodes():
     f = found(report)
     assert report.verdict_counts()["fail"] == 0  # every element is fine on its own
     assert not report.passed
+    # one place per duplicated node, two nodes each: (representative, copy), the
+    # representative the original (read first)
+    assert f["coincident_nodes"].count == original.size
     assert f["coincident_nodes"].pairs.tolist() == np.column_stack([original, copy]).tolist()
     # Crack edges: 4 below the line (from node 1 to node 5) and 4 above it.
     crack = f["crack_edges"]
@@ -122,7 +125,7 @@ def test_crack_across_the_part_splits_it_in_two():
     mesh, _, _ = with_crack(0, NX)
     report = audit(mesh)
     f = found(report)
-    assert f["coincident_nodes"].count == NX + 1
+    assert f["coincident_nodes"].count == NX + 1  # NX + 1 places, two nodes each
     assert f["crack_edges"].count == 2 * NX
     loops = report.free_edges.loops()
     assert [lp["kind"] for lp in loops] == ["outer", "outer"]

@@ -139,6 +139,9 @@ def test_coincident_nodes_are_reported_by_their_gmsh_tags(tmp_path, writer):
     report = meshaudit.audit(path)
     found = {f.kind: f for f in report.findings}
     pairs = found["coincident_nodes"]
+    # three places of two nodes each: one (representative, other node) pair per place,
+    # the representative the node read first (the original, before its copy)
+    assert pairs.count == 3
     assert sorted(map(tuple, pairs.pairs.tolist())) == COINCIDENT_PAIRS
     assert sorted(pairs.node_ids.tolist()) == sorted(v for p in COINCIDENT_PAIRS for v in p)
     assert "324" in pairs.message and "501" in pairs.message

@@ -9,6 +9,7 @@ import numpy as np
 
 from ..arrays import unique_values
 from ..topology import EdgeTable, connected_labels
+from .nodes import NodeClusters
 
 
 def kept_table(table: EdgeTable, keep: np.ndarray) -> EdgeTable:
@@ -82,7 +83,7 @@ class FreeEdges:
 def free_edges(
     table: EdgeTable,
     points: np.ndarray,
-    coincident: np.ndarray,
+    clusters: NodeClusters | None = None,
     sign: np.ndarray | None = None,
     normal: np.ndarray | None = None,
     interface: np.ndarray | None = None,
@@ -90,8 +91,9 @@ def free_edges(
 ) -> FreeEdges:
     """Free edges, their loops and which of them are cracks.
 
-    ``coincident`` (k, 2) node pairs at the same place; a free edge is a crack edge when
-    another free edge joins the same two places. ``sign``/``normal``: element winding
+    ``clusters``: distinct nodes at one place (see :mod:`meshaudit.mesh_checks.nodes`;
+    None: no two nodes are); a free edge is a crack edge when another free edge joins
+    the same two places. ``sign``/``normal``: element winding
     and plane normal of a planar mesh (None for shells, or to add them later with
     :func:`with_winding`); without them every loop is a ``boundary``. ``interface``:
     edge-table use positions of the free edges on a non-conforming interface
@@ -104,8 +106,10 @@ def free_edges(
     a, b = table.start[uses].astype(np.int64), table.end[uses].astype(np.int64)
     element = table.element[uses].astype(np.int64)
     n_points = points.shape[0]
-    rep = connected_labels(n_points, coincident[:, 0], coincident[:, 1])
-    ra, rb = rep[a], rep[b]
+    if clusters is None or clusters.members.size == 0:
+        ra, rb = a, b
+    else:
+        ra, rb = clusters.rep[a], clusters.rep[b]
     key = np.minimum(ra, rb) * np.int64(n_points) + np.maximum(ra, rb)
     _, inverse, counts = np.unique(key, return_inverse=True, return_counts=True)
     crack = (counts[inverse.ravel()] > 1) & (ra != rb)

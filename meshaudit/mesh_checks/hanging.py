@@ -37,23 +37,19 @@ import numpy as np
 
 from ..arrays import unique_values
 from ..elements import ElementMesh
-from ..errors import InputError
-from ..topology import CORNERS_PER_FAMILY, EdgeTable, connected_labels
+from ..topology import CORNERS_PER_FAMILY, EdgeTable
+from . import budget
+from .budget import expand as _expand
 from .edges import free_uses
 from .nodes import shortest_edge_at
 
-#: Candidate pairs tested per batch (the memory bound: a few arrays of this length).
-BATCH = 1 << 18
-#: Pairs one grid may hand out before crowded cells are bucketed again: this plus 16 per
-#: node and per grid entry.
-PAIR_BUDGET = 1 << 20
 #: A cell is crowded when its pieces x its nodes exceed this.
 CELL_PAIRS = 256
 #: How many times crowded cells are bucketed again, each time on cells a quarter as large.
 MAX_REFINE = 5
 #: Pairs still crowding after the last refinement beyond which the check refuses the
 #: mesh (a few seconds of work).
-CROWDED_PAIRS = 1 << 24
+CROWDED_PAIRS = budget.CROWDED_PAIRS
 #: Newton steps for the closest point on a quadratic edge.
 NEWTON_STEPS = 8
 
@@ -118,15 +114,17 @@ def none_found() -> HangingNodes:
 def hanging_nodes(
     mesh: ElementMesh,
     table: EdgeTable,
-    coincident: np.ndarray,
+    rep: np.ndarray,
     relative: float,
     shell: bool,
     free_use: np.ndarray | None = None,
 ) -> HangingNodes:
     """Find the hanging nodes of ``mesh`` (definitions in the module text).
 
-    ``table`` the edge table (duplicate elements left out), ``coincident`` (k, 2) the node
-    pairs the coincident-node check merged, ``relative`` its tolerance. ``shell``: test
+    ``table`` the edge table (duplicate elements left out), ``rep`` (n_points,) each
+    node's representative in the clusters of the coincident-node check
+    (:class:`~meshaudit.mesh_checks.nodes.NodeClusters`: nodes with one representative
+    are one place), ``relative`` its tolerance. ``shell``: test
     every corner node and also shared edges whose ends lie on free edges, or are merged
     with nodes that do (T-joints); on a planar mesh the ends of free edges are enough (a
     node inside the part lying on a free edge means overlapping elements, which the
@@ -142,12 +140,11 @@ def hanging_nodes(
     on_free = np.zeros(n, dtype=bool)
     on_free[table.start[free_use]] = True
     on_free[table.end[free_use]] = True
-    rep = connected_labels(n, coincident[:, 0], coincident[:, 1])
     host_use = free_use
     if shell:
         # a place is on a free edge when any node merged there is (an unmerged stiffener)
         near_free = on_free
-        if coincident.size:
+        if bool((rep != np.arange(n)).any()):
             place = np.zeros(n, dtype=bool)
             place[rep[on_free]] = True
             near_free = place[rep]
@@ -270,14 +267,6 @@ def _search(
     return members[row], h[at]
 
 
-def _expand(lo: np.ndarray, count: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """(row, position): row r repeated count[r] times with positions lo[r] .. lo[r] +
-    count[r] - 1."""
-    row = np.repeat(np.arange(count.size), count)
-    start = np.cumsum(count) - count
-    return row, lo[row] + (np.arange(row.size) - start[row])
-
-
 def _chord_distance(p: np.ndarray, a: np.ndarray, b: np.ndarray) -> np.ndarray:
     """Distance from each point p to the segment a-b."""
     ab = b - a
@@ -319,7 +308,7 @@ def _grid_pairs(
     count = np.searchsorted(node_key, grid.key, side="right") - lo
     total = int(count.sum())
     seg = grid.segment[grid.piece]
-    if total > PAIR_BUDGET + 16 * (grid.key.size + node_rows.size) and depth < MAX_REFINE:
+    if total > budget.allowance(grid.key.size + node_rows.size) and depth < MAX_REFINE:
         by_cell = np.sort(grid.key)
         pieces = np.searchsorted(by_cell, grid.key, "right") - np.searchsorted(by_cell, grid.key)
         crowded = pieces * count > CELL_PAIRS
@@ -337,11 +326,13 @@ def _grid_pairs(
                 yield sub_nodes[n_pos], owner[p_pos]
             return
     if depth >= MAX_REFINE and total > CROWDED_PAIRS:
-        where = xyz[node_rows[lo[int(np.argmax(count))]]]
-        raise InputError(
-            f"hanging-node check: {total:,} node/edge pairs crowd one spot near "
-            f"({where[0]:.6g}, {where[1]:.6g}, {where[2]:.6g}): edges and nodes piled on "
-            'one another; set hanging_nodes = "off" under [findings] to audit without it'
+        budget.refuse(
+            "hanging-node check",
+            total,
+            "node/edge",
+            xyz[node_rows[lo[int(np.argmax(count))]]],
+            "edges and nodes piled on one another",
+            ["hanging_nodes"],
         )
     yield from _batches(seg, lo, count, node_rows)
 
@@ -357,7 +348,7 @@ def _fit_cell(
     """``cell`` doubled until the grid entries stay within a budget linear in the input
     (a few very long segments among short ones) and the cell numbers fit in int64."""
     cell = max(cell, float(margin.max()) / 4.0, 1e-300)
-    budget = 64 * a.shape[0] + 16 * xyz.shape[0] + 4096
+    limit = 64 * a.shape[0] + 16 * xyz.shape[0] + 4096
     span = np.maximum(a, b).max(axis=0) - np.minimum(a, b).min(axis=0) + 2.0 * margin.max()
     step = np.abs(b - a)
     for _ in range(2100):  # enough doublings to go from 1e-300 past any float extent
@@ -365,7 +356,7 @@ def _fit_cell(
         across = np.floor((step / pieces[:, None] + 2.0 * margin[:, None]) / cell) + 2.0
         entries = float((pieces * across.prod(axis=1)).sum())
         cells = float(np.prod(np.floor(span / cell) + 2.0))
-        if entries <= budget and cells < 2.0**60:
+        if entries <= limit and cells < 2.0**60:
             break
         cell *= 2.0
     return cell
@@ -438,15 +429,9 @@ def _batches(
     seg: np.ndarray, lo: np.ndarray, count: np.ndarray, node_rows: np.ndarray
 ) -> Iterator[tuple[np.ndarray, np.ndarray]]:
     """(node rows, segment rows) of every grid entry x node in its cell, about
-    :data:`BATCH` pairs at a time."""
-    total = int(count.sum())
-    if total == 0:
-        return
-    ends = np.cumsum(count)
-    cuts = np.searchsorted(ends, np.arange(BATCH, total, BATCH), side="left") + 1
-    for part in np.split(np.arange(seg.size), unique_values(cuts)):
-        row, at = _expand(lo[part], count[part])
-        yield node_rows[at], seg[part][row]
+    :data:`~meshaudit.mesh_checks.budget.BATCH` pairs at a time."""
+    for row, at in budget.batches(lo, count):
+        yield node_rows[at], seg[row]
 
 
 # -- exact test and what the finding needs ----------------------------------------------

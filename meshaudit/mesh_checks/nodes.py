@@ -1,13 +1,24 @@
-"""Node checks: nodes no cell uses, and distinct nodes at (nearly) the same place."""
+"""Node checks: nodes no cell uses, and distinct nodes at (nearly) the same place.
+
+Distinct nodes at one place are grouped into *clusters*: the connected groups of the
+relation "closer than the smaller of the two nodes' tolerances". Each cluster is told by
+its *representative*, its smallest node index, so everything downstream (cracks,
+hanging nodes) maps a node to its place with one array lookup, and a pile of k nodes at
+one point costs k, not k^2: exactly coincident nodes are grouped by sorting their
+coordinates, and only distinct places are compared with one another.
+"""
 
 from __future__ import annotations
 
-import itertools
+from collections.abc import Callable
+from dataclasses import dataclass
 
 import numpy as np
 
+from ..arrays import unique_values
 from ..elements import ElementMesh
-from ..topology import CORNERS_PER_FAMILY
+from ..topology import CORNERS_PER_FAMILY, connected_labels
+from . import budget
 
 #: Direction the nodes are sorted along when looking for coincident pairs: irrational
 #: ratios, so no row or column of a structured grid projects onto a single value.
@@ -32,54 +43,197 @@ def shortest_edge_at(points: np.ndarray, edge_nodes: np.ndarray) -> np.ndarray:
     return shortest
 
 
-def coincident_pairs(points: np.ndarray, nodes: np.ndarray, tolerance: np.ndarray) -> np.ndarray:
-    """(k, 2) pairs (a < b) of ``nodes`` closer than the smaller of their ``tolerance``.
+@dataclass(frozen=True)
+class NodeClusters:
+    """Distinct nodes at one place, grouped.
 
-    ``tolerance`` is per node (n_points,), in length units. Sort-and-sweep: the nodes are
-    sorted along one generic direction; two nodes within tolerance are within it along
-    that direction too, so each node is compared only with the following nodes until
-    the gap passes its own tolerance. Cost: one sort of the nodes plus the candidates.
+    ``rep`` (n_points,): each node's representative, the smallest node index of its
+    cluster (the node itself when it is in none). ``members`` (m,): the nodes in some
+    cluster, ascending (representatives included).
     """
+
+    rep: np.ndarray
+    members: np.ndarray
+
+    @staticmethod
+    def none(n_points: int) -> NodeClusters:
+        return NodeClusters(np.arange(n_points, dtype=np.int64), np.zeros(0, dtype=np.int64))
+
+    @property
+    def count(self) -> int:
+        """Number of clusters."""
+        return int(np.count_nonzero(self.rep[self.members] == self.members))
+
+    @property
+    def pairs(self) -> np.ndarray:
+        """(m - count, 2) rows (representative, node), one per node of a cluster other
+        than its representative (k - 1 rows for a cluster of k), ascending."""
+        others = self.members[self.rep[self.members] != self.members]
+        pairs = np.stack([self.rep[others], others], axis=1)
+        return pairs[np.lexsort((pairs[:, 1], pairs[:, 0]))]
+
+
+def coincident_clusters(
+    points: np.ndarray,
+    nodes: np.ndarray,
+    bound: float,
+    local: Callable[[np.ndarray], np.ndarray],
+    keys: tuple[str, ...] = ("coincident_nodes",),
+) -> NodeClusters:
+    """Cluster ``nodes`` (indices into ``points``): two nodes are at one place when they
+    are closer than the smaller of their tolerances, and clusters are the connected
+    groups of that relation.
+
+    ``bound`` is a length no node's tolerance exceeds; ``local(idx)`` returns the
+    tolerances (length units) of nodes ``idx``, worked out only where needed. Sort and
+    sweep: the nodes are sorted along one generic direction and exactly coincident
+    nodes are grouped (one per distinct point goes on); two points within tolerance are
+    within it along that direction too, so each is compared only with the following
+    points until the gap passes the bound. When those candidate pairs would pass the
+    budget (:func:`~meshaudit.mesh_checks.budget.allowance` of the points) the sweep is
+    done again with each point's own tolerance, and a pile-up of distinct points within
+    tolerance that still passes it stops the audit (``keys``: the finding kinds that
+    need the clusters, named in the message).
+    """
+    n_points = points.shape[0]
     if nodes.size < 2:
-        return np.zeros((0, 2), dtype=np.int64)
+        return NodeClusters.none(n_points)
     key = points[nodes] @ _PROBE
-    order = np.argsort(key)  # ties may come in any order: the sweep takes equal keys
-    sorted_nodes = nodes[order]
-    sorted_key = key[order]
-    tol = tolerance[sorted_nodes]
-    n = sorted_nodes.size
+    order = np.argsort(key)  # ties may come in any order: exact copies are sorted below
+    nodes, key = nodes[order], key[order]
+    copy_of, copy = _exact_copies(key, points, nodes)
+    if copy.size:
+        site = np.ones(nodes.size, dtype=bool)
+        site[copy] = False
+        sites = np.flatnonzero(site)  # one position per distinct point, ascending key
+        site_key = key[sites]
+    else:
+        sites, site_key = None, key
+    limit = budget.allowance(site_key.size)
+    first, second = _sweep(site_key, bound, limit)
+    if first is None:  # crowded at the bound: each place's own tolerance
+        tol = local(nodes)
+        np.maximum.at(tol, copy_of, tol[copy])  # a place: the loosest of its nodes
+        first, second = _sweep(site_key, tol if sites is None else tol[sites], limit)
+        if first is None:
+            crowd = int(second[0]) if sites is None else sites[int(second[0])]
+            budget.refuse(
+                "coincident-node check",
+                int(second[1]),
+                "node",
+                points[nodes[crowd]],
+                "thousands of distinct nodes piled within the merge tolerance",
+                keys,
+            )
+    a, b = (first, second) if sites is None else (sites[first], sites[second])
+    a, b = _within(points, nodes, a, b, bound)
+    if a.size:
+        involved = np.zeros(nodes.size, dtype=bool)
+        involved[np.concatenate([a, b])] = True
+        involved[copy[involved[copy_of]]] = True  # a place's copies count for its tolerance
+        idx = np.flatnonzero(involved)
+        tol = np.zeros(nodes.size)
+        tol[idx] = local(nodes[idx])
+        np.maximum.at(tol, copy_of, tol[copy])
+        a, b = _within(points, nodes, a, b, tol)
+    a = np.concatenate([nodes[copy_of], nodes[a]])
+    b = np.concatenate([nodes[copy], nodes[b]])
+    if a.size == 0:
+        return NodeClusters.none(n_points)
+    return NodeClusters(connected_labels(n_points, a, b), unique_values(np.concatenate([a, b])))
+
+
+def _exact_copies(
+    key: np.ndarray, points: np.ndarray, nodes: np.ndarray
+) -> tuple[np.ndarray, np.ndarray]:
+    """(first, copy): positions in ``nodes`` (sorted by ``key``; equal points have equal
+    keys) of the nodes at exactly the place of an earlier one (``copy``) and of that
+    place's first node (``first``). Only runs of equal keys are sorted again, by their
+    coordinates."""
+    tied = np.zeros(key.size, dtype=bool)
+    same_key = key[1:] == key[:-1]
+    tied[1:] = same_key
+    tied[:-1] |= same_key
+    run = np.flatnonzero(tied)
+    if run.size == 0:
+        empty = np.zeros(0, dtype=np.int64)
+        return empty, empty
+    p = points[nodes[run]]
+    order = np.lexsort((p[:, 2], p[:, 1], p[:, 0], key[run]))
+    run, p = run[order], p[order]
+    same = (p[1:] == p[:-1]).all(axis=1)
+    starts = np.concatenate([[True], ~same])
+    head = run[np.flatnonzero(starts)][np.cumsum(starts) - 1]
+    return head[1:][same], run[1:][same]
+
+
+def _sweep(
+    key: np.ndarray, tol: float | np.ndarray, limit: int
+) -> tuple[np.ndarray, np.ndarray] | tuple[None, np.ndarray]:
+    """(i, j), i < j: positions of sorted ``key`` with key[j] - key[i] <= tol (one for
+    all, or tol[i]); or, when they would be more than ``limit``, (None, [a crowded
+    position, pairs so far])."""
+    n = key.size
     active = np.arange(n - 1)
-    first, second = [], []
-    step = 1
+    first, second = [np.zeros(0, dtype=np.int64)], [np.zeros(0, dtype=np.int64)]
+    step, total = 1, 0
+    scalar = np.ndim(tol) == 0
     while active.size:
         active = active[active + step < n]
-        gap = sorted_key[active + step] - sorted_key[active]
-        active = active[gap <= tol[active]]
-        first.append(sorted_nodes[active])
-        second.append(sorted_nodes[active + step])
+        gap = key[active + step] - key[active]
+        active = active[gap <= (tol if scalar else tol[active])]
+        total += active.size
+        if total > limit:
+            return None, np.array([active[active.size // 2], total])
+        first.append(active)
+        second.append(active + step)
         step += 1
-    a, b = np.concatenate(first), np.concatenate(second)
-    dist = np.linalg.norm(points[a] - points[b], axis=1)
-    close = dist <= np.minimum(tolerance[a], tolerance[b])
-    pairs = np.sort(np.stack([a[close], b[close]], axis=1), axis=1)
-    return pairs[np.lexsort((pairs[:, 1], pairs[:, 0]))]
+    return np.concatenate(first), np.concatenate(second)
 
 
-def drop_same_element(pairs: np.ndarray, mesh: ElementMesh) -> np.ndarray:
-    """``pairs`` whose two nodes are not corners of one element: nodes of one element at
-    the same place make a degenerate element (the element metrics report it), not an
-    unmerged node. Only elements touching a paired node are looked at."""
-    if pairs.size == 0:
-        return pairs
-    n = np.int64(mesh.n_points)
-    paired = np.zeros(mesh.n_points, dtype=bool)
-    paired[pairs] = True
-    inside = []
+def _within(
+    points: np.ndarray, nodes: np.ndarray, a: np.ndarray, b: np.ndarray, tol: float | np.ndarray
+) -> tuple[np.ndarray, np.ndarray]:
+    """The pairs (a, b) of positions in ``nodes`` whose points are at most tol (one for
+    all, or min(tol[a], tol[b])) apart."""
+    if a.size == 0:
+        return a, b
+    dist = np.linalg.norm(points[nodes[a]] - points[nodes[b]], axis=1)
+    close = dist <= (tol if np.ndim(tol) == 0 else np.minimum(tol[a], tol[b]))
+    return a[close], b[close]
+
+
+def without_degenerate(clusters: NodeClusters, mesh: ElementMesh) -> NodeClusters:
+    """``clusters`` without those whose nodes are all corners of one element: nodes of
+    one element at one place make a degenerate element (the element metrics report it),
+    not an unmerged node. Only elements touching a clustered node are looked at."""
+    members = clusters.members
+    if members.size == 0:
+        return clusters
+    rep = clusters.rep
+    n = np.int64(rep.size)
+    clustered = np.zeros(rep.size, dtype=bool)
+    clustered[members] = True
+    size = np.zeros(rep.size, dtype=np.int64)
+    np.add.at(size, rep[members], 1)
+    codes = []
     for block in mesh.blocks:
         corners = block.connectivity[:, : CORNERS_PER_FAMILY[block.family]]
-        near = corners[paired[corners].any(axis=1)]
-        for i, j in itertools.combinations(range(corners.shape[1]), 2):
-            a, b = near[:, i], near[:, j]
-            inside.append(np.minimum(a, b) * n + np.maximum(a, b))
-    key = pairs[:, 0] * n + pairs[:, 1]
-    return pairs[~np.isin(key, np.concatenate(inside))]
+        touch = clustered[corners].any(axis=1)
+        near, rows = corners[touch], block.index[touch].astype(np.int64)
+        for column in near.T:
+            on = clustered[column]
+            codes.append(rows[on] * n + column[on])
+    # distinct clustered corners per element, then how many of each cluster it holds
+    row, node = np.divmod(unique_values(np.concatenate(codes)), n)
+    held, count = np.unique(row * n + rep[node], return_counts=True)
+    label = held % n
+    inside = label[count == size[label]]
+    if inside.size == 0:
+        return clusters
+    drop = np.zeros(rep.size, dtype=bool)
+    drop[inside] = True
+    dropped = drop[rep[members]]
+    new_rep = rep.copy()
+    new_rep[members[dropped]] = members[dropped]
+    return NodeClusters(new_rep, members[~dropped])

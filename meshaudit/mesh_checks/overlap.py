@@ -17,16 +17,23 @@ candidates' neighbours, not the whole mesh).
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
 
 from ..arrays import unique_values
 from ..elements import ElementMesh
+from ..frames import anchor
 from ..topology import CORNERS_PER_FAMILY, EdgeTable, corner_rows, sort_keys
+from . import budget
 
 #: Elements per slice in :func:`planar_shapes`: bounds its (n, k) temporaries.
 SHAPE_CHUNK = 65_536
+#: Candidate pairs shapely may measure whatever the input size (about 6 to 30 us each),
+#: plus :data:`~meshaudit.mesh_checks.budget.PER_ITEM` per element; past it the audit is
+#: refused (a pile of elements on one another).
+SHAPE_PAIRS = 1 << 18
 
 
 def element_polygons(mesh: ElementMesh, shapes: PlanarShapes, positions: np.ndarray) -> np.ndarray:
@@ -64,8 +71,25 @@ def node_neighbours(mesh: ElementMesh, elements: np.ndarray) -> np.ndarray:
     return unique_values(np.concatenate(out))
 
 
-def pairs_on_edges(table: EdgeTable, edges: np.ndarray) -> np.ndarray:
-    """(p, 2) every pair of elements using one of ``edges`` (non-manifold edges)."""
+def pairs_on_edges(table: EdgeTable, edges: np.ndarray, points: np.ndarray) -> np.ndarray:
+    """(p, 2) every pair of elements using one of ``edges`` (non-manifold edges).
+
+    k elements on one edge make k (k - 1) / 2 pairs: past
+    :func:`~meshaudit.mesh_checks.budget.allowance` of the edges (thousands of elements
+    on one edge) the audit is refused, naming the most crowded edge's midpoint
+    (``points``: node coordinates)."""
+    uses = table.uses[edges].astype(np.int64)
+    total = int((uses * (uses - 1) // 2).sum())
+    if total > budget.allowance(table.n_edges):
+        worst = table.nodes[edges[int(np.argmax(uses))]]
+        budget.refuse(
+            "overlap check",
+            total,
+            "element",
+            points[worst].mean(axis=0),
+            f"{int(uses.max()):,} elements on one edge",
+            ["overlapping_elements"],
+        )
     on = np.flatnonzero(np.isin(table.edge, edges))
     on = on[np.argsort(table.edge[on], kind="stable")]
     edge, elem = table.edge[on], table.element[on]
@@ -82,10 +106,19 @@ def pairs_on_edges(table: EdgeTable, edges: np.ndarray) -> np.ndarray:
 
 @dataclass(frozen=True)
 class BoxGrid:
-    """Element box centres bucketed on a square grid of cell ``h``, the largest element
-    extent. An element f overlapping element e has its box meeting e's box, and its box
-    centre within h/2 of its own box, so within h/2 of e's box along each axis:
-    :meth:`pairs_near` reads at most 4 x 4 cells per element.
+    """Element boxes bucketed on a square grid of cell ``h``.
+
+    An element whose box is at most ``h`` across is entered in the cell of its box
+    centre, a larger one in every cell its box covers. If element f's box meets element
+    e's box, f has an entry in a cell meeting e's box widened by h/2 on every side (a
+    small f: its centre is within h/2 of each point of its box, so of a point the two
+    boxes share; a large f: the cells it covers include that point's), so
+    :meth:`pairs_near` reads only the cells meeting e's box widened by h/2 (plus
+    ``slack``, 1e-9 of the boxes' extent from the origin, far more than rounding can
+    move a centre or a cell boundary): at most 3 x 3 for an element up to h across.
+    ``h`` is twice the median element extent, doubled while the large elements' entries
+    pass twice the number of elements (a few very large elements among small ones), so
+    the grid follows the typical element, not the largest.
 
     Built from every element (:meth:`build`), so it can be built on another thread
     while the other checks run; queried for the few elements that need it.
@@ -93,55 +126,103 @@ class BoxGrid:
 
     boxes: np.ndarray  # (n, 4) xmin, ymin, xmax, ymax
     h: float
-    origin: np.ndarray  # (2,) lowest box centre
+    slack: float  # added to the h/2 a query widens a box by (rounding)
+    origin: np.ndarray  # (2,) corner of cell (0, 0)
     width: int  # cells per grid column (key = column * width + row)
-    order: np.ndarray  # (n,) elements in ascending cell key
-    sorted_key: np.ndarray  # (n,) their cell keys
+    entry: np.ndarray  # (m,) element of each entry, in ascending cell key
+    sorted_key: np.ndarray  # (m,) their cell keys
 
     @classmethod
     def build(cls, boxes: np.ndarray) -> BoxGrid:
         extent = np.maximum(boxes[:, 2] - boxes[:, 0], boxes[:, 3] - boxes[:, 1])
-        h = float(extent.max()) if extent.size else 0.0
-        if h <= 0.0:
+        sample = extent[:: max(1, extent.size // 65_536)]  # the median of a strided sample
+        sized = sample[sample > 0.0]
+        if sized.size == 0:
+            sized = extent[extent > 0.0]
+        if sized.size == 0:  # no element has a box with room inside: nothing overlaps
             empty = np.zeros(0, dtype=np.int64)
-            return cls(boxes, 0.0, np.zeros(2), 1, empty, empty)
+            return cls(boxes, 0.0, 0.0, np.zeros(2), 1, empty, empty)
+        low = boxes[:, :2].min(axis=0)
+        span = boxes[:, 2:].max(axis=0) - low
+        limit = 2 * boxes.shape[0] + 4096
+        h = 2.0 * float(np.median(sized))
+        for _ in range(2100):  # enough doublings to pass any float extent
+            large = np.flatnonzero(extent > h)
+            first = np.floor((boxes[large, :2] - low) / h)
+            covered = np.floor((boxes[large, 2:] - low) / h) - first + 1.0
+            cells = np.prod(np.floor(span / h) + 6.0)
+            if float(covered.prod(axis=1).sum()) <= limit and cells < 2.0**62:
+                break
+            h *= 2.0
+        slack = 1e-9 * (float(np.abs(boxes).max()) + h)
+        origin = low - 2.0 * h  # queries reach below the lowest box
+        width = int(np.floor(span[1] / h)) + 6
         centre = boxes[:, :2] + boxes[:, 2:]
         centre *= 0.5
-        origin = centre.min(axis=0)
         centre -= origin
         centre /= h
         cell = np.floor(centre, out=centre).astype(np.int64)
         del centre
-        width = int(cell[:, 1].max()) + 5
-        key = cell[:, 0] * width + cell[:, 1]
-        order, sorted_key = sort_keys(key, (int(cell[:, 0].max()) + 5) * width)
-        return cls(boxes, h, origin, width, order, sorted_key)
+        key = cell[:, 0] * width
+        key += cell[:, 1]
+        del cell
+        bound = (int(np.floor(span[0] / h)) + 6) * width
+        if large.size == 0:
+            order, sorted_key = sort_keys(key, bound)
+            return cls(boxes, h, slack, origin, width, order, sorted_key)
+        small = np.flatnonzero(extent <= h)
+        lo = np.floor((boxes[large, :2] - origin) / h).astype(np.int64)
+        span_cells = np.floor((boxes[large, 2:] - origin) / h).astype(np.int64) - lo + 1
+        row, k = budget.expand(np.zeros(large.size, dtype=np.int64), span_cells.prod(axis=1))
+        across, up = np.divmod(k, span_cells[row, 1])
+        covers = (lo[row, 0] + across) * width + lo[row, 1] + up
+        order, sorted_key = sort_keys(np.concatenate([key[small], covers]), bound)
+        entry = np.concatenate([small, large[row]])[order]
+        return cls(boxes, h, slack, origin, width, entry, sorted_key)
 
-    def pairs_near(self, around: np.ndarray) -> np.ndarray:
+    def pairs_near(
+        self, around: np.ndarray, place: Callable[[np.ndarray], np.ndarray] | None = None
+    ) -> np.ndarray:
         """(p, 2) pairs (e, f): e in ``around``, f any element whose box overlaps e's
-        box with positive area."""
+        box with positive area (beyond 1e-9 h on both axes).
+
+        The pairs the cells hand out are counted first: past
+        :func:`~meshaudit.mesh_checks.budget.allowance` of the elements (boxes piled on
+        one another) the audit is refused, naming the place of the most crowded
+        element (``place`` maps plane coordinates to space for the message)."""
         boxes, h, origin, width = self.boxes, self.h, self.origin, self.width
         if around.size == 0 or h <= 0.0:
             return np.zeros((0, 2), dtype=np.int64)
-        lo_cell = np.floor((boxes[around, :2] - h - origin) / h).astype(np.int64)
-        hi_cell = np.floor((boxes[around, 2:] + h - origin) / h).astype(np.int64)
-        dx, dy = np.meshgrid(np.arange(4), np.arange(4))
-        qx = lo_cell[:, :1] + dx.ravel()
-        qy = lo_cell[:, 1:] + dy.ravel()
-        valid = (qx <= hi_cell[:, :1]) & (qy <= hi_cell[:, 1:]) & (qy >= 0)
-        owner = np.broadcast_to(around[:, None], qx.shape)[valid]
-        qkey = qx[valid] * width + qy[valid]
+        reach = 0.5 * h + self.slack
+        lo = np.floor((boxes[around, :2] - reach - origin) / h).astype(np.int64)
+        span = np.floor((boxes[around, 2:] + reach - origin) / h).astype(np.int64) - lo + 1
+        owner, k = budget.expand(np.zeros(around.size, dtype=np.int64), span.prod(axis=1))
+        across, up = np.divmod(k, span[owner, 1])
+        qkey = (lo[owner, 0] + across) * width + lo[owner, 1] + up
         start = np.searchsorted(self.sorted_key, qkey, side="left")
         count = np.searchsorted(self.sorted_key, qkey, side="right") - start
         total = int(count.sum())
-        offset = np.arange(total) - np.repeat(np.cumsum(count) - count, count)
-        e = np.repeat(owner, count)
-        f = self.order[np.repeat(start, count) + offset]
-        width_x = np.minimum(boxes[e, 2], boxes[f, 2]) - np.maximum(boxes[e, 0], boxes[f, 0])
-        width_y = np.minimum(boxes[e, 3], boxes[f, 3]) - np.maximum(boxes[e, 1], boxes[f, 1])
+        if total > budget.allowance(boxes.shape[0]):
+            per = np.bincount(owner, weights=count, minlength=around.size)
+            worst = boxes[around[int(np.argmax(per))]]
+            centre = 0.5 * (worst[:2] + worst[2:])
+            budget.refuse(
+                "overlap check",
+                total,
+                "element",
+                centre if place is None else place(centre),
+                "element boxes piled on one another",
+                ["overlapping_elements"],
+            )
         tiny = 1e-9 * h
-        keep = (e != f) & (width_x > tiny) & (width_y > tiny)
-        return np.stack([e[keep], f[keep]], axis=1)
+        out = [np.zeros((0, 2), dtype=np.int64)]
+        for row, at in budget.batches(start, count):
+            e, f = around[owner[row]], self.entry[at]
+            width_x = np.minimum(boxes[e, 2], boxes[f, 2]) - np.maximum(boxes[e, 0], boxes[f, 0])
+            width_y = np.minimum(boxes[e, 3], boxes[f, 3]) - np.maximum(boxes[e, 1], boxes[f, 1])
+            keep = (e != f) & (width_x > tiny) & (width_y > tiny)
+            out.append(np.stack([e[keep], f[keep]], axis=1))
+        return np.concatenate(out)
 
 
 @dataclass
@@ -174,6 +255,10 @@ class PlanarShapes:
     def plane(self, xyz: np.ndarray) -> np.ndarray:
         """Plane coordinates (..., 2) of points ``xyz`` (..., 3)."""
         return (xyz - self.origin) @ self.axes.T
+
+    def space(self, uv: np.ndarray) -> np.ndarray:
+        """The point (..., 3) in space at plane coordinates ``uv`` (..., 2)."""
+        return self.origin + uv @ self.axes
 
     def fill(self, rows: slice | np.ndarray, corners: np.ndarray) -> None:
         """Measure the elements at ``rows`` from their corners (m, k, 3) in space.
@@ -234,7 +319,7 @@ def _shoelace_and_turns(
 def planar_shapes(mesh: ElementMesh, axes: np.ndarray) -> PlanarShapes:
     """:class:`PlanarShapes` of every element of ``mesh``, plane axes ``axes`` (2, 3),
     measured in slices of :data:`SHAPE_CHUNK` elements (bounded temporaries)."""
-    shapes = PlanarShapes.empty(mesh.n_elements, axes, mesh.points.min(axis=0))
+    shapes = PlanarShapes.empty(mesh.n_elements, axes, anchor(mesh))
     for block, sl in mesh.chunks(SHAPE_CHUNK):
         corners = mesh.points[block.connectivity[sl, : CORNERS_PER_FAMILY[block.family]]]
         shapes.fill(block.index[sl], corners)
@@ -257,17 +342,35 @@ def overlapping_pairs(
     code = unique_values(low * span + high)  # distinct pairs (a < b), ascending
     pairs = np.stack([code // span, code % span], axis=1)
     pairs = pairs[pairs[:, 0] != pairs[:, 1]]
-    pairs = pairs[~separated(mesh, shapes, pairs)]
+    apart = [
+        separated(mesh, shapes, pairs[i : i + budget.BATCH])
+        for i in range(0, len(pairs), budget.BATCH)
+    ]
+    pairs = pairs[~np.concatenate([np.zeros(0, dtype=bool), *apart])]
     if pairs.size == 0:
         return np.zeros((0, 2), dtype=np.int64), np.zeros(0)
+    if len(pairs) > SHAPE_PAIRS + budget.PER_ITEM * mesh.n_elements:
+        crowded = int(np.argmax(np.bincount(pairs.ravel())))
+        box = shapes.boxes[crowded]
+        budget.refuse(
+            "overlap check",
+            len(pairs),
+            "element",
+            shapes.space(0.5 * (box[:2] + box[2:])),
+            "elements piled on one another",
+            ["overlapping_elements"],
+        )
     import shapely
 
     involved, inverse = np.unique(pairs, return_inverse=True)
     inverse = inverse.reshape(pairs.shape)
     polys = element_polygons(mesh, shapes, involved)
-    pa, pb = polys[inverse[:, 0]], polys[inverse[:, 1]]
-    common = shapely.area(shapely.intersection(pa, pb))
-    smaller = np.minimum(shapely.area(pa), shapely.area(pb))
+    area = shapely.area(polys)
+    smaller = np.minimum(area[inverse[:, 0]], area[inverse[:, 1]])
+    common = np.zeros(len(pairs))
+    for i in range(0, len(pairs), budget.BATCH):  # bounded memory: results a batch at a time
+        pa, pb = polys[inverse[i : i + budget.BATCH, 0]], polys[inverse[i : i + budget.BATCH, 1]]
+        common[i : i + budget.BATCH] = shapely.area(shapely.intersection(pa, pb))
     hit = (smaller > 0.0) & (common > fraction * smaller)
     return pairs[hit], common[hit]
 

@@ -22,8 +22,10 @@ class View:
     normal: np.ndarray  # (3,) towards the viewer
 
     def project(self, points: np.ndarray) -> np.ndarray:
-        """Page coordinates (..., 2) of points (..., 3), in the mesh's length unit."""
-        return (points - self.origin) @ self.axes.T
+        """Page coordinates (..., 2) of points (..., 3), in the mesh's length unit. A
+        point no element uses may be infinite: it projects to NaN (never drawn), quietly."""
+        with np.errstate(invalid="ignore"):
+            return (points - self.origin) @ self.axes.T
 
     def depth(self, points: np.ndarray) -> np.ndarray:
         """Distance towards the viewer (larger is nearer), same leading shape as points."""
