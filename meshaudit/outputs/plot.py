@@ -31,6 +31,7 @@ from ..score import BAND_EDGES
 from ..verdicts import FAIL, WARN
 from . import raster
 from .projection import View, best_fit_view, flatness, tilted
+from .ranges import clipped_for_colour, drawable_range, too_narrow
 
 if TYPE_CHECKING:
     from matplotlib.axes import Axes
@@ -124,15 +125,15 @@ def colour_range(report: Report, color_by: str) -> tuple[float, float, str]:
         lo, extend = min(fails), "min"
     if np.isinf(values).any() and extend == "neither":
         extend = "max" if info.worse == "high" else "min"
-    if hi <= lo:  # one value everywhere: stretch towards the warn limit if there is one
+    if too_narrow(lo, hi):  # one value everywhere: stretch towards the warn limit if any
         warns = [v for _, kind, v in metric_limits(report, color_by) if kind == "warn"]
         if warns and info.worse == "high" and max(warns) > lo:
             hi = max(warns)
         elif warns and info.worse == "low" and min(warns) < lo:
             lo = min(warns)
-        else:
-            pad = 0.5 * max(abs(lo), 1.0)
-            lo, hi = lo - pad, hi + pad
+    # one value everywhere (no limit to stretch to), values apart by round-off only,
+    # values near the largest float: widened or clipped to a range colours can span
+    lo, hi = drawable_range(lo, hi)
     return lo, hi, extend
 
 
@@ -144,8 +145,7 @@ def colour_scale(report: Report, color_by: str) -> tuple[np.ndarray, Any, Any, s
     info = METRIC_INFO[color_by]
     values = np.asarray(report.metrics[color_by], dtype=float)
     lo, hi, extend = colour_range(report, color_by)
-    big = np.finfo(float).max
-    drawn = np.where(np.isposinf(values), big, np.where(np.isneginf(values), -big, values))
+    drawn = clipped_for_colour(values, lo, hi)  # infinities take the end colours
     cmap = colormaps["viridis_r" if info.worse == "high" else "viridis"].with_extremes(
         bad=NOT_DEFINED
     )
