@@ -18,6 +18,7 @@ from ..explain import Explanation
 from ..inspection import CORNERS, AuditedMesh, corner_table
 from ..mapping import map_points
 from ..reference import QUAD_CORNERS
+from ..scale import length_exponent
 from .plot import HALO, OUTLINE, mesh_view, plot_format
 from .projection import View, plane_view
 
@@ -76,7 +77,9 @@ def reference_cells(family: str) -> np.ndarray:
 def folded_cells(cell_type: str, family: str, nodes: np.ndarray) -> np.ndarray:
     """Mapped reference cells whose signed area is <= 0: where the map folds over."""
     cells = map_points(cell_type, nodes, reference_cells(family))
-    x, y = cells[..., 0], cells[..., 1]
+    exponent = length_exponent(cells)  # the sign of an area at any finite size
+    with np.errstate(under="ignore"):
+        x, y = (np.ldexp(cells[..., k], -exponent) for k in (0, 1))
     signed = 0.5 * (x * np.roll(y, -1, axis=1) - np.roll(x, -1, axis=1) * y).sum(axis=1)
     return cells[signed <= 0.0]
 
