@@ -19,6 +19,7 @@ from ..inspection import CORNERS, AuditedMesh, corner_table
 from ..mapping import map_points
 from ..reference import QUAD_CORNERS
 from ..scale import length_exponent
+from .mpl import drawable, new_figure
 from .plot import HALO, OUTLINE, mesh_view, plot_format
 from .projection import View, plane_view
 
@@ -93,17 +94,15 @@ def element_view(audited: AuditedMesh, ex: Explanation) -> View:
 
 def draw(audited: AuditedMesh, ex: Explanation) -> Figure:
     """Build the figure of one element (nothing is written)."""
-    from matplotlib.figure import Figure
-
     view = element_view(audited, ex)
     nodes = view.project(ex.coordinates)
-    fig = Figure(figsize=(8.0, 7.0), layout="constrained")
+    fig = new_figure(figsize=(8.0, 7.0), layout="constrained")
     ax = fig.add_subplot(1, 1, 1)
     _neighbours(ax, audited, ex, view, _window(nodes))
     _grid(ax, ex, nodes)
     _nodes_and_gauss(ax, ex, nodes)
     _frame(ax, nodes)
-    ax.set_title(_title(ex), fontsize=9)
+    ax.set_title(drawable(_title(ex)), fontsize=9)
     return fig
 
 

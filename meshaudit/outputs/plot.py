@@ -30,6 +30,7 @@ from ..report import Report
 from ..score import BAND_EDGES
 from ..verdicts import FAIL, WARN
 from . import raster
+from .mpl import drawable, new_figure, prepare
 from .projection import View, best_fit_view, flatness, tilted
 from .ranges import clipped_for_colour, drawable_range, too_narrow
 
@@ -139,6 +140,7 @@ def colour_range(report: Report, color_by: str) -> tuple[float, float, str]:
 
 def colour_scale(report: Report, color_by: str) -> tuple[np.ndarray, Any, Any, str, str]:
     """(values to draw, colormap, norm, colourbar label, extend) for metric ``color_by``."""
+    prepare()
     from matplotlib import colormaps
     from matplotlib.colors import Normalize
 
@@ -175,8 +177,6 @@ def draw(
     Each id label is a text artist with gid ``fail-id-<id>`` (kept as the element id in
     SVG output), so callers and tests can read back which elements were labelled.
     """
-    from matplotlib.figure import Figure
-
     if color_by not in METRIC_NAMES:
         raise OutputError(f"cannot colour by {color_by!r}: not a metric")
     view = mesh_view(report, elements)
@@ -187,7 +187,7 @@ def draw(
     order = _draw_order(report, elements, table, view)
     worst = report.worst(insets) if insets > 0 else np.empty(0, dtype=np.int64)
 
-    fig = Figure(figsize=(14.0, 9.0), layout="constrained")
+    fig = new_figure(figsize=(14.0, 9.0), layout="constrained")
     ax, inset_axes = _layout(fig, len(worst))
     faces = _faces(ax, verts, values, cmap, norm, order)
     _outlines(ax, report, verts)
@@ -207,7 +207,7 @@ def draw(
     for sub, i in zip(inset_axes, worst):
         _inset(sub, report, verts, boxes, values, cmap, norm, int(i), color_by)
         sub.plot(*xy[table[int(i)]].T, "o", ms=2.5, color=OUTLINE, zorder=5)
-    fig.suptitle(title(report), fontsize=12, fontweight="bold")
+    fig.suptitle(drawable(title(report)), fontsize=12, fontweight="bold")
     ax.set_title(_subtitle(report, color_by, view), fontsize=9)
     flat_xy = report.summary.frame == "planar" and np.allclose(view.axes, np.eye(3)[:2])
     ax.set_xlabel("x" if flat_xy else "u (along the first view axis)", fontsize=8)
