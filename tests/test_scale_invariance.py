@@ -170,3 +170,22 @@ def test_a_tiny_element_beside_an_ordinary_one() -> None:
     for name in ("aspect_ratio", "scaled_jacobian", "condition", "min_angle", "skew"):
         assert report.metrics[name][0] == pytest.approx(report.metrics[name][1], rel=1e-12)
     assert report.metrics["area"][0] == 0.0  # 1e-340: below the smallest double
+
+
+@pytest.mark.parametrize("k", [-300, -170, 0, 154, 300])
+def test_the_plot_frames_the_mesh_at_any_scale(k: int) -> None:
+    # matplotlib lays out no axes on coordinates below about 1e-280: the page counts in a
+    # power of ten near the mesh size, and the axes say so; the mesh fills the frame
+    from meshaudit.inspection import audit_mesh
+    from meshaudit.outputs import plot
+
+    audited = audit_mesh(shapes_mesh(10.0**k))
+    fig = plot.draw(audited.report, audited.elements, insets=0)
+    ax = fig.axes[0]
+    faces = next(c for c in ax.collections if c.get_gid() == "faces")
+    page = np.concatenate([p.vertices for p in faces.get_paths()])
+    (x0, x1), (y0, y1) = ax.get_xlim(), ax.get_ylim()
+    assert x0 <= page[:, 0].min() and page[:, 0].max() <= x1
+    assert y0 <= page[:, 1].min() and page[:, 1].max() <= y1
+    assert (x1 - x0) <= 1.5 * np.ptp(page[:, 0])  # framed, not lost in a default range
+    assert ("in units of" in ax.get_xlabel()) == (abs(k) > 60)

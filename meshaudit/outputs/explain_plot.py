@@ -21,7 +21,7 @@ from ..reference import QUAD_CORNERS
 from ..scale import length_exponent
 from .mpl import drawable, new_figure
 from .plot import HALO, OUTLINE, mesh_view, plot_format
-from .projection import View, plane_view
+from .projection import View, drawing_unit, plane_view, unit_text, with_unit
 
 if TYPE_CHECKING:
     from matplotlib.axes import Axes
@@ -89,7 +89,8 @@ def element_view(audited: AuditedMesh, ex: Explanation) -> View:
     """The mesh page for planar meshes; the element's best-fit plane for shells."""
     if audited.report.summary.frame == "planar":
         return mesh_view(audited.report, audited.elements)
-    return plane_view(ex.coordinates[: CORNERS[ex.family]])
+    corners = ex.coordinates[: CORNERS[ex.family]]
+    return with_unit(plane_view(corners), drawing_unit(corners))
 
 
 def draw(audited: AuditedMesh, ex: Explanation) -> Figure:
@@ -103,6 +104,8 @@ def draw(audited: AuditedMesh, ex: Explanation) -> Figure:
     _nodes_and_gauss(ax, ex, nodes)
     _frame(ax, nodes)
     ax.set_title(drawable(_title(ex)), fontsize=9)
+    if view.unit != 1.0:
+        ax.set_xlabel("coordinates" + unit_text(view), fontsize=8)
     return fig
 
 

@@ -27,11 +27,20 @@ from ..frames import area_vectors
 from ..inspection import corner_table, has_curved_cells, outline_points
 from ..metrics import METRIC_INFO, METRIC_NAMES
 from ..report import Report
+from ..scale import length_exponent, scaled_lengths
 from ..score import BAND_EDGES
 from ..verdicts import FAIL, WARN
 from . import raster
 from .mpl import drawable, new_figure, prepare
-from .projection import View, best_fit_view, flatness, tilted
+from .projection import (
+    View,
+    best_fit_view,
+    drawing_unit,
+    flatness,
+    tilted,
+    unit_text,
+    with_unit,
+)
 from .ranges import clipped_for_colour, drawable_range, too_narrow
 
 if TYPE_CHECKING:
@@ -79,12 +88,16 @@ def mesh_view(report: Report, elements: ElementMesh) -> View:
     if report.summary.frame == "planar" and normal is not None:
         facing = float(np.dot(view.normal, normal))
     else:  # shell: look from the side most element normals point to
-        facing = float(np.sign(area_vectors(elements.points[table]) @ view.normal).sum())
+        corners = elements.points[table]
+        k = length_exponent(corners)  # only the signs count: at a scale with no overflow
+        if k:
+            corners = scaled_lengths(corners, -k, 1)
+        facing = float(np.sign(area_vectors(corners) @ view.normal).sum())
     if facing < 0.0:
         view = View(view.origin, np.stack([view.axes[0], -view.axes[1]]), -view.normal)
     if report.summary.frame != "planar" and flatness(used, view) > CURVED_SHELL:
         view = tilted(view, *OBLIQUE)
-    return view
+    return with_unit(view, drawing_unit(used))
 
 
 def metric_limits(report: Report, metric: str) -> list[tuple[str, str, float]]:
@@ -210,8 +223,9 @@ def draw(
     fig.suptitle(drawable(title(report)), fontsize=12, fontweight="bold")
     ax.set_title(_subtitle(report, color_by, view), fontsize=9)
     flat_xy = report.summary.frame == "planar" and np.allclose(view.axes, np.eye(3)[:2])
-    ax.set_xlabel("x" if flat_xy else "u (along the first view axis)", fontsize=8)
-    ax.set_ylabel("y" if flat_xy else "v (along the second view axis)", fontsize=8)
+    unit = unit_text(view)
+    ax.set_xlabel(("x" if flat_xy else "u (along the first view axis)") + unit, fontsize=8)
+    ax.set_ylabel(("y" if flat_xy else "v (along the second view axis)") + unit, fontsize=8)
     return fig
 
 
