@@ -13,49 +13,36 @@ from __future__ import annotations
 
 import os
 import stat
-import subprocess
-import sys
 from pathlib import Path
 
 import meshio
 import numpy as np
 import pytest
-from conftest import REPO, SAMPLES
+from conftest import SAMPLES
 
 PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"
 NAME = "plate_\u677f_$x^2$_\u03be"  # a CJK character, a math-mode pair, a Greek letter
 
 
 @pytest.fixture
-def locked_env(tmp_path: Path) -> dict[str, str]:
+def locked(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    """This process's environment (which run_cli hands on) with a read-only home and
+    matplotlib and XDG directories that cannot be created."""
     home = tmp_path / "home"
     home.mkdir()
     home.chmod(stat.S_IRUSR | stat.S_IXUSR)
     blocker = tmp_path / "a-file"
     blocker.write_text("not a directory\n")
-    env = {k: v for k, v in os.environ.items() if not k.startswith(("MPL", "XDG_"))}
-    env.update(
-        HOME=str(home),
-        MPLCONFIGDIR=str(blocker / "matplotlib"),
-        XDG_CONFIG_HOME=str(blocker / "config"),
-        XDG_CACHE_HOME=str(blocker / "cache"),
-        PYTHONPATH=str(REPO) + os.pathsep + os.environ.get("PYTHONPATH", ""),
-        PYTHONWARNINGS="default",  # every warning shown, none hidden by a filter
-        COLUMNS="120",
-    )
-    yield env
+    for key in list(os.environ):
+        if key.startswith(("MPL", "XDG_")):
+            monkeypatch.delenv(key)
+    monkeypatch.setenv("HOME", str(home))
+    monkeypatch.setenv("MPLCONFIGDIR", str(blocker / "matplotlib"))
+    monkeypatch.setenv("XDG_CONFIG_HOME", str(blocker / "config"))
+    monkeypatch.setenv("XDG_CACHE_HOME", str(blocker / "cache"))
+    monkeypatch.setenv("PYTHONWARNINGS", "default")  # every warning shown, none filtered
+    yield
     home.chmod(stat.S_IRWXU)
-
-
-def _run(env: dict[str, str], cwd: Path, *args: object) -> subprocess.CompletedProcess:
-    return subprocess.run(
-        [sys.executable, "-m", "meshaudit", *map(str, args)],
-        capture_output=True,
-        text=True,
-        cwd=cwd,
-        env=env,
-        timeout=300,
-    )
 
 
 def _huge_mesh(path: Path) -> None:
@@ -74,7 +61,7 @@ def _huge_mesh(path: Path) -> None:
         ("crack_tip", 10, "det_j_min"),
     ],
 )
-def test_plots_print_nothing(source, element, color_by, tmp_path, locked_env) -> None:
+def test_plots_print_nothing(source, element, color_by, tmp_path, locked, run_cli) -> None:
     mesh = tmp_path / f"{NAME}.{'vtu' if source != 'defects' else 'msh'}"
     if source == "defects":
         mesh.write_bytes((SAMPLES / "bracket_plate_defects.msh").read_bytes())
@@ -86,9 +73,7 @@ def test_plots_print_nothing(source, element, color_by, tmp_path, locked_env) ->
     profile.write_text('name = "\u03b2 \u677f $a$"\n', encoding="utf-8")
     plot, html, one = tmp_path / "mesh.png", tmp_path / "mesh.html", tmp_path / "one.png"
     common = ["--profile", profile, "--no-config"]
-    done = _run(
-        locked_env,
-        tmp_path,
+    done = run_cli(
         "check",
         mesh,
         "--plot",
@@ -99,11 +84,12 @@ def test_plots_print_nothing(source, element, color_by, tmp_path, locked_env) ->
         color_by,
         "--quiet",
         *common,
+        cwd=tmp_path,
     )
     assert done.returncode in (0, 1), done.stderr
     assert done.stderr == ""
     assert plot.read_bytes()[:8] == PNG_SIGNATURE
-    done = _run(locked_env, tmp_path, "explain", mesh, element, "--plot", one, *common)
+    done = run_cli("explain", mesh, element, "--plot", one, *common, cwd=tmp_path)
     assert done.returncode in (0, 1), done.stderr
     assert done.stderr == ""
     assert one.read_bytes()[:8] == PNG_SIGNATURE
