@@ -50,10 +50,10 @@ CORNER_COUNT = {"quad": 4, "triangle": 3}
 #: Metrics in length^2 (area and det J): the others are dimensionless.
 AREA_METRICS: tuple[str, ...] = tuple(m.name for m in METRICS if m.unit == "length^2")
 
-#: An element whose area lies outside 2^-400 .. 2^400 may be too small (or large) for
-#: the products of four lengths its metrics take; it is measured again at its own scale
-#: (see :func:`measure_elements`).
-_AREA_RANGE = (2.0**-400, 2.0**400)
+#: An element whose area lies outside 2^-200 .. 2^200 may be too small (or large) for
+#: the products of up to eight lengths its metrics take; it is measured again at its own
+#: scale (see :func:`measure_elements`).
+_AREA_RANGE = (2.0**-200, 2.0**200)
 
 
 def measure_elements(
@@ -70,10 +70,11 @@ def measure_elements(
 
     ``coords3`` may be the nodes scaled by 2^-``exponent`` (see
     :func:`meshaudit.frames.normalised`): area and det J are given back in the nodes'
-    own units. An element whose area comes out near the ends of the range of a double
-    (its size beyond about 2^+-200) is measured again with its nodes scaled by a power of
-    two of its own (:func:`meshaudit.frames.element_exponents`), so that no product of
-    lengths overflows or underflows: any finite scale gives the same verdicts.
+    own units. An element whose area comes out beyond 2^+-200 is measured again with its
+    nodes scaled by a power of two of its own (:func:`meshaudit.scale.element_exponents`),
+    so that no product of lengths overflows or underflows. ``coords3`` are expected
+    within 2^+-:data:`meshaudit.scale.SAFE_EXPONENT` (:func:`audit_elements` sees to it),
+    so that any finite scale gives the same verdicts.
     """
     metrics, flags = _measure_elements(family, coords3, frame, cell_type)
     area = metrics["area"]  # never negative
@@ -123,12 +124,14 @@ def _merge(
     rows: np.ndarray,
     part: tuple[dict[str, np.ndarray], dict[str, np.ndarray]],
 ) -> None:
-    """Write the results ``part`` of elements ``rows`` over theirs (in place)."""
+    """Write the results ``part`` of elements ``rows`` over theirs (in place); a column
+    the part does not have (a quarter-point twin) is not defined for those rows."""
     n = len(next(iter(flags.values())))
     for target, values, fill in ((metrics, part[0], np.nan), (flags, part[1], False)):
-        for name, column in values.items():
-            whole = target[name].copy() if name in target else np.full(n, fill, column.dtype)
-            whole[rows] = column
+        for name in dict.fromkeys([*target, *values]):
+            dtype = (values[name] if name in values else target[name]).dtype
+            whole = target[name].copy() if name in target else np.full(n, fill, dtype)
+            whole[rows] = values[name] if name in values else fill
             target[name] = whole
 
 

@@ -20,11 +20,13 @@ if TYPE_CHECKING:
     from .elements import ElementMesh
     from .findings import MeshFindings
 
-#: Coordinates of magnitude 2^-SAFE_EXPONENT to 2^SAFE_EXPONENT (about 6e-61 to 1.6e60)
-#: are measured as they are: the metrics multiply up to four lengths, which stays far
-#: inside the range of a double there. Beyond it they are measured scaled by a power of
-#: two (see :func:`length_exponent`).
-SAFE_EXPONENT = 200
+#: Coordinates of magnitude 2^-SAFE_EXPONENT to 2^SAFE_EXPONENT (about 8e-31 to 1.3e30)
+#: are measured as they are. The metrics multiply up to eight lengths (the warp of a quad
+#: in space takes the length of a cross product of two cross products of edges), which
+#: stays inside the normal range of a double (2^-1022 to 2^1024) for elements up to twice
+#: that size. Beyond it coordinates are measured scaled by a power of two (see
+#: :func:`length_exponent`).
+SAFE_EXPONENT = 100
 
 
 def length_exponent(values: np.ndarray) -> int:
