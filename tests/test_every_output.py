@@ -25,6 +25,7 @@ import pytest
 from conftest import SAMPLES
 
 import meshaudit
+from meshaudit.reading import TESTED_EXTENSIONS
 
 PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"  # PNG specification, section 5.2
 
@@ -93,17 +94,28 @@ def _round_off_only(path: Path) -> None:
     meshio.write(path, meshio.Mesh(points, [("quad", quads)]))
 
 
+def _scaled_grid(scale: float):
+    def make(path: Path) -> None:
+        # every coordinate of a uniform grid times ``scale``: at 1e300 area and det J are
+        # infinite everywhere (1e600), at 1e-300 zero (1e-600): past the range of a double
+        points, quads = _grid(4, 3)
+        meshio.write(path, meshio.Mesh(points * scale, [("quad", quads)]))
+
+    return make
+
+
 MADE = {
     "uniform_quads": _uniform_quads,
     "uniform_triangles": _uniform_triangles,
     "one_square": _one_square,
     "all_collapsed": _all_collapsed,
     "round_off_only": _round_off_only,
+    "huge_grid": _scaled_grid(1e300),
+    "tiny_grid": _scaled_grid(1e-300),
 }
 
-SAMPLE_FILES = sorted(
-    p for p in SAMPLES.iterdir() if p.suffix in (".msh", ".vtu", ".vtk", ".inp", ".xdmf")
-)
+#: Every bundled sample mesh: any file of samples/ in a format meshaudit documents.
+SAMPLE_FILES = sorted(p for p in SAMPLES.iterdir() if p.suffix in TESTED_EXTENSIONS)
 
 
 def test_the_samples_are_found() -> None:
