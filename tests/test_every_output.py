@@ -23,8 +23,11 @@ import meshio
 import numpy as np
 import pytest
 from conftest import SAMPLES
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 import meshaudit
+from meshaudit.outputs.ranges import clipped_for_colour, drawable_range
 from meshaudit.reading import TESTED_EXTENSIONS
 
 PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"  # PNG specification, section 5.2
@@ -194,3 +197,25 @@ def test_every_output_is_written_and_valid(mesh, tmp_path: Path, run_cli) -> Non
     explained = strict_json(ex_json)
     assert explained["id"] == element
     assert ex_png.read_bytes()[:8] == PNG_SIGNATURE
+
+
+finite = st.floats(allow_nan=False, allow_infinity=False)
+
+
+@settings(max_examples=300, deadline=None)
+@given(finite, finite, st.integers(min_value=0, max_value=40))
+def test_any_values_get_a_histogram_and_a_colour_scale(a: float, b: float, ulps: int) -> None:
+    # numpy's histogram (a reference outside meshaudit) cuts the drawn range into 30
+    # distinct bins, and the colour arithmetic (x - lo) / (hi - lo) stays finite, for any
+    # finite values: far apart, equal, or a few units in the last place apart
+    lo, hi = sorted((a, b))
+    values = np.array([lo, hi, np.nextafter(lo, hi) if ulps else lo], dtype=float)
+    values = np.concatenate([values, [lo] * ulps])
+    d_lo, d_hi = drawable_range(float(values.min()), float(values.max()), 30)
+    assert np.isfinite(d_lo) and np.isfinite(d_hi) and d_lo < d_hi
+    inside = values[(values >= d_lo) & (values <= d_hi)]
+    counts, edges = np.histogram(inside, bins=30, range=(d_lo, d_hi))
+    assert counts.sum() == inside.size and np.all(np.diff(edges) > 0)
+    with np.errstate(over="raise", invalid="raise", divide="raise", under="ignore"):
+        drawn = clipped_for_colour(np.r_[values, np.inf, -np.inf], d_lo, d_hi)
+        assert np.all(np.isfinite((drawn - d_lo) / (d_hi - d_lo)))

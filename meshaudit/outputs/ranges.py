@@ -13,14 +13,9 @@ import numpy as np
 #: Largest magnitude of a drawn range: its width, at most twice this, stays finite.
 LIMIT = 2.0**1020
 
-#: Below this magnitude a constant value is drawn on the range -0.5 to 0.5 (its half
-#: would be subnormal: too coarse to cut into bins).
+#: Below this magnitude (and at 0) a constant value is drawn on the range -0.5 to 0.5
+#: (half of it would be subnormal: too coarse to cut into bins).
 TINY = 2.0**-1000
-
-#: Constant values of magnitude from 2^-20 to 2^40 are drawn on value -0.5 to value
-#: + 0.5; the others on half to one and a half times the value (a range that scales
-#: with it).
-UNIT_BAND = (2.0**-20, 2.0**40)
 
 _EPS = float(np.finfo(np.float64).eps)
 
@@ -30,8 +25,8 @@ def drawable_range(lo: float, hi: float, parts: int = 1) -> tuple[float, float]:
     that ``parts`` equal steps between them are distinct floats.
 
     A range too narrow for that (one value everywhere, or values differing only by
-    round-off) is widened about its middle m: to m -+ 0.5 where |m| is within
-    :data:`UNIT_BAND` (or m is 0, or |m| is below :data:`TINY`), else to m -+ |m| / 2.
+    round-off) is widened about its middle m to m/2 .. 3m/2 (-0.5 .. 0.5 where |m| is
+    below :data:`TINY`, 0 included), so the value sits in the middle whatever its size.
     Ends that are not finite are taken as -+ :data:`LIMIT` (NaN as 0).
     """
     lo, hi = (_clip(v) for v in (lo, hi))
@@ -40,11 +35,7 @@ def drawable_range(lo: float, hi: float, parts: int = 1) -> tuple[float, float]:
     if not too_narrow(lo, hi, parts):
         return lo, hi
     mid = 0.5 * lo + 0.5 * hi
-    size = abs(mid)
-    if size == 0.0 or size < TINY or UNIT_BAND[0] <= size <= UNIT_BAND[1]:
-        pad = 0.5
-    else:
-        pad = 0.5 * size
+    pad = 0.5 * abs(mid) if abs(mid) >= TINY else 0.5
     return _clip(mid - pad), _clip(mid + pad)
 
 
