@@ -16,13 +16,14 @@ from .finding_kinds import MESH_CHECK_KINDS
 from .findings import TopologyPart, find_topology, finish, unaudited_cells
 from .frames import Frame, anchor, centroids, choose_frame, to_local
 from .mesh_checks.overlap import BoxGrid, PlanarShapes
-from .metrics import KERNELS, METRIC_NAMES, QUADRATIC_CELLS, quadratic
+from .metrics import KERNELS, METRIC_NAMES, METRICS, QUADRATIC_CELLS, quadratic
 from .orientation import Orientation, nearly_flat_shell_note
 from .orientation import judge as judge_orientation
 from .profiles import Profile, load_profile
 from .reading import load
 from .regions import judge_by_region, region_codes
 from .report import FLAG_BIT, MeshSummary, Report, metric_statistics
+from .scale import element_exponents, normalised, rescaled_findings, scaled_lengths
 from .score import rebanded
 from .topology import EdgeTable, edge_table
 from .verdicts import WARN
@@ -46,14 +47,55 @@ MAX_WORKERS = 4
 CORNER_COUNT = {"quad": 4, "triangle": 3}
 
 
+#: Metrics in length^2 (area and det J): the others are dimensionless.
+AREA_METRICS: tuple[str, ...] = tuple(m.name for m in METRICS if m.unit == "length^2")
+
+#: An element whose area lies outside 2^-200 .. 2^200 may be too small (or large) for
+#: the products of up to eight lengths its metrics take; it is measured again at its own
+#: scale (see :func:`measure_elements`).
+_AREA_RANGE = (2.0**-200, 2.0**200)
+
+
 def measure_elements(
-    family: str, coords3: np.ndarray, frame: Frame, cell_type: str | None = None
+    family: str,
+    coords3: np.ndarray,
+    frame: Frame,
+    cell_type: str | None = None,
+    exponent: int = 0,
 ) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
     """Metrics and flags of elements of one family (and cell type), nodes ``coords3``.
 
     The family kernel measures the shape on the corner nodes; a quadratic cell type then
     gets its own Jacobian part and midside checks on all its nodes.
+
+    ``coords3`` may be the nodes scaled by 2^-``exponent`` (see
+    :func:`meshaudit.frames.normalised`): area and det J are given back in the nodes'
+    own units. An element whose area comes out beyond 2^+-200 is measured again with its
+    nodes scaled by a power of two of its own (:func:`meshaudit.scale.element_exponents`),
+    so that no product of lengths overflows or underflows. ``coords3`` are expected
+    within 2^+-:data:`meshaudit.scale.SAFE_EXPONENT` (:func:`audit_elements` sees to it),
+    so that any finite scale gives the same verdicts.
     """
+    metrics, flags = _measure_elements(family, coords3, frame, cell_type)
+    area = metrics["area"]  # never negative
+    odd = np.flatnonzero(~((area > _AREA_RANGE[0]) & (area < _AREA_RANGE[1])))
+    if odd.size:  # rare: collapsed elements, or elements of extreme size
+        own = element_exponents(coords3[odd])
+        rows, own = odd[own != 0], own[own != 0]
+        if rows.size:
+            with np.errstate(under="ignore"):
+                scaled = np.ldexp(coords3[rows], -own[:, None, None])
+            part = _measure_elements(family, scaled, frame, cell_type)
+            _rescale(part[0], own)
+            _merge(metrics, flags, rows, part)
+    if exponent:
+        _rescale(metrics, exponent)
+    return metrics, flags
+
+
+def _measure_elements(
+    family: str, coords3: np.ndarray, frame: Frame, cell_type: str | None
+) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
     n_corners = CORNER_COUNT[family]
     corners = coords3[:, :n_corners]
     if cell_type in QUADRATIC_CELLS:
@@ -68,6 +110,31 @@ def measure_elements(
     return metrics, flags
 
 
+def _rescale(metrics: dict[str, np.ndarray], exponent: int | np.ndarray) -> None:
+    """Area and det J (and their quarter-point twins) measured on nodes scaled by
+    2^-exponent, in place, back in the nodes' own units."""
+    for name in list(metrics):
+        if name.split("|")[0] in AREA_METRICS:
+            metrics[name] = scaled_lengths(metrics[name], exponent, 2)
+
+
+def _merge(
+    metrics: dict[str, np.ndarray],
+    flags: dict[str, np.ndarray],
+    rows: np.ndarray,
+    part: tuple[dict[str, np.ndarray], dict[str, np.ndarray]],
+) -> None:
+    """Write the results ``part`` of elements ``rows`` over theirs (in place); a column
+    the part does not have (a quarter-point twin) is not defined for those rows."""
+    n = len(next(iter(flags.values())))
+    for target, values, fill in ((metrics, part[0], np.nan), (flags, part[1], False)):
+        for name in dict.fromkeys([*target, *values]):
+            dtype = (values[name] if name in values else target[name]).dtype
+            whole = target[name].copy() if name in target else np.full(n, fill, dtype)
+            whole[rows] = values[name] if name in values else fill
+            target[name] = whole
+
+
 def measure_chunk(
     family: str,
     coords3: np.ndarray,
@@ -76,15 +143,19 @@ def measure_chunk(
     cell_type: str | None = None,
     codes: np.ndarray | None = None,
     region_profiles: Sequence[Profile] = (),
+    exponent: int = 0,
 ) -> tuple[dict[str, np.ndarray], np.ndarray, dict[str, np.ndarray], np.ndarray]:
     """Metrics, flag bits, breach levels and verdicts of one chunk of one family.
+
+    ``coords3`` may be the nodes scaled by 2^-``exponent`` (see
+    :func:`measure_elements`); the metrics are judged in the nodes' own units.
 
     Element i is judged under ``profile`` when ``codes[i]`` is 0 (or ``codes`` is None),
     else under ``region_profiles[codes[i] - 1]``. Its score (``metrics["score"]``, see
     :mod:`meshaudit.score`) is worked out here, with the verdict it belongs with.
     Pure: depends only on its arguments, so chunks can be measured in any order or place.
     """
-    metrics, flags = measure_elements(family, coords3, frame, cell_type)
+    metrics, flags = measure_elements(family, coords3, frame, cell_type, exponent)
     if codes is None:
         codes = np.zeros(len(coords3), dtype=np.int16)
     levels, verdict, score = judge_by_region(
@@ -148,6 +219,9 @@ def audit_elements(
     region_names = tuple(regions or {})
     region_profiles = tuple(load_profile(p) for p in (regions or {}).values())
     codes = region_codes(mesh.n_elements, mesh.cell_sets, region_names)
+    # a mesh of extreme size is measured scaled by 2^-exponent (exactly), and its
+    # lengths given back in its own units (see meshaudit.frames.normalised)
+    mesh, exponent = normalised(mesh)
     frame = choose_frame(mesh)
     n = mesh.n_elements
     cell_types = tuple(dict.fromkeys(b.cell_type for b in mesh.blocks))
@@ -170,9 +244,17 @@ def audit_elements(
         rows = _rows(block.index[sl])
         coords3 = mesh.points[block.connectivity[sl]]
         result = measure_chunk(
-            block.family, coords3, frame, prof, block.cell_type, codes[rows], region_profiles
+            block.family,
+            coords3,
+            frame,
+            prof,
+            block.cell_type,
+            codes[rows],
+            region_profiles,
+            exponent,
         )
-        sink.store(rows, result, centroids(coords3))
+        centre = centroids(coords3)
+        sink.store(rows, result, scaled_lengths(centre, exponent, 1) if exponent else centre)
         if shapes is not None:
             shapes.fill(rows, coords3[:, : CORNER_COUNT[block.family]])
         return sl.stop - sl.start
@@ -230,6 +312,8 @@ def audit_elements(
     finally:
         if pool is not None:
             pool.shutdown(wait=True, cancel_futures=True)
+    if mesh_findings is not None and exponent:
+        mesh_findings = rescaled_findings(mesh_findings, exponent)
     findings = [] if mesh_findings is None else mesh_findings.findings
     unaudited = unaudited_cells(mesh, prof.findings)
     if unaudited is not None:

@@ -201,7 +201,7 @@ def _tolerances(table: Any, where: str) -> Tolerances:
     for key, value in table.items():
         if key not in allowed:
             raise ConfigError(f"{where}: [compare] has unknown key {key!r}")
-        if isinstance(value, bool) or not isinstance(value, (int, float)) or value < 0:
+        if isinstance(value, bool) or not isinstance(value, (int, float)) or not value >= 0:
             raise ConfigError(f"{where}: compare.{key} must be a number 0 or more")
         if key == "new_failing" and not isinstance(value, int):
             raise ConfigError(f"{where}: compare.new_failing must be a whole number")

@@ -30,6 +30,7 @@ from .reference import (
     TRIANGLE_GAUSS_3,
 )
 from .report import finite_or_none, json_float
+from .scale import element_exponents, scaled_lengths
 from .score import BAND
 from .verdicts import INVALID_FLAGS, VERDICT_NAMES
 
@@ -163,12 +164,24 @@ class Explanation:
 
 def local_nodes(audited: AuditedMesh, i: int) -> tuple[np.ndarray, str]:
     """All nodes of element ``i`` laid in its measuring plane (k, 2), as the audit does."""
+    local, exponent, where = scaled_local_nodes(audited, i)
+    return scaled_lengths(local, exponent, 1), where
+
+
+def scaled_local_nodes(audited: AuditedMesh, i: int) -> tuple[np.ndarray, int, str]:
+    """:func:`local_nodes` scaled by 2^-k, and k: an element of extreme size is measured
+    at a scale where products of lengths cannot overflow or underflow (k = 0 for any
+    ordinary one; see :mod:`meshaudit.scale`)."""
     family = audited.report.cell_families[int(audited.report.families[i])]
     coords3 = audited.elements.points[element_nodes(audited.elements, i)]
+    exponent = int(element_exponents(coords3[None])[0])
+    if exponent:
+        with np.errstate(under="ignore"):
+            coords3 = np.ldexp(coords3, -exponent)
     frame = choose_frame(audited.elements)
     local = to_local(coords3[None], frame, CORNERS[family])[0]
     where = "mesh plane" if frame.kind == "planar" else "element's best-fit plane"
-    return local, where
+    return local, exponent, where
 
 
 #: Reference Gauss points and node positions of the quadratic cell types.
@@ -304,9 +317,13 @@ def explain(audited: AuditedMesh, element_id: int) -> Explanation:
         ) from None
     family = report.cell_families[int(report.families[i])]
     cell_type = report.cell_types[int(report.type_codes[i])]
-    local, where = local_nodes(audited, i)
+    local, exponent, where = scaled_local_nodes(audited, i)
     gauss_pts, det_gauss, ref_corners, det_corners = jacobians(cell_type, family, local)
     bound = det_j_bound(cell_type, local, ref_corners, det_corners)
+    if exponent:  # det J back in the mesh's units (length^2)
+        det_gauss, det_corners = (scaled_lengths(d, exponent, 2) for d in (det_gauss, det_corners))
+        for key in ("lower", "upper"):
+            bound[key] = float(scaled_lengths(np.float64(bound[key]), exponent, 2))
     nodes = element_nodes(audited.elements, i)
     numbers = audited.elements.numbering.node_numbers(nodes)
     lines = metric_lines(audited, i)

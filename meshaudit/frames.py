@@ -21,6 +21,7 @@ import numpy as np
 
 from .elements import ElementMesh
 from .metrics.columns import as_elements, node_columns
+from .scale import length_exponent
 
 #: Relative out-of-plane tolerance (of the mesh extent) under which a mesh is planar.
 PLANAR_TOLERANCE = 1e-9
@@ -121,6 +122,10 @@ def choose_frame(mesh: ElementMesh) -> Frame:
     pts = mesh.points[mesh.used_nodes()]
     if np.ptp(pts[:, 2]) == 0.0:
         return XY_FRAME
+    k = length_exponent(pts)
+    if k:  # measured at a scale where squares and sums of squares cannot overflow
+        with np.errstate(under="ignore"):
+            pts = np.ldexp(pts, -k)
     extent = float(np.ptp(pts, axis=0).max())
     tolerance = PLANAR_TOLERANCE * extent + ROUNDING * float(np.abs(pts).max())
     centre = pts.mean(axis=0)

@@ -23,7 +23,9 @@ def linear_percentiles(
     ``values``: 1-D float64, reordered in place (pass a scratch copy). The sample is all
     of it, or with ``count`` its ``count`` smallest values (the rest being placeholders
     larger than any of them, e.g. +inf). The sample must be finite and not empty.
-    ``percents``: each in 0..100.
+    ``percents``: each in 0..100. Where two neighbouring order statistics are further
+    apart than the largest float (values of both signs near it), they are blended as
+    a (1 - g) + b g instead, which cannot overflow.
     """
     n = values.size if count is None else count
     q = np.true_divide(np.asarray(percents, dtype=np.float64), 100)
@@ -40,10 +42,15 @@ def linear_percentiles(
     positions = sorted(set(wanted.tolist()))
     select_in_place(values, positions)
     a, b = values[lower % n], values[upper % n]
-    diff = b - a
-    out = a + diff * gamma
-    high = gamma >= 0.5
-    out[high] = (b - diff * (1 - gamma))[high]
+    with np.errstate(over="ignore", invalid="ignore"):
+        diff = b - a
+        out = a + diff * gamma
+        high = gamma >= 0.5
+        out[high] = (b - diff * (1 - gamma))[high]
+    wide = ~np.isfinite(diff)  # b - a past the largest float: blend without the difference
+    if wide.any():
+        weight = np.clip(gamma, 0.0, 1.0)[wide]
+        out[wide] = a[wide] * (1.0 - weight) + b[wide] * weight
     return [float(v) for v in out]
 
 

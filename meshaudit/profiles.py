@@ -69,6 +69,16 @@ class Profile:
     origin: str = "built-in"
     findings: FindingSettings = field(default_factory=FindingSettings)
 
+    def __post_init__(self) -> None:
+        """Refuse, at once, limits no audit could apply (see :func:`with_limit`)."""
+        if not isinstance(self.limits, dict):
+            raise ProfileError(f"profile {self.name!r}: limits must be a dict family -> metrics")
+        for family, metrics in self.limits.items():
+            if not isinstance(metrics, dict):
+                raise ProfileError(f"profile {self.name!r}: limits of {family!r} must be a dict")
+            for metric, limit in metrics.items():
+                _check_limit(family, metric, limit, f"profile {self.name!r}")
+
     def limit(self, family: str, metric: str) -> Limit | None:
         return self.limits.get(family, {}).get(metric)
 
@@ -95,6 +105,47 @@ class Profile:
 
 def _limits(table: dict[str, tuple[float, float, str]]) -> dict[str, Limit]:
     return {m: Limit(w, f, s) for m, (w, f, s) in table.items()}
+
+
+def _number(value: Any, where: str) -> float | None:
+    if value is None:
+        return None
+    if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
+        raise ProfileError(f"{where}: expected a finite number, got {value!r}")
+    return float(value)
+
+
+def _check_order(family: str, metric: str, limit: Limit, where: str) -> None:
+    if limit.warn is None or limit.fail is None:
+        return
+    worse = METRIC_INFO[metric].worse
+    if worse == "high" and limit.warn > limit.fail:
+        raise ProfileError(
+            f"{where}: {family}.{metric} warn {limit.warn} is above fail {limit.fail}"
+        )
+    if worse == "low" and limit.warn < limit.fail:
+        raise ProfileError(
+            f"{where}: {family}.{metric} warn {limit.warn} is below fail {limit.fail}"
+        )
+
+
+def _check_limit(family: Any, metric: Any, limit: Any, where: str) -> None:
+    """ProfileError unless ``limit`` can stand for ``metric`` of ``family`` (None: none)."""
+    if family not in FAMILIES:
+        raise ProfileError(f"{where}: unknown element family {family!r} ({', '.join(FAMILIES)})")
+    info = METRIC_INFO.get(metric) if isinstance(metric, str) else None
+    if info is None or not info.limited:
+        takes = ", ".join(m for m, i in METRIC_INFO.items() if i.limited)
+        raise ProfileError(f"{where}: {metric!r} is not a metric that takes limits ({takes})")
+    if limit is None:
+        return
+    if not isinstance(limit, Limit):
+        raise ProfileError(f"{where}: the limit must be a Limit or None, not {limit!r}")
+    _number(limit.warn, f"{where}: {family}.{metric}.warn")
+    _number(limit.fail, f"{where}: {family}.{metric}.fail")
+    if not isinstance(limit.source, str):
+        raise ProfileError(f"{where}: {family}.{metric}.source must be a string")
+    _check_order(family, metric, limit, where)
 
 
 # -- How the built-in limits are derived ---------------------------------------------------
@@ -336,28 +387,6 @@ LENIENT = Profile(
 BUILTIN: dict[str, Profile] = {p.name: p for p in (STANDARD, STRICT, LENIENT)}
 
 
-def _number(value: Any, where: str) -> float | None:
-    if value is None:
-        return None
-    if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
-        raise ProfileError(f"{where}: expected a finite number, got {value!r}")
-    return float(value)
-
-
-def _check_order(family: str, metric: str, limit: Limit, where: str) -> None:
-    if limit.warn is None or limit.fail is None:
-        return
-    worse = METRIC_INFO[metric].worse
-    if worse == "high" and limit.warn > limit.fail:
-        raise ProfileError(
-            f"{where}: {family}.{metric} warn {limit.warn} is above fail {limit.fail}"
-        )
-    if worse == "low" and limit.warn < limit.fail:
-        raise ProfileError(
-            f"{where}: {family}.{metric} warn {limit.warn} is below fail {limit.fail}"
-        )
-
-
 def profile_from_dict(
     data: dict[str, Any], where: str = "<profile>", base: Profile | None = None
 ) -> Profile:
@@ -370,10 +399,10 @@ def profile_from_dict(
     if unknown:
         raise ProfileError(f"{where}: unknown key {unknown[0]!r} (families: {', '.join(FAMILIES)})")
     if "extends" in data or base is None:
-        base_name = data.get("extends", "standard")
-        if base_name not in BUILTIN:
-            raise ProfileError(f"{where}: extends unknown profile {base_name!r}")
-        base = BUILTIN[base_name]
+        base = BUILTIN[_extends(data.get("extends", "standard"), where)]
+    for key in ("name", "description"):
+        if key in data and not isinstance(data[key], str):
+            raise ProfileError(f"{where}: {key} must be a string, not {data[key]!r}")
     limits = {fam: dict(base.limits.get(fam, {})) for fam in FAMILIES}
     for family in FAMILIES:
         table = data.get(family, {})
@@ -392,10 +421,13 @@ def profile_from_dict(
             if not spec:
                 limits[family].pop(metric, None)
                 continue
+            source = spec.get("source", f"user profile {where}")
+            if not isinstance(source, str):
+                raise ProfileError(f"{where}: {family}.{metric}.source must be a string")
             lim = Limit(
                 _number(spec.get("warn"), f"{where}: {family}.{metric}.warn"),
                 _number(spec.get("fail"), f"{where}: {family}.{metric}.fail"),
-                str(spec.get("source", f"user profile {where}")),
+                source,
             )
             _check_order(family, metric, lim, where)
             limits[family][metric] = lim
@@ -403,6 +435,22 @@ def profile_from_dict(
     desc = str(data.get("description", f"{base.name} with overrides from {where}"))
     findings = _finding_settings(data.get("findings", {}), base.findings, where)
     return Profile(name, desc, limits, origin=where, findings=findings)
+
+
+def _extends(value: Any, where: str) -> str:
+    """The built-in profile an ``extends`` names; ProfileError for anything else (a
+    profile file cannot extend another file, so no chain of files, nor a cycle, exists)."""
+    names = ", ".join(BUILTIN)
+    if not isinstance(value, str):
+        raise ProfileError(
+            f"{where}: extends must be the name of a built-in profile ({names}), not {value!r}"
+        )
+    if value not in BUILTIN:
+        raise ProfileError(
+            f"{where}: extends unknown profile {value!r}: it must name a built-in profile "
+            f"({names}); a profile file cannot extend another file"
+        )
+    return value
 
 
 def _finding_settings(table: Any, base: FindingSettings, where: str) -> FindingSettings:
@@ -455,7 +503,16 @@ def load_profile(spec: str | os.PathLike[str] | Profile | None = None) -> Profil
 
 
 def with_limit(profile: Profile, family: str, metric: str, limit: Limit | None) -> Profile:
-    """A copy of ``profile`` with one limit replaced (``None`` removes it)."""
+    """A copy of ``profile`` with one limit replaced (``None`` removes it).
+
+    Raises :class:`ProfileError` at once for a family other than quad or triangle, a
+    name that is not a metric taking limits (``score`` takes none: it follows the
+    verdict), a limit that is not a :class:`Limit` with finite numbers (or None), or a
+    warn limit past the fail limit.
+    """
+    if not isinstance(profile, Profile):
+        raise ProfileError(f"with_limit needs a Profile, not {type(profile).__name__}")
+    _check_limit(family, metric, limit, "with_limit")
     limits = {fam: dict(m) for fam, m in profile.limits.items()}
     limits.setdefault(family, {})
     if limit is None:

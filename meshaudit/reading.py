@@ -123,15 +123,20 @@ def build_elements(
     """Turn a meshio mesh into validated element arrays.
 
     ``numbering`` (default: the in-memory convention, see :mod:`meshaudit.labels`) gives
-    each element its reported number. Raises :class:`InputError` for non-finite
-    coordinates, out-of-range connectivity and meshes without any supported element.
+    each element its reported number. Raises :class:`InputError` for coordinates that
+    are not finite real numbers (complex, boolean, object arrays too), out-of-range
+    connectivity and meshes without any supported element.
     """
     numbering = numbering or labels.for_memory(mesh)
     points = np.asarray(mesh.points)
     if points.ndim != 2 or points.shape[1] not in (2, 3):
         raise InputError(f"{source}: points must have 2 or 3 coordinates")
-    if not np.issubdtype(points.dtype, np.number):
-        raise InputError(f"{source}: point coordinates are not numbers")
+    if points.dtype.kind == "c":
+        raise InputError(f"{source}: point coordinates are complex numbers; give real coordinates")
+    if points.dtype.kind not in "iuf":  # booleans, objects, strings, dates
+        raise InputError(
+            f"{source}: point coordinates are not real numbers (array of {points.dtype})"
+        )
     points = points.astype(np.float64, copy=False)
     if points.shape[1] == 2:
         points = np.hstack([points, np.zeros((points.shape[0], 1))])

@@ -5,6 +5,8 @@ The report is plain data; it never prints. Output modules render it.
 
 from __future__ import annotations
 
+import json
+import math
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -348,6 +350,41 @@ def json_floats(values: np.ndarray) -> list[float | str | None]:
         v = values[k]
         out[k] = None if np.isnan(v) else ("inf" if v > 0 else "-inf")
     return out
+
+
+def json_text(doc: Any, **options: Any) -> str:
+    """``json.dumps(doc, **options)`` with every number valid JSON: a non-finite float
+    anywhere in ``doc`` (a free-edge loop's area past the largest double, say) is written
+    by the rule of :func:`json_floats`, and numpy numbers as Python ones. Never writes
+    NaN or Infinity, which are not JSON."""
+    try:
+        return json.dumps(doc, allow_nan=False, **options)
+    except (ValueError, TypeError):  # rare: walk the document only then
+        return json.dumps(json_safe(doc), allow_nan=False, **options)
+
+
+def json_safe(value: Any) -> Any:
+    """``value`` (dicts, lists, tuples, numbers, numpy scalars and arrays) copied with
+    every float written by the rule of :func:`json_floats` and numpy scalars as Python
+    ones."""
+    if isinstance(value, dict):
+        return {k: json_safe(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [json_safe(v) for v in value]
+    if isinstance(value, np.ndarray):
+        return json_safe(value.tolist())
+    if isinstance(value, (bool, np.bool_)):
+        return bool(value)
+    if isinstance(value, (int, np.integer)):
+        return int(value)
+    if isinstance(value, (float, np.floating)):
+        x = float(value)
+        if math.isnan(x):
+            return None
+        if math.isinf(x):
+            return "inf" if x > 0 else "-inf"
+        return x + 0.0
+    return value
 
 
 def json_float(x: Any) -> float | str | None:

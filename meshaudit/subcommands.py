@@ -61,14 +61,13 @@ def run_init(args: argparse.Namespace) -> int:
 
 
 def run_compare(args: argparse.Namespace) -> int:
-    import json
-
     from . import compare
     from .config import settings_for
     from .inspection import audit_mesh
     from .outputs import atomic, compare_terminal
     from .outputs.destinations import check_destinations, protected_inputs
     from .process import terminal_output
+    from .report import json_text
 
     old_path, new_path = Path(args.old), Path(args.new)
     if args.top < 0:
@@ -89,7 +88,7 @@ def run_compare(args: argparse.Namespace) -> int:
     if args.json is not None:
         source = str(settings.path) if settings.path is not None else None
         data = compare.to_dict(result, tolerance_source=source)
-        text = json.dumps(data, indent=1, allow_nan=False) + "\n"
+        text = json_text(data, indent=1) + "\n"
         atomic.write_all([(args.json, lambda p: atomic.write_text(p, text))], protected)
     from .cli import _console
 

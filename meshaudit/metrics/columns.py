@@ -7,7 +7,8 @@ through memory once, which is what makes a million-element kernel fast.
 
 Where a shortcut below replaces the plain formula, it is an exact rearrangement: it
 gives the same floating-point result (see each docstring), barring overflow or
-underflow, which needs coordinates above about 1e75 or below 1e-75.
+underflow, which needs element sizes above about 1e75 or below 1e-75: the engine measures
+larger and smaller ones at a power-of-two scale (:mod:`meshaudit.scale`).
 """
 
 from __future__ import annotations

@@ -18,8 +18,10 @@ from ..explain import Explanation
 from ..inspection import CORNERS, AuditedMesh, corner_table
 from ..mapping import map_points
 from ..reference import QUAD_CORNERS
+from ..scale import length_exponent
+from .mpl import drawable, new_figure
 from .plot import HALO, OUTLINE, mesh_view, plot_format
-from .projection import View, plane_view
+from .projection import View, drawing_unit, plane_view, unit_text, with_unit
 
 if TYPE_CHECKING:
     from matplotlib.axes import Axes
@@ -76,7 +78,9 @@ def reference_cells(family: str) -> np.ndarray:
 def folded_cells(cell_type: str, family: str, nodes: np.ndarray) -> np.ndarray:
     """Mapped reference cells whose signed area is <= 0: where the map folds over."""
     cells = map_points(cell_type, nodes, reference_cells(family))
-    x, y = cells[..., 0], cells[..., 1]
+    exponent = length_exponent(cells)  # the sign of an area at any finite size
+    with np.errstate(under="ignore"):
+        x, y = (np.ldexp(cells[..., k], -exponent) for k in (0, 1))
     signed = 0.5 * (x * np.roll(y, -1, axis=1) - np.roll(x, -1, axis=1) * y).sum(axis=1)
     return cells[signed <= 0.0]
 
@@ -85,22 +89,23 @@ def element_view(audited: AuditedMesh, ex: Explanation) -> View:
     """The mesh page for planar meshes; the element's best-fit plane for shells."""
     if audited.report.summary.frame == "planar":
         return mesh_view(audited.report, audited.elements)
-    return plane_view(ex.coordinates[: CORNERS[ex.family]])
+    corners = ex.coordinates[: CORNERS[ex.family]]
+    return with_unit(plane_view(corners), drawing_unit(corners))
 
 
 def draw(audited: AuditedMesh, ex: Explanation) -> Figure:
     """Build the figure of one element (nothing is written)."""
-    from matplotlib.figure import Figure
-
     view = element_view(audited, ex)
     nodes = view.project(ex.coordinates)
-    fig = Figure(figsize=(8.0, 7.0), layout="constrained")
+    fig = new_figure(figsize=(8.0, 7.0), layout="constrained")
     ax = fig.add_subplot(1, 1, 1)
     _neighbours(ax, audited, ex, view, _window(nodes))
     _grid(ax, ex, nodes)
     _nodes_and_gauss(ax, ex, nodes)
     _frame(ax, nodes)
-    ax.set_title(_title(ex), fontsize=9)
+    ax.set_title(drawable(_title(ex)), fontsize=9)
+    if view.unit != 1.0:
+        ax.set_xlabel("coordinates" + unit_text(view), fontsize=8)
     return fig
 
 

@@ -2,13 +2,12 @@
 
 from __future__ import annotations
 
-import json
-
 from rich.console import Console, Group
 from rich.table import Table
 from rich.text import Text
 
 from ..explain import Explanation
+from ..report import json_text
 from .terminal import _fmt
 
 
@@ -101,4 +100,4 @@ def render(ex: Explanation, console: Console) -> None:
 
 
 def render_json(ex: Explanation) -> str:
-    return json.dumps(ex.to_dict(), indent=1, allow_nan=False) + "\n"
+    return json_text(ex.to_dict(), indent=1) + "\n"

@@ -19,9 +19,11 @@ import numpy as np
 from .. import __version__
 from ..elements import ElementMesh
 from ..metrics import METRIC_INFO, METRIC_NAMES, VALIDITY_FLAGS
+from ..percentiles import linear_percentiles
 from ..report import Report
 from . import plot
 from .plot import metric_limits
+from .ranges import drawable_range
 from .safe_text import html_safe
 from .terminal import _fmt
 
@@ -179,14 +181,14 @@ def histogram_range(report: Report, metric: str) -> tuple[float, float] | None:
     if finite.size == 0:
         return None
     lo, hi = float(finite.min()), float(finite.max())
-    p1, p99 = (float(v) for v in np.percentile(finite, [1.0, 99.0]))
+    p1, p99 = linear_percentiles(finite.copy(), [1.0, 99.0])
     limits = [v for _, _, v in metric_limits(report, metric)]
     if lo >= 0.0:  # negative values (inverted elements) are always drawn
         lo = max(lo, min([p1, *limits]))
     hi = min(hi, max([p99, *limits]))
-    if hi <= lo:
-        lo, hi = lo - 0.5, hi + 0.5
-    return lo, hi
+    # one value everywhere, values apart by round-off only, values near the largest
+    # float: widened or clipped so that the bins are distinct numbers
+    return drawable_range(lo, hi, HIST_BINS)
 
 
 def histogram_svg(report: Report, metric: str) -> str | None:

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import json
 import os
 from collections.abc import Iterator
 from typing import Any
@@ -10,7 +9,7 @@ from typing import Any
 import numpy as np
 
 from .. import __version__
-from ..report import Report
+from ..report import Report, json_text
 from .json_elements import element_lines
 
 #: Bump when a field is renamed or removed; adding fields keeps the version.
@@ -71,7 +70,7 @@ def pieces(report: Report, every_element: bool = False) -> Iterator[str]:
     """:func:`render`'s text in pieces: the head, then the element lines in slices of
     :data:`ROWS_PER_PIECE`."""
     doc, rows = _document(report, every_element)
-    yield json.dumps(doc, indent=1, allow_nan=False)[:-2] + ',\n "elements": '
+    yield json_text(doc, indent=1)[:-2] + ',\n "elements": '
     if rows.size == 0:
         yield "[]\n}\n"
         return

@@ -27,10 +27,21 @@ from ..frames import area_vectors
 from ..inspection import corner_table, has_curved_cells, outline_points
 from ..metrics import METRIC_INFO, METRIC_NAMES
 from ..report import Report
+from ..scale import length_exponent, scaled_lengths
 from ..score import BAND_EDGES
 from ..verdicts import FAIL, WARN
 from . import raster
-from .projection import View, best_fit_view, flatness, tilted
+from .mpl import drawable, new_figure, prepare
+from .projection import (
+    View,
+    best_fit_view,
+    drawing_unit,
+    flatness,
+    tilted,
+    unit_text,
+    with_unit,
+)
+from .ranges import clipped_for_colour, drawable_range, too_narrow
 from .safe_text import one_line
 
 if TYPE_CHECKING:
@@ -78,12 +89,16 @@ def mesh_view(report: Report, elements: ElementMesh) -> View:
     if report.summary.frame == "planar" and normal is not None:
         facing = float(np.dot(view.normal, normal))
     else:  # shell: look from the side most element normals point to
-        facing = float(np.sign(area_vectors(elements.points[table]) @ view.normal).sum())
+        corners = elements.points[table]
+        k = length_exponent(corners)  # only the signs count: at a scale with no overflow
+        if k:
+            corners = scaled_lengths(corners, -k, 1)
+        facing = float(np.sign(area_vectors(corners) @ view.normal).sum())
     if facing < 0.0:
         view = View(view.origin, np.stack([view.axes[0], -view.axes[1]]), -view.normal)
     if report.summary.frame != "planar" and flatness(used, view) > CURVED_SHELL:
         view = tilted(view, *OBLIQUE)
-    return view
+    return with_unit(view, drawing_unit(used))
 
 
 def metric_limits(report: Report, metric: str) -> list[tuple[str, str, float]]:
@@ -125,28 +140,28 @@ def colour_range(report: Report, color_by: str) -> tuple[float, float, str]:
         lo, extend = min(fails), "min"
     if np.isinf(values).any() and extend == "neither":
         extend = "max" if info.worse == "high" else "min"
-    if hi <= lo:  # one value everywhere: stretch towards the warn limit if there is one
+    if too_narrow(lo, hi):  # one value everywhere: stretch towards the warn limit if any
         warns = [v for _, kind, v in metric_limits(report, color_by) if kind == "warn"]
         if warns and info.worse == "high" and max(warns) > lo:
             hi = max(warns)
         elif warns and info.worse == "low" and min(warns) < lo:
             lo = min(warns)
-        else:
-            pad = 0.5 * max(abs(lo), 1.0)
-            lo, hi = lo - pad, hi + pad
+    # one value everywhere (no limit to stretch to), values apart by round-off only,
+    # values near the largest float: widened or clipped to a range colours can span
+    lo, hi = drawable_range(lo, hi)
     return lo, hi, extend
 
 
 def colour_scale(report: Report, color_by: str) -> tuple[np.ndarray, Any, Any, str, str]:
     """(values to draw, colormap, norm, colourbar label, extend) for metric ``color_by``."""
+    prepare()
     from matplotlib import colormaps
     from matplotlib.colors import Normalize
 
     info = METRIC_INFO[color_by]
     values = np.asarray(report.metrics[color_by], dtype=float)
     lo, hi, extend = colour_range(report, color_by)
-    big = np.finfo(float).max
-    drawn = np.where(np.isposinf(values), big, np.where(np.isneginf(values), -big, values))
+    drawn = clipped_for_colour(values, lo, hi)  # infinities take the end colours
     cmap = colormaps["viridis_r" if info.worse == "high" else "viridis"].with_extremes(
         bad=NOT_DEFINED
     )
@@ -176,8 +191,6 @@ def draw(
     Each id label is a text artist with gid ``fail-id-<id>`` (kept as the element id in
     SVG output), so callers and tests can read back which elements were labelled.
     """
-    from matplotlib.figure import Figure
-
     if color_by not in METRIC_NAMES:
         raise OutputError(f"cannot colour by {color_by!r}: not a metric")
     view = mesh_view(report, elements)
@@ -188,7 +201,7 @@ def draw(
     order = _draw_order(report, elements, table, view)
     worst = report.worst(insets) if insets > 0 else np.empty(0, dtype=np.int64)
 
-    fig = Figure(figsize=(14.0, 9.0), layout="constrained")
+    fig = new_figure(figsize=(14.0, 9.0), layout="constrained")
     ax, inset_axes = _layout(fig, len(worst))
     faces = _faces(ax, verts, values, cmap, norm, order)
     _outlines(ax, report, verts)
@@ -208,11 +221,12 @@ def draw(
     for sub, i in zip(inset_axes, worst):
         _inset(sub, report, verts, boxes, values, cmap, norm, int(i), color_by)
         sub.plot(*xy[table[int(i)]].T, "o", ms=2.5, color=OUTLINE, zorder=5)
-    fig.suptitle(title(report), fontsize=12, fontweight="bold")
+    fig.suptitle(drawable(title(report)), fontsize=12, fontweight="bold")
     ax.set_title(_subtitle(report, color_by, view), fontsize=9)
     flat_xy = report.summary.frame == "planar" and np.allclose(view.axes, np.eye(3)[:2])
-    ax.set_xlabel("x" if flat_xy else "u (along the first view axis)", fontsize=8)
-    ax.set_ylabel("y" if flat_xy else "v (along the second view axis)", fontsize=8)
+    unit = unit_text(view)
+    ax.set_xlabel(("x" if flat_xy else "u (along the first view axis)") + unit, fontsize=8)
+    ax.set_ylabel(("y" if flat_xy else "v (along the second view axis)") + unit, fontsize=8)
     return fig
 
 
