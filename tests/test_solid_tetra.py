@@ -15,14 +15,17 @@ import meshio
 import numpy as np
 import pytest
 import skfem
+import sympy
+import tet_exact
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy.spatial import ConvexHull
 from skfem.io.meshio import from_meshio
 from skfem.refdom import RefTet
 
+from meshaudit.metrics.solid import tet_bernstein as tb
 from meshaudit.metrics.solid import tet_reference as ref
-from meshaudit.metrics.solid.tetra import REFERENCES, measure
+from meshaudit.metrics.solid.tetra import REFERENCES, corner_jacobians, det_j_bounds, measure
 
 REGULAR = np.array(
     [
@@ -414,3 +417,244 @@ def test_bad_arguments_refused():
         measure(np.zeros((1, 4, 3)), "hexahedron")
     with pytest.raises(ValueError):
         measure(np.zeros((1, 4, 3)), "tetra10")
+
+
+# --- tetra10 ---------------------------------------------------------------------------
+
+
+def curved_tetra10(rng: np.random.Generator, n: int, bend: float = 0.05) -> np.ndarray:
+    """Valid-looking tetra10 elements: random tetrahedra, midside nodes moved a little."""
+    coords = to_tetra10(random_tets(rng, n))
+    size = np.linalg.norm(coords[:, 1] - coords[:, 0], axis=1)[:, None, None]
+    coords[:, 4:] += bend * size * rng.normal(size=(n, 6, 3))
+    return coords
+
+
+def skfem_det_j(coords: np.ndarray, points: np.ndarray) -> np.ndarray:
+    """det J (n, m) by scikit-fem's MappingIsoparametric (MeshTet2 read from meshio's
+    tetra10 rows, ElementTetP2) at reference points (m, 3)."""
+    n = len(coords)
+    cells = np.arange(10 * n).reshape(n, 10)
+    mesh = from_meshio(meshio.Mesh(coords.reshape(-1, 3), [("tetra10", cells)]))
+    mapping = skfem.MappingIsoparametric(mesh, skfem.ElementTetP2())
+    return mapping.detDF(np.ascontiguousarray(points.T))
+
+
+def test_tetra10_det_j_matches_skfem_isoparametric_mapping():
+    """scikit-fem's MappingIsoparametric (same unit reference tetrahedron, so no scale
+    factor): det J at our 4 Gauss points (det_j_min, det_j_max, jacobian_ratio) and at
+    the 10 nodes (det_j_corner_min), on random curved tetra10; the volume against its
+    quadrature of degree 4 (exact for det J, of degree 3)."""
+    rng = np.random.default_rng(8)
+    coords = curved_tetra10(rng, 40, bend=0.08)
+    metrics, flags = measure(coords, "tetra10")
+    at_gauss = skfem_det_j(coords, ref.GAUSS_4)
+    at_nodes = skfem_det_j(coords, ref.TETRA10_NODES)
+    np.testing.assert_allclose(metrics["det_j_min"], at_gauss.min(axis=1), rtol=1e-10)
+    np.testing.assert_allclose(metrics["det_j_max"], at_gauss.max(axis=1), rtol=1e-10)
+    valid = at_gauss.min(axis=1) > 0
+    np.testing.assert_allclose(
+        metrics["jacobian_ratio"][valid],
+        at_gauss.max(axis=1)[valid] / at_gauss.min(axis=1)[valid],
+        rtol=1e-10,
+    )
+    np.testing.assert_allclose(metrics["det_j_corner_min"], at_nodes.min(axis=1), rtol=1e-9)
+    points, weights = skfem.quadrature.get_quadrature(RefTet, 4)
+    volume = skfem_det_j(coords, points.T) @ weights
+    np.testing.assert_allclose(metrics["volume"], volume, rtol=1e-10)
+    # det J is at least the lower bound wherever scikit-fem samples it
+    dense = skfem_det_j(coords, skfem.quadrature.get_quadrature(RefTet, 8)[0].T)
+    assert (dense.min(axis=1) >= metrics["det_j_lower_bound"] - 1e-12).all()
+    assert flags["inverted"][dense.min(axis=1) < 0].all()
+
+
+def test_tetra10_shape_functions_from_interpolation_conditions():
+    """sympy: the quadratic polynomials that are 1 at one tetra10 node and 0 at the others
+    (meshio's node order) equal our shape functions and their derivatives."""
+    shapes = tet_exact.shape_functions_from_interpolation()
+    rng = np.random.default_rng(9)
+    points = rng.dirichlet(np.ones(4), size=6)[:, 1:]
+    ours = ref.tetra10_shape_functions(points)
+    derivs = ref.tetra10_shape_derivatives(points)
+    for k, shape in enumerate(shapes):
+        f = sympy.lambdify(tet_exact.X, shape)
+        grad = [sympy.lambdify(tet_exact.X, sympy.diff(shape, v)) for v in tet_exact.X]
+        for m, p in enumerate(points):
+            assert ours[m, k] == pytest.approx(float(f(*p)), abs=1e-14)
+            for a in range(3):
+                assert derivs[m, a, k] == pytest.approx(float(grad[a](*p)), abs=1e-13)
+
+
+def test_tetra10_symbolic_det_j_degree_and_bernstein_form():
+    """sympy: det J of a curved tetra10 is a polynomial of total degree 3; our Bernstein
+    coefficients reproduce it at random points (the basis: 3!/a! L^a); the volume is its
+    integral over the reference tetrahedron."""
+    rng = np.random.default_rng(10)
+    coords = np.round(curved_tetra10(rng, 3, bend=0.1), 3)
+    coeffs = tb.coefficients(corner_jacobians(coords))
+    metrics, _ = measure(coords, "tetra10")
+    x, y, z = tet_exact.X
+    for e in range(3):
+        p = tet_exact.symbolic_det_j(coords[e])
+        assert sympy.Poly(p, *tet_exact.X).total_degree() == 3
+        f = sympy.lambdify(tet_exact.X, p)
+        points = rng.dirichlet(np.ones(4), size=8)
+        values = tb.basis(points) @ coeffs[e]
+        for point, value in zip(points, values):
+            assert value == pytest.approx(float(f(*point[1:])), rel=1e-10, abs=1e-12)
+        volume = sympy.integrate(p, (z, 0, 1 - x - y), (y, 0, 1 - x), (x, 0, 1))
+        assert metrics["volume"][e] == pytest.approx(float(volume), rel=1e-12)
+
+
+#: Planted curved tetra10 on the unit tetrahedron (midside nodes 4 to 9), det J positive
+#: at the 4 Gauss points and 10 nodes but negative on a small part of the element.
+FOLDED = [
+    [[0.18, 0.07, -0.14], [0.5, 0.5, 0], [-0.03, 0.19, -0.23], [0, 0, 0.5], [0.65, 0.1, 0.35],
+     [0, 0.5, 0.5]],
+    [[0.5, 0, 0], [0.5, 0.5, 0], [-0.15, 0.44, -0.65], [0.12, -0.08, 0.56], [0.62, -0.55, 1.23],
+     [0, 0.5, 0.5]],
+    [[0.5, 0, 0], [0.5, 0.5, 0], [0, 0.6, 0.37], [0, 0, 0.5], [0.49, -0.51, 0.34],
+     [0.39, 1.18, 0.18]],
+]  # fmt: skip
+#: Planted valid curved tetra10 whose first Bernstein bound is negative: only cutting
+#: the element shows det J > 0.
+VALID = [
+    [[0.5, 0, 0], [0.5, 0.5, 0], [-0.33, 0.24, 0.36], [-0.14, -0.53, 0.35], [0.5, 0, 0.5],
+     [0, 0.5, 0.5]],
+    [[0.5, 0, 0], [0.28, 0.69, 0.17], [0.09, 0.83, -0.37], [0, 0, 0.5], [1, 0.19, 0.71],
+     [-0.4, 0.65, 0.74]],
+    [[0.57, -0.22, 0.13], [0.5, 0.5, 0], [0, 0.5, 0], [-0.3, -0.24, 0.21], [0.5, 0, 0.5],
+     [0, 0.5, 0.5]],
+]  # fmt: skip
+
+
+def planted(mids: list) -> np.ndarray:
+    return np.vstack([UNIT, np.array(mids, dtype=float)])
+
+
+@pytest.mark.parametrize("mids", FOLDED)
+def test_tetra10_fold_missed_by_gauss_points_and_nodes_is_inverted(mids):
+    """A fold between the sampling points: scikit-fem reads det J > 0 at our Gauss points
+    and the nodes; sympy's exact minimum is negative; the element is inverted, and the
+    certified bound and the smallest value found bracket the exact minimum."""
+    coords = planted(mids)
+    assert skfem_det_j(coords[None], ref.GAUSS_4).min() > 0
+    assert skfem_det_j(coords[None], ref.TETRA10_NODES).min() > 0
+    exact, _ = tet_exact.exact_minimum(tet_exact.symbolic_det_j(coords))
+    assert exact < 0
+    metrics, flags = one(coords, "tetra10")
+    assert flags["inverted"] and not flags["reversed"] and not flags["quarter_point"]
+    assert metrics["det_j_min"] > 0 and metrics["det_j_corner_min"] > 0
+    assert metrics["det_j_lower_bound"] <= exact + 1e-12
+    found = det_j_bounds(coords[None])
+    assert found.lower[0] <= exact <= found.upper[0] + 1e-12
+    assert not found.undecided[0]
+
+
+@pytest.mark.parametrize("mids", VALID)
+def test_tetra10_valid_curved_element_certified_by_cutting(mids):
+    """sympy's exact minimum is positive, the smallest Bernstein coefficient is not: the
+    cut pieces certify det J > 0 (not inverted) with a bound at most the exact minimum."""
+    coords = planted(mids)
+    assert tb.coefficients(corner_jacobians(coords[None])).min() < 0
+    exact, _ = tet_exact.exact_minimum(tet_exact.symbolic_det_j(coords))
+    assert exact > 0
+    metrics, flags = one(coords, "tetra10")
+    assert not flags["inverted"]
+    assert 0 < metrics["det_j_lower_bound"] <= exact + 1e-12
+
+
+def test_tetra10_bounds_bracket_exact_minimum_on_random_elements():
+    """sympy's exact minimum of det J lies between the certified lower bound and the
+    smallest value found, on random curved elements, valid and folded."""
+    rng = np.random.default_rng(12)
+    coords = np.round(curved_tetra10(rng, 10, bend=0.1), 2)
+    metrics, flags = measure(coords, "tetra10")
+    first = tb.coefficients(corner_jacobians(coords)).min(axis=1)
+    cut = ~flags["inverted"] & (first < 0)
+    assert cut.any() and flags["inverted"].any() and (first > 0).any()  # every case met
+    for e in range(len(coords)):
+        exact, _ = tet_exact.exact_minimum(tet_exact.symbolic_det_j(coords[e]))
+        assert metrics["det_j_lower_bound"][e] <= exact + 1e-9 * abs(exact) + 1e-12
+        assert flags["inverted"][e] == (exact < 0), e
+
+
+def test_tetra10_undecided_element_is_reported_inverted(monkeypatch):
+    """With no cutting allowed, a valid element whose first bound is negative cannot be
+    shown positive: reported inverted (when in doubt, report), its bound negative."""
+    coords = planted(VALID[0])[None]
+    monkeypatch.setattr(tb, "MAX_DEPTH", 0)
+    found = det_j_bounds(coords)
+    assert found.undecided[0] and found.lower[0] < 0
+    _, flags = measure(coords, "tetra10")
+    assert flags["inverted"][0]
+
+
+def test_straight_sided_tetra10_reads_as_its_linear_twin():
+    """Midside nodes at the edge midpoints: the map is affine (common practice), so det J
+    everywhere, the volume and every shape metric equal the linear tetrahedron's, and
+    the Jacobian ratio is 1."""
+    rng = np.random.default_rng(13)
+    corners = random_tets(rng, 50)
+    lin, lin_flags = measure(corners, "tetra")
+    quad, quad_flags = measure(to_tetra10(corners), "tetra10")
+    for name in (*SHAPE_METRICS, "volume", "det_j_min", "det_j_max", "det_j_corner_min"):
+        np.testing.assert_allclose(quad[name], lin[name], rtol=1e-10, err_msg=name)
+    np.testing.assert_allclose(quad["det_j_lower_bound"], lin["det_j_min"], rtol=1e-10)
+    np.testing.assert_allclose(quad["jacobian_ratio"], 1.0, rtol=1e-10)
+    np.testing.assert_allclose(quad["midside_offset_along"], 0.0, atol=1e-12)
+    for name, flag in lin_flags.items():
+        assert np.array_equal(quad_flags[name], flag), name
+    assert np.isnan(lin["midside_offset_along"]).all()
+
+
+def test_tetra10_mirrored_is_reversed_and_inverted():
+    """An odd renumbering (corners 1 and 2 swapped, midside nodes following their edges)
+    mirrors the map: det J negative everywhere, reversed and inverted, volume negated."""
+    rng = np.random.default_rng(14)
+    coords = curved_tetra10(rng, 20, bend=0.03)
+    swapped = coords[:, [0, 2, 1, 3, 6, 5, 4, 7, 9, 8]]
+    good, _ = measure(coords, "tetra10")
+    bad, flags = measure(swapped, "tetra10")
+    assert flags["reversed"].all() and flags["inverted"].all()
+    np.testing.assert_allclose(bad["volume"], -good["volume"], rtol=1e-10)
+    assert (bad["det_j_max"] < 0).all()
+
+
+def test_tetra10_midside_offsets():
+    """A midside node moved d along its chord and h across reads d and h (fractions of
+    the chord length): offsets as the 2-D quadratic elements define them."""
+    coords = to_tetra10(REGULAR[None] * 3.0)
+    chord = coords[0, 2] - coords[0, 1]  # edge 1-2, node 5
+    normal = np.cross(chord, coords[0, 3] - coords[0, 1])
+    normal /= np.linalg.norm(normal)
+    coords[0, 5] += 0.07 * chord + 0.11 * 3.0 * normal
+    metrics, _ = measure(coords, "tetra10")
+    assert metrics["midside_offset_along"][0] == pytest.approx(0.07, rel=1e-12)
+    assert metrics["midside_offset_across"][0] == pytest.approx(0.11, rel=1e-12)
+
+
+def test_tetra10_quarter_point():
+    """Quarter-point rule (Henshell and Shaw 1975, Barsoum 1976, from memory): a midside
+    node a quarter of the edge from a corner makes the edge tangent 4 x_m - 3 x_a - x_b
+    vanish there, so det J = 0 at that corner: flagged quarter_point, not inverted, and
+    measured again with the node at its midpoint (the linear twin's det J). Pulled past
+    the quarter point the tangent reverses: det J < 0 at the corner, inverted."""
+    coords = to_tetra10(UNIT[None])
+    coords[0, 4] = [0.25, 0.0, 0.0]  # edge 0-1, a quarter from corner 0
+    metrics, flags = one(coords[0], "tetra10")
+    assert flags["quarter_point"] and not flags["inverted"]
+    assert metrics["det_j_corner_min"] == pytest.approx(0.0, abs=1e-15)
+    assert metrics["det_j_lower_bound"] == pytest.approx(0.0, abs=1e-15)
+    assert metrics["midside_offset_along"] == pytest.approx(0.25)
+    for name in ("det_j_min", "det_j_corner_min", "det_j_lower_bound", "jacobian_ratio"):
+        assert metrics[f"{name}|without_quarter_points"] == pytest.approx(1.0), name
+    assert metrics["midside_offset_along|without_quarter_points"] == 0.0
+    coords[0, 4] = [0.2, 0.0, 0.0]  # tangent at corner 0: 0.8 - 1 = -0.2
+    metrics, flags = one(coords[0], "tetra10")
+    assert flags["inverted"] and not flags["quarter_point"]
+    assert metrics["det_j_corner_min"] == pytest.approx(-0.2, rel=1e-12)
+    coords[0, 4] = [0.3, 0.0, 0.0]  # short of it: valid, no flag
+    metrics, flags = one(coords[0], "tetra10")
+    assert not flags["inverted"] and not flags["quarter_point"]
+    assert np.isnan(metrics["det_j_min|without_quarter_points"])
