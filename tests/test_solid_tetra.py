@@ -658,3 +658,27 @@ def test_tetra10_quarter_point():
     metrics, flags = one(coords[0], "tetra10")
     assert not flags["inverted"] and not flags["quarter_point"]
     assert np.isnan(metrics["det_j_min|without_quarter_points"])
+
+
+def test_cutting_into_eight_covers_the_element_and_keeps_det_j():
+    """The 8 pieces (corners at the corners and edge midpoints) have volume 1/8 each and
+    cover the tetrahedron once: a random point lies in exactly one (off the cut planes);
+    the piece's coefficients (parent @ table) give sympy's det J at the point."""
+    rng = np.random.default_rng(15)
+    corners = tb.PIECE_CORNERS  # (8, 4, 4) barycentric in the parent
+    volumes = [abs(np.linalg.det(c[1:, 1:] - c[0, 1:])) for c in corners]
+    np.testing.assert_allclose(volumes, 1.0 / 8.0, rtol=1e-15)
+    coords = planted(VALID[1])
+    det = sympy.lambdify(tet_exact.X, tet_exact.symbolic_det_j(coords))
+    coeffs = tb.coefficients(corner_jacobians(coords[None]))[0]
+    pieces = (coeffs @ tb.CHILDREN).reshape(8, 20)
+    for point in rng.dirichlet(np.ones(4), size=200):
+        inside = []
+        for k, c in enumerate(corners):
+            local = np.linalg.solve(c.T, point)  # barycentric in piece k
+            if (local > 1e-12).all():
+                inside.append((k, local))
+        assert len(inside) == 1
+        k, local = inside[0]
+        value = tb.basis(local[None]) @ pieces[k]
+        assert value[0] == pytest.approx(det(*point[1:]), rel=1e-10, abs=1e-12)

@@ -85,7 +85,13 @@ def coefficients(rows: np.ndarray) -> np.ndarray:
     x, y, z = rows[:, :, 0], rows[:, :, 1], rows[:, :, 2]  # (n, 4, 3) each
     yz = np.cross(y[:, :, None, :], z[:, None, :, :])  # (n, 4, 4, 3): Y_j x Z_k
     d = np.einsum("nid,njkd->nijk", x, yz)  # det[X_i, Y_j, Z_k]
-    return d.reshape(len(rows), 64) @ _BLOSSOM
+    return apply(d.reshape(len(rows), 64), _BLOSSOM)
+
+
+def apply(rows: np.ndarray, table: np.ndarray) -> np.ndarray:
+    """rows (n, a) @ table (a, b), as a stack of row-vector products: one matrix product
+    would go to a threaded BLAS, whose threads cost more CPU time than the product."""
+    return (rows[:, None, :] @ table)[:, 0]
 
 
 # The 8 pieces, as barycentric points (in the parent) of their four corners. Corners
@@ -205,7 +211,7 @@ def _cut(
     low, up, at = lower[rows].copy(), upper[rows].copy(), where[rows].copy()
     level_floor = floor[rows]
     for _ in range(MAX_DEPTH):
-        pieces = (coeffs @ CHILDREN).reshape(-1, 20)
+        pieces = apply(coeffs, CHILDREN).reshape(-1, 20)
         owner = np.repeat(owner, 8)
         corners = np.einsum("pcv,mvd->mpcd", PIECE_CORNERS, corners).reshape(-1, 4, 4)
         smallest = pieces.min(axis=1)

@@ -127,6 +127,8 @@ QUARTER_POINT_METRICS = (
 )
 
 _SQRT2 = np.sqrt(2.0)
+#: (4, 3): the edges (indices into EDGES) leaving each corner.
+CORNER_EDGES = np.array([np.flatnonzero((EDGES == c).any(axis=1)) for c in range(4)])
 _NODE_POINTS = barycentric(TETRA10.nodes)
 _GAUSS_POINTS = barycentric(GAUSS_4)
 #: (20, 14): Bernstein coefficients -> det J at the 4 Gauss points, then the 10 nodes.
@@ -171,8 +173,7 @@ def corner_shape(corners: np.ndarray) -> tuple[dict[str, np.ndarray], dict[str, 
     sum_sq = sq.sum(axis=1)
 
     # scaled Jacobian: every corner determinant equals det (even permutations)
-    star = corners[:, CORNER_TRIPLES] - corners[:, :, None, :]  # (n, 4, 3, 3)
-    products = np.sqrt(_dot(star, star)).prod(axis=2).max(axis=1)
+    products = length[:, CORNER_EDGES].prod(axis=2).max(axis=1)
     sj = np.where(products > 0.0, _SQRT2 * det / products, 0.0)
     sj = np.clip(sj, -1.0, 1.0)
 
@@ -261,7 +262,7 @@ def det_j_bounds(coords: np.ndarray, floor: np.ndarray | None = None) -> tb.Boun
     coeffs = tb.coefficients(corner_jacobians(coords))
     if floor is None:
         floor = negative_floor(coords[:, :4])
-    known = coeffs @ _SAMPLE
+    known = tb.apply(coeffs, _SAMPLE)
     return tb.bounds(coeffs, floor, known, np.vstack([_GAUSS_POINTS, _NODE_POINTS]))
 
 
@@ -269,7 +270,7 @@ def _jacobian_part(coords: np.ndarray, floor: np.ndarray) -> tuple[dict, np.ndar
     """det J metrics of tetra10 elements, and whether det J is negative everywhere
     sampled (Gauss points and nodes)."""
     coeffs = tb.coefficients(corner_jacobians(coords))
-    known = coeffs @ _SAMPLE  # (n, 14): Gauss points, then nodes
+    known = tb.apply(coeffs, _SAMPLE)  # (n, 14): Gauss points, then nodes
     gauss, nodal = known[:, :4], known[:, 4:]
     found = tb.bounds(coeffs, floor, known, np.vstack([_GAUSS_POINTS, _NODE_POINTS]))
     lower = np.where((found.lower < 0.0) & (found.lower >= floor), 0.0, found.lower)
