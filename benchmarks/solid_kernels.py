@@ -114,7 +114,8 @@ def main() -> None:
             measure_all(kernel, coords, cell_type)
             cpu = min(cpu, time.process_time() - start)
             wall = min(wall, time.perf_counter() - start_wall)
-        print(f"{name:20s} {cpu * 1000:9.1f} ms CPU {wall * 1000:9.1f} ms wall  ({len(coords)} elements)")
+        ms = f"{cpu * 1000:9.1f} ms CPU {wall * 1000:9.1f} ms wall"
+        print(f"{name:20s} {ms}  ({len(coords)} elements)")
 
 
 if __name__ == "__main__":

@@ -92,7 +92,6 @@ import numpy as np
 
 from . import tet_bernstein as tb
 from .tet_reference import (
-    CORNER_TRIPLES,
     EDGE_FACES,
     EDGES,
     FACES,
