@@ -25,7 +25,7 @@ from skfem.refdom import RefTet
 
 from meshaudit.metrics.solid import tet_bernstein as tb
 from meshaudit.metrics.solid import tet_reference as ref
-from meshaudit.metrics.solid.tetra import REFERENCES, corner_jacobians, det_j_bounds, measure
+from meshaudit.metrics.solid.tetra import REFERENCES, det_j_bounds, det_j_coefficients, measure
 
 REGULAR = np.array(
     [
@@ -491,7 +491,7 @@ def test_tetra10_symbolic_det_j_degree_and_bernstein_form():
     integral over the reference tetrahedron."""
     rng = np.random.default_rng(10)
     coords = np.round(curved_tetra10(rng, 3, bend=0.1), 3)
-    coeffs = tb.coefficients(corner_jacobians(coords))
+    coeffs = det_j_coefficients(coords)
     metrics, _ = measure(coords, "tetra10")
     x, y, z = tet_exact.X
     for e in range(3):
@@ -556,7 +556,7 @@ def test_tetra10_valid_curved_element_certified_by_cutting(mids):
     """sympy's exact minimum is positive, the smallest Bernstein coefficient is not: the
     cut pieces certify det J > 0 (not inverted) with a bound at most the exact minimum."""
     coords = planted(mids)
-    assert tb.coefficients(corner_jacobians(coords[None])).min() < 0
+    assert det_j_coefficients(coords[None]).min() < 0
     exact, _ = tet_exact.exact_minimum(tet_exact.symbolic_det_j(coords))
     assert exact > 0
     metrics, flags = one(coords, "tetra10")
@@ -570,7 +570,7 @@ def test_tetra10_bounds_bracket_exact_minimum_on_random_elements():
     rng = np.random.default_rng(12)
     coords = np.round(curved_tetra10(rng, 10, bend=0.1), 2)
     metrics, flags = measure(coords, "tetra10")
-    first = tb.coefficients(corner_jacobians(coords)).min(axis=1)
+    first = det_j_coefficients(coords).min(axis=1)
     cut = ~flags["inverted"] & (first < 0)
     assert cut.any() and flags["inverted"].any() and (first > 0).any()  # every case met
     for e in range(len(coords)):
@@ -670,7 +670,7 @@ def test_cutting_into_eight_covers_the_element_and_keeps_det_j():
     np.testing.assert_allclose(volumes, 1.0 / 8.0, rtol=1e-15)
     coords = planted(VALID[1])
     det = sympy.lambdify(tet_exact.X, tet_exact.symbolic_det_j(coords))
-    coeffs = tb.coefficients(corner_jacobians(coords[None]))[0]
+    coeffs = det_j_coefficients(coords[None])[0]
     pieces = (coeffs @ tb.CHILDREN).reshape(8, 20)
     for point in rng.dirichlet(np.ones(4), size=200):
         inside = []

@@ -79,19 +79,42 @@ def basis(lam: np.ndarray) -> np.ndarray:
     return out
 
 
+#: Columns worked out together in :func:`coefficients`, so that its (64, block)
+#: temporaries stay in the CPU cache.
+BLOCK = 4096
+
+
 def coefficients(rows: np.ndarray) -> np.ndarray:
-    """Bernstein coefficients (n, 20) of det J from the corner Jacobians ``rows``
-    (n, 4, 3, 3): rows[:, i] is J at corner i (row a = d x / d xi_a)."""
-    x, y, z = rows[:, :, 0], rows[:, :, 1], rows[:, :, 2]  # (n, 4, 3) each
-    yz = np.cross(y[:, :, None, :], z[:, None, :, :])  # (n, 4, 4, 3): Y_j x Z_k
-    d = np.einsum("nid,njkd->nijk", x, yz)  # det[X_i, Y_j, Z_k]
-    return apply(d.reshape(len(rows), 64), _BLOSSOM)
+    """Bernstein coefficients (20, n) of det J from the corner Jacobians ``rows``
+    (4, 3, 3, n): rows[i, a] is row a (d x / d xi_a) of J at corner i."""
+    n = rows.shape[-1]
+    out = np.empty((20, n))
+    for start in range(0, n, BLOCK):
+        out[:, start : start + BLOCK] = _block_coefficients(rows[..., start : start + BLOCK])
+    return out
 
 
-def apply(rows: np.ndarray, table: np.ndarray) -> np.ndarray:
-    """rows (n, a) @ table (a, b), as a stack of row-vector products: one matrix product
-    would go to a threaded BLAS, whose threads cost more CPU time than the product."""
-    return (rows[:, None, :] @ table)[:, 0]
+def _block_coefficients(rows: np.ndarray) -> np.ndarray:
+    x, y, z = rows[:, 0], rows[:, 1], rows[:, 2]  # (4, 3, n) each
+    y, z = y[:, None], z[None, :]  # Y_j x Z_k over (j, k): (4, 4, 3, n)
+    yz = (
+        y[:, :, 1] * z[:, :, 2] - y[:, :, 2] * z[:, :, 1],
+        y[:, :, 2] * z[:, :, 0] - y[:, :, 0] * z[:, :, 2],
+        y[:, :, 0] * z[:, :, 1] - y[:, :, 1] * z[:, :, 0],
+    )
+    d = x[:, None, None, 0] * yz[0] + x[:, None, None, 1] * yz[1] + x[:, None, None, 2] * yz[2]
+    # the mean over each multi-index's orderings, summed by numpy (a matrix product
+    # would go to a threaded BLAS, whose threads cost more CPU time than the product)
+    grouped = np.add.reduceat(d.reshape(64, -1)[_BY_INDEX], _GROUP_STARTS, axis=0)
+    grouped *= _GROUP_WEIGHTS
+    return grouped
+
+
+#: The 64 orderings (16 i + 4 j + k) sorted by multi-index, where each index's group
+#: starts, and 1 / the group's size.
+_BY_INDEX = np.argsort(_BLOSSOM.argmax(axis=1), kind="stable")
+_GROUP_STARTS = np.flatnonzero(np.diff(_BLOSSOM.argmax(axis=1)[_BY_INDEX], prepend=-1))
+_GROUP_WEIGHTS = _BLOSSOM.max(axis=1)[_BY_INDEX][_GROUP_STARTS][:, None]
 
 
 # The 8 pieces, as barycentric points (in the parent) of their four corners. Corners
@@ -160,31 +183,31 @@ class Bounds:
 def bounds(
     coeffs: np.ndarray, floor: np.ndarray, known: np.ndarray, known_points: np.ndarray
 ) -> Bounds:
-    """Bounds of det J from its coefficients ``coeffs`` (n, 20).
+    """Bounds of det J from its coefficients ``coeffs`` (20, n), one column per element.
 
     ``floor`` (n,): below it a value counts as negative (a small negative round-off
-    tolerance); ``known`` (n, q): exact values of det J at the barycentric points
+    tolerance); ``known`` (q, n): exact values of det J at the barycentric points
     ``known_points`` (q, 4) (Gauss points, nodes). Elements whose smallest coefficient
     is below ``floor`` while every value found is not are cut (see the module
     docstring).
     """
-    n = len(coeffs)
-    lower = coeffs.min(axis=1)
+    n = coeffs.shape[1]
+    lower = coeffs.min(axis=0)
     upper = np.full(n, np.nan)
     where = np.full((n, 4), np.nan)
     undecided = np.zeros(n, dtype=bool)
     rows = np.flatnonzero(lower < floor)
     if not rows.size:
         return Bounds(lower, upper, where, undecided)
-    values = np.hstack([coeffs[rows][:, CORNER_COEFFS], known[rows]])
+    values = np.vstack([coeffs[CORNER_COEFFS][:, rows], known[:, rows]])
     points = np.vstack([np.eye(4), known_points])
-    pick = values.argmin(axis=1)
-    upper[rows] = values[np.arange(len(rows)), pick]
+    pick = values.argmin(axis=0)
+    upper[rows] = values[pick, np.arange(len(rows))]
     where[rows] = points[pick]
     open_rows = rows[upper[rows] >= floor[rows]]
     for start in range(0, len(open_rows), BATCH):
         batch = open_rows[start : start + BATCH]
-        _cut(batch, coeffs[batch], floor, lower, upper, where, undecided)
+        _cut(batch, coeffs[:, batch].T, floor, lower, upper, where, undecided)
     return Bounds(lower, upper, where, undecided)
 
 
@@ -197,7 +220,8 @@ def _cut(
     where: np.ndarray,
     undecided: np.ndarray,
 ) -> None:
-    """Cut elements ``rows`` into pieces until the sign of det J is known (in place).
+    """Cut elements ``rows`` (coefficients (m, 20), one row per element) into pieces
+    until the sign of det J is known (in place).
 
     A piece whose coefficients are all >= floor is settled; an element with a corner
     value below floor is decided (negative somewhere); an element with more than
@@ -211,7 +235,7 @@ def _cut(
     low, up, at = lower[rows].copy(), upper[rows].copy(), where[rows].copy()
     level_floor = floor[rows]
     for _ in range(MAX_DEPTH):
-        pieces = apply(coeffs, CHILDREN).reshape(-1, 20)
+        pieces = (coeffs[:, None, :] @ CHILDREN).reshape(-1, 20)  # no threaded BLAS
         owner = np.repeat(owner, 8)
         corners = np.einsum("pcv,mvd->mpcd", PIECE_CORNERS, corners).reshape(-1, 4, 4)
         smallest = pieces.min(axis=1)

@@ -100,10 +100,9 @@ from .tet_reference import (
     TETRA10,
     SolidReference,
     barycentric,
-    tetra10_shape_derivatives,
 )
 
-__all__ = ["REFERENCES", "SolidReference", "det_j_bounds", "measure"]
+__all__ = ["REFERENCES", "SolidReference", "det_j_bounds", "det_j_coefficients", "measure"]
 
 #: Relative tolerance of the degenerate flag (edges: of the longest edge; volume: of its
 #: cube). Common practice, no single source.
@@ -132,8 +131,6 @@ _NODE_POINTS = barycentric(TETRA10.nodes)
 _GAUSS_POINTS = barycentric(GAUSS_4)
 #: (20, 14): Bernstein coefficients -> det J at the 4 Gauss points, then the 10 nodes.
 _SAMPLE = tb.basis(np.vstack([_GAUSS_POINTS, _NODE_POINTS])).T
-#: (12, 10): dN/d(xi, eta, zeta) at the four corners, corner-major.
-_CORNER_DERIVATIVES = tetra10_shape_derivatives(TETRA10.nodes[:4]).reshape(12, 10)
 
 
 def without_quarter_points_name(metric: str) -> str:
@@ -142,64 +139,111 @@ def without_quarter_points_name(metric: str) -> str:
 
 
 def _dot(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """Dot product over the last axis (row layout (..., 3))."""
     return np.einsum("...i,...i->...", a, b)
 
 
-def _triple(a: np.ndarray, b: np.ndarray, c: np.ndarray) -> np.ndarray:
-    return _dot(a, np.cross(b, c))
+def _cross(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """Cross product of column vectors (3, n)."""
+    return np.stack(
+        [a[1] * b[2] - a[2] * b[1], a[2] * b[0] - a[0] * b[2], a[0] * b[1] - a[1] * b[0]]
+    )
 
 
-def _angle(sine: np.ndarray, cosine: np.ndarray) -> np.ndarray:
-    """Angle in degrees from (scaled) sine >= 0 and cosine; 0 when both are 0."""
-    return np.degrees(np.arctan2(sine, cosine))
+def _dot_columns(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """Dot product of column vectors (..., 3, n) over the coordinate axis."""
+    return a[..., 0, :] * b[..., 0, :] + a[..., 1, :] * b[..., 1, :] + a[..., 2, :] * b[..., 2, :]
+
+
+def _angle_range(cot: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(smallest, largest) angle in degrees of each column of cotangents (k, n).
+
+    A cotangent of 0/0 (a zero-length edge, a face of zero area) reads as the angle 0;
+    +-inf reads 0 or 180. The angle is arctan2(1, cot), decreasing in cot.
+    """
+    cot = np.where(np.isnan(cot), np.inf, cot)
+    return (
+        np.degrees(np.arctan2(1.0, cot.max(axis=0))),
+        np.degrees(np.arctan2(1.0, cot.min(axis=0))),
+    )
+
+
+def _face_corner_edges() -> np.ndarray:
+    """(3, 12): for each face corner p of face (p, q, r), the edges pq, pr and qr."""
+    index = {frozenset(e): k for k, e in enumerate(EDGES.tolist())}
+    out = []
+    for face in FACES.tolist():
+        for i in range(3):
+            p, q, r = face[i], face[(i + 1) % 3], face[(i + 2) % 3]
+            out.append([index[frozenset(pair)] for pair in ((p, q), (p, r), (q, r))])
+    return np.array(out).T
+
+
+_FACE_CORNER_EDGES = _face_corner_edges()
+_FACE_OF_CORNER = np.repeat(np.arange(4), 3)
 
 
 def corner_shape(corners: np.ndarray) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
     """Metrics and flags of linear tetrahedra with corners (n, 4, 3) (module docstring)."""
-    n = len(corners)
-    edge = corners[:, EDGES[:, 1]] - corners[:, EDGES[:, 0]]  # (n, 6, 3)
-    sq = _dot(edge, edge)
-    length = np.sqrt(sq)
-    a, b, c = (corners[:, i] - corners[:, 0] for i in (1, 2, 3))
-    det = _triple(a, b, c)  # 6 V = det J
+    return _corner_shape(columns(corners))[:2]
+
+
+def columns(coords: np.ndarray) -> np.ndarray:
+    """Node coordinates (n, k, 3) as contiguous columns (k, 3, n)."""
+    return np.ascontiguousarray(coords.transpose(1, 2, 0))
+
+
+def _corner_shape(p: np.ndarray) -> tuple[dict, dict, np.ndarray]:
+    """(metrics, flags, longest edge) of linear tetrahedra from corner columns (4, 3, n).
+
+    Worked out on coordinate columns (contiguous (3, n) arrays), from the edges a, b, c
+    leaving corner 0 and their cross products, which give det J and every face's area
+    vector; face angles from the squared edge lengths (law of cosines) and the face
+    areas; dihedral angles from cot = -(N_f . N_g) / (|N_f x N_g|), where for the faces
+    f, g meeting at edge e |N_f x N_g| = |det J| l_e / 4 (N the area vectors).
+    """
+    n = p.shape[2]
+    a, b, c = p[1] - p[0], p[2] - p[0], p[3] - p[0]
+    bc, ca, ab = _cross(b, c), _cross(c, a), _cross(a, b)
+    det = _dot_columns(a, bc)  # 6 V = det J
     det += 0.0
     volume = det / 6.0
-    # face area vectors (outward for a positive element) and areas
-    f = corners[:, FACES]  # (n, 4, 3, 3)
-    normal = 0.5 * np.cross(f[:, :, 1] - f[:, :, 0], f[:, :, 2] - f[:, :, 0])
-    area = np.sqrt(_dot(normal, normal))
-    longest, shortest = length.max(axis=1), length.min(axis=1)
-    sum_sq = sq.sum(axis=1)
+    # twice the area vectors of the faces (0,1,3), (1,2,3), (2,0,3), (0,2,1)
+    normal = np.stack([-ca, bc + ca + ab, -bc, -ab])  # (4, 3, n)
+    area2 = _dot_columns(normal, normal)  # (2 A)^2
+    edge = np.stack([a, b - a, -b, c, c - a, c - b])  # (6, 3, n) along EDGES
+    sq = _dot_columns(edge, edge)
+    length = np.sqrt(sq)
+    longest, shortest = length.max(axis=0), length.min(axis=0)
+    sum_sq = sq.sum(axis=0)
 
     # scaled Jacobian: every corner determinant equals det (even permutations)
-    products = length[:, CORNER_EDGES].prod(axis=2).max(axis=1)
+    products = length[CORNER_EDGES].prod(axis=1).max(axis=0)
     sj = np.where(products > 0.0, _SQRT2 * det / products, 0.0)
     sj = np.clip(sj, -1.0, 1.0)
 
-    cond = np.sqrt(sum_sq * (area * area).sum(axis=1)) / (3.0 * det)
+    # sqrt(sum l^2 sum A^2) / (18 V), with A^2 = area2 / 4 and 18 V = 3 det
+    cond = np.sqrt(sum_sq * area2.sum(axis=0)) / (6.0 * det)
     cond = np.where(det > 0.0, cond, np.inf)
 
     mean = 12.0 * np.cbrt(0.5 * np.abs(det)) ** 2 / sum_sq
     mean = np.where(sum_sq > 0.0, np.sign(det) * mean, 0.0)
 
-    centre = (
-        sq[:, 0, None] * np.cross(b, c)
-        + _dot(b, b)[:, None] * np.cross(c, a)
-        + _dot(c, c)[:, None] * np.cross(a, b)
-    )
-    radius = np.sqrt(_dot(centre, centre)) * area.sum(axis=1) / (3.0 * det * det)
+    centre = sq[0] * bc + sq[2] * ca + sq[3] * ab  # 2 det x (circumcentre - x0)
+    # R = |centre| / (2 |det|), r = |det| / (2 S): R / (3 r) = |centre| S / (3 det^2)
+    surface = 0.5 * np.sqrt(area2).sum(axis=0)
+    radius = np.sqrt(_dot_columns(centre, centre)) * surface / (3.0 * det * det)
     radius = np.where(det != 0.0, radius, np.inf)
 
     edge_ratio = np.where(shortest > 0.0, longest / shortest, np.inf)
 
-    nf, ng = normal[:, EDGE_FACES[:, 0]], normal[:, EDGE_FACES[:, 1]]
-    cross = np.cross(nf, ng)
-    dihedral = _angle(np.sqrt(_dot(cross, cross)), -_dot(nf, ng))  # (n, 6)
+    products_nn = _dot_columns(normal[EDGE_FACES[:, 0]], normal[EDGE_FACES[:, 1]])
+    # (2 N_f) . (2 N_g) / (4 |N_f x N_g|) with |N_f x N_g| = |det| l / 4
+    min_dihedral, max_dihedral = _angle_range(-products_nn / (np.abs(det) * length))
 
-    # face angles: at corner p of face (p, q, r), sin ~ 2 x face area, cos ~ dot
-    u = f - np.roll(f, 1, axis=2)  # (n, 4, 3, 3): to each corner from the previous one
-    w = np.roll(f, -1, axis=2) - f  # from each corner to the next
-    face_angle = _angle(2.0 * area[:, :, None], -_dot(u, w)).reshape(n, 12)
+    pq, pr, qr = (sq[k] for k in _FACE_CORNER_EDGES)
+    dots = 0.5 * (pq + pr - qr)  # (12, n): (x_q - x_p) . (x_r - x_p)
+    min_angle, max_angle = _angle_range(dots / np.sqrt(area2)[_FACE_OF_CORNER])
 
     degenerate = ~(longest > 0.0) | (shortest <= DEGENERATE_TOLERANCE * longest)
     degenerate |= ~(np.abs(volume) > DEGENERATE_TOLERANCE * longest**3)
@@ -218,10 +262,10 @@ def corner_shape(corners: np.ndarray) -> tuple[dict[str, np.ndarray], dict[str, 
         "mean_ratio": mean,
         "radius_ratio": radius,
         "edge_ratio": edge_ratio,
-        "min_dihedral": dihedral.min(axis=1),
-        "max_dihedral": dihedral.max(axis=1),
-        "min_angle": face_angle.min(axis=1),
-        "max_angle": face_angle.max(axis=1),
+        "min_dihedral": min_dihedral,
+        "max_dihedral": max_dihedral,
+        "min_angle": min_angle,
+        "max_angle": max_angle,
         "aspect_ratio": nan.copy(),
         "skew": nan.copy(),
         "taper": nan.copy(),
@@ -238,98 +282,139 @@ def corner_shape(corners: np.ndarray) -> tuple[dict[str, np.ndarray], dict[str, 
         "self_intersecting": false.copy(),
         "quarter_point": false.copy(),
     }
-    return metrics, flags
+    return metrics, flags, longest
 
 
-def negative_floor(corners: np.ndarray) -> np.ndarray:
+def negative_floor(longest: np.ndarray) -> np.ndarray:
     """det J below this (n,) counts as negative: -1e-12 x the longest corner edge cubed,
     so round-off at an exact zero (a quarter-point corner) is not read as a fold."""
-    edge = corners[:, EDGES[:, 1]] - corners[:, EDGES[:, 0]]
-    longest = np.sqrt(_dot(edge, edge).max(axis=1))
     return -FLOOR_FACTOR * np.maximum(longest, 1e-100) ** 3
 
 
-def corner_jacobians(coords: np.ndarray) -> np.ndarray:
-    """Jacobians (n, 4, 3, 3) of tetra10 maps at the four corners (row a = dx/dxi_a)."""
-    return (_CORNER_DERIVATIVES @ coords).reshape(len(coords), 4, 3, 3)
+def _midside_index() -> tuple[np.ndarray, np.ndarray]:
+    """(4, 4) node of the midside node of edge {i, k} (i itself on the diagonal), and k."""
+    mid = np.tile(np.arange(4)[:, None], (1, 4))
+    for m, (i, k) in enumerate(EDGES.tolist()):
+        mid[i, k] = mid[k, i] = 4 + m
+    return mid, np.tile(np.arange(4), (4, 1))
+
+
+_MID, _OTHER = _midside_index()
+_DIAGONAL = np.eye(4, dtype=bool)[..., None, None]
+
+
+def corner_jacobians(x: np.ndarray) -> np.ndarray:
+    """Jacobians (4, 3, 3, n) of tetra10 maps at the four corners, from node columns
+    x (10, 3, n): [corner i, row a (d/dxi_a), coordinate].
+
+    At corner i, dx/dL_k = 4 m_ik - x_k for k != i and 3 x_i for k = i (m_ik the
+    midside node of edge ik); row a is dx/dL_(a+1) - dx/dL_0.
+    """
+    d = np.where(_DIAGONAL, 3.0 * x[_MID], 4.0 * x[_MID] - x[_OTHER])  # (4, 4, 3, n)
+    return d[:, 1:] - d[:, :1]
+
+
+def _samples(coeffs: np.ndarray) -> np.ndarray:
+    """det J (14, n) at the 4 Gauss points, then the 10 nodes, from coefficients (20, n)."""
+    return np.einsum("sa,an->sn", _SAMPLE.T, coeffs)  # no threaded BLAS
+
+
+_KNOWN_POINTS = np.vstack([_GAUSS_POINTS, _NODE_POINTS])
+
+
+def det_j_coefficients(coords: np.ndarray) -> np.ndarray:
+    """Bernstein coefficients (n, 20) of det J of tetra10 elements (n, 10, 3), in the
+    order of :data:`meshaudit.metrics.solid.tet_bernstein.INDICES`."""
+    x = columns(np.asarray(coords, dtype=np.float64))
+    return tb.coefficients(corner_jacobians(x)).T
 
 
 def det_j_bounds(coords: np.ndarray, floor: np.ndarray | None = None) -> tb.Bounds:
     """Certified bounds of det J over tetra10 elements (n, 10, 3): lower bound, the
     smallest value found and where (barycentric), undecided (see
-    :func:`meshaudit.metrics.solid.tet_bernstein.bounds`)."""
-    coeffs = tb.coefficients(corner_jacobians(coords))
+    :func:`meshaudit.metrics.solid.tet_bernstein.bounds`). ``floor`` (n,): det J below
+    it counts as negative (default: :func:`negative_floor` of the longest corner edge)."""
+    x = columns(np.asarray(coords, dtype=np.float64))
+    coeffs = tb.coefficients(corner_jacobians(x))
     if floor is None:
-        floor = negative_floor(coords[:, :4])
-    known = tb.apply(coeffs, _SAMPLE)
-    return tb.bounds(coeffs, floor, known, np.vstack([_GAUSS_POINTS, _NODE_POINTS]))
+        with np.errstate(all="ignore"):
+            floor = negative_floor(_corner_shape(x[:4])[2])
+    return tb.bounds(coeffs, floor, _samples(coeffs), _KNOWN_POINTS)
 
 
-def _jacobian_part(coords: np.ndarray, floor: np.ndarray) -> tuple[dict, np.ndarray]:
-    """det J metrics of tetra10 elements, and whether det J is negative everywhere
-    sampled (Gauss points and nodes)."""
-    coeffs = tb.coefficients(corner_jacobians(coords))
-    known = tb.apply(coeffs, _SAMPLE)  # (n, 14): Gauss points, then nodes
-    gauss, nodal = known[:, :4], known[:, 4:]
-    found = tb.bounds(coeffs, floor, known, np.vstack([_GAUSS_POINTS, _NODE_POINTS]))
+def _jacobian_part(x: np.ndarray, floor: np.ndarray) -> tuple[dict, np.ndarray]:
+    """det J metrics of tetra10 elements from node columns x (10, 3, n), and whether
+    det J is below ``floor`` at every Gauss point and node."""
+    coeffs = tb.coefficients(corner_jacobians(x))
+    known = _samples(coeffs)
+    gauss, nodal = known[:4], known[4:]
+    found = tb.bounds(coeffs, floor, known, _KNOWN_POINTS)
     lower = np.where((found.lower < 0.0) & (found.lower >= floor), 0.0, found.lower)
-    lo, hi = gauss.min(axis=1), gauss.max(axis=1)
+    lo, hi = gauss.min(axis=0), gauss.max(axis=0)
     metrics = {
-        "volume": coeffs.mean(axis=1) / 6.0,
+        "volume": coeffs.mean(axis=0) / 6.0,
         "det_j_min": lo,
         "det_j_max": hi,
-        "det_j_corner_min": nodal.min(axis=1),
+        "det_j_corner_min": nodal.min(axis=0),
         "det_j_lower_bound": lower,
         "jacobian_ratio": np.where(lo > 0.0, hi / lo, np.inf),
         "negative": found.lower < floor,
     }
-    everywhere = (known < floor[:, None]).all(axis=1)
+    everywhere = known.max(axis=0) < floor
     return metrics, everywhere
 
 
-def midside_offsets(coords: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """(along, across), each (n, 6): midside nodes' offsets from their chord midpoints,
-    as fractions of the chord; ``along`` signed, positive towards the edge's second
-    corner (a quarter-point node next to the first corner reads -0.25)."""
-    a, b = coords[:, EDGES[:, 0]], coords[:, EDGES[:, 1]]
+def midside_offsets(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(along, across), each (6, n), from node columns x (10, 3, n): midside nodes'
+    offsets from their chord midpoints, as fractions of the chord; ``along`` signed,
+    positive towards the edge's second corner (a quarter-point node next to the first
+    corner reads -0.25)."""
+    a, b = x[EDGES[:, 0]], x[EDGES[:, 1]]
     chord = b - a
-    length2 = _dot(chord, chord)
-    offset = coords[:, 4:10] - 0.5 * (a + b)
-    along = _dot(offset, chord) / length2
-    rest = offset - along[..., None] * chord
-    across = np.sqrt(_dot(rest, rest) / length2)
+    length2 = _dot_columns(chord, chord)
+    offset = x[4:10] - 0.5 * (a + b)
+    along = _dot_columns(offset, chord) / length2
+    rest = offset - along[:, None] * chord
+    across = np.sqrt(_dot_columns(rest, rest) / length2)
     return along, across
 
 
 def _quadratic(
-    coords: np.ndarray, metrics: dict[str, np.ndarray], flags: dict[str, np.ndarray]
+    x: np.ndarray,
+    metrics: dict[str, np.ndarray],
+    flags: dict[str, np.ndarray],
+    longest: np.ndarray,
 ) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
-    """Overlay tetra10's curved det J and midside checks on its corner tetrahedron's."""
-    floor = negative_floor(coords[:, :4])
-    jac, everywhere = _jacobian_part(coords, floor)
+    """Overlay tetra10's curved det J and midside checks (node columns x (10, 3, n)) on
+    its corner tetrahedron's metrics and flags."""
+    n = x.shape[2]
+    floor = negative_floor(longest)
+    jac, everywhere = _jacobian_part(x, floor)
     negative = jac.pop("negative")
-    along, across = midside_offsets(coords)
+    along, across = midside_offsets(x)
     degenerate = flags["degenerate"]
     inverted = flags["inverted"] | (negative & ~degenerate)
     reversed_ = flags["reversed"] | (everywhere & ~degenerate)
     near = (np.abs(np.abs(along) - 0.25) <= QUARTER_POINT_TOLERANCE) & (
         across <= QUARTER_POINT_TOLERANCE
     )
-    quarter = near.any(axis=1) & ~inverted & ~degenerate
+    quarter = near.any(axis=0) & ~inverted & ~degenerate
     out = dict(metrics)
     out.update(jac)
-    out["midside_offset_along"] = np.fmax.reduce(np.abs(along), axis=1)
-    out["midside_offset_across"] = np.fmax.reduce(across, axis=1)
+    out["midside_offset_along"] = np.fmax.reduce(np.abs(along), axis=0)
+    out["midside_offset_across"] = np.fmax.reduce(across, axis=0)
     for name in QUARTER_POINT_METRICS:
-        out[without_quarter_points_name(name)] = np.full(len(coords), np.nan)
+        out[without_quarter_points_name(name)] = np.full(n, np.nan)
     rows = np.flatnonzero(quarter)
     if rows.size:
-        twin = coords[rows].copy()
-        centre = 0.5 * (twin[:, EDGES[:, 0]] + twin[:, EDGES[:, 1]])
-        twin[:, 4:10] = np.where(near[rows, :, None], centre, twin[:, 4:10])
+        # the twin: every quarter-point node moved to its chord midpoint
+        twin = x[:, :, rows].copy()
+        centre = 0.5 * (twin[EDGES[:, 0]] + twin[EDGES[:, 1]])
+        moved = near[:, None, rows]
+        twin[4:10] = np.where(moved, centre, twin[4:10])
         twin_jac, _ = _jacobian_part(twin, floor[rows])
         twin_jac["midside_offset_along"] = np.fmax.reduce(
-            np.where(near[rows], 0.0, np.abs(along[rows])), axis=1
+            np.where(near[:, rows], 0.0, np.abs(along[:, rows])), axis=0
         )
         for name in QUARTER_POINT_METRICS:
             out[without_quarter_points_name(name)][rows] = twin_jac[name]
@@ -348,9 +433,10 @@ def measure(
     expected = len(REFERENCES[cell_type].nodes)
     if coords.ndim != 3 or coords.shape[1:] != (expected, 3):
         raise ValueError(f"{cell_type} coordinates must be (n, {expected}, 3)")
+    x = columns(coords)
     with np.errstate(all="ignore"):
-        metrics, flags = corner_shape(coords[:, :4])
+        metrics, flags, longest = _corner_shape(x[:4])
         if cell_type == "tetra10":
-            metrics, flags = _quadratic(coords, metrics, flags)
+            metrics, flags = _quadratic(x, metrics, flags, longest)
         metrics = {name: values + 0.0 for name, values in metrics.items()}  # no -0.0
     return metrics, flags
