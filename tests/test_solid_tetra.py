@@ -682,3 +682,31 @@ def test_cutting_into_eight_covers_the_element_and_keeps_det_j():
         k, local = inside[0]
         value = tb.basis(local[None]) @ pieces[k]
         assert value[0] == pytest.approx(det(*point[1:]), rel=1e-10, abs=1e-12)
+
+
+@pytest.mark.parametrize("cell_type", ["tetra", "tetra10"])
+def test_empty_chunk(cell_type):
+    """No elements: every metric and flag an empty (0,) array (kernel contract)."""
+    metrics, flags = measure(np.zeros((0, len(REFERENCES[cell_type].nodes), 3)), cell_type)
+    assert all(v.shape == (0,) for v in metrics.values())
+    assert all(v.shape == (0,) and v.dtype == bool for v in flags.values())
+
+
+def test_solid_kernel_benchmark_runs():
+    """benchmarks/solid_kernels.py runs (a smoke test, no timing asserted): its cube
+    split yields positively oriented tetrahedra and every sample is measured."""
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    root = Path(__file__).resolve().parents[1]
+    cmd = [sys.executable, "-m", "benchmarks.solid_kernels", "--family", "tetra"]
+    done = subprocess.run(
+        [*cmd, "--elements", "600", "--repeat", "1"],
+        cwd=root,
+        capture_output=True,
+        text=True,
+        check=True,
+    )
+    lines = done.stdout.splitlines()
+    assert len(lines) == 4 and all("(600 elements)" in line for line in lines)
