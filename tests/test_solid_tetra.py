@@ -710,3 +710,28 @@ def test_solid_kernel_benchmark_runs():
     )
     lines = done.stdout.splitlines()
     assert len(lines) == 4 and all("(600 elements)" in line for line in lines)
+
+
+@pytest.mark.parametrize(
+    "moves",
+    [
+        {4: [0.25, 0, 0], 6: [0, 0.25, 0], 7: [0, 0, 0.25]},  # every edge at corner 0
+        {6: [0, 0.25, 0], 7: [0, 0, 0.25], 5: [0.75, 0.25, 0], 8: [0.75, 0, 0.25]},
+    ],
+    ids=["crack-tip corner", "crack-front edge 0-1"],
+)
+def test_tetra10_crack_front_quarter_points(moves):
+    """Quarter-point nodes on the edges leaving a crack-tip corner, or leaving both ends
+    of a crack-front edge (Barsoum 1976, from memory): the nodes stay on their straight
+    edges, so the map covers the same tetrahedron once (volume 1/6, closed form) with det J
+    vanishing at the tip corners; quarter_point, not inverted."""
+    coords = to_tetra10(UNIT[None])[0]
+    for node, place in moves.items():
+        coords[node] = place
+    metrics, flags = one(coords, "tetra10")
+    assert flags["quarter_point"] and not flags["inverted"] and not flags["degenerate"]
+    assert metrics["volume"] == pytest.approx(1.0 / 6.0, rel=1e-12)
+    assert metrics["det_j_corner_min"] == pytest.approx(0.0, abs=1e-15)
+    assert metrics["det_j_lower_bound"] == 0.0
+    assert metrics["det_j_min"] > 0
+    assert metrics["det_j_lower_bound|without_quarter_points"] == pytest.approx(1.0)
