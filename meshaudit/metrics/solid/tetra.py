@@ -112,7 +112,9 @@ DEGENERATE_TOLERANCE = 1e-9
 #: node counts as placed there on purpose. Common practice, no single source.
 QUARTER_POINT_TOLERANCE = 0.01
 
-#: det J below -FLOOR_FACTOR x (longest corner edge)^3 counts as negative.
+#: det J below -FLOOR_FACTOR x (longest corner edge)^3 counts as negative: round-off at
+#: an exact zero (a quarter-point corner) is not a fold. Common practice, no single
+#: source (the 2-D quadratic elements use the same factor on the chord squared).
 FLOOR_FACTOR = 1e-12
 
 #: Metrics a quarter-point node spoils by itself (measured again without it).
@@ -136,11 +138,6 @@ _SAMPLE = tb.basis(np.vstack([_GAUSS_POINTS, _NODE_POINTS])).T
 def without_quarter_points_name(metric: str) -> str:
     """Key, in the metrics dict, of ``metric`` measured without quarter-point nodes."""
     return f"{metric}|without_quarter_points"
-
-
-def _dot(a: np.ndarray, b: np.ndarray) -> np.ndarray:
-    """Dot product over the last axis (row layout (..., 3))."""
-    return np.einsum("...i,...i->...", a, b)
 
 
 def _cross(a: np.ndarray, b: np.ndarray) -> np.ndarray:
