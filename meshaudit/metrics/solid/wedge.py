@@ -88,6 +88,7 @@ import numpy as np
 
 from meshaudit.metrics.solid.wedge_pyramid_common import (
     SolidReference,
+    components,
     corner_shape,
     cross,
     degenerate,
@@ -177,7 +178,7 @@ _QUAD_FACES = WEDGE.faces[2:]
 
 
 def _gauss_table() -> np.ndarray:
-    """(9, 6): det J at the Gauss points = coefficients (n, 9) @ this table; coefficient
+    """(9, 6): det J at the Gauss points = this table.T @ coefficients (9, n); coefficient
     3 i + j multiplies L_i(r, s) B_j((1 + t) / 2)."""
     r, s, t = _GAUSS_POINTS.T
     tri = np.stack([1.0 - r - s, r, s])  # (3, m)
@@ -189,30 +190,35 @@ def _gauss_table() -> np.ndarray:
 _GAUSS_TABLE = _gauss_table()
 
 
-def bernstein_coefficients(x: np.ndarray) -> np.ndarray:
-    """Bernstein coefficients (n, 3, 3) of det J: [i, j] multiplies L_i(r, s) B_j(u),
-    u = (1 + t) / 2 (see the module docstring); [i, 0] and [i, 2] are det J at nodes i and
-    i + 3."""
-    a, b = x[:, :3], x[:, 3:]
+def bernstein_coefficients(coords: np.ndarray) -> np.ndarray:
+    """Bernstein coefficients (n, 3, 3) of det J of wedges ``coords`` (n, 6, 3): [i, j]
+    multiplies L_i(r, s) B_j(u), u = (1 + t) / 2 (see the module docstring); [i, 0] and
+    [i, 2] are det J at nodes i and i + 3."""
+    return _coefficients(components(coords)).transpose(2, 0, 1) + 0.0
+
+
+def _coefficients(xc: np.ndarray) -> np.ndarray:
+    """Bernstein coefficients (3 edges i, 3 j, n) of elements ``xc`` (3, 6, n)."""
+    a, b = xc[:, :3], xc[:, 3:]  # (3, 3, n)
     mid = 0.5 * (a + b)
-    half = 0.5 * (b - a)  # (n, 3, 3): x_t along each edge i - (i + 3)
-    normals = [cross(p[:, 1] - p[:, 0], p[:, 2] - p[:, 0]) for p in (a, mid, b)]
-    low, centre, high = (dot(nrm[:, None, :], half) for nrm in normals)  # (n, 3) each
-    return np.stack([low, 2.0 * centre - 0.5 * (low + high), high], axis=2)
+    half = 0.5 * (b - a)  # x_t along each edge i - (i + 3)
+    normals = [cross(p[:, 1] - p[:, 0], p[:, 2] - p[:, 0]) for p in (a, mid, b)]  # (3, n)
+    low, centre, high = (dot(nrm[:, None], half) for nrm in normals)  # (3 edges, n)
+    return np.stack([low, 2.0 * centre - 0.5 * (low + high), high], axis=1)
 
 
 def exact_minimum(coefficients: np.ndarray) -> np.ndarray:
-    """Exact minimum (n,) over the element of det J from its coefficients (n, 3, 3): the
-    smallest over the three edges i - (i + 3) of the quadratic (c0, c1, c2)'s minimum on
-    [0, 1]."""
-    c0, c1, c2 = coefficients[..., 0], coefficients[..., 1], coefficients[..., 2]
+    """Exact minimum (n,) over the element of det J from its coefficients (3, 3, n)
+    ([edge i, j, element]): the smallest over the three edges i - (i + 3) of the quadratic
+    Bernstein polynomial (c0, c1, c2)'s minimum on [0, 1]."""
+    c0, c1, c2 = coefficients[:, 0], coefficients[:, 1], coefficients[:, 2]
     ends = np.minimum(c0, c2)
     inside = c1 < ends  # convex, vertex strictly inside
     with np.errstate(divide="ignore", invalid="ignore"):
         vertex = (c0 * c2 - c1 * c1) / (c0 - 2.0 * c1 + c2)
     # the vertex value lies between c1 and the ends in exact arithmetic: keep it there
     low = np.where(inside, np.clip(vertex, c1, ends), ends)
-    return low.min(axis=1)
+    return low.min(axis=0)
 
 
 def measure(
@@ -225,36 +231,37 @@ def measure(
     x = np.asarray(coords, dtype=np.float64)
     if x.ndim != 3 or x.shape[1:] != (6, 3):
         raise ValueError(f"wedge coordinates must be (n, 6, 3), not {x.shape}")
+    n = len(x)
+    xc = components(x)
     with np.errstate(all="ignore"):
-        coeff = bernstein_coefficients(x)
-        gauss = coeff.reshape(-1, 9) @ _GAUSS_TABLE
-        volume = gauss @ _GAUSS_WEIGHTS
-        det_min, det_max = gauss.min(axis=1), gauss.max(axis=1)
-        corners = coeff[..., [0, 2]].reshape(-1, 6)
+        coeff = _coefficients(xc)
+        gauss = _GAUSS_TABLE.T @ coeff.reshape(9, n)  # (6, n)
+        volume = _GAUSS_WEIGHTS @ gauss
+        det_min, det_max = gauss.min(axis=0), gauss.max(axis=0)
+        corners = np.concatenate([coeff[:, 0], coeff[:, 2]])  # (6, n), node order
         lower = exact_minimum(coeff)
-        lengths = edge_lengths(x, WEDGE.edges)
-        negative = round_off(lengths.max(axis=1))
-        corner_min = corners.min(axis=1)
-        scaled, condition, _ = corner_shape(x, _TRIPLES, _IDEAL)
-        min_angle, max_angle = face_angles(x, WEDGE.faces)
+        lengths = edge_lengths(xc, WEDGE.edges)
+        negative = round_off(lengths.max(axis=0))
+        scaled, condition, _ = corner_shape(xc, _TRIPLES, _IDEAL)
+        min_angle, max_angle = face_angles(xc, WEDGE.faces)
         metrics = {
             "volume": volume,
-            "area": np.full(len(x), np.nan),
+            "area": np.full(n, np.nan),
             "det_j_min": det_min,
             "det_j_max": det_max,
-            "det_j_corner_min": corner_min,
+            "det_j_corner_min": corners.min(axis=0),
             "det_j_lower_bound": np.where((lower < 0.0) & (lower >= negative), 0.0, lower),
             "jacobian_ratio": np.where(det_min > 0.0, det_max / det_min, np.inf),
             "scaled_jacobian": scaled,
             "condition": condition,
             "edge_ratio": edge_ratio(lengths),
-            "warp": quad_face_warp(x, _QUAD_FACES),
+            "warp": quad_face_warp(xc, _QUAD_FACES),
             "min_angle": min_angle,
             "max_angle": max_angle,
         }
         flags = {
             "inverted": lower < negative,
-            "reversed": np.all(corners < negative[:, None], axis=1),
+            "reversed": np.all(corners < negative, axis=0),
             "degenerate": degenerate(lengths, volume),
         }
     return finish(metrics), flags

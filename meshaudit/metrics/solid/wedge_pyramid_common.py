@@ -51,69 +51,81 @@ class SolidReference:
     shape_derivatives: Callable[[np.ndarray], np.ndarray]
 
 
+def components(coords: np.ndarray) -> np.ndarray:
+    """Node coordinates (n, k, 3) laid out component first, (3, k, n), contiguous: the
+    helpers below take vectors as arrays whose first axis holds x, y, z, so that every
+    operation runs over contiguous runs of elements."""
+    return np.ascontiguousarray(np.asarray(coords, dtype=np.float64).transpose(2, 1, 0))
+
+
 def dot(a: np.ndarray, b: np.ndarray) -> np.ndarray:
-    """Dot product over the last axis (length 3)."""
-    return a[..., 0] * b[..., 0] + a[..., 1] * b[..., 1] + a[..., 2] * b[..., 2]
+    """Dot product of vectors stored component first (3, ...)."""
+    return a[0] * b[0] + a[1] * b[1] + a[2] * b[2]
 
 
 def cross(a: np.ndarray, b: np.ndarray) -> np.ndarray:
-    """Cross product over the last axis (length 3)."""
-    a0, a1, a2 = a[..., 0], a[..., 1], a[..., 2]
-    b0, b1, b2 = b[..., 0], b[..., 1], b[..., 2]
-    return np.stack([a1 * b2 - a2 * b1, a2 * b0 - a0 * b2, a0 * b1 - a1 * b0], axis=-1)
+    """Cross product of vectors stored component first (3, ...)."""
+    return np.stack(
+        [a[1] * b[2] - a[2] * b[1], a[2] * b[0] - a[0] * b[2], a[0] * b[1] - a[1] * b[0]]
+    )
 
 
 def norm(a: np.ndarray) -> np.ndarray:
-    """Euclidean length over the last axis."""
+    """Euclidean length of vectors stored component first (3, ...)."""
     return np.sqrt(dot(a, a))
 
 
 def det3(a: np.ndarray, b: np.ndarray, c: np.ndarray) -> np.ndarray:
-    """det[a, b, c] of column vectors (last axis): a . (b x c)."""
+    """det[a, b, c] of column vectors stored component first: a . (b x c)."""
     return dot(a, cross(b, c))
 
 
 def det_j_at(x: np.ndarray, reference: SolidReference, points: np.ndarray) -> np.ndarray:
-    """det J (n, m) of the isoparametric map at reference ``points`` (m, 3): J = the
-    derivatives of x with respect to the reference coordinates, from the reference's
-    shape-function derivatives. For checks and explanations; the kernels use closed forms.
+    """det J (n, m) of the isoparametric map of elements ``x`` (n, k, 3) at reference
+    ``points`` (m, 3): J = the derivatives of x with respect to the reference coordinates,
+    from the reference's shape-function derivatives. For checks and explanations; the
+    kernels use closed forms.
     """
     jac = np.einsum("mkj,nki->nmij", reference.shape_derivatives(points), x)
     return np.linalg.det(jac) + 0.0
 
 
-def corner_edges(x: np.ndarray, triples: np.ndarray) -> tuple[np.ndarray, ...]:
-    """The three edge vectors (n, c, 3) of each corner triple (corner, i, j, k)."""
-    base = x[:, triples[:, 0]]
-    return tuple(x[:, triples[:, m]] - base for m in (1, 2, 3))
+def corner_edges(xc: np.ndarray, triples: np.ndarray) -> tuple[np.ndarray, ...]:
+    """The three edge vectors (3, c, n) of each corner triple (corner, i, j, k) of
+    elements ``xc`` (3, k, n)."""
+    base = xc[:, triples[:, 0]]
+    return tuple(xc[:, triples[:, m]] - base for m in (1, 2, 3))
 
 
 @dataclass(frozen=True)
 class IdealCorners:
-    """Knupp's weight matrices W (c, 3, 3) of the ideal element's corner triples, their
-    inverses and their column-normalised determinants (the scaled Jacobian of the ideal
-    corner, which the element's corners are divided by so the ideal reads 1)."""
+    """Knupp's weight matrices W (c, 3, 3) of the ideal element's corner triples (as
+    their inverses), their determinants and their column-normalised determinants (the
+    ideal corner's det / product of edge lengths, which the element's corners are divided
+    by so that the ideal reads 1); arrays shaped to broadcast over (c, n)."""
 
-    inverse: np.ndarray
-    det: np.ndarray
-    normalised: np.ndarray
+    inverse: np.ndarray  # (3, 3, c, 1): [k, j] of W^-1 per corner
+    det: np.ndarray  # (c, 1)
+    normalised: np.ndarray  # (c, 1)
 
 
 def ideal_corners(ideal: np.ndarray, triples: np.ndarray) -> IdealCorners:
     """Weight matrices of the corner triples of the ideal element ``ideal`` (k, 3)."""
-    edges = corner_edges(ideal[None], triples)
-    w = np.stack([e[0] for e in edges], axis=-1)  # (c, 3, 3), columns = edges
+    edges = corner_edges(components(ideal[None]), triples)  # each (3, c, 1)
+    w = np.stack([e[:, :, 0].T for e in edges], axis=-1)  # (c, 3, 3), columns = edges
     det = np.linalg.det(w)
     if np.any(det <= 0.0):  # pragma: no cover - a table error
         raise AssertionError("an ideal corner triple is not right-handed")
-    lengths = np.prod([norm(e[0]) for e in edges], axis=0)
-    return IdealCorners(np.linalg.inv(w), det, det / lengths)
+    lengths = np.prod([norm(e)[:, 0] for e in edges], axis=0)
+    inverse = np.linalg.inv(w).transpose(1, 2, 0)[..., None]
+    return IdealCorners(inverse, det[:, None], (det / lengths)[:, None])
 
 
 def corner_shape(
-    x: np.ndarray, triples: np.ndarray, ideal: IdealCorners
+    xc: np.ndarray, triples: np.ndarray, ideal: IdealCorners
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """(scaled_jacobian, condition, corner determinants (n, c)) of the corner triples.
+    """(scaled_jacobian, condition, corner determinants (c, n)) of the corner triples of
+    elements ``xc`` (3, k, n).
 
     Scaled Jacobian of a corner: det[a, b, c] / (|a| |b| |c|) of its edge vectors,
     divided by the same of the ideal element's corner (1 for the ideal); a corner with
@@ -125,45 +137,50 @@ def corner_shape(
     (largest) corner. P. M. Knupp, "Algebraic mesh quality metrics", SIAM J. Sci.
     Comput. 23 (2001) 193-218 (from memory); the worst corner is common practice.
     """
-    a, b, c = corner_edges(x, triples)
-    det = det3(a, b, c)
-    lengths = norm(a) * norm(b) * norm(c)
+    n = xc.shape[2]
+    scaled, condition = np.full(n, np.inf), np.full(n, -np.inf)
+    dets = np.empty((len(triples), n))
+    inv = ideal.inverse
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        scaled = np.where(lengths > 0.0, det / lengths, 0.0) / ideal.normalised
-        # T = A W^-1: column j of T is sum_k W^-1[k, j] e_k
-        inv = ideal.inverse
-        cols = [
-            inv[:, 0, j, None] * a + inv[:, 1, j, None] * b + inv[:, 2, j, None] * c
-            for j in range(3)
-        ]
-        frob2 = dot(cols[0], cols[0]) + dot(cols[1], cols[1]) + dot(cols[2], cols[2])
-        adj2 = sum(
-            dot(v, v)
-            for v in (cross(cols[0], cols[1]), cross(cols[1], cols[2]), cross(cols[2], cols[0]))
-        )
-        det_t = det / ideal.det
-        condition = np.where(det_t > 0.0, np.sqrt(frob2 * adj2) / (3.0 * det_t), np.inf)
-    condition = np.where(np.isnan(condition), np.inf, condition)
-    return np.clip(scaled.min(axis=1), -1.0, 1.0), condition.max(axis=1), det
+        for m, (corner, i, j, k) in enumerate(triples):
+            a, b, c = xc[:, i] - xc[:, corner], xc[:, j] - xc[:, corner], xc[:, k] - xc[:, corner]
+            det = dets[m] = det3(a, b, c)
+            lengths = norm(a) * norm(b) * norm(c)
+            np.minimum(
+                scaled,
+                np.where(lengths > 0.0, det / lengths, 0.0) / ideal.normalised[m],
+                out=scaled,
+            )
+            # T = A W^-1: column q of T is sum_p W^-1[p, q] e_p
+            cols = [inv[0, q, m] * a + inv[1, q, m] * b + inv[2, q, m] * c for q in range(3)]
+            frob2 = dot(cols[0], cols[0]) + dot(cols[1], cols[1]) + dot(cols[2], cols[2])
+            adj2 = (
+                dot(v := cross(cols[0], cols[1]), v)
+                + dot(v := cross(cols[1], cols[2]), v)
+                + dot(v := cross(cols[2], cols[0]), v)
+            )
+            det_t = det / ideal.det[m]
+            kappa = np.where(det_t > 0.0, np.sqrt(frob2 * adj2) / (3.0 * det_t), np.inf)
+            np.maximum(condition, np.where(np.isnan(kappa), np.inf, kappa), out=condition)
+    return np.clip(scaled, -1.0, 1.0), condition, dets
 
 
-def edge_lengths(x: np.ndarray, edges: tuple[tuple[int, int], ...]) -> np.ndarray:
-    """Lengths (n, e) of the element edges."""
+def edge_lengths(xc: np.ndarray, edges: tuple[tuple[int, int], ...]) -> np.ndarray:
+    """Lengths (e, n) of the element edges of elements ``xc`` (3, k, n)."""
     pairs = np.array(edges)
-    return norm(x[:, pairs[:, 1]] - x[:, pairs[:, 0]])
+    return norm(xc[:, pairs[:, 1]] - xc[:, pairs[:, 0]])
 
 
 def edge_ratio(lengths: np.ndarray) -> np.ndarray:
-    """Longest / shortest edge, 1 or more; infinite where an edge has zero length."""
-    longest, shortest = lengths.max(axis=1), lengths.min(axis=1)
+    """Longest / shortest edge (lengths (e, n)), 1 or more; infinite where an edge has
+    zero length."""
+    longest, shortest = lengths.max(axis=0), lengths.min(axis=0)
     with np.errstate(divide="ignore", invalid="ignore"):
         return np.where(shortest > 0.0, longest / shortest, np.inf)
 
 
-def face_angles(x: np.ndarray, faces: tuple[tuple[int, ...], ...]) -> tuple[np.ndarray, np.ndarray]:
-    """(min, max) over all faces of the angles (degrees, 0 to 180) between the two face
-    edges at each face corner: atan2(|a x b|, a . b), accurate near 0 and 180; a
-    zero-length edge gives 0."""
+def _face_corners(faces: tuple[tuple[int, ...], ...]) -> tuple[np.ndarray, ...]:
+    """(centre, after, before) node indices of every face corner."""
     centre, after, before = [], [], []
     for face in faces:
         m = len(face)
@@ -171,35 +188,68 @@ def face_angles(x: np.ndarray, faces: tuple[tuple[int, ...], ...]) -> tuple[np.n
             centre.append(face[j])
             after.append(face[(j + 1) % m])
             before.append(face[j - 1])
-    at = x[:, centre]
-    a, b = x[:, after] - at, x[:, before] - at
-    angles = np.arctan2(norm(cross(a, b)), dot(a, b)) * DEGREES
-    return angles.min(axis=1), angles.max(axis=1)
+    return np.array(centre), np.array(after), np.array(before)
 
 
-def quad_face_warp(x: np.ndarray, faces: tuple[tuple[int, ...], ...]) -> np.ndarray:
-    """Worst fold angle (degrees, 0 to 180) of the quadrilateral ``faces``, each defined
-    as the quad warp: split the face along each diagonal into two triangles wound as the
-    face (split 1-3: nodes 1 2 3 and 1 3 4; split 2-4: nodes 2 3 4 and 2 4 1); a split's
-    fold angle is the angle between its two triangles' normals. Only splits whose two
-    triangles both face along the face's area vector (half the cross product of its
-    diagonals) count, and the face reads the larger of those (of both where neither
-    counts, a bow-tie face). 0 for a flat face, convex or re-entrant. Common practice,
-    no single source."""
-    quads = np.array(faces)
-    p1, p2, p3, p4 = (x[:, quads[:, j]] for j in range(4))  # (n, q, 3)
-    area = cross(p3 - p1, p4 - p2)
-    angles, counts = [], []
-    for (a1, a2, a3), (b1, b2, b3) in (((p1, p2, p3), (p1, p3, p4)), ((p2, p3, p4), (p2, p4, p1))):
-        na = cross(a2 - a1, a3 - a1)
-        nb = cross(b2 - b1, b3 - b1)
-        angles.append(np.arctan2(norm(cross(na, nb)), dot(na, nb)) * DEGREES)
-        counts.append((dot(na, area) >= 0.0) & (dot(nb, area) >= 0.0))
-    first = np.where(counts[0], angles[0], -1.0)
-    second = np.where(counts[1], angles[1], -1.0)
-    warp = np.maximum(first, second)
-    warp = np.where(warp < 0.0, np.maximum(angles[0], angles[1]), warp)
-    return warp.max(axis=1)
+def face_angles(
+    xc: np.ndarray, faces: tuple[tuple[int, ...], ...]
+) -> tuple[np.ndarray, np.ndarray]:
+    """(min, max) over all faces of elements ``xc`` (3, k, n) of the angles (degrees, 0 to
+    180) between the two face edges at each face corner.
+
+    The extreme corners are picked by the cosine a . b / (|a| |b|), which decreases as the
+    angle grows (a zero-length edge: cosine 1, angle 0); their angles are then
+    atan2(|a x b|, a . b), accurate near 0 and 180. One face corner at a time, so that
+    the temporaries of a chunk of elements stay small.
+    """
+    n = xc.shape[2]
+    low_cos, high_cos = np.full(n, np.inf), np.full(n, -np.inf)
+    low = [np.zeros((3, n)), np.zeros((3, n))]  # the corner of the largest angle: a, b
+    high = [np.zeros((3, n)), np.zeros((3, n))]  # of the smallest angle
+    for centre, after, before in zip(*_face_corners(faces)):
+        a, b = xc[:, after] - xc[:, centre], xc[:, before] - xc[:, centre]
+        lengths = norm(a) * norm(b)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            cosine = np.where(lengths > 0.0, dot(a, b) / lengths, 1.0)
+        for best, vectors, better in ((low_cos, low, np.less), (high_cos, high, np.greater)):
+            take = better(cosine, best)
+            best[take] = cosine[take]
+            np.copyto(vectors[0], a, where=take)
+            np.copyto(vectors[1], b, where=take)
+    smallest = np.arctan2(norm(cross(*high)), dot(*high)) * DEGREES
+    largest = np.arctan2(norm(cross(*low)), dot(*low)) * DEGREES
+    return smallest, largest
+
+
+def quad_face_warp(xc: np.ndarray, faces: tuple[tuple[int, ...], ...]) -> np.ndarray:
+    """Worst fold angle (degrees, 0 to 180) of the quadrilateral ``faces`` of elements
+    ``xc`` (3, k, n), each defined as the quad warp: split the face along each diagonal
+    into two triangles wound as the face (split 1-3: nodes 1 2 3 and 1 3 4; split 2-4:
+    nodes 2 3 4 and 2 4 1); a split's fold angle is the angle between its two triangles'
+    normals. Only splits whose two triangles both face along the face's area vector (half
+    the cross product of its diagonals) count, and the face reads the larger of those (of
+    both where neither counts, a bow-tie face). 0 for a flat face, convex or re-entrant.
+    Common practice, no single source."""
+    worst = np.zeros(xc.shape[2])
+    for face in faces:
+        p1, p2, p3, p4 = (xc[:, j] for j in face)  # (3, n)
+        d13, d24 = p3 - p1, p4 - p2
+        area = cross(d13, d24)
+        angles, counts = [], []
+        # triangle normals from a side and a diagonal: 1 2 3: (p2 - p1) x d13; 1 3 4:
+        # d13 x (p4 - p1); 2 3 4: (p3 - p2) x d24; 2 4 1: d24 x (p1 - p2)
+        for na, nb in (
+            (cross(p2 - p1, d13), cross(d13, p4 - p1)),
+            (cross(p3 - p2, d24), cross(d24, p1 - p2)),
+        ):
+            angles.append(np.arctan2(norm(cross(na, nb)), dot(na, nb)))
+            counts.append((dot(na, area) >= 0.0) & (dot(nb, area) >= 0.0))
+        first = np.where(counts[0], angles[0], -1.0)
+        second = np.where(counts[1], angles[1], -1.0)
+        warp = np.maximum(first, second)
+        warp = np.where(warp < 0.0, np.maximum(angles[0], angles[1]), warp)
+        np.maximum(worst, warp, out=worst)
+    return worst * DEGREES
 
 
 def round_off(longest: np.ndarray) -> np.ndarray:
@@ -208,10 +258,11 @@ def round_off(longest: np.ndarray) -> np.ndarray:
 
 
 def degenerate(lengths: np.ndarray, volume: np.ndarray) -> np.ndarray:
-    """Zero-length edge or zero volume, relative to the longest edge L: shortest edge
-    <= DEGENERATE L, or |volume| <= DEGENERATE L^3 (true where every node coincides)."""
-    longest = lengths.max(axis=1)
-    return (lengths.min(axis=1) <= DEGENERATE * longest) | (
+    """Zero-length edge or zero volume, relative to the longest edge L (lengths (e, n)):
+    shortest edge <= DEGENERATE L, or |volume| <= DEGENERATE L^3 (true where every node
+    coincides)."""
+    longest = lengths.max(axis=0)
+    return (lengths.min(axis=0) <= DEGENERATE * longest) | (
         np.abs(volume) <= DEGENERATE * longest**3
     )
 
