@@ -52,7 +52,7 @@ MODULES = {
 
 def elements(family: str, n_elements: int, seed: int = 0) -> np.ndarray:
     """About ``n_elements`` distorted elements (n, k, 3) of the family, from the slab."""
-    cell_type, split = SPLITS[family]
+    split = SPLITS[family][1]
     boxes = -(-n_elements // len(split))
     size = (np.prod(SLAB_MM) / boxes) ** (1.0 / 3.0)
     counts = np.maximum(np.round(np.array(SLAB_MM) / size), 1).astype(int)
