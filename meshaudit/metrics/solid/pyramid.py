@@ -181,9 +181,7 @@ _IDEAL = ideal_corners(IDEAL, _TRIPLES)
 
 #: D at the Gauss points = this (8, 4) table @ the corner values D_i (4, n): the bilinear
 #: interpolation (1 + u_i u)(1 + v_i v) / 4.
-_GAUSS_TABLE = (
-    (1.0 + _BASE[:, 0] * _GAUSS_UV[:, :1]) * (1.0 + _BASE[:, 1] * _GAUSS_UV[:, 1:]) / 4.0
-)
+_GAUSS_TABLE = (1.0 + _BASE[:, 0] * _GAUSS_UV[:, :1]) * (1.0 + _BASE[:, 1] * _GAUSS_UV[:, 1:]) / 4.0
 
 
 def measure(
