@@ -50,8 +50,9 @@ MODULES = {
 }
 
 
-def elements(family: str, n_elements: int, seed: int = 0) -> np.ndarray:
-    """About ``n_elements`` distorted elements (n, k, 3) of the family, from the slab."""
+def elements(family: str, n_elements: int, seed: int = 0, jitter: float = JITTER) -> np.ndarray:
+    """``n_elements`` elements (n, k, 3) of the family from the slab, every node moved by
+    up to ``jitter`` of the box size."""
     split = SPLITS[family][1]
     boxes = -(-n_elements // len(split))
     size = (np.prod(SLAB_MM) / boxes) ** (1.0 / 3.0)
@@ -64,7 +65,7 @@ def elements(family: str, n_elements: int, seed: int = 0) -> np.ndarray:
     coords = origins[:, None, None, :] + corners[split][None]
     coords = coords.reshape(-1, split.shape[1], 3)[:n_elements]
     rng = np.random.default_rng(seed)
-    return coords + rng.uniform(-JITTER, JITTER, coords.shape) * size
+    return coords + rng.uniform(-jitter, jitter, coords.shape) * size
 
 
 def time_family(family: str, n_elements: int, repeat: int) -> tuple[float, dict[str, int]]:

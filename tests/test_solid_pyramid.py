@@ -13,7 +13,6 @@ version: no pyramid mesh, element or reference domain).
 from __future__ import annotations
 
 import re
-import warnings
 
 import meshio
 import numpy as np
@@ -23,6 +22,12 @@ import sympy as sp
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy.spatial import ConvexHull
+from solid_checks import (
+    MOTIONS,
+    assert_invariant,
+    assert_quiet_on_degenerate,
+    divergence_volume,
+)
 
 from meshaudit.metrics.solid.pyramid import IDEAL, PYRAMID, measure
 from meshaudit.metrics.solid.wedge_pyramid_common import det_j_at
@@ -279,44 +284,16 @@ def test_inside_out_flattened_and_reentrant():
 
 def test_degenerate_input_is_quiet_and_never_negative_zero():
     # contract: no warnings, no -0.0, NaN only for area
-    points = np.zeros((1, 5, 3))
-    line = np.array([[[t, 0.0, 0.0] for t in range(5)]], dtype=float)
-    with warnings.catch_warnings():
-        warnings.simplefilter("error")
-        metrics, flags = measure(np.concatenate([points, line, -0.0 * IDEAL[None]]))
-    for name, value in metrics.items():
-        assert not np.any(np.signbit(value) & (value == 0.0)), name
-        if name != "area":
-            assert not np.any(np.isnan(value)), name
-    assert flags["degenerate"][:2].all()
+    assert_quiet_on_degenerate(measure, IDEAL)
 
 
 # -- volumes: divergence theorem and convex hull -----------------------------------------------
-def divergence_volume(x: np.ndarray) -> sp.Expr:
-    """(1/3) sum over the faces of the integral of x . n dA, exactly (sympy): the base a
-    bilinear patch over [0, 1]^2, the sides flat triangles; faces wound as PYRAMID.faces."""
-    s, t = sp.symbols("s t")
-    pts = [[sp.Rational(float(c)) for c in row] for row in x]
-    total = sp.Integer(0)
-    for face in PYRAMID.faces:
-        p = [sp.Matrix(pts[i]) for i in face]
-        if len(face) == 4:
-            surf = (1 - s) * (1 - t) * p[0] + s * (1 - t) * p[1] + s * t * p[2] + (1 - s) * t * p[3]
-            limits = [(s, 0, 1), (t, 0, 1)]
-        else:
-            surf = p[0] + s * (p[1] - p[0]) + t * (p[2] - p[0])
-            limits = [(s, 0, 1 - t), (t, 0, 1)]
-        flux = surf.dot(surf.diff(s).cross(surf.diff(t)))
-        total += sp.integrate(sp.expand(flux), *limits)
-    return total / 3
-
-
 @pytest.mark.parametrize("seed", [0, 1, 2])
 def test_volume_by_divergence_theorem(seed):
     # divergence theorem over the warped base and the four triangles
     x = distorted(seed, 0.3)
     volume = measure(x[None])[0]["volume"][0]
-    assert volume == pytest.approx(float(divergence_volume(x)), rel=1e-12)
+    assert volume == pytest.approx(float(divergence_volume(x, PYRAMID.faces)), rel=1e-12)
     # also: the mean of the two diagonal splits' volumes (tetrahedra)
     split02 = tet6(x[0], x[1], x[2], x[4]) + tet6(x[0], x[2], x[3], x[4])
     split13 = tet6(x[1], x[2], x[3], x[4]) + tet6(x[1], x[3], x[0], x[4])
@@ -345,48 +322,16 @@ def test_convex_pyramid_volume_matches_convex_hull(moves, apex, height):
 
 
 # -- invariance (hypothesis) -------------------------------------------------------------------
-def rotation(q: list[float]) -> np.ndarray:
-    """Rotation matrix of the (normalised) quaternion q."""
-    w, a, b, c = np.asarray(q) / np.linalg.norm(q)
-    return np.array(
-        [
-            [1 - 2 * (b * b + c * c), 2 * (a * b - c * w), 2 * (a * c + b * w)],
-            [2 * (a * b + c * w), 1 - 2 * (a * a + c * c), 2 * (b * c - a * w)],
-            [2 * (a * c - b * w), 2 * (b * c + a * w), 1 - 2 * (a * a + b * b)],
-        ]
-    )
-
-
-LENGTH3 = {"volume", "det_j_min", "det_j_max", "det_j_corner_min", "det_j_lower_bound"}
 #: Renumberings that keep the orientation: turn the base.
 KEEPING = [[1, 2, 3, 0, 4], [2, 3, 0, 1, 4], [3, 0, 1, 2, 4]]
 
 
 @settings(max_examples=60, deadline=None)
-@given(
-    st.integers(0, 10**6),
-    st.lists(st.floats(0.1, 1.0), min_size=4, max_size=4),
-    st.lists(st.floats(-100.0, 100.0), min_size=3, max_size=3),
-    st.floats(1e-3, 1e3),
-    st.sampled_from(KEEPING),
-)
-def test_invariance(seed, quaternion, move, scale, order):
+@given(st.integers(0, 10**6), MOTIONS, st.sampled_from(KEEPING))
+def test_invariance(seed, motion, order):
     # invariance: rigid motion and renumbering change nothing; scaling by c multiplies
     # lengths^3 by c^3 and keeps every ratio and angle
-    x = distorted(seed, 0.2)
-    before, flags_before = measure(x[None])
-    moved = scale * x[order] @ rotation(quaternion).T + move
-    after, flags_after = measure(moved[None])
-    for name, value in before.items():
-        expected = value[0] * (scale**3 if name in LENGTH3 else 1.0)
-        if name == "area":
-            assert np.isnan(after[name][0])
-        elif name in ("warp", "min_angle", "max_angle"):
-            assert after[name][0] == pytest.approx(expected, abs=1e-6), name
-        else:
-            assert after[name][0] == pytest.approx(expected, rel=1e-6, abs=1e-12 * scale**3), name
-    for name in flags_before:
-        assert flags_before[name][0] == flags_after[name][0]
+    assert_invariant(measure, distorted(seed, 0.2), order, motion)
 
 
 @settings(max_examples=30, deadline=None)

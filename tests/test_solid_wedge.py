@@ -14,7 +14,6 @@ invariance under rigid motion, scaling and renumbering (hypothesis).
 from __future__ import annotations
 
 import re
-import warnings
 
 import meshio
 import numpy as np
@@ -25,6 +24,12 @@ from hypothesis import strategies as st
 from scipy.spatial import ConvexHull
 from skfem import ElementWedge1, MeshWedge1
 from skfem.mapping import MappingIsoparametric
+from solid_checks import (
+    MOTIONS,
+    assert_invariant,
+    assert_quiet_on_degenerate,
+    divergence_volume,
+)
 
 from meshaudit.metrics.solid.wedge import IDEAL, WEDGE, measure
 from meshaudit.metrics.solid.wedge_pyramid_common import det_j_at
@@ -330,43 +335,17 @@ def test_inside_out_and_flattened():
 
 def test_degenerate_input_is_quiet_and_never_negative_zero():
     # contract: no warnings, no -0.0, NaN only for area
-    points = np.zeros((1, 6, 3))
-    line = np.array([[[t, 0.0, 0.0] for t in range(6)]], dtype=float)
-    with warnings.catch_warnings():
-        warnings.simplefilter("error")
-        metrics, flags = measure(np.concatenate([points, line, -0.0 * IDEAL[None]]))
-    for name, value in metrics.items():
-        assert not np.any(np.signbit(value) & (value == 0.0)), name
-        if name != "area":
-            assert not np.any(np.isnan(value)), name
-    assert flags["degenerate"][:2].all()
+    assert_quiet_on_degenerate(measure, IDEAL)
 
 
 # -- volumes: divergence theorem and convex hull -----------------------------------------------
-def divergence_volume(x: np.ndarray) -> sp.Expr:
-    """(1/3) sum over the faces of the integral of x . n dA, exactly (sympy): quadrilateral
-    faces are bilinear patches over [0, 1]^2, triangles flat; faces wound as WEDGE.faces."""
-    u, v = sp.symbols("u v")
-    pts = [[sp.Rational(float(c)) for c in row] for row in x]
-    total = sp.Integer(0)
-    for face in WEDGE.faces:
-        p = [sp.Matrix(pts[i]) for i in face]
-        if len(face) == 4:
-            surf = (1 - u) * (1 - v) * p[0] + u * (1 - v) * p[1] + u * v * p[2] + (1 - u) * v * p[3]
-            limits = [(u, 0, 1), (v, 0, 1)]
-        else:
-            surf = p[0] + u * (p[1] - p[0]) + v * (p[2] - p[0])
-            limits = [(u, 0, 1 - v), (v, 0, 1)]
-        flux = surf.dot(surf.diff(u).cross(surf.diff(v)))
-        total += sp.integrate(sp.expand(flux), *limits)
-    return total / 3
-
-
 @pytest.mark.parametrize("seed", [0, 1])
 def test_volume_by_divergence_theorem(seed):
     # divergence theorem: the exact flux of x over the warped faces / 3 is the volume
     x = distorted(seed, 0.3)
-    assert measure(x[None])[0]["volume"][0] == pytest.approx(float(divergence_volume(x)), rel=1e-12)
+    assert measure(x[None])[0]["volume"][0] == pytest.approx(
+        float(divergence_volume(x, WEDGE.faces)), rel=1e-12
+    )
 
 
 @settings(max_examples=40, deadline=None)
@@ -391,50 +370,16 @@ def test_convex_frustum_volume_matches_convex_hull(corners, k, shift, height):
 
 
 # -- invariance (hypothesis) -------------------------------------------------------------------
-def rotation(q: list[float]) -> np.ndarray:
-    """Rotation matrix of the (normalised) quaternion q."""
-    w, a, b, c = np.asarray(q) / np.linalg.norm(q)
-    return np.array(
-        [
-            [1 - 2 * (b * b + c * c), 2 * (a * b - c * w), 2 * (a * c + b * w)],
-            [2 * (a * b + c * w), 1 - 2 * (a * a + c * c), 2 * (b * c - a * w)],
-            [2 * (a * c - b * w), 2 * (b * c + a * w), 1 - 2 * (a * a + b * b)],
-        ]
-    )
-
-
-LENGTH3 = {"volume", "det_j_min", "det_j_max", "det_j_corner_min", "det_j_lower_bound"}
 #: Renumberings that keep the orientation: turn the triangles, swap the ends.
 KEEPING = [[1, 2, 0, 4, 5, 3], [2, 0, 1, 5, 3, 4], [3, 5, 4, 0, 2, 1], [4, 3, 5, 1, 0, 2]]
 
 
 @settings(max_examples=60, deadline=None)
-@given(
-    st.integers(0, 10**6),
-    st.lists(st.floats(0.1, 1.0), min_size=4, max_size=4),
-    st.lists(st.floats(-100.0, 100.0), min_size=3, max_size=3),
-    st.floats(1e-3, 1e3),
-    st.sampled_from(KEEPING),
-)
-def test_invariance(seed, quaternion, move, scale, order):
+@given(st.integers(0, 10**6), MOTIONS, st.sampled_from(KEEPING))
+def test_invariance(seed, motion, order):
     # invariance: rigid motion and renumbering change nothing; scaling by c multiplies
     # lengths^3 by c^3 and keeps every ratio and angle
-    x = distorted(seed, 0.2)
-    before, flags_before = measure(x[None])
-    moved = scale * x[order] @ rotation(quaternion).T + move
-    after, flags_after = measure(moved[None])
-    for name, value in before.items():
-        expected = value[0] * (scale**3 if name in LENGTH3 else 1.0)
-        if name == "area":
-            assert np.isnan(after[name][0])
-        elif name in ("warp", "min_angle", "max_angle"):
-            assert after[name][0] == pytest.approx(expected, abs=1e-6), name
-        elif name in ("jacobian_ratio",):  # the Gauss points are renumbered among themselves
-            assert after[name][0] == pytest.approx(expected, rel=1e-6), name
-        else:
-            assert after[name][0] == pytest.approx(expected, rel=1e-6, abs=1e-12 * scale**3), name
-    for name in flags_before:
-        assert flags_before[name][0] == flags_after[name][0]
+    assert_invariant(measure, distorted(seed, 0.2), order, motion)
 
 
 @settings(max_examples=30, deadline=None)

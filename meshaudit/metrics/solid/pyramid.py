@@ -86,16 +86,11 @@ import numpy as np
 
 from meshaudit.metrics.solid.wedge_pyramid_common import (
     SolidReference,
+    assemble,
+    checked,
     components,
     corner_shape,
-    degenerate,
-    edge_lengths,
-    edge_ratio,
-    face_angles,
-    finish,
     ideal_corners,
-    quad_face_warp,
-    round_off,
 )
 
 CELL_TYPE = "pyramid"
@@ -189,41 +184,9 @@ def measure(
 ) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
     """Metrics and flags (dicts of (n,) arrays) of pyramids ``coords`` (n, 5, 3) in
     meshio's node order; see the module docstring for every definition."""
-    if cell_type != CELL_TYPE:
-        raise ValueError(f"the pyramid kernel measures {CELL_TYPE!r} cells, not {cell_type!r}")
-    x = np.asarray(coords, dtype=np.float64)
-    if x.ndim != 3 or x.shape[1:] != (5, 3):
-        raise ValueError(f"pyramid coordinates must be (n, 5, 3), not {x.shape}")
-    n = len(x)
-    xc = components(x)
+    xc = components(checked(coords, cell_type, PYRAMID))
     with np.errstate(all="ignore"):
         scaled, condition, dets = corner_shape(xc, _TRIPLES, _IDEAL)
         corners = dets[:4] / 4.0  # D_i, det J at the base corners
         gauss = _GAUSS_TABLE @ corners  # (8, n)
-        volume = _GAUSS_WEIGHTS @ gauss
-        det_min, det_max = gauss.min(axis=0), gauss.max(axis=0)
-        lower = corners.min(axis=0)
-        lengths = edge_lengths(xc, PYRAMID.edges)
-        negative = round_off(lengths.max(axis=0))
-        min_angle, max_angle = face_angles(xc, PYRAMID.faces)
-        metrics = {
-            "volume": volume,
-            "area": np.full(n, np.nan),
-            "det_j_min": det_min,
-            "det_j_max": det_max,
-            "det_j_corner_min": lower,
-            "det_j_lower_bound": np.where((lower < 0.0) & (lower >= negative), 0.0, lower),
-            "jacobian_ratio": np.where(det_min > 0.0, det_max / det_min, np.inf),
-            "scaled_jacobian": scaled,
-            "condition": condition,
-            "edge_ratio": edge_ratio(lengths),
-            "warp": quad_face_warp(xc, PYRAMID.faces[:1]),
-            "min_angle": min_angle,
-            "max_angle": max_angle,
-        }
-        flags = {
-            "inverted": lower < negative,
-            "reversed": np.all(corners < negative, axis=0),
-            "degenerate": degenerate(lengths, volume),
-        }
-    return finish(metrics), flags
+        return assemble(xc, PYRAMID, gauss, corners, corners.min(axis=0), (scaled, condition))

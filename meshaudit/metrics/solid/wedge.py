@@ -88,18 +88,13 @@ import numpy as np
 
 from meshaudit.metrics.solid.wedge_pyramid_common import (
     SolidReference,
+    assemble,
+    checked,
     components,
     corner_shape,
     cross,
-    degenerate,
     dot,
-    edge_lengths,
-    edge_ratio,
-    face_angles,
-    finish,
     ideal_corners,
-    quad_face_warp,
-    round_off,
 )
 
 CELL_TYPE = "wedge"
@@ -174,8 +169,6 @@ IDEAL = np.array(
 )
 _IDEAL = ideal_corners(IDEAL, _TRIPLES)
 
-_QUAD_FACES = WEDGE.faces[2:]
-
 
 def _gauss_table() -> np.ndarray:
     """(9, 6): det J at the Gauss points = this table.T @ coefficients (9, n); coefficient
@@ -226,42 +219,10 @@ def measure(
 ) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
     """Metrics and flags (dicts of (n,) arrays) of wedges ``coords`` (n, 6, 3) in meshio's
     node order; see the module docstring for every definition."""
-    if cell_type != CELL_TYPE:
-        raise ValueError(f"the wedge kernel measures {CELL_TYPE!r} cells, not {cell_type!r}")
-    x = np.asarray(coords, dtype=np.float64)
-    if x.ndim != 3 or x.shape[1:] != (6, 3):
-        raise ValueError(f"wedge coordinates must be (n, 6, 3), not {x.shape}")
-    n = len(x)
-    xc = components(x)
+    xc = components(checked(coords, cell_type, WEDGE))
     with np.errstate(all="ignore"):
         coeff = _coefficients(xc)
-        gauss = _GAUSS_TABLE.T @ coeff.reshape(9, n)  # (6, n)
-        volume = _GAUSS_WEIGHTS @ gauss
-        det_min, det_max = gauss.min(axis=0), gauss.max(axis=0)
+        gauss = _GAUSS_TABLE.T @ coeff.reshape(9, xc.shape[2])  # (6, n)
         corners = np.concatenate([coeff[:, 0], coeff[:, 2]])  # (6, n), node order
-        lower = exact_minimum(coeff)
-        lengths = edge_lengths(xc, WEDGE.edges)
-        negative = round_off(lengths.max(axis=0))
-        scaled, condition, _ = corner_shape(xc, _TRIPLES, _IDEAL)
-        min_angle, max_angle = face_angles(xc, WEDGE.faces)
-        metrics = {
-            "volume": volume,
-            "area": np.full(n, np.nan),
-            "det_j_min": det_min,
-            "det_j_max": det_max,
-            "det_j_corner_min": corners.min(axis=0),
-            "det_j_lower_bound": np.where((lower < 0.0) & (lower >= negative), 0.0, lower),
-            "jacobian_ratio": np.where(det_min > 0.0, det_max / det_min, np.inf),
-            "scaled_jacobian": scaled,
-            "condition": condition,
-            "edge_ratio": edge_ratio(lengths),
-            "warp": quad_face_warp(xc, _QUAD_FACES),
-            "min_angle": min_angle,
-            "max_angle": max_angle,
-        }
-        flags = {
-            "inverted": lower < negative,
-            "reversed": np.all(corners < negative, axis=0),
-            "degenerate": degenerate(lengths, volume),
-        }
-    return finish(metrics), flags
+        shape = corner_shape(xc, _TRIPLES, _IDEAL)[:2]
+        return assemble(xc, WEDGE, gauss, corners, exact_minimum(coeff), shape)

@@ -252,6 +252,65 @@ def quad_face_warp(xc: np.ndarray, faces: tuple[tuple[int, ...], ...]) -> np.nda
     return worst * DEGREES
 
 
+def checked(coords: np.ndarray, cell_type: str, reference: SolidReference) -> np.ndarray:
+    """``coords`` as float64 (n, k, 3) for ``reference``'s cell type, or ValueError."""
+    if cell_type != reference.cell_type:
+        raise ValueError(
+            f"the {reference.cell_type} kernel measures {reference.cell_type!r} cells, "
+            f"not {cell_type!r}"
+        )
+    x = np.asarray(coords, dtype=np.float64)
+    shape = (len(reference.nodes), 3)
+    if x.ndim != 3 or x.shape[1:] != shape:
+        raise ValueError(
+            f"{reference.cell_type} coordinates must be (n, {shape[0]}, 3), not {x.shape}"
+        )
+    return x
+
+
+def assemble(
+    xc: np.ndarray,
+    reference: SolidReference,
+    gauss: np.ndarray,
+    corners: np.ndarray,
+    lower: np.ndarray,
+    shape: tuple[np.ndarray, np.ndarray],
+) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
+    """The metrics and flags of a solid family from its own pieces: det J at the Gauss
+    points ``gauss`` (m, n) and at the corners ``corners`` (c, n), the exact minimum
+    ``lower`` (n,) of det J over the element and (scaled Jacobian, condition); the rest
+    (volume, edges, warp of the quadrilateral faces, face angles, flags) from the nodes
+    ``xc`` (3, k, n) and the reference table. Call under ``np.errstate(all="ignore")``.
+    """
+    volume = reference.gauss_weights @ gauss
+    det_min, det_max = gauss.min(axis=0), gauss.max(axis=0)
+    lengths = edge_lengths(xc, reference.edges)
+    negative = round_off(lengths.max(axis=0))
+    min_angle, max_angle = face_angles(xc, reference.faces)
+    quads = tuple(face for face in reference.faces if len(face) == 4)
+    metrics = {
+        "volume": volume,
+        "area": np.full(len(volume), np.nan),
+        "det_j_min": det_min,
+        "det_j_max": det_max,
+        "det_j_corner_min": corners.min(axis=0),
+        "det_j_lower_bound": np.where((lower < 0.0) & (lower >= negative), 0.0, lower),
+        "jacobian_ratio": np.where(det_min > 0.0, det_max / det_min, np.inf),
+        "scaled_jacobian": shape[0],
+        "condition": shape[1],
+        "edge_ratio": edge_ratio(lengths),
+        "warp": quad_face_warp(xc, quads),
+        "min_angle": min_angle,
+        "max_angle": max_angle,
+    }
+    flags = {
+        "inverted": lower < negative,
+        "reversed": np.all(corners < negative, axis=0),
+        "degenerate": degenerate(lengths, volume),
+    }
+    return finish(metrics), flags
+
+
 def round_off(longest: np.ndarray) -> np.ndarray:
     """The det J below which a value is negative: -NEGATIVE x (longest edge)^3."""
     return -NEGATIVE * longest**3
