@@ -94,3 +94,29 @@ def assert_quiet_on_degenerate(measure: Callable, ideal: np.ndarray) -> None:
         if name != "area":
             assert not np.any(np.isnan(value)), name
     assert flags["degenerate"][:2].all()
+
+
+def assert_any_scale(measure: Callable, x: np.ndarray) -> None:
+    """Scale invariance over the whole float range: ``x`` scaled by 10^k (k = -300 ... 300)
+    and moved by 3 x 10^k keeps every ratio, angle and flag; lengths^3 scale by 10^(3k)
+    (0 or infinite where that leaves the float range)."""
+    base, base_flags = measure(x[None])
+    for k in range(-300, 301, 25):
+        s = 10.0**k
+        metrics, flags = measure((s * x + 3.0 * s)[None])
+        for name, value in base.items():
+            if name == "area":
+                continue
+            if name in LENGTH3:
+                with np.errstate(over="ignore", under="ignore"):
+                    expected = value[0] * np.float64(s) ** 3
+                if np.isinf(expected):
+                    assert metrics[name][0] == expected, (name, k)
+                elif abs(expected) > 1e-290:
+                    assert metrics[name][0] == pytest.approx(expected, rel=1e-9), (name, k)
+                else:  # below the normal range: 0 or a subnormal
+                    assert abs(metrics[name][0]) < 1e-290, (name, k)
+            else:
+                assert metrics[name][0] == pytest.approx(value[0], rel=1e-9, abs=1e-9), (name, k)
+        for name, flag in base_flags.items():
+            assert flags[name][0] == flag[0], (name, k)

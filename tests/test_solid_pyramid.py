@@ -24,6 +24,7 @@ from hypothesis import strategies as st
 from scipy.spatial import ConvexHull
 from solid_checks import (
     MOTIONS,
+    assert_any_scale,
     assert_invariant,
     assert_quiet_on_degenerate,
     divergence_volume,
@@ -348,3 +349,8 @@ def test_mirror_renumbering_reverses(seed):
 def test_unknown_cell_type_refused():
     with pytest.raises(ValueError):
         measure(IDEAL[None], "wedge")
+
+
+def test_any_scale():
+    # invariance under scaling over the whole float range (powers of ten)
+    assert_any_scale(measure, distorted(4, 0.2))

@@ -26,6 +26,7 @@ from skfem import ElementWedge1, MeshWedge1
 from skfem.mapping import MappingIsoparametric
 from solid_checks import (
     MOTIONS,
+    assert_any_scale,
     assert_invariant,
     assert_quiet_on_degenerate,
     divergence_volume,
@@ -396,3 +397,8 @@ def test_mirror_renumbering_reverses(seed):
 def test_unknown_cell_type_refused():
     with pytest.raises(ValueError):
         measure(IDEAL[None], "pyramid")
+
+
+def test_any_scale():
+    # invariance under scaling over the whole float range (powers of ten)
+    assert_any_scale(measure, distorted(4, 0.2))

@@ -88,9 +88,9 @@ from meshaudit.metrics.solid.wedge_pyramid_common import (
     SolidReference,
     assemble,
     checked,
-    components,
     corner_shape,
     ideal_corners,
+    normalised,
 )
 
 CELL_TYPE = "pyramid"
@@ -184,9 +184,11 @@ def measure(
 ) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
     """Metrics and flags (dicts of (n,) arrays) of pyramids ``coords`` (n, 5, 3) in
     meshio's node order; see the module docstring for every definition."""
-    xc = components(checked(coords, cell_type, PYRAMID))
+    xc, exponent = normalised(checked(coords, cell_type, PYRAMID))
     with np.errstate(all="ignore"):
         scaled, condition, dets = corner_shape(xc, _TRIPLES, _IDEAL)
         corners = dets[:4] / 4.0  # D_i, det J at the base corners
         gauss = _GAUSS_TABLE @ corners  # (8, n)
-        return assemble(xc, PYRAMID, gauss, corners, corners.min(axis=0), (scaled, condition))
+        return assemble(
+            xc, PYRAMID, gauss, corners, corners.min(axis=0), (scaled, condition), exponent
+        )

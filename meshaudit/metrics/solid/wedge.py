@@ -95,6 +95,7 @@ from meshaudit.metrics.solid.wedge_pyramid_common import (
     cross,
     dot,
     ideal_corners,
+    normalised,
 )
 
 CELL_TYPE = "wedge"
@@ -219,10 +220,10 @@ def measure(
 ) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
     """Metrics and flags (dicts of (n,) arrays) of wedges ``coords`` (n, 6, 3) in meshio's
     node order; see the module docstring for every definition."""
-    xc = components(checked(coords, cell_type, WEDGE))
+    xc, exponent = normalised(checked(coords, cell_type, WEDGE))
     with np.errstate(all="ignore"):
         coeff = _coefficients(xc)
         gauss = _GAUSS_TABLE.T @ coeff.reshape(9, xc.shape[2])  # (6, n)
         corners = np.concatenate([coeff[:, 0], coeff[:, 2]])  # (6, n), node order
         shape = corner_shape(xc, _TRIPLES, _IDEAL)[:2]
-        return assemble(xc, WEDGE, gauss, corners, exact_minimum(coeff), shape)
+        return assemble(xc, WEDGE, gauss, corners, exact_minimum(coeff), shape, exponent)

@@ -18,6 +18,9 @@ DEGREES = 180.0 / np.pi
 #: edge)^3: round-off of an exactly flat corner or face is not read as a fold.
 NEGATIVE = 1e-12
 
+#: The metrics in length^3.
+LENGTH3 = ("volume", "det_j_min", "det_j_max", "det_j_corner_min", "det_j_lower_bound")
+
 #: Degenerate: shortest edge, or |volume| / (longest edge)^2 (a thickness), below this
 #: fraction of the longest edge.
 DEGENERATE = 1e-9
@@ -56,6 +59,17 @@ def components(coords: np.ndarray) -> np.ndarray:
     helpers below take vectors as arrays whose first axis holds x, y, z, so that every
     operation runs over contiguous runs of elements."""
     return np.ascontiguousarray(np.asarray(coords, dtype=np.float64).transpose(2, 1, 0))
+
+
+def normalised(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Elements ``x`` (n, k, 3) moved to their node 0 and scaled by a power of two to an
+    extent in [0.5, 1), component first (3, k, n), with the exponents e (n,): node j is
+    (x_j - x_0) 2^-e. Exact scaling, so every product of lengths stays far from overflow
+    and underflow whatever the model's units; lengths^3 are scaled back by 2^(3 e)."""
+    rel = x - x[:, :1]
+    extent = np.abs(rel).max(axis=(1, 2))
+    exponent = np.frexp(extent)[1]  # 0 for a zero extent
+    return components(np.ldexp(rel, -exponent[:, None, None])), exponent
 
 
 def dot(a: np.ndarray, b: np.ndarray) -> np.ndarray:
@@ -160,7 +174,7 @@ def corner_shape(
                 + dot(v := cross(cols[2], cols[0]), v)
             )
             det_t = det / ideal.det[m]
-            kappa = np.where(det_t > 0.0, np.sqrt(frob2 * adj2) / (3.0 * det_t), np.inf)
+            kappa = np.where(det_t > 0.0, np.sqrt(frob2) * np.sqrt(adj2) / (3.0 * det_t), np.inf)
             np.maximum(condition, np.where(np.isnan(kappa), np.inf, kappa), out=condition)
     return np.clip(scaled, -1.0, 1.0), condition, dets
 
@@ -275,12 +289,16 @@ def assemble(
     corners: np.ndarray,
     lower: np.ndarray,
     shape: tuple[np.ndarray, np.ndarray],
+    exponent: np.ndarray,
 ) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
     """The metrics and flags of a solid family from its own pieces: det J at the Gauss
     points ``gauss`` (m, n) and at the corners ``corners`` (c, n), the exact minimum
     ``lower`` (n,) of det J over the element and (scaled Jacobian, condition); the rest
     (volume, edges, warp of the quadrilateral faces, face angles, flags) from the nodes
-    ``xc`` (3, k, n) and the reference table. Call under ``np.errstate(all="ignore")``.
+    ``xc`` (3, k, n) and the reference table. ``xc`` are the elements as
+    :func:`normalised` gives them, with its ``exponent``: lengths^3 are scaled back by
+    2^(3 exponent) (infinite beyond the float range). Call under
+    ``np.errstate(all="ignore")``.
     """
     volume = reference.gauss_weights @ gauss
     det_min, det_max = gauss.min(axis=0), gauss.max(axis=0)
@@ -308,6 +326,8 @@ def assemble(
         "reversed": np.all(corners < negative, axis=0),
         "degenerate": degenerate(lengths, volume),
     }
+    for name in LENGTH3:
+        metrics[name] = np.ldexp(metrics[name], 3 * exponent)
     return finish(metrics), flags
 
 
