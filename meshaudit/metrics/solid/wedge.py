@@ -16,9 +16,10 @@ over a triangle of area A and height h has det J = A h everywhere (volume A h).
 
 **det J is a polynomial** of degree 1 in (r, s) and 2 in t, of total degree 2: x_r and x_s
 do not depend on (r, s) and are linear in t; x_t = sum_i L_i (x_(i+3) - x_i) / 2 is linear
-in (r, s) and does not depend on t. The r t^2 and s t^2 terms cancel: the slope of x_t in r
-is (x_r(1) - x_r(-1)) / 2, the t-slope of x_r, whose cross product with the t-slope of x_s
-it is dotted with (likewise for s). So det J = sum_i L_i(r, s) f_i(t), where f_i is det J along
+in (r, s) and does not depend on t. The r t^2 and s t^2 terms cancel: with b and d the
+t-slopes of x_r and x_s, the t^2 coefficient of x_r x x_s is b x d, and the r- and s-slopes
+of x_t are b and d themselves, so (b x d) . b = (b x d) . d = 0 (sympy confirms it in the
+tests). So det J = sum_i L_i(r, s) f_i(t), where f_i is det J along
 the edge from node i to node i + 3, a quadratic in t. In the Bernstein basis of
 triangle (degree 1) x segment (degree 2), L_i B_j((1 + t) / 2) with
 B_0 = (1 - u)^2, B_1 = 2 u (1 - u), B_2 = u^2, the coefficients are
