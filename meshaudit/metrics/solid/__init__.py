@@ -1,0 +1,1 @@
+"""Measuring kernels and reference data of volume elements, one module per family."""
