@@ -30,7 +30,7 @@ from .hex_reference import REFERENCE, ReferenceCell
 FLOOR_TOLERANCE = 1e-10
 
 #: Elements measured together: bounds the temporaries (a few MB) whatever the chunk.
-BLOCK = {1: 8192, 2: 1024}
+BLOCK = {1: 1024, 2: 256}
 
 
 def _lagrange_1d(nodes: np.ndarray, t: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -133,7 +133,7 @@ def determinants(tmap: TensorMap, coords: np.ndarray) -> np.ndarray:
     n, k, _ = coords.shape
     q = tmap.order + 1
     x = coords.transpose(1, 2, 0).reshape(k, 3 * n)
-    grid = (tmap.to_grid @ x).reshape(q, q, q, 3 * n)
+    grid = np.einsum("gk,km->gm", tmap.to_grid, x).reshape(q, q, q, 3 * n)
     v, s = tmap.values, tmap.slopes
     along_z = hb.along(v, grid, 0)
     p = len(v)
