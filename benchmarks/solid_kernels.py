@@ -86,9 +86,8 @@ def main() -> None:
             start = time.process_time()
             measure_all(args.family, cell_type, coords)
             best = min(best, time.process_time() - start)
-        print(
-            f"{cell_type:14s} {len(coords):>9,d} elements  {best:7.2f} s CPU (best of {args.repeat})"
-        )
+        count = f"{len(coords):>9,d}"
+        print(f"{cell_type:14s} {count} elements  {best:7.2f} s CPU (best of {args.repeat})")
 
 
 if __name__ == "__main__":
