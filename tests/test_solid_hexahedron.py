@@ -476,13 +476,15 @@ def test_planted_hex_negative_inside_only():
 
 
 @pytest.mark.parametrize(
-    ("cell_type", "amount"), [("hexahedron", 0.3), ("hexahedron20", 0.15), ("hexahedron27", 0.15)]
+    ("cell_type", "amount"),
+    [("hexahedron", 0.4), ("hexahedron20", 0.15), ("hexahedron27", 0.15)],
 )
 def test_lower_bound_below_every_value(cell_type, amount):
-    """Source: det J sampled on a 21^3 grid of the reference cube (shape derivatives checked
-    against sympy above): the certified bound never exceeds a sampled value, an element
-    with a negative sample is flagged inverted, and one whose bound is at least 1e-3 below
-    its samples' minimum... (bounds are near: within the grid's own spread)."""
+    """Source: det J sampled on a 21^3 grid of the reference cube (the shape derivatives
+    are checked against sympy above): the certified bound never exceeds a sampled value;
+    every element with a negative sample is flagged inverted, those negative only
+    between the nodes and Gauss points too; and the refinement decides the others: no
+    element whose samples all exceed 1e-3 is flagged."""
     coords = perturbed(cell_type, 300, amount, 21)
     ref = REFERENCE[cell_type]
     t = np.linspace(-1, 1, 21)
@@ -493,6 +495,10 @@ def test_lower_bound_below_every_value(cell_type, amount):
     assert (m["det_j_lower_bound"] <= sampled + 1e-12).all()
     assert f["inverted"][sampled < 0].all()
     assert 0 < (sampled < 0).sum() < len(coords)  # the sample holds both kinds
+    assert not (f["inverted"] & (sampled > 1e-3)).any()
+    if cell_type == "hexahedron27":
+        inside = (sampled < 0) & (m["det_j_min"] > 0) & (m["det_j_corner_min"] > 0)
+        assert inside.sum() >= 5
 
 
 def test_refinement_is_bounded_on_a_zero_plane():
@@ -673,3 +679,59 @@ def test_contract(cell_type):
         assert empty_f[name].shape == (0,)
     with pytest.raises(ValueError):
         measure(coords[:, :4], cell_type)
+
+
+# -- quadratic hexahedra ---------------------------------------------------------------
+@pytest.mark.parametrize("cell_type", ["hexahedron20", "hexahedron27"])
+def test_straight_sided_quadratic_is_its_trilinear_twin(cell_type):
+    """Closed form: with every node where the trilinear map puts it, the quadratic map is
+    the trilinear one: the same volume and det J (at the 3 x 3 x 3 Gauss points, by the
+    trilinear shape functions), the same corner shape metrics, midside offsets 0."""
+    corners = perturbed("hexahedron", 20, 0.2, 9)
+    weights = REFERENCE["hexahedron"].shape_functions(NODES[cell_type])
+    coords = np.einsum("qk,nkd->nqd", weights, corners)
+    mq, fq = measure(coords, cell_type)
+    ml, fl = measure(corners, "hexahedron")
+    gauss = REFERENCE[cell_type].gauss_points
+    d = REFERENCE["hexahedron"].shape_derivatives(gauss)
+    det = np.linalg.det(np.einsum("qak,nkb->nqab", d, corners))
+    np.testing.assert_allclose(mq["det_j_min"], det.min(axis=1), rtol=1e-11, atol=1e-14)
+    np.testing.assert_allclose(mq["volume"], ml["volume"], rtol=1e-12)
+    for name in SHAPE_METRICS[:-3]:
+        np.testing.assert_allclose(mq[name], ml[name], rtol=1e-12, atol=1e-12, err_msg=name)
+    np.testing.assert_allclose(mq["midside_offset_along"], 0.0, atol=1e-12)
+    np.testing.assert_allclose(mq["midside_offset_across"], 0.0, atol=1e-12)
+    for name in FLAGS:
+        np.testing.assert_array_equal(fq[name], fl[name])
+
+
+@pytest.mark.parametrize("cell_type", ["hexahedron20", "hexahedron27"])
+def test_midside_offsets(cell_type):
+    """Closed form: the unit-cube element with the midside node of edge 0-1 moved by d
+    along the edge and h across it reads offset along d, across h (fractions of the unit
+    chord)."""
+    coords = straight(CUBE, cell_type)
+    coords[8] += [0.1, 0.0, 0.0]  # towards corner 1
+    m, _ = one(coords, cell_type)
+    assert m["midside_offset_along"] == pytest.approx(0.1)
+    assert m["midside_offset_across"] == pytest.approx(0.0, abs=1e-15)
+    coords[8] += [0.0, 0.03, 0.04]
+    m, _ = one(coords, cell_type)
+    assert m["midside_offset_across"] == pytest.approx(0.05)
+
+
+@pytest.mark.parametrize("cell_type", ["hexahedron20", "hexahedron27"])
+@pytest.mark.parametrize("position", [0.5, 0.3, 0.25, 0.2, 0.1])
+def test_quarter_point_rule(cell_type, position):
+    """Closed form (the quarter-point rule: Henshell and Shaw 1975, Barsoum 1976, from
+    memory): on the unit cube, the midside node of edge 0-1 at distance p from corner 0
+    gives x_xi = 2p - 1/2 there, so det J at corner 0 is (2p - 1/2) / 4: zero at the
+    quarter point, negative (inverted) nearer the corner."""
+    coords = straight(CUBE, cell_type)
+    coords[8, 0] = position
+    m, f = one(coords, cell_type)
+    corner = (2 * position - 0.5) / 4
+    assert m["det_j_corner_min"] == pytest.approx(min(corner, 0.125), abs=1e-15)
+    assert m["det_j_lower_bound"] <= corner + 1e-15
+    assert ("inverted" in f) == (corner < 0)
+    assert "reversed" not in f
