@@ -51,14 +51,30 @@ def samples(n_elements: int) -> dict[str, np.ndarray]:
     }
 
 
-def measure_all(coords: np.ndarray, family: str, cell_type: str | None, kind: str):
-    """Metrics and flags of every element, measured chunk by chunk."""
+def _engine():
+    """(measure(family, coords, frame, cell_type), Frame) of the meshaudit imported: this
+    checkout's, or an older one's (``--against``), whose functions took the family."""
+    import inspect
+
     from meshaudit.api import measure_elements
     from meshaudit.frames import Frame
 
+    if next(iter(inspect.signature(measure_elements).parameters)) == "family":
+        return measure_elements, Frame  # a checkout from before the table of cell types
+    from meshaudit.cells import CELL_TYPES
+
+    def measure(family, coords, frame, cell_type):
+        return measure_elements(CELL_TYPES[cell_type or family], coords, frame)
+
+    return measure, Frame
+
+
+def measure_all(coords: np.ndarray, family: str, cell_type: str | None, kind: str):
+    """Metrics and flags of every element, measured chunk by chunk."""
+    measure, Frame = _engine()
     frame = Frame("shell") if kind == "shell" else Frame("planar", np.eye(3)[2], np.eye(3)[:2])
     parts = [
-        measure_elements(family, coords[s : s + CHUNK], frame, cell_type)
+        measure(family, coords[s : s + CHUNK], frame, cell_type)
         for s in range(0, len(coords), CHUNK)
     ]
     out = {}

@@ -10,13 +10,14 @@ from typing import Any
 
 import numpy as np
 
+from .cells.registry import CELL_TYPES, CellType
 from .elements import ElementBlock, ElementMesh
 from .errors import InputError
 from .finding_kinds import MESH_CHECK_KINDS
 from .findings import TopologyPart, find_topology, finish, unaudited_cells
 from .frames import Frame, anchor, centroids, choose_frame, to_local
 from .mesh_checks.overlap import BoxGrid, PlanarShapes
-from .metrics import KERNELS, METRIC_NAMES, METRICS, QUADRATIC_CELLS, quadratic
+from .metrics import METRIC_NAMES, METRICS, quadratic
 from .orientation import Orientation, nearly_flat_shell_note
 from .orientation import judge as judge_orientation
 from .profiles import Profile, load_profile
@@ -43,10 +44,6 @@ ProgressCallback = Callable[[str, int, int], None]
 #: few threads the interpreter lock held between numpy calls would limit the gain).
 MAX_WORKERS = 4
 
-#: Corner nodes per metric family; geometric metrics use the corners only.
-CORNER_COUNT = {"quad": 4, "triangle": 3}
-
-
 #: Metrics in length^2 (area and det J): the others are dimensionless.
 AREA_METRICS: tuple[str, ...] = tuple(m.name for m in METRICS if m.unit == "length^2")
 
@@ -57,16 +54,19 @@ _AREA_RANGE = (2.0**-200, 2.0**200)
 
 
 def measure_elements(
-    family: str,
+    cell: CellType | str,
     coords3: np.ndarray,
     frame: Frame,
-    cell_type: str | None = None,
     exponent: int = 0,
 ) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
-    """Metrics and flags of elements of one family (and cell type), nodes ``coords3``.
+    """Metrics and flags of elements of one cell type (see :mod:`meshaudit.cells`),
+    nodes ``coords3`` (n, k, 3).
 
-    The family kernel measures the shape on the corner nodes; a quadratic cell type then
-    gets its own Jacobian part and midside checks on all its nodes.
+    A surface cell (dimension 2) is laid in its measuring plane (``frame``) and its family
+    kernel measures the shape on the corner nodes; a quadratic cell type then gets its own
+    Jacobian part and midside checks on all its nodes. A solid (dimension 3) is measured
+    by its kernel on every node in space, with no measuring plane. Metrics the kernel does
+    not measure are NaN.
 
     ``coords3`` may be the nodes scaled by 2^-``exponent`` (see
     :func:`meshaudit.frames.normalised`): area and det J are given back in the nodes'
@@ -76,7 +76,9 @@ def measure_elements(
     within 2^+-:data:`meshaudit.scale.SAFE_EXPONENT` (:func:`audit_elements` sees to it),
     so that any finite scale gives the same verdicts.
     """
-    metrics, flags = _measure_elements(family, coords3, frame, cell_type)
+    if isinstance(cell, str):
+        cell = CELL_TYPES[cell]
+    metrics, flags = _measure_elements(cell, coords3, frame)
     area = metrics["area"]  # never negative
     odd = np.flatnonzero(~((area > _AREA_RANGE[0]) & (area < _AREA_RANGE[1])))
     if odd.size:  # rare: collapsed elements, or elements of extreme size
@@ -85,7 +87,7 @@ def measure_elements(
         if rows.size:
             with np.errstate(under="ignore"):
                 scaled = np.ldexp(coords3[rows], -own[:, None, None])
-            part = _measure_elements(family, scaled, frame, cell_type)
+            part = _measure_elements(cell, scaled, frame)
             _rescale(part[0], own)
             _merge(metrics, flags, rows, part)
     if exponent:
@@ -94,20 +96,29 @@ def measure_elements(
 
 
 def _measure_elements(
-    family: str, coords3: np.ndarray, frame: Frame, cell_type: str | None
+    cell: CellType, coords3: np.ndarray, frame: Frame
 ) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
-    n_corners = CORNER_COUNT[family]
+    if cell.dimension == 3:  # a solid: measured in space, no plane to lay it in
+        metrics, flags = cell.kernel(coords3)
+        return _with_every_metric(metrics, len(coords3)), flags
+    n_corners = cell.n_corners
     corners = coords3[:, :n_corners]
-    if cell_type in QUADRATIC_CELLS:
+    if cell.is_quadratic:
         local = to_local(coords3, frame, n_corners)
-        metrics, flags = KERNELS[family](corners, local[:, :n_corners])
-        return quadratic.measure(cell_type, coords3, local, metrics, flags)
-    metrics, flags = KERNELS[family](corners, to_local(corners, frame))
-    # det J of a linear element is bilinear or constant: its minimum is at a corner
+        metrics, flags = cell.kernel(corners, local[:, :n_corners])
+        return quadratic.measure(cell.name, coords3, local, metrics, flags)
+    metrics, flags = cell.kernel(corners, to_local(corners, frame))
+    # det J of a linear surface element is bilinear or constant: its minimum is at a corner
     metrics["det_j_lower_bound"] = metrics["det_j_corner_min"]
-    for name in quadratic.MIDSIDE_METRICS:
-        metrics[name] = np.full(len(corners), np.nan)
-    return metrics, flags
+    return _with_every_metric(metrics, len(corners)), flags
+
+
+def _with_every_metric(metrics: dict[str, np.ndarray], n: int) -> dict[str, np.ndarray]:
+    """``metrics`` with NaN for each metric of :data:`METRIC_NAMES` it lacks (in place)."""
+    for name in METRIC_NAMES:
+        if name not in metrics and name != "score":
+            metrics[name] = np.full(n, np.nan)
+    return metrics
 
 
 def _rescale(metrics: dict[str, np.ndarray], exponent: int | np.ndarray) -> None:
@@ -136,16 +147,15 @@ def _merge(
 
 
 def measure_chunk(
-    family: str,
+    cell: CellType | str,
     coords3: np.ndarray,
     frame: Frame,
     profile: Profile,
-    cell_type: str | None = None,
     codes: np.ndarray | None = None,
     region_profiles: Sequence[Profile] = (),
     exponent: int = 0,
 ) -> tuple[dict[str, np.ndarray], np.ndarray, dict[str, np.ndarray], np.ndarray]:
-    """Metrics, flag bits, breach levels and verdicts of one chunk of one family.
+    """Metrics, flag bits, breach levels and verdicts of one chunk of one cell type.
 
     ``coords3`` may be the nodes scaled by 2^-``exponent`` (see
     :func:`measure_elements`); the metrics are judged in the nodes' own units.
@@ -155,11 +165,13 @@ def measure_chunk(
     :mod:`meshaudit.score`) is worked out here, with the verdict it belongs with.
     Pure: depends only on its arguments, so chunks can be measured in any order or place.
     """
-    metrics, flags = measure_elements(family, coords3, frame, cell_type, exponent)
+    if isinstance(cell, str):
+        cell = CELL_TYPES[cell]
+    metrics, flags = measure_elements(cell, coords3, frame, exponent)
     if codes is None:
         codes = np.zeros(len(coords3), dtype=np.int16)
     levels, verdict, score = judge_by_region(
-        family, metrics, flags, (profile, *region_profiles), codes
+        cell.family, metrics, flags, (profile, *region_profiles), codes
     )
     metrics["score"] = score
     bits = np.zeros(len(verdict), dtype=np.uint32)
@@ -233,7 +245,7 @@ def audit_elements(
         ids[block.index] = block.ids
         type_codes[block.index] = cell_types.index(block.cell_type)
         family_codes[block.index] = families.index(block.family)
-    sink = _ChunkSink(n, has_quadratic=any(t in QUADRATIC_CELLS for t in cell_types))
+    sink = _ChunkSink(n, has_quadratic=any(CELL_TYPES[t].is_quadratic for t in cell_types))
     checks = any(prof.findings.enabled(kind) for kind in MESH_CHECK_KINDS)
     planar = frame.kind == "planar" and frame.axes is not None
     shapes = None
@@ -244,11 +256,10 @@ def audit_elements(
         rows = _rows(block.index[sl])
         coords3 = mesh.points[block.connectivity[sl]]
         result = measure_chunk(
-            block.family,
+            block.cell,
             coords3,
             frame,
             prof,
-            block.cell_type,
             codes[rows],
             region_profiles,
             exponent,
@@ -256,7 +267,7 @@ def audit_elements(
         centre = centroids(coords3)
         sink.store(rows, result, scaled_lengths(centre, exponent, 1) if exponent else centre)
         if shapes is not None:
-            shapes.fill(rows, coords3[:, : CORNER_COUNT[block.family]])
+            shapes.fill(rows, coords3[:, : block.cell.n_corners])
         return sl.stop - sl.start
 
     def topology() -> tuple[EdgeTable | None, TopologyPart | None]:

@@ -11,19 +11,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from .cells.registry import CELL_TYPES, CellType
 from .labels import IN_MEMORY, Numbering
-
-#: meshio cell type -> (metric family, number of nodes). The family selects the
-#: metric kernel and the profile limits; quadratic cell types add their own Jacobian
-#: part (see :mod:`meshaudit.metrics.quadratic`). Node order as in meshio.
-SUPPORTED_CELLS: dict[str, tuple[str, int]] = {
-    "quad": ("quad", 4),
-    "triangle": ("triangle", 3),
-    "quad8": ("quad", 8),
-    "quad9": ("quad", 9),
-    "triangle6": ("triangle", 6),
-}
-
 
 #: meshio cell-type name prefixes by topological dimension (0 points, 1 lines, 2 surfaces,
 #: 3 solids). Quadratic and higher-order variants share their linear type's prefix.
@@ -57,8 +46,13 @@ class ElementBlock:
     index: np.ndarray  # (n,) int64: 0-based position among audited elements
 
     @property
+    def cell(self) -> CellType:
+        """What meshaudit knows about the block's cell type (see :mod:`meshaudit.cells`)."""
+        return CELL_TYPES[self.cell_type]
+
+    @property
     def family(self) -> str:
-        return SUPPORTED_CELLS[self.cell_type][0]
+        return CELL_TYPES[self.cell_type].family
 
     def __len__(self) -> int:
         return int(self.connectivity.shape[0])

@@ -14,30 +14,15 @@ from typing import Any
 
 import numpy as np
 
+from .cells.registry import CELL_TYPES
 from .errors import InputError
 from .frames import choose_frame, to_local
-from .inspection import CORNERS, AuditedMesh, corner_table, element_nodes, neighbours
+from .inspection import AuditedMesh, corner_table, element_nodes, neighbours
 from .metrics import METRIC_INFO, METRIC_NAMES, quadratic
-from .metrics import quad as quad_metrics
-from .metrics import triangle as triangle_metrics
-from .reference import (
-    QUAD8_NODES,
-    QUAD9_NODES,
-    QUAD_CORNERS,
-    QUAD_GAUSS_2X2,
-    QUAD_GAUSS_3X3,
-    TRIANGLE6_NODES,
-    TRIANGLE_GAUSS_3,
-)
 from .report import finite_or_none, json_float
 from .scale import element_exponents, scaled_lengths
 from .score import BAND
 from .verdicts import INVALID_FLAGS, VERDICT_NAMES
-
-#: One-point rule at the centroid of the reference triangle: what a solver uses for a
-#: linear (constant-strain) triangle; det J is constant there anyway (common practice).
-TRIANGLE_GAUSS_1 = np.array([[1.0 / 3.0, 1.0 / 3.0]])
-TRIANGLE_CORNERS = np.array([[0.0, 0.0], [1.0, 0.0], [0.0, 1.0]])
 
 FLAG_REASONS = {
     "inverted": "det J is negative at {negative}: the map from the reference element "
@@ -172,46 +157,27 @@ def scaled_local_nodes(audited: AuditedMesh, i: int) -> tuple[np.ndarray, int, s
     """:func:`local_nodes` scaled by 2^-k, and k: an element of extreme size is measured
     at a scale where products of lengths cannot overflow or underflow (k = 0 for any
     ordinary one; see :mod:`meshaudit.scale`)."""
-    family = audited.report.cell_families[int(audited.report.families[i])]
+    cell = CELL_TYPES[audited.report.cell_types[int(audited.report.type_codes[i])]]
     coords3 = audited.elements.points[element_nodes(audited.elements, i)]
     exponent = int(element_exponents(coords3[None])[0])
     if exponent:
         with np.errstate(under="ignore"):
             coords3 = np.ldexp(coords3, -exponent)
     frame = choose_frame(audited.elements)
-    local = to_local(coords3[None], frame, CORNERS[family])[0]
+    local = to_local(coords3[None], frame, cell.n_corners)[0]
     where = "mesh plane" if frame.kind == "planar" else "element's best-fit plane"
     return local, exponent, where
 
 
-#: Reference Gauss points and node positions of the quadratic cell types.
-QUADRATIC_POINTS = {
-    "quad8": (QUAD_GAUSS_3X3, QUAD8_NODES),
-    "quad9": (QUAD_GAUSS_3X3, QUAD9_NODES),
-    "triangle6": (TRIANGLE_GAUSS_3, TRIANGLE6_NODES),
-}
-
-
-def jacobians(cell_type: str, family: str, local: np.ndarray) -> tuple[np.ndarray, ...]:
+def jacobians(cell_type: str, local: np.ndarray) -> tuple[np.ndarray, ...]:
     """(Gauss points, det J there, node reference points, det J at the nodes).
 
     Linear elements: the corners; quadratic ones: every node (midsides too), with the
     solver's Gauss rule of that cell type, exactly as the audit measures them.
     """
-    if cell_type in quadratic.ELEMENTS:
-        element = quadratic.ELEMENTS[cell_type]
-        gauss = quadratic.jacobian_determinants(element.gauss_derivatives, local[None])[0]
-        nodal = quadratic.jacobian_determinants(element.node_derivatives, local[None])[0]
-        gauss_pts, node_pts = QUADRATIC_POINTS[cell_type]
-        return gauss_pts, gauss, node_pts, nodal
-    corners = local[: CORNERS[family]]
-    if family == "quad":
-        p = corners[None]
-        gauss = quad_metrics.gauss_jacobians(p)[0]
-        nodal = quad_metrics.corner_jacobians(p)[0]
-        return QUAD_GAUSS_2X2, gauss, QUAD_CORNERS, nodal
-    det = float(triangle_metrics.jacobian_determinant(corners[None])[0])
-    return TRIANGLE_GAUSS_1, np.array([det]), TRIANGLE_CORNERS, np.full(3, det)
+    cell = CELL_TYPES[cell_type]
+    gauss, nodal = cell.jacobians(local[None])
+    return cell.gauss_points, gauss[0], cell.reference_nodes, nodal[0]
 
 
 def det_j_bound(
@@ -318,7 +284,7 @@ def explain(audited: AuditedMesh, element_id: int) -> Explanation:
     family = report.cell_families[int(report.families[i])]
     cell_type = report.cell_types[int(report.type_codes[i])]
     local, exponent, where = scaled_local_nodes(audited, i)
-    gauss_pts, det_gauss, ref_corners, det_corners = jacobians(cell_type, family, local)
+    gauss_pts, det_gauss, ref_corners, det_corners = jacobians(cell_type, local)
     bound = det_j_bound(cell_type, local, ref_corners, det_corners)
     if exponent:  # det J back in the mesh's units (length^2)
         det_gauss, det_corners = (scaled_lengths(d, exponent, 2) for d in (det_gauss, det_corners))

@@ -16,6 +16,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from .api import ProgressCallback, audit_elements
+from .cells.registry import CellType
 from .elements import ElementMesh
 from .profiles import Profile
 from .reading import load_with_mesh
@@ -23,9 +24,6 @@ from .report import Report
 
 if TYPE_CHECKING:
     import meshio
-
-#: Corner nodes per element family (quadratic elements list their corners first).
-CORNERS = {"quad": 4, "triangle": 3}
 
 
 @dataclass
@@ -61,7 +59,7 @@ def corner_table(elements: ElementMesh) -> np.ndarray:
     """
     table = np.empty((elements.n_elements, 4), dtype=np.int64)
     for block in elements.blocks:
-        k = CORNERS[block.family]
+        k = block.cell.n_corners
         corners = block.connectivity[:, :k]
         table[block.index, :k] = corners
         if k < 4:
@@ -73,7 +71,7 @@ def corner_count(elements: ElementMesh) -> np.ndarray:
     """Number of distinct corners (3 or 4) of every element in report order."""
     counts = np.empty(elements.n_elements, dtype=np.int8)
     for block in elements.blocks:
-        counts[block.index] = CORNERS[block.family]
+        counts[block.index] = block.cell.n_corners
     return counts
 
 
@@ -98,14 +96,11 @@ def neighbours(table: np.ndarray, i: int) -> np.ndarray:
 EDGE_SAMPLES = 6
 
 
-def _boundary_reference(family: str, per_edge: int) -> np.ndarray:
+def _boundary_reference(cell: CellType, per_edge: int) -> np.ndarray:
     """Reference points around the element, ``per_edge`` per edge, 4 * per_edge in all
     (the triangle repeats its last point to pad to the quad's count)."""
     t = np.linspace(0.0, 1.0, per_edge, endpoint=False)[:, None]
-    if family == "quad":
-        c = np.array([[-1.0, -1.0], [1.0, -1.0], [1.0, 1.0], [-1.0, 1.0]])
-    else:
-        c = np.array([[0.0, 0.0], [1.0, 0.0], [0.0, 1.0]])
+    c = cell.corners
     ring = np.vstack([a + t * (b - a) for a, b in zip(c, np.roll(c, -1, axis=0))])
     pad = 4 * per_edge - len(ring)
     return np.vstack([ring, np.repeat(ring[-1:], pad, axis=0)]) if pad else ring
@@ -113,18 +108,16 @@ def _boundary_reference(family: str, per_edge: int) -> np.ndarray:
 
 def has_curved_cells(elements: ElementMesh) -> bool:
     """Whether any block is quadratic (its edges may be curved)."""
-    return any(b.connectivity.shape[1] > CORNERS[b.family] for b in elements.blocks)
+    return any(b.cell.is_quadratic for b in elements.blocks)
 
 
 def outline_points(elements: ElementMesh, xy: np.ndarray) -> np.ndarray:
     """Outline of every element in report order, (n, 4 * EDGE_SAMPLES, 2): each edge
     sampled through the element's own map, so quadratic elements show their curved
     edges. ``xy`` (n_points, 2) are the node positions on the page."""
-    from .mapping import shape_functions
-
     out = np.empty((elements.n_elements, 4 * EDGE_SAMPLES, 2))
     for block in elements.blocks:
-        ref = _boundary_reference(block.family, EDGE_SAMPLES)
-        weights = shape_functions(block.cell_type, ref)  # (m, k)
+        ref = _boundary_reference(block.cell, EDGE_SAMPLES)
+        weights = block.cell.shape_functions(ref)  # (m, k)
         out[block.index] = np.einsum("mk,nkd->nmd", weights, xy[block.connectivity])
     return out

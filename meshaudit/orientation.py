@@ -107,7 +107,7 @@ def clockwise_about_z(mesh: ElementMesh) -> int:
     of the area vector): what a 2-D solver reading x and y would see inverted."""
     count = 0
     for block, sl in mesh.chunks(_SLICE):
-        k = 3 if block.family == "triangle" else 4
+        k = block.cell.n_corners
         av = area_vectors(mesh.points[block.connectivity[sl, :k]])
         count += int(np.count_nonzero(av[:, 2] < 0.0))
     return count

@@ -30,6 +30,7 @@ from fractions import Fraction
 from pathlib import Path
 from typing import Any
 
+from .cells.registry import FAMILIES as CELL_FAMILIES
 from .errors import ProfileError
 from .finding_kinds import KIND_NAMES, SEVERITIES, FindingSettings
 from .metrics import METRIC_INFO
@@ -44,7 +45,8 @@ def toml_module() -> Any:
     return tomllib
 
 
-FAMILIES = ("quad", "triangle")
+#: The element families a profile sets limits for (see :mod:`meshaudit.cells`).
+FAMILIES = CELL_FAMILIES
 
 COMMON = "common practice, no single source"
 OWN = "meshaudit default, no published source"

@@ -16,7 +16,8 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from . import labels
-from .elements import SUPPORTED_CELLS, ElementBlock, ElementMesh
+from .cells.registry import CELL_TYPES
+from .elements import ElementBlock, ElementMesh
 from .errors import InputError
 from .file_ends import check_file_end
 from .labels import Numbering
@@ -153,11 +154,11 @@ def build_elements(
         first = first_cell
         first_cell += len(cells.data)
         data = np.asarray(cells.data)
-        if cell_type not in SUPPORTED_CELLS:
+        if cell_type not in CELL_TYPES:
             skipped[cell_type] = skipped.get(cell_type, 0) + len(data)
             other_nodes.append(_referenced_nodes(data, n_points))
             continue
-        k = SUPPORTED_CELLS[cell_type][1]
+        k = CELL_TYPES[cell_type].n_nodes
         if data.ndim != 2 or data.shape[1] != k:
             raise InputError(f"{source}: {cell_type} block {block_no} does not have {k} nodes")
         if len(data) == 0:
@@ -184,7 +185,7 @@ def build_elements(
 
     if not blocks:
         found = ", ".join(f"{v} {k}" for k, v in skipped.items()) or "no cells"
-        kinds = ", ".join(SUPPORTED_CELLS)
+        kinds = ", ".join(CELL_TYPES)
         raise InputError(f"{source}: no supported elements ({kinds}) to audit; found {found}")
     numbering = labels.note_repeats(numbering, [b.ids for b in blocks])
     element_mesh = ElementMesh(

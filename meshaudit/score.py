@@ -32,6 +32,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from .cells.registry import CELL_TYPES
 from .profiles import Limit
 
 #: Ideal value of each shape metric, per element family: the square and the equilateral
@@ -48,8 +49,7 @@ _COMMON_IDEAL = {
     "midside_offset_across": 0.0,
 }
 IDEAL: dict[str, dict[str, float]] = {
-    "quad": {**_COMMON_IDEAL, "min_angle": 90.0, "max_angle": 90.0},
-    "triangle": {**_COMMON_IDEAL, "min_angle": 60.0, "max_angle": 60.0},
+    cell.family: {**_COMMON_IDEAL, **cell.ideal} for cell in CELL_TYPES.values()
 }
 
 #: Width of each verdict's band of scores.

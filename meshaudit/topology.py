@@ -19,9 +19,6 @@ import numpy as np
 
 from .elements import ElementMesh
 
-#: Corner nodes per metric family: edges join consecutive corners.
-CORNERS_PER_FAMILY = {"quad": 4, "triangle": 3}
-
 
 @dataclass(frozen=True)
 class EdgeTable:
@@ -95,14 +92,14 @@ def _edge_uses(mesh: ElementMesh) -> tuple[np.ndarray, np.ndarray, np.ndarray, n
 
     Node and element numbers are int32 when :func:`index_dtype` allows (half the memory
     of int64 on large meshes), ``local`` is int8."""
-    sizes = [CORNERS_PER_FAMILY[b.family] * len(b) for b in mesh.blocks]
+    sizes = [b.cell.n_corners * len(b) for b in mesh.blocks]
     m = sum(sizes)
     node_type, element_type = index_dtype(mesh.n_points), index_dtype(mesh.n_elements)
     start, end = np.empty(m, dtype=node_type), np.empty(m, dtype=node_type)
     elem, loc = np.empty(m, dtype=element_type), np.empty(m, dtype=np.int8)
     at = 0
     for block, size in zip(mesh.blocks, sizes, strict=True):
-        k = CORNERS_PER_FAMILY[block.family]
+        k = block.cell.n_corners
         corners = block.connectivity[:, :k]
         part = slice(at, at + size)
         start[part].reshape(-1, k)[:] = corners
@@ -120,7 +117,7 @@ def corner_rows(mesh: ElementMesh, positions: np.ndarray) -> list[tuple[np.ndarr
     (ascending element positions) with k corners and their corner nodes (w, k)."""
     found: dict[int, list[tuple[np.ndarray, np.ndarray]]] = {}
     for block in mesh.blocks:
-        k = CORNERS_PER_FAMILY[block.family]
+        k = block.cell.n_corners
         rows = np.searchsorted(block.index, positions)
         inside = (rows < len(block)) & (block.index[np.minimum(rows, len(block) - 1)] == positions)
         if inside.any():

@@ -23,7 +23,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from ..elements import SUPPORTED_CELLS
+from ..cells.registry import CELL_TYPES
 from ..errors import OutputError
 from ..metrics import METRIC_NAMES
 from ..report import FLAG_NAMES, Report
@@ -52,7 +52,7 @@ def block_rows(raw: meshio.Mesh) -> list[np.ndarray | None]:
     position = 0
     for cells in raw.cells:
         n = len(cells.data)
-        if cells.type in SUPPORTED_CELLS and n:
+        if cells.type in CELL_TYPES and n:
             rows.append(np.arange(position, position + n))
             position += n
         else:
