@@ -2,7 +2,7 @@
 
 Exit status: 0 no element fails, 1 some element fails, 2 the input cannot be audited
 (one line on stderr, nothing written), 128 + N stopped by signal N (temporary files removed;
-see :mod:`meshaudit.process`).
+see :mod:`meshaudit.outputs.process`).
 """
 
 from __future__ import annotations
@@ -18,7 +18,7 @@ from .errors import MeshAuditError
 
 if TYPE_CHECKING:
     from .outputs.atomic import Renderer
-    from .report import Report
+    from .results.report import Report
 
 EXIT_PASS, EXIT_FAIL, EXIT_UNUSABLE = 0, 1, 2
 
@@ -147,7 +147,7 @@ def _check_many(args: argparse.Namespace, inputs: list[tuple[str, str | None]]) 
 
     check_report_options(args)
     args.run_meshes = [path for path, error in inputs if error is None]
-    from .process import say, terminal_output
+    from .outputs.process import say, terminal_output
     from .progress_bar import stage_bar, wanted
 
     with stage_bar(wanted(args.quiet)) as progress:
@@ -174,7 +174,7 @@ def _check_single(args: argparse.Namespace) -> int:
         args.progress = progress
         report = _audit_and_write(args)
     from .outputs import terminal
-    from .process import terminal_output
+    from .outputs.process import terminal_output
 
     with terminal_output():
         terminal.render(report, _console(), top=args.top, quiet=args.quiet)
@@ -209,7 +209,7 @@ def _audit_and_write(args: argparse.Namespace) -> Report:
         "progress": progress,
     }
     if inspection:  # plots and annotation need the mesh as well as the report
-        from .inspection import audit_mesh
+        from .api import audit_mesh
 
         audited = audit_mesh(mesh_path, **options)
         report = audited.report
@@ -253,22 +253,22 @@ def main(argv: Sequence[str] | None = None) -> int:
     """Entry point of the ``meshaudit`` console script; returns the exit status.
 
     SIGINT, SIGTERM and SIGHUP stop it cleanly (temporary files removed) with exit status
-    128 + the signal number; see :mod:`meshaudit.process`.
+    128 + the signal number; see :mod:`meshaudit.outputs.process`.
     """
-    from .process import stopping_signals_raise
+    from .outputs.process import stopping_signals_raise
 
     with stopping_signals_raise():
         return _main(argv)
 
 
 def _main(argv: Sequence[str] | None) -> int:
-    from .process import Interrupted, say, silence_stdout, terminal_output
+    from .outputs.process import Interrupted, say, silence_stdout, terminal_output
 
     parser = build_parser()
     try:
         args = parser.parse_args(argv)
         if args.command == "check":
-            from .memory import return_large_blocks
+            from .engine.memory import return_large_blocks
 
             return_large_blocks()  # resident memory close to the live arrays (glibc)
             return _check(args)

@@ -12,8 +12,8 @@ from typing import TYPE_CHECKING
 from .errors import MeshAuditError
 
 if TYPE_CHECKING:
-    from .inspection import AuditedMesh
     from .outputs.atomic import Renderer
+    from .results.inspection import AuditedMesh
 
 INSPECTION_KINDS = ("plot", "annotate", "html")
 
@@ -112,14 +112,14 @@ def add_explain_command(sub: argparse._SubParsersAction) -> None:
 
 def run_explain(args: argparse.Namespace) -> int:
     """The ``explain`` command; returns the exit status."""
+    from .api import audit_mesh
     from .config import settings_for
-    from .explain import explain
-    from .inspection import audit_mesh
     from .outputs import atomic, explain_text
     from .outputs.console import terminal_console
     from .outputs.destinations import check_destinations, protected_inputs
     from .outputs.plot import plot_format
-    from .process import terminal_output
+    from .outputs.process import terminal_output
+    from .results.explain import explain
 
     mesh_path = Path(args.mesh)
     dests = [p for p in (args.plot, args.json) if p is not None]

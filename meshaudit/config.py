@@ -13,7 +13,7 @@ Layout (``meshaudit.toml``; in ``pyproject.toml`` the same keys sit under
     top = 10                         # worst elements listed
     json = "reports/{stem}.json"     # report paths, relative to this file; {stem} = mesh name
     profile = "standard"             # a built-in or a profile TOML file, or instead:
-    [limits]                         # a profile in the layout of meshaudit.profiles
+    [limits]                         # a profile in the layout of meshaudit.judge.profiles
     extends = "standard"
     [limits.quad]
     aspect_ratio = { warn = 4, fail = 8 }
@@ -31,8 +31,8 @@ from pathlib import Path
 from typing import Any
 
 from .errors import ProfileError
+from .judge.profiles import FAMILIES, Profile, load_profile, profile_from_dict, toml_module
 from .paths import reason
-from .profiles import FAMILIES, Profile, load_profile, profile_from_dict, toml_module
 
 CONFIG_NAME = "meshaudit.toml"
 REPORT_KINDS = ("json", "csv", "junit")

@@ -18,7 +18,7 @@ if TYPE_CHECKING:  # rich, the profiles and the metrics load on use: --help star
     from rich.console import Console
     from rich.table import Table
 
-    from .profiles import Profile
+    from .judge.profiles import Profile
 
 
 def add_arguments(cmd: argparse.ArgumentParser) -> None:
@@ -59,7 +59,7 @@ def profile_table(profile: Profile, title: str | None = None) -> Table:
 
 def _selected(args: argparse.Namespace) -> list[tuple[str | None, Profile]]:
     from .config import settings_for
-    from .profiles import BUILTIN, load_profile
+    from .judge.profiles import BUILTIN, load_profile
 
     if args.config is not None or args.configured:
         settings = settings_for(None, args.config, True)
@@ -90,7 +90,7 @@ def findings_table(profile: Profile) -> Table:
     built-in default, and the two tolerances of the checks."""
     from rich.table import Table
 
-    from .finding_kinds import KINDS
+    from .judge.finding_kinds import KINDS
 
     settings = profile.findings
     t = Table(

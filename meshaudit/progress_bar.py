@@ -1,7 +1,7 @@
 """The command line's progress bar: rich, on stderr, only on an interactive terminal.
 
 The core reports progress through a plain callback (see
-:data:`meshaudit.api.ProgressCallback`) and never prints. :func:`stage_bar` turns those
+:data:`meshaudit.engine.run.ProgressCallback`) and never prints. :func:`stage_bar` turns those
 calls into a transient bar on stderr, one line per stage, when stderr is a terminal; in a
 pipeline, a log or with ``--quiet`` it yields ``None`` and nothing is drawn.
 """

@@ -51,7 +51,7 @@ def add_init(sub) -> None:
 
 
 def run_init(args: argparse.Namespace) -> int:
-    from .process import terminal_output
+    from .outputs.process import terminal_output
     from .starter import write_starter
 
     dest = write_starter(args.target)
@@ -61,13 +61,13 @@ def run_init(args: argparse.Namespace) -> int:
 
 
 def run_compare(args: argparse.Namespace) -> int:
-    from . import compare
+    from .api import audit_mesh
     from .config import settings_for
-    from .inspection import audit_mesh
     from .outputs import atomic, compare_terminal
     from .outputs.destinations import check_destinations, protected_inputs
-    from .process import terminal_output
-    from .report import json_text
+    from .outputs.process import terminal_output
+    from .results import compare
+    from .results.report import json_text
 
     old_path, new_path = Path(args.old), Path(args.new)
     if args.top < 0:

@@ -20,7 +20,7 @@ from meshaudit.config import (
     load_settings,
 )
 from meshaudit.errors import ProfileError
-from meshaudit.profiles import BUILTIN
+from meshaudit.judge.profiles import BUILTIN
 from meshaudit.starter import STARTER, write_starter
 
 PYPROJECT_OTHER_TOOL = '[project]\nname = "bracket"\n[tool.other]\nx = 1\n'

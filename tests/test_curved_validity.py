@@ -30,14 +30,12 @@ from test_quadratic import (
     sympy_shape_functions,
 )
 
-from meshaudit import audit
+from meshaudit import audit, audit_mesh, explain
 from meshaudit.cells import quad as quad_ref
 from meshaudit.cells import triangle as triangle_ref
-from meshaudit.explain import explain
-from meshaudit.inspection import audit_mesh
+from meshaudit.judge.profiles import STANDARD
+from meshaudit.judge.verdicts import judge
 from meshaudit.metrics import bernstein, quadratic
-from meshaudit.profiles import STANDARD
-from meshaudit.verdicts import judge
 
 SQUARE = np.array([[-1.0, -1.0], [1.0, -1.0], [1.0, 1.0], [-1.0, 1.0]])
 TRIANGLE = np.array([[0.0, 0.0], [1.0, 0.0], [0.0, 1.0]])

@@ -10,11 +10,10 @@ import pytest
 import skfem
 from inspect_meshes import planted_plate
 
-from meshaudit.explain import explain
-from meshaudit.inspection import audit_mesh
+from meshaudit import audit_mesh, explain
+from meshaudit.judge.profiles import BUILTIN
 from meshaudit.metrics.quad import corner_jacobians, gauss_jacobians
 from meshaudit.outputs import explain_plot
-from meshaudit.profiles import BUILTIN
 
 G = 1.0 / np.sqrt(3.0)  # 2x2 Gauss-Legendre abscissa
 

@@ -30,10 +30,10 @@ from skfem import (
 from meshaudit import audit
 from meshaudit.cells import quad as quad_ref
 from meshaudit.cells import triangle as triangle_ref
+from meshaudit.judge.profiles import BUILTIN, with_limit
+from meshaudit.mesh.reading import load
+from meshaudit.mesh.topology import edge_table, interior_pairs
 from meshaudit.metrics import quadratic
-from meshaudit.profiles import BUILTIN, with_limit
-from meshaudit.reading import load
-from meshaudit.topology import edge_table, interior_pairs
 
 SHAPE_METRICS = (
     "scaled_jacobian",

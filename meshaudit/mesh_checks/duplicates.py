@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..elements import ElementMesh
-from ..topology import corner_rows
+from ..mesh.elements import ElementMesh
+from ..mesh.topology import corner_rows
 
 #: Odd 64-bit multipliers for hashing the sorted corner lists (any odd constants work;
 #: equal hashes are confirmed by comparing the node lists themselves).

@@ -36,8 +36,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..arrays import unique_values
-from ..elements import ElementMesh
-from ..topology import EdgeTable
+from ..mesh.elements import ElementMesh
+from ..mesh.topology import EdgeTable
 from . import budget
 from .budget import expand as _expand
 from .edges import free_uses

@@ -16,8 +16,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..arrays import unique_values
-from ..elements import ElementMesh
-from ..topology import connected_labels
+from ..mesh.elements import ElementMesh
+from ..mesh.topology import connected_labels
 from . import budget
 
 #: Direction the nodes are sorted along when looking for coincident pairs: irrational

@@ -23,9 +23,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..arrays import unique_values
-from ..elements import ElementMesh
-from ..frames import anchor
-from ..topology import EdgeTable, corner_rows, sort_keys
+from ..mesh.elements import ElementMesh
+from ..mesh.frames import anchor
+from ..mesh.topology import EdgeTable, corner_rows, sort_keys
 from . import budget
 
 #: Elements per slice in :func:`planar_shapes`: bounds its (n, k) temporaries.

@@ -20,7 +20,7 @@ class MetricInfo:
     unit: str
     meaning: str
     #: Whether a profile can set warn/fail limits on it: not for "none", nor for the
-    #: score, which is worked out from the verdict (see :mod:`meshaudit.score`).
+    #: score, which is worked out from the verdict (see :mod:`meshaudit.judge.score`).
     limited: bool = True
 
 

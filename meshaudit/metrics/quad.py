@@ -512,7 +512,7 @@ def _spatial_warp(x: tuple[Point, ...], sides: list[Point]) -> np.ndarray:
 def measure(
     coords3: np.ndarray, p: np.ndarray
 ) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
-    """All quad metrics (but ``score``, added with the verdict: :mod:`meshaudit.score`)
+    """All quad metrics (but ``score``, added with the verdict: :mod:`meshaudit.judge.score`)
     and validity flags.
 
     ``coords3`` (n, 4, 3) are the nodes in space, ``p`` (n, 4, 2) the same nodes laid in

@@ -16,9 +16,9 @@ import numpy as np
 
 from ..cells.mapping import map_points
 from ..cells.registry import CELL_TYPES, CellType
-from ..explain import Explanation
-from ..inspection import AuditedMesh, corner_table
-from ..scale import length_exponent
+from ..mesh.scale import length_exponent
+from ..results.explain import Explanation
+from ..results.inspection import AuditedMesh, corner_table
 from .mpl import drawable, new_figure
 from .plot import HALO, OUTLINE, mesh_view, plot_format
 from .projection import View, drawing_unit, plane_view, unit_text, with_unit

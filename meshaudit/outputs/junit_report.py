@@ -14,11 +14,11 @@ import xml.etree.ElementTree as ET
 import numpy as np
 
 from ..cells.registry import CELL_TYPES
-from ..finding_kinds import KIND_INFO, KIND_NAMES
+from ..judge.finding_kinds import KIND_INFO, KIND_NAMES
+from ..judge.profiles import Profile
+from ..judge.verdicts import FAIL, INVALID_FLAGS, WARN
 from ..metrics import METRIC_INFO, WARNING_FLAGS
-from ..profiles import Profile
-from ..report import Report
-from ..verdicts import FAIL, INVALID_FLAGS, WARN
+from ..results.report import Report
 from .safe_text import xml_safe
 
 #: How many element ids a failure message names.

@@ -21,7 +21,7 @@ from __future__ import annotations
 
 import os
 
-from .errors import InputError
+from ..errors import InputError
 
 #: Bytes read from the end of the file.
 TAIL = 4096

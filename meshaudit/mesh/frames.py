@@ -10,7 +10,7 @@ mesh whose plane contains the z direction (its projection on x-y is a line) has 
 reference. Anything else is a shell surface: each element is measured in its own
 best-fit plane (see :func:`element_normals`), which has no absolute orientation either.
 Without a reference, only relative orientation is judged: neighbours must agree
-(see :mod:`meshaudit.orientation`).
+(see :mod:`meshaudit.mesh_checks.orientation`).
 """
 
 from __future__ import annotations
@@ -19,8 +19,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..metrics.columns import as_elements, node_columns
 from .elements import ElementMesh
-from .metrics.columns import as_elements, node_columns
 from .scale import length_exponent
 
 #: Relative out-of-plane tolerance (of the mesh extent) under which a mesh is planar.
@@ -53,7 +53,7 @@ class Frame:
         """What element orientation is judged against: ``"+z"`` (a planar mesh whose plane
         does not contain z: each element's area projected on x-y must be positive) or
         ``"relative"`` (shells and planar meshes whose plane contains z: neighbours must
-        agree, see :mod:`meshaudit.orientation`)."""
+        agree, see :mod:`meshaudit.mesh_checks.orientation`)."""
         return "+z" if self.kind == "planar" and not self.vertical else "relative"
 
     @property
@@ -279,3 +279,24 @@ def _own_winding(local: np.ndarray, n_corners: int) -> None:
     x, y = local[:, :n_corners, 0], local[:, :n_corners, 1]
     twice = (x * np.roll(y, -1, axis=1) - np.roll(x, -1, axis=1) * y).sum(axis=1)
     local[twice < 0.0, :, 1] *= -1.0
+
+
+def frame_notes(frame: Frame) -> list[str]:
+    """Report notes on where a planar mesh lies when that is not the x-y plane."""
+    if frame.kind != "planar" or frame.tilt is None or frame.tilt == 0.0:
+        return []
+    if frame.vertical:
+        return [
+            "the mesh plane contains the z direction: a 2-D solver reading x and y would "
+            "see it edge-on; elements are measured in their plane and orientation is "
+            "judged only between neighbours (flipped_normal, opposite_normals)"
+        ]
+    text = (
+        f"the mesh plane is tilted {frame.tilt:.3g} deg from x-y: elements are measured in "
+        "their plane, their orientation against +z as a 2-D solver reading x and y sees it"
+    )
+    if frame.tilt > 45.0:
+        text += (
+            f" (it would see the mesh squashed to {abs(float(frame.normal[2])):.2g} of its area)"
+        )
+    return [text]

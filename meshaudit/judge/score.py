@@ -32,7 +32,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .cells.registry import CELL_TYPES
+from ..cells.registry import CELL_TYPES
 from .profiles import Limit
 
 #: Ideal value of each shape metric, per element family: the square and the equilateral

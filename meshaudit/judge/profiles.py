@@ -30,10 +30,10 @@ from fractions import Fraction
 from pathlib import Path
 from typing import Any
 
-from .cells.registry import FAMILIES as CELL_FAMILIES
-from .errors import ProfileError
+from ..cells.registry import FAMILIES as CELL_FAMILIES
+from ..errors import ProfileError
+from ..metrics import METRIC_INFO
 from .finding_kinds import KIND_NAMES, SEVERITIES, FindingSettings
-from .metrics import METRIC_INFO
 
 
 def toml_module() -> Any:

@@ -13,7 +13,7 @@ remesh with new numbering), the comparison says so plainly and compares distribu
 counts and findings only.
 
 Element numbers are the file's own labels where it has them (gmsh tags, Abaqus labels,
-Nastran ids, see :mod:`meshaudit.labels`), else a stated position convention; node
+Nastran ids, see :mod:`meshaudit.mesh.labels`), else a stated position convention; node
 numbers likewise.
 """
 
@@ -24,10 +24,10 @@ from typing import Any
 
 import numpy as np
 
-from .config import Tolerances
-from .elements import ElementMesh
+from ..config import Tolerances
+from ..judge.verdicts import VERDICT_NAMES
+from ..mesh.elements import ElementMesh
 from .report import Report, finite_or_none
-from .verdicts import VERDICT_NAMES
 
 #: Severities of findings a revision must not add or grow (``info`` marks them intended).
 GATED_SEVERITIES = ("warn", "fail")
@@ -270,7 +270,7 @@ def to_dict(
 
     ``tolerance_source``: the configuration file the tolerances came from, if any.
     """
-    from . import __version__
+    from .. import __version__
 
     return {
         "schema": "meshaudit.compare/1",

@@ -33,7 +33,7 @@ class FindingKind:
     rationale: str  # why the default severity
     geometry: str = "any"  # "any", or the only frame kind it applies to ("planar", "shell")
     #: "any", or the only orientation reference it applies to ("+z" or "relative", see
-    #: meshaudit.orientation)
+    #: meshaudit.mesh_checks.orientation)
     orientation: str = "any"
 
     def applies_to(self, frame_kind: str, orientation: str = "any") -> bool:

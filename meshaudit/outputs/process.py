@@ -99,7 +99,7 @@ def stopping_signals_held() -> Iterator[None]:
 
 def say(line: str) -> None:
     """Print one line on stderr; a stderr that cannot take it is ignored."""
-    from .outputs.safe_text import one_line
+    from .safe_text import one_line
 
     try:
         print(one_line(line), file=sys.stderr, flush=True)

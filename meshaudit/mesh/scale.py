@@ -17,8 +17,8 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 if TYPE_CHECKING:
+    from ..mesh_checks.findings import MeshFindings
     from .elements import ElementMesh
-    from .findings import MeshFindings
 
 #: Coordinates of magnitude 2^-SAFE_EXPONENT to 2^SAFE_EXPONENT (about 8e-31 to 1.3e30)
 #: are measured as they are. The metrics multiply up to eight lengths (the warp of a quad

@@ -3,7 +3,7 @@ the profile's limits with the reason for each breach, flags and neighbours.
 
 Pure data (:class:`Explanation`); ``meshaudit.outputs.explain_text`` prints it and
 ``meshaudit.outputs.explain_plot`` draws it. det J comes from the same kernels the audit
-uses, evaluated in the same measuring plane (:mod:`meshaudit.frames`).
+uses, evaluated in the same measuring plane (:mod:`meshaudit.mesh.frames`).
 """
 
 from __future__ import annotations
@@ -14,15 +14,15 @@ from typing import Any
 
 import numpy as np
 
-from .cells.registry import CELL_TYPES
-from .errors import InputError
-from .frames import choose_frame, to_local
+from ..cells.registry import CELL_TYPES
+from ..errors import InputError
+from ..judge.score import BAND
+from ..judge.verdicts import INVALID_FLAGS, VERDICT_NAMES
+from ..mesh.frames import choose_frame, to_local
+from ..mesh.scale import element_exponents, scaled_lengths
+from ..metrics import METRIC_INFO, METRIC_NAMES, quadratic
 from .inspection import AuditedMesh, corner_table, element_nodes, neighbours
-from .metrics import METRIC_INFO, METRIC_NAMES, quadratic
 from .report import finite_or_none, json_float
-from .scale import element_exponents, scaled_lengths
-from .score import BAND
-from .verdicts import INVALID_FLAGS, VERDICT_NAMES
 
 FLAG_REASONS = {
     "inverted": "det J is negative at {negative}: the map from the reference element "
@@ -156,7 +156,7 @@ def local_nodes(audited: AuditedMesh, i: int) -> tuple[np.ndarray, str]:
 def scaled_local_nodes(audited: AuditedMesh, i: int) -> tuple[np.ndarray, int, str]:
     """:func:`local_nodes` scaled by 2^-k, and k: an element of extreme size is measured
     at a scale where products of lengths cannot overflow or underflow (k = 0 for any
-    ordinary one; see :mod:`meshaudit.scale`)."""
+    ordinary one; see :mod:`meshaudit.mesh.scale`)."""
     cell = CELL_TYPES[audited.report.cell_types[int(audited.report.type_codes[i])]]
     coords3 = audited.elements.points[element_nodes(audited.elements, i)]
     exponent = int(element_exponents(coords3[None])[0])
@@ -213,7 +213,7 @@ def _reason(name: str, value: float, worse: str, level: str, warn, fail) -> str:
 
 def _score_reason(score: float, verdict: int, invalid: bool) -> str:
     """Where the score sits: its verdict's band and the distortion T within it (the
-    definition is in :mod:`meshaudit.score`)."""
+    definition is in :mod:`meshaudit.judge.score`)."""
     if invalid:
         return "0: an invalid element"
     lo, hi = (2 - verdict) * BAND, (3 - verdict) * BAND

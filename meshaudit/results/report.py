@@ -12,13 +12,13 @@ from typing import Any
 
 import numpy as np
 
-from .arrays import unique_values
-from .findings import Finding
-from .mesh_checks.edges import FreeEdges
-from .metrics import LIMITED_METRICS, METRIC_NAMES, VALIDITY_FLAGS, WARNING_FLAGS
+from ..arrays import unique_values
+from ..judge.profiles import Profile
+from ..judge.verdicts import FAIL, VERDICT_NAMES, WARN
+from ..mesh_checks.edges import FreeEdges
+from ..mesh_checks.findings import Finding
+from ..metrics import LIMITED_METRICS, METRIC_NAMES, VALIDITY_FLAGS, WARNING_FLAGS
 from .percentiles import linear_percentiles
-from .profiles import Profile
-from .verdicts import FAIL, VERDICT_NAMES, WARN
 
 #: Every flag an element can carry, in report order: validity flags, warning flags, then
 #: one flag per metric whose limit it breached (warn or fail). Bit i of
@@ -38,9 +38,9 @@ class MeshSummary:
     frame: str  # "planar" or "shell"
     normal: list[float] | None = None
     #: what element orientation is judged against: "+z" or "relative"
-    #: (see :mod:`meshaudit.orientation`)
+    #: (see :mod:`meshaudit.mesh_checks.orientation`)
     orientation: str = "+z"
-    #: Which numbers the reports give elements and nodes (see meshaudit.labels).
+    #: Which numbers the reports give elements and nodes (see meshaudit.mesh.labels).
     element_numbers: str = ""
     node_numbers: str = ""
 

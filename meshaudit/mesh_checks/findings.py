@@ -5,7 +5,7 @@ overlapping elements, inconsistent orientation, non-manifold edges).
 :func:`find` runs every enabled check of :mod:`meshaudit.mesh_checks` on the element
 arrays and returns the findings (only kinds that occur: a clean mesh has none) plus the
 free-edge loops. Each finding names elements and nodes by the numbers every report uses
-(:mod:`meshaudit.labels`: the file's own labels where it has them) and carries plain
+(:mod:`meshaudit.mesh.labels`: the file's own labels where it has them) and carries plain
 arrays a plot can draw: element positions, node coordinates, edge end coordinates.
 """
 
@@ -18,13 +18,13 @@ from typing import Any
 
 import numpy as np
 
-from .arrays import unique_values
-from .elements import ElementMesh
-from .finding_kinds import KIND_INFO, FindingSettings
-from .frames import Frame
-from .mesh_checks import duplicates, edges, hanging, nodes, overlap
+from ..arrays import unique_values
+from ..judge.finding_kinds import KIND_INFO, FindingSettings
+from ..mesh.elements import ElementMesh
+from ..mesh.frames import Frame
+from ..mesh.topology import EdgeTable, edge_table
+from . import duplicates, edges, hanging, nodes, overlap
 from .orientation import Orientation, describe, judge
-from .topology import EdgeTable, edge_table
 
 #: How many ids a finding's message names.
 MESSAGE_IDS = 8
@@ -40,7 +40,7 @@ class Finding:
 
     ``element_index`` are 0-based audited-element positions (rows of the report
     arrays), ``element_ids`` the same elements' numbers. ``node_ids`` are the nodes'
-    numbers (the file's node labels where it has them, see :mod:`meshaudit.labels`).
+    numbers (the file's node labels where it has them, see :mod:`meshaudit.mesh.labels`).
     ``pairs`` (k, 2) pair up the items the finding is about (for coincident nodes, node
     numbers: each node of a place with the place's representative, k - 1 rows for k
     nodes at one place; element numbers for duplicates and overlaps, hanging node number and host
@@ -193,11 +193,11 @@ def find(
     ``ids`` (n_elements,) element labels in audit order; ``frame`` says whether the mesh
     is planar (overlap checks) or a shell, and what orientation is judged against.
     ``table``, ``shapes`` (planar meshes) and ``orientation`` (the elements flagged
-    ``reversed`` or ``flipped_normal``, see :mod:`meshaudit.orientation`) are worked out
+    ``reversed`` or ``flipped_normal``, see :mod:`meshaudit.mesh_checks.orientation`) are worked out
     here unless given; without the element flags at hand, an element counts as reversed
     when its corner polygon winds clockwise about the plane normal.
 
-    The work comes in two parts that :func:`meshaudit.api.audit_elements` runs apart:
+    The work comes in two parts that :func:`meshaudit.engine.run.audit_elements` runs apart:
     :func:`find_topology` needs only the connectivity and the nodes, so it can run while
     the elements are measured; :func:`finish` then adds the checks that need every
     element's winding and shape.
@@ -337,7 +337,7 @@ def _orientation_finding(part: TopologyPart, orientation: Orientation) -> None:
     """The finding that names the elements flagged ``reversed`` (``inconsistent_winding``,
     orientation against +z) or ``flipped_normal`` (``opposite_normals``, relative
     orientation), with the same count and the same remedy; see
-    :mod:`meshaudit.orientation`. The edges are the seams where neighbours disagree."""
+    :mod:`meshaudit.mesh_checks.orientation`. The edges are the seams where neighbours disagree."""
     out = part.out
     if orientation.reference == "+z":
         kind = "inconsistent_winding"

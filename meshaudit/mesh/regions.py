@@ -1,8 +1,9 @@
-"""Named regions of a mesh and judging each region under its own profile.
+"""Named regions of a mesh: the elements each region name selects.
 
 A region is a named group of elements the file carries: a gmsh physical group (meshio's
 ``cell_data["gmsh:physical"]`` tags, named through ``field_data``) or an element set
-(meshio's ``cell_sets``, e.g. Abaqus ``*ELSET``). Regions are selected by name.
+(meshio's ``cell_sets``, e.g. Abaqus ``*ELSET``). Regions are selected by name; each is
+judged under its own profile (:func:`meshaudit.judge.verdicts.judge_by_region`).
 """
 
 from __future__ import annotations
@@ -11,10 +12,6 @@ from collections.abc import Sequence
 from typing import Any
 
 import numpy as np
-
-from .metrics.quadratic import without_quarter_points_name
-from .profiles import Profile
-from .verdicts import judge
 
 #: Dimension of the physical groups that can hold audited (surface) elements.
 SURFACE_DIM = 2
@@ -78,35 +75,3 @@ def region_codes(n: int, sets: dict[str, np.ndarray], names: Sequence[str]) -> n
         if rows is not None:
             codes[rows] = k
     return codes
-
-
-def judge_by_region(
-    family: str,
-    metrics: dict[str, np.ndarray],
-    flags: dict[str, np.ndarray],
-    profiles: Sequence[Profile],
-    codes: np.ndarray,
-) -> tuple[dict[str, np.ndarray], np.ndarray, np.ndarray]:
-    """Like :func:`meshaudit.verdicts.judge` (levels, verdict, score), with element i
-    judged and scored under ``profiles[codes[i]]``. Loops over the profiles, never over
-    elements."""
-    if len(profiles) == 1 or not codes.any():
-        return judge(family, metrics, flags, profiles[0])
-    n = len(codes)
-    verdict = np.zeros(n, dtype=np.int8)
-    score = np.zeros(n)
-    levels: dict[str, np.ndarray] = {}
-    for k, profile in enumerate(profiles):
-        rows = np.flatnonzero(codes == k)
-        if rows.size == 0:
-            continue
-        limited = profile.limits.get(family, {})
-        needed = {"area", *limited, *map(without_quarter_points_name, limited)}  # all judge reads
-        sub_metrics = {name: metrics[name][rows] for name in needed if name in metrics}
-        sub_flags = {name: values[rows] for name, values in flags.items()}
-        lv, v, s = judge(family, sub_metrics, sub_flags, profile)
-        verdict[rows] = v
-        score[rows] = s
-        for name, lvl in lv.items():
-            levels.setdefault(name, np.zeros(n, dtype=np.int8))[rows] = lvl
-    return levels, verdict, score

@@ -11,7 +11,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .cells.registry import CELL_TYPES, CellType
+from ..cells.registry import CELL_TYPES, CellType
 from .labels import IN_MEMORY, Numbering
 
 #: meshio cell-type name prefixes by topological dimension (0 points, 1 lines, 2 surfaces,
@@ -42,7 +42,7 @@ class ElementBlock:
 
     cell_type: str
     connectivity: np.ndarray  # (n, k) int64 node indices into ElementMesh.points
-    ids: np.ndarray  # (n,) int64: the element's number (see meshaudit.labels)
+    ids: np.ndarray  # (n,) int64: the element's number (see meshaudit.mesh.labels)
     index: np.ndarray  # (n,) int64: 0-based position among audited elements
 
     @property

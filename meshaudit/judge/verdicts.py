@@ -1,12 +1,14 @@
 """Judge measured elements against a profile: breach levels per metric, a verdict and
-the score (see :mod:`meshaudit.score`)."""
+the score (see :mod:`meshaudit.judge.score`)."""
 
 from __future__ import annotations
 
+from collections.abc import Sequence
+
 import numpy as np
 
-from .metrics import METRIC_INFO, VALIDITY_FLAGS, WARNING_FLAGS
-from .metrics.quadratic import QUARTER_POINT_METRICS, without_quarter_points_name
+from ..metrics import METRIC_INFO, VALIDITY_FLAGS, WARNING_FLAGS
+from ..metrics.quadratic import QUARTER_POINT_METRICS, without_quarter_points_name
 from .profiles import Limit, Profile
 from .score import banded, distance
 
@@ -56,7 +58,7 @@ def judge(
     family: str, metrics: dict[str, np.ndarray], flags: dict[str, np.ndarray], profile: Profile
 ) -> tuple[dict[str, np.ndarray], np.ndarray, np.ndarray]:
     """Breach levels of every limited metric, the verdict (0 ok, 1 warn, 2 fail) and the
-    score (:mod:`meshaudit.score`: in the band of the verdict, lower the farther the
+    score (:mod:`meshaudit.judge.score`: in the band of the verdict, lower the farther the
     limited metrics are from their ideals)."""
     n = len(metrics["area"])
     verdict = np.zeros(n, dtype=np.int8)
@@ -81,3 +83,35 @@ def judge(
         invalid |= flags[name]
     verdict[invalid] = FAIL
     return levels, verdict, banded(distortion, verdict, invalid)
+
+
+def judge_by_region(
+    family: str,
+    metrics: dict[str, np.ndarray],
+    flags: dict[str, np.ndarray],
+    profiles: Sequence[Profile],
+    codes: np.ndarray,
+) -> tuple[dict[str, np.ndarray], np.ndarray, np.ndarray]:
+    """Like :func:`judge` (levels, verdict, score), with element i
+    judged and scored under ``profiles[codes[i]]``. Loops over the profiles, never over
+    elements."""
+    if len(profiles) == 1 or not codes.any():
+        return judge(family, metrics, flags, profiles[0])
+    n = len(codes)
+    verdict = np.zeros(n, dtype=np.int8)
+    score = np.zeros(n)
+    levels: dict[str, np.ndarray] = {}
+    for k, profile in enumerate(profiles):
+        rows = np.flatnonzero(codes == k)
+        if rows.size == 0:
+            continue
+        limited = profile.limits.get(family, {})
+        needed = {"area", *limited, *map(without_quarter_points_name, limited)}  # all judge reads
+        sub_metrics = {name: metrics[name][rows] for name in needed if name in metrics}
+        sub_flags = {name: values[rows] for name, values in flags.items()}
+        lv, v, s = judge(family, sub_metrics, sub_flags, profile)
+        verdict[rows] = v
+        score[rows] = s
+        for name, lvl in lv.items():
+            levels.setdefault(name, np.zeros(n, dtype=np.int8))[rows] = lvl
+    return levels, verdict, score

@@ -2,24 +2,19 @@
 
 The report holds per-element numbers; a picture, an annotated mesh or a one-element
 explanation also needs node coordinates and connectivity (and, for writing the mesh back,
-the meshio mesh as read, with its line and vertex blocks). :func:`audit_mesh` reads once and
-keeps all three together.
+the meshio mesh as read, with its line and vertex blocks). :func:`meshaudit.audit_mesh`
+reads once and keeps all three together in an :class:`AuditedMesh`.
 """
 
 from __future__ import annotations
 
-import os
-from collections.abc import Mapping
 from dataclasses import dataclass
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING
 
 import numpy as np
 
-from .api import ProgressCallback, audit_elements
-from .cells.registry import CellType
-from .elements import ElementMesh
-from .profiles import Profile
-from .reading import load_with_mesh
+from ..cells.registry import CellType
+from ..mesh.elements import ElementMesh
 from .report import Report
 
 if TYPE_CHECKING:
@@ -33,22 +28,6 @@ class AuditedMesh:
     report: Report
     elements: ElementMesh
     raw: meshio.Mesh | None = None
-
-
-def audit_mesh(
-    source: Any,
-    profile: Profile | str | os.PathLike[str] | None = None,
-    file_format: str | None = None,
-    fail_on: str = "fail",
-    regions: Mapping[str, Profile | str | os.PathLike[str]] | None = None,
-    progress: ProgressCallback | None = None,
-) -> AuditedMesh:
-    """Like :func:`meshaudit.audit`, but keeps the mesh for plots, annotation and explain."""
-    if progress is not None:
-        progress("read", 0, 0)
-    raw, elements = load_with_mesh(source, file_format)
-    report = audit_elements(elements, profile, fail_on, regions, progress)
-    return AuditedMesh(report, elements, raw)
 
 
 def corner_table(elements: ElementMesh) -> np.ndarray:

@@ -1,7 +1,7 @@
 """One account of element orientation, told the same way by the flags and the finding.
 
 What an element's orientation is judged against depends on the mesh (see
-:attr:`meshaudit.frames.Frame.orientation`):
+:attr:`meshaudit.mesh.frames.Frame.orientation`):
 
 - ``"+z"``, a planar mesh whose plane does not contain z. A 2-D solver reads x and y
   and drops z, so it sees each element wound as the element's area projected on x-y: an
@@ -12,7 +12,7 @@ What an element's orientation is judged against depends on the mesh (see
 - ``"relative"``, a shell, or a planar mesh whose plane contains z. There is no absolute
   orientation, only agreement between neighbours: two elements sharing an edge must run
   along it in opposite directions. Each connected patch is split into the elements that
-  agree (:func:`meshaudit.topology.flipped_elements`), the smaller group is flagged
+  agree (:func:`meshaudit.mesh.topology.flipped_elements`), the smaller group is flagged
   ``flipped_normal`` and the ``opposite_normals`` finding names exactly these elements;
   reversing their node order makes the patch agree. A patch that cannot be oriented at
   all (a Moebius-like band) is named, but no element of it is to blame.
@@ -25,9 +25,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .elements import ElementMesh
-from .frames import Frame, area_vectors
-from .topology import EdgeTable, flipped_elements
+from ..mesh.elements import ElementMesh
+from ..mesh.frames import Frame, area_vectors
+from ..mesh.topology import EdgeTable, flipped_elements
 
 
 @dataclass(frozen=True)

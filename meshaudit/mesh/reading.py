@@ -15,13 +15,13 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from ..cells.registry import CELL_TYPES
+from ..errors import InputError
+from ..paths import display_name, stat_input
 from . import labels
-from .cells.registry import CELL_TYPES
 from .elements import ElementBlock, ElementMesh
-from .errors import InputError
 from .file_ends import check_file_end
 from .labels import Numbering
-from .paths import display_name, stat_input
 from .regions import element_sets
 
 if TYPE_CHECKING:
@@ -123,7 +123,7 @@ def build_elements(
 ) -> ElementMesh:
     """Turn a meshio mesh into validated element arrays.
 
-    ``numbering`` (default: the in-memory convention, see :mod:`meshaudit.labels`) gives
+    ``numbering`` (default: the in-memory convention, see :mod:`meshaudit.mesh.labels`) gives
     each element its reported number. Raises :class:`InputError` for coordinates that
     are not finite real numbers (complex, boolean, object arrays too), out-of-range
     connectivity and meshes without any supported element.
