@@ -16,8 +16,7 @@ from pipeline_meshes import grid, write
 
 import meshaudit
 from meshaudit import compare
-from meshaudit.config import Tolerances
-from meshaudit.results.compare import match_elements
+from meshaudit.results.compare import Tolerances, match_elements
 
 #: Node 5 of a 3 x 2 grid of unit squares (4 nodes per row) is the interior node (1, 1).
 INNER = 5

@@ -18,8 +18,8 @@ import meshio
 
 from benchmarks.meshgen import distorted_plate
 from meshaudit import api
+from meshaudit.cli.progress import wanted
 from meshaudit.engine import run as engine
-from meshaudit.progress_bar import wanted
 from tests.conftest import REPO
 
 

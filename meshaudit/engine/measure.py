@@ -45,7 +45,7 @@ def measure_elements(
     not measure are NaN.
 
     ``coords3`` may be the nodes scaled by 2^-``exponent`` (see
-    :func:`meshaudit.mesh.frames.normalised`): area and det J are given back in the nodes'
+    :func:`meshaudit.mesh.scale.normalised`): area and det J are given back in the nodes'
     own units. An element whose area comes out beyond 2^+-200 is measured again with its
     nodes scaled by a power of two of its own (:func:`meshaudit.mesh.scale.element_exponents`),
     so that no product of lengths overflows or underflows. ``coords3`` are expected

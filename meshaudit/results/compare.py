@@ -1,6 +1,6 @@
 """Compare two audits of a mesh (OLD and NEW revision): a regression gate for remeshing.
 
-NEW regresses when, beyond the tolerances of :class:`meshaudit.config.Tolerances`:
+NEW regresses when, beyond the tolerances of :class:`Tolerances`:
 more elements fail, the median element score drops, the worst element score drops, or a
 mesh-level finding of warn or fail severity is new or grew (more places with unmerged nodes, a
 new crack, more duplicate elements...).
@@ -24,7 +24,6 @@ from typing import Any
 
 import numpy as np
 
-from ..config import Tolerances
 from ..judge.verdicts import VERDICT_NAMES
 from ..mesh.elements import ElementMesh
 from .report import Report, finite_or_none
@@ -39,6 +38,23 @@ RESTATED_KINDS = frozenset({"inconsistent_winding"})
 #: Share of the smaller mesh's elements that must be the same elements in both revisions
 #: for element-by-element changes to be compared (meshaudit's own rule, no published source).
 CORRESPONDENCE_SHARE = 0.5
+
+
+@dataclass(frozen=True)
+class Tolerances:
+    """How much worse NEW may be than OLD before ``meshaudit compare`` fails.
+
+    All defaults: meshaudit default, no published source.
+    """
+
+    #: NEW may have at most this many more failing elements than OLD (count, >= 0).
+    new_failing: int = 0
+    #: The median element score (0..1) may drop by at most this much.
+    median_score_drop: float = 0.02
+    #: The worst (lowest) element score (0..1) may drop by at most this much.
+    worst_score_drop: float = 0.05
+    #: A shared element whose score changes by more than this is listed as worse/better.
+    element_score_change: float = 0.05
 
 
 @dataclass(frozen=True)

@@ -30,9 +30,10 @@ from dataclasses import dataclass, field, fields
 from pathlib import Path
 from typing import Any
 
-from .errors import ProfileError
-from .judge.profiles import FAMILIES, Profile, load_profile, profile_from_dict, toml_module
-from .paths import reason
+from ..errors import ProfileError
+from ..judge.profiles import FAMILIES, Profile, load_profile, profile_from_dict, toml_module
+from ..paths import reason
+from ..results.compare import Tolerances
 
 CONFIG_NAME = "meshaudit.toml"
 REPORT_KINDS = ("json", "csv", "junit")
@@ -45,23 +46,6 @@ class ConfigError(ProfileError):
 
 
 @dataclass(frozen=True)
-class Tolerances:
-    """How much worse NEW may be than OLD before ``meshaudit compare`` fails.
-
-    All defaults: meshaudit default, no published source.
-    """
-
-    #: NEW may have at most this many more failing elements than OLD (count, >= 0).
-    new_failing: int = 0
-    #: The median element score (0..1) may drop by at most this much.
-    median_score_drop: float = 0.02
-    #: The worst (lowest) element score (0..1) may drop by at most this much.
-    worst_score_drop: float = 0.05
-    #: A shared element whose score changes by more than this is listed as worse/better.
-    element_score_change: float = 0.05
-
-
-@dataclass(frozen=True)
 class Settings:
     """Everything a configuration file can set; ``None`` means "not set here"."""
 
@@ -71,7 +55,7 @@ class Settings:
     fail_on: str | None = None
     top: int | None = None
     reports: dict[str, str] = field(default_factory=dict)  # kind -> path template
-    tolerances: Tolerances = Tolerances()
+    tolerances: Tolerances = field(default_factory=Tolerances)
 
     @property
     def base_dir(self) -> Path:

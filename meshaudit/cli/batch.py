@@ -1,9 +1,10 @@
 """``meshaudit check`` over one or many meshes, with configuration files applied.
 
-Exit status of a run over several meshes (worst wins): 2 when any input cannot be audited
-(missing, unreadable, no match for a pattern, bad configuration), else 1 when any mesh
-fails, else 0. Meshes that can be audited are audited, and their reports written, even
-when another input is unusable.
+Exit status of a run over several meshes (worst wins, see
+:mod:`meshaudit.results.status`): 2 when any input cannot be audited (missing,
+unreadable, no match for a pattern, bad configuration), else 1 when any mesh fails, else
+0. Meshes that can be audited are audited, and their reports written, even when another
+input is unusable.
 """
 
 from __future__ import annotations
@@ -11,25 +12,20 @@ from __future__ import annotations
 import argparse
 import glob
 import os
-from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 
-from .config import settings_for
-from .errors import MeshAuditError, OutputError
-from .paths import reason
-
-EXIT_PASS, EXIT_FAIL, EXIT_UNUSABLE = 0, 1, 2
+from ..errors import MeshAuditError, OutputError
+from ..paths import reason
+from ..results.status import EXIT_UNUSABLE, Outcome, exit_status
+from .options import resolve
 
 #: File extension of each report kind, used when a directory is given.
 REPORT_SUFFIX = {"json": ".json", "csv": ".csv", "junit": ".xml"}
 GLOB_CHARS = frozenset("*?[")
 #: Other per-mesh outputs of check (plots, annotated mesh, HTML): a {stem} pattern only.
 STEM_ONLY_OUTPUTS = ("plot", "annotate", "html")
-
-#: Built-in values of the options a configuration file may set.
-DEFAULTS = {"profile": "standard", "fail_on": "fail", "top": 10}
 
 
 def expand_inputs(patterns: list[str]) -> list[tuple[str, str | None]]:
@@ -91,17 +87,13 @@ def _destination(given: str, kind: str, mesh: Path) -> tuple[Path, bool]:
 def apply_settings(args: argparse.Namespace, mesh: Path, many: bool) -> argparse.Namespace:
     """A copy of ``args`` for one mesh: configuration file values fill every option the
     command line left unset, report paths are resolved, and ``regions`` is added."""
-    settings = settings_for(mesh, args.config, not args.no_config)
+    resolved = resolve(args, mesh)
+    settings = resolved.settings
     out = argparse.Namespace(**vars(args))
     out.mesh = str(mesh)
     out.config_path = settings.path
     out.regions = settings.regions
-    if out.profile is None:
-        out.profile = settings.profile if settings.profile is not None else DEFAULTS["profile"]
-    for key in ("fail_on", "top"):
-        if getattr(out, key) is None:
-            value = getattr(settings, key)
-            setattr(out, key, value if value is not None else DEFAULTS[key])
+    out.profile, out.fail_on, out.top = resolved.profile, resolved.fail_on, resolved.top
     for kind in REPORT_SUFFIX:
         given = getattr(args, kind)
         templated = True
@@ -139,20 +131,6 @@ def _make_parent(dest: Path) -> None:
         raise OutputError(f"{dest}: cannot create directory {dest.parent}: {reason(exc)}") from None
 
 
-@dataclass
-class Outcome:
-    """The result of checking one mesh among several."""
-
-    path: str
-    status: int
-    elements: int = 0
-    counts: dict[str, int] | None = None
-    worst_score: float | None = None
-    profile: str = ""
-    error: str | None = None
-    not_audited: str = ""  # cells not audited, e.g. '120 tetra, 40 line'
-
-
 def check_many(
     args: argparse.Namespace, inputs: list[tuple[str, str | None]], check_one
 ) -> list[Outcome]:
@@ -178,7 +156,7 @@ def check_many(
         outcomes.append(
             Outcome(
                 path,
-                EXIT_PASS if report.passed else EXIT_FAIL,
+                exit_status(report.passed),
                 elements=len(report),
                 counts=report.verdict_counts(),
                 worst_score=float(finite.min()) if finite.size else None,
@@ -202,8 +180,3 @@ def _claim_destinations(args: argparse.Namespace, mesh: str, written: dict[Path,
                 "same name need separate report directories"
             )
         written[key] = mesh
-
-
-def overall_status(outcomes: list[Outcome]) -> int:
-    """2 if any input is unusable, else 1 if any mesh fails, else 0."""
-    return max((o.status for o in outcomes), default=EXIT_UNUSABLE)

@@ -12,16 +12,19 @@ import argparse
 from pathlib import Path
 from typing import TYPE_CHECKING
 
-from .errors import MeshAuditError
+from ..errors import MeshAuditError
 
 if TYPE_CHECKING:  # rich, the profiles and the metrics load on use: --help starts fast
     from rich.console import Console
     from rich.table import Table
 
-    from .judge.profiles import Profile
+    from ..judge.profiles import Profile
 
 
-def add_arguments(cmd: argparse.ArgumentParser) -> None:
+def add(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
+    cmd = sub.add_parser(
+        "profiles", help="list the built-in profiles with every limit and its source"
+    )
     cmd.add_argument(
         "profiles",
         nargs="*",
@@ -36,12 +39,13 @@ def add_arguments(cmd: argparse.ArgumentParser) -> None:
     cmd.add_argument(
         "--config", type=Path, metavar="FILE", help="list the limits of this configuration file"
     )
+    return cmd
 
 
 def profile_table(profile: Profile, title: str | None = None) -> Table:
     from rich.table import Table
 
-    from .metrics import METRIC_INFO
+    from ..metrics import METRIC_INFO
 
     t = Table(title=title or f"{profile.name}: {profile.description}", title_justify="left")
     for col in ("family", "metric", "unit", "worse when", "warn", "fail", "source"):
@@ -58,8 +62,8 @@ def profile_table(profile: Profile, title: str | None = None) -> Table:
 
 
 def _selected(args: argparse.Namespace) -> list[tuple[str | None, Profile]]:
+    from ..judge.profiles import BUILTIN, load_profile
     from .config import settings_for
-    from .judge.profiles import BUILTIN, load_profile
 
     if args.config is not None or args.configured:
         settings = settings_for(None, args.config, True)
@@ -77,12 +81,22 @@ def _selected(args: argparse.Namespace) -> list[tuple[str | None, Profile]]:
     return [(None, prof) for prof in BUILTIN.values()]
 
 
-def run(args: argparse.Namespace, console: Console) -> int:
-    """Print the selected profiles; returns exit status 0."""
+def run(args: argparse.Namespace) -> int:
+    """The ``profiles`` command: print the selected profiles; returns exit status 0."""
+    from ..outputs.process import terminal_output
+    from ..results.status import EXIT_PASS
+    from .options import console
+
+    with terminal_output():
+        show(args, console())
+    return EXIT_PASS
+
+
+def show(args: argparse.Namespace, console: Console) -> None:
+    """Print the profiles ``args`` select on ``console``."""
     for title, profile in _selected(args):
         console.print(profile_table(profile, title))
         console.print(findings_table(profile))
-    return 0
 
 
 def findings_table(profile: Profile) -> Table:
@@ -90,7 +104,7 @@ def findings_table(profile: Profile) -> Table:
     built-in default, and the two tolerances of the checks."""
     from rich.table import Table
 
-    from .judge.finding_kinds import KINDS
+    from ..judge.finding_kinds import KINDS
 
     settings = profile.findings
     t = Table(

@@ -1,13 +1,13 @@
-"""The commented starter configuration ``meshaudit init`` writes."""
+"""``meshaudit init [DIR|FILE]``: write a commented starter ``meshaudit.toml``.
+
+Exit status: 0 written, 2 the file exists (it is never overwritten) or cannot be written.
+"""
 
 from __future__ import annotations
 
+import argparse
 import os
 from pathlib import Path
-
-from .config import CONFIG_NAME
-from .errors import OutputError
-from .outputs import atomic
 
 STARTER = """\
 # meshaudit configuration.
@@ -55,8 +55,39 @@ element_score_change = 0.05  # a shared element changing more is listed as worse
 """
 
 
+def add(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
+    cmd = sub.add_parser(
+        "init",
+        help="write a commented starter meshaudit.toml",
+        description="Write a commented starter meshaudit.toml (never overwrites a file).",
+    )
+    cmd.add_argument(
+        "target",
+        nargs="?",
+        default=".",
+        type=Path,
+        help="directory to write meshaudit.toml in, or a file name (default: .)",
+    )
+    return cmd
+
+
+def run(args: argparse.Namespace) -> int:
+    """The ``init`` command; returns the exit status."""
+    from ..outputs.process import terminal_output
+    from ..results.status import EXIT_PASS
+
+    dest = write_starter(args.target)
+    with terminal_output():
+        print(f"wrote {dest}")
+    return EXIT_PASS
+
+
 def write_starter(target: Path) -> Path:
     """Write the starter file to ``target`` (a directory or a file path); never overwrite."""
+    from ..errors import OutputError
+    from ..outputs import atomic
+    from .config import CONFIG_NAME
+
     dest = target / CONFIG_NAME if os.path.isdir(target) else target
     if os.path.lexists(dest):
         raise OutputError(f"{dest}: already exists; not overwriting it")
