@@ -136,3 +136,42 @@ def test_jacobians_of_the_reference_element_itself_are_one(name):
     np.testing.assert_allclose(gauss, 1.0, rtol=1e-14)
     np.testing.assert_allclose(nodal, 1.0, rtol=1e-14)
     assert gauss.shape == (1, len(cell.gauss_points)) and nodal.shape == (1, cell.n_nodes)
+
+
+def test_a_solid_entry_is_measured_in_space_with_no_plane():
+    # The engine's plug-in point for solids: a dimension-3 entry's kernel gets every node
+    # in space as given (no frame, no measuring plane), and the metrics it does not measure
+    # come back NaN. The kernel here is the closed-form tetrahedron (common practice):
+    # det J = (x2 - x1) x (x3 - x1) . (x4 - x1) = 6 x volume; legs of length 2 give 8.
+    from dataclasses import replace
+
+    from meshaudit.engine.measure import measure_elements
+    from meshaudit.metrics import METRIC_NAMES
+
+    received = []
+
+    def tetra_kernel(coords):
+        received.append(coords)
+        a, b, c = (coords[:, k] - coords[:, 0] for k in (1, 2, 3))
+        det = np.einsum("ni,ni->n", np.cross(a, b), c)
+        measured = {"area": det / 6.0, "det_j_min": det, "det_j_corner_min": det}
+        names = ("inverted", "reversed", "nonconvex", "self_intersecting", "degenerate")
+        return measured, {name: det <= 0.0 for name in names}
+
+    tetra = replace(
+        CELL_TYPES["triangle"],
+        name="tetra",
+        family="tetra",
+        dimension=3,
+        n_corners=4,
+        reference_nodes=np.array([[0.0, 0, 0], [1, 0, 0], [0, 1, 0], [0, 0, 1]]),
+        kernel=tetra_kernel,
+    )
+    coords = 2.0 * tetra.reference_nodes[None] + np.array([5.0, -3.0, 7.0])
+    metrics, flags = measure_elements(tetra, coords, frame=None)
+    assert len(received) == 1 and np.array_equal(received[0], coords)
+    assert metrics["det_j_min"][0] == pytest.approx(8.0)
+    assert metrics["area"][0] == pytest.approx(8.0 / 6.0)
+    unmeasured = set(METRIC_NAMES) - {"area", "det_j_min", "det_j_corner_min", "score"}
+    assert all(np.isnan(metrics[name]).all() for name in unmeasured)
+    assert not flags["inverted"].any()
