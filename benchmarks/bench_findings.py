@@ -13,10 +13,10 @@ import time
 import meshio
 import numpy as np
 
-from meshaudit.api import audit_elements
-from meshaudit.findings import find
-from meshaudit.frames import choose_frame
-from meshaudit.reading import build_elements
+from meshaudit.engine.run import audit_elements
+from meshaudit.mesh.frames import choose_frame
+from meshaudit.mesh.reading import build_elements
+from meshaudit.mesh_checks.findings import find
 
 
 def shuffled_grid(n: int, seed: int = 0) -> meshio.Mesh:

@@ -3,7 +3,7 @@
 ``python -m benchmarks.kernels [--elements N] [--repeat R] [--against CHECKOUT]`` builds
 four bracket-plate samples from a plate of about N quads (planar quads, the same split
 into 2N triangles, quad8 with midside nodes, and the plate bent into a shell), runs
-``meshaudit.api.measure_elements`` over them in chunks as the engine does, and prints
+``meshaudit.engine.measure.measure_elements`` over them in chunks as the engine does, and prints
 the best-of-R CPU time (``time.process_time``) per sample.
 
 With ``--against`` the same samples are measured again by the kernels of CHECKOUT (a
@@ -16,6 +16,7 @@ a faster kernel still gives the same numbers.
 from __future__ import annotations
 
 import argparse
+import importlib
 import subprocess
 import sys
 import tempfile
@@ -51,14 +52,30 @@ def samples(n_elements: int) -> dict[str, np.ndarray]:
     }
 
 
+def _engine():
+    """(measure(family, coords, frame, cell_type), Frame) of the meshaudit imported: this
+    checkout's, or an older one's (``--against``), laid out without sub-packages."""
+    import meshaudit
+
+    if not (Path(meshaudit.__file__).parent / "engine").is_dir():
+        old_api = importlib.import_module("meshaudit.api")  # before the table of cell types
+        return old_api.measure_elements, importlib.import_module("meshaudit.frames").Frame
+    from meshaudit.cells import CELL_TYPES
+    from meshaudit.engine.measure import measure_elements
+    from meshaudit.mesh.frames import Frame
+
+    def measure(family, coords, frame, cell_type):
+        return measure_elements(CELL_TYPES[cell_type or family], coords, frame)
+
+    return measure, Frame
+
+
 def measure_all(coords: np.ndarray, family: str, cell_type: str | None, kind: str):
     """Metrics and flags of every element, measured chunk by chunk."""
-    from meshaudit.api import measure_elements
-    from meshaudit.frames import Frame
-
+    measure, Frame = _engine()
     frame = Frame("shell") if kind == "shell" else Frame("planar", np.eye(3)[2], np.eye(3)[:2])
     parts = [
-        measure_elements(family, coords[s : s + CHUNK], frame, cell_type)
+        measure(family, coords[s : s + CHUNK], frame, cell_type)
         for s in range(0, len(coords), CHUNK)
     ]
     out = {}

@@ -14,7 +14,7 @@ written as binary gmsh msh 4.1 and as VTU. For each file, in the same run:
   kind off (written next to the meshes as ``elements_only.toml``), which leaves the
   element metrics, verdicts and reports;
 - stages: one more child (:mod:`benchmarks.stages`) that times read, the label pass
-  (the file's own element and node numbers, :mod:`meshaudit.labels`), element arrays,
+  (the file's own element and node numbers, :mod:`meshaudit.mesh.labels`), element arrays,
   metrics, verdicts, the rest of the engine, reports (statistics and JSON) and the plot.
 
 Both wall times include starting Python and importing what the command needs, so the
@@ -84,7 +84,7 @@ class Row:
 
 def elements_only_profile(outdir: Path) -> Path:
     """A profile file: the standard limits with every mesh-level finding kind off."""
-    from meshaudit.finding_kinds import KIND_NAMES
+    from meshaudit.judge.finding_kinds import KIND_NAMES
 
     path = outdir / "elements_only.toml"
     lines = ['name = "elements-only"', 'extends = "standard"', "", "[findings]"]

@@ -2,14 +2,14 @@
 
 ``python -m benchmarks.stages MESH OUTDIR [--plot]`` reads MESH, reads the file's own
 element and node numbers where meshio drops them (the label pass of
-:mod:`meshaudit.labels`: gmsh tags, Abaqus labels), builds the element arrays, measures
+:mod:`meshaudit.mesh.labels`: gmsh tags, Abaqus labels), builds the element arrays, measures
 and judges every element, computes the statistics, writes the JSON
 report and (with ``--plot``, when the plot module exists) draws the mesh, timing each.
 
 The engine runs here in one thread (``workers=1``) so that its stages add up; the
 ``meshaudit check`` command the benchmark times runs them on a thread pool. The metric
 kernels and the verdicts run interleaved, chunk by chunk, inside
-``meshaudit.api.audit_elements``; their shares are told apart by timing the functions
+``meshaudit.engine.run.audit_elements``; their shares are told apart by timing the functions
 that do the work (``measure_elements``, ``judge_by_region``, and for "mesh checks" the
 edge table and the two parts of the mesh-level findings) through thin wrappers
 installed for this run only. "engine other" is the rest of ``audit_elements``: choosing
@@ -40,19 +40,21 @@ def _timed(totals: dict[str, float], key: str, fn: Callable[..., Any]) -> Callab
 
 
 def _instrument(totals: dict[str, float]) -> None:
-    """Wrap the kernel and verdict functions that ``audit_elements`` calls, where present."""
-    api = importlib.import_module("meshaudit.api")
-    for attr, key in (
-        ("measure_elements", "metrics"),
-        ("judge_by_region", "verdicts"),
-        ("judge", "verdicts"),
-        ("edge_table", "mesh checks"),
-        ("find_topology", "mesh checks"),
-        ("finish", "mesh checks"),
-    ):
-        if hasattr(api, attr):
-            totals.setdefault(key, 0.0)
-            setattr(api, attr, _timed(totals, key, getattr(api, attr)))
+    """Wrap the kernel and verdict functions that ``audit_elements`` calls, where present
+    (in the engine's modules, where the engine looks them up)."""
+    for module in ("meshaudit.engine.measure", "meshaudit.engine.run"):
+        engine = importlib.import_module(module)
+        for attr, key in (
+            ("measure_elements", "metrics"),
+            ("judge_by_region", "verdicts"),
+            ("judge", "verdicts"),
+            ("edge_table", "mesh checks"),
+            ("find_topology", "mesh checks"),
+            ("finish", "mesh checks"),
+        ):
+            if hasattr(engine, attr):
+                totals.setdefault(key, 0.0)
+                setattr(engine, attr, _timed(totals, key, getattr(engine, attr)))
 
 
 def _plot_module() -> Any | None:
@@ -67,8 +69,9 @@ def run(mesh: Path, outdir: Path, plot: bool) -> dict[str, Any]:
     t0 = time.perf_counter()
     import meshio  # noqa: F401  (imported here so that "read" is the reading alone)
 
-    from meshaudit import api, labels, reading
-    from meshaudit.memory import return_large_blocks
+    from meshaudit.engine.memory import return_large_blocks
+    from meshaudit.engine.run import audit_elements
+    from meshaudit.mesh import labels, reading
     from meshaudit.outputs import atomic, json_report
 
     return_large_blocks()  # the allocator settings `meshaudit check` makes
@@ -90,7 +93,7 @@ def run(mesh: Path, outdir: Path, plot: bool) -> dict[str, Any]:
     times["elements"] = time.perf_counter() - t
 
     t = time.perf_counter()
-    report = api.audit_elements(elements, workers=1)
+    report = audit_elements(elements, workers=1)
     engine = time.perf_counter() - t
     times["metrics"] = inner.get("metrics", 0.0)
     times["verdicts"] = inner.get("verdicts", 0.0)

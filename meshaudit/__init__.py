@@ -3,6 +3,9 @@
 >>> import meshaudit
 >>> report = meshaudit.audit("samples/bracket_plate.msh")    # doctest: +SKIP
 >>> report.passed, report.verdict_counts()                    # doctest: +SKIP
+
+The public names are these, imported from here; the package's sub-packages hold the
+stages (see the README's "Code layout").
 """
 
 from __future__ import annotations
@@ -13,10 +16,16 @@ from typing import TYPE_CHECKING, Any
 from .errors import InputError, MeshAuditError, OutputError, ProfileError
 
 if TYPE_CHECKING:
-    from .api import audit, audit_elements
-    from .profiles import BUILTIN as BUILTIN_PROFILES
-    from .profiles import Limit, Profile, load_profile, with_limit
-    from .report import Report
+    from .api import audit, audit_mesh
+    from .engine.memory import return_large_blocks
+    from .engine.run import audit_elements
+    from .judge.profiles import BUILTIN as BUILTIN_PROFILES
+    from .judge.profiles import Limit, Profile, load_profile, with_limit
+    from .mesh_checks.findings import Finding
+    from .results.compare import compare
+    from .results.explain import explain
+    from .results.inspection import AuditedMesh
+    from .results.report import Report
 
 __version__ = "0.1.0"
 
@@ -24,13 +33,19 @@ __version__ = "0.1.0"
 #: ``meshaudit --help`` do not pay for numpy and the metric kernels up front.
 _LAZY = {
     "audit": ("api", "audit"),
-    "audit_elements": ("api", "audit_elements"),
-    "BUILTIN_PROFILES": ("profiles", "BUILTIN"),
-    "Limit": ("profiles", "Limit"),
-    "Profile": ("profiles", "Profile"),
-    "load_profile": ("profiles", "load_profile"),
-    "with_limit": ("profiles", "with_limit"),
-    "Report": ("report", "Report"),
+    "audit_mesh": ("api", "audit_mesh"),
+    "audit_elements": ("engine.run", "audit_elements"),
+    "AuditedMesh": ("results.inspection", "AuditedMesh"),
+    "BUILTIN_PROFILES": ("judge.profiles", "BUILTIN"),
+    "Finding": ("mesh_checks.findings", "Finding"),
+    "Limit": ("judge.profiles", "Limit"),
+    "Profile": ("judge.profiles", "Profile"),
+    "Report": ("results.report", "Report"),
+    "compare": ("results.compare", "compare"),
+    "explain": ("results.explain", "explain"),
+    "load_profile": ("judge.profiles", "load_profile"),
+    "return_large_blocks": ("engine.memory", "return_large_blocks"),
+    "with_limit": ("judge.profiles", "with_limit"),
 }
 
 
@@ -43,8 +58,14 @@ def __getattr__(name: str) -> Any:
     raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
 
 
+def __dir__() -> list[str]:
+    return sorted({*globals(), *_LAZY})
+
+
 __all__ = [
     "BUILTIN_PROFILES",
+    "AuditedMesh",
+    "Finding",
     "InputError",
     "Limit",
     "MeshAuditError",
@@ -55,6 +76,10 @@ __all__ = [
     "__version__",
     "audit",
     "audit_elements",
+    "audit_mesh",
+    "compare",
+    "explain",
     "load_profile",
+    "return_large_blocks",
     "with_limit",
 ]

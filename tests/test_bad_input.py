@@ -312,7 +312,7 @@ def test_permission_denied_branch(good_mesh: Path, monkeypatch: pytest.MonkeyPat
     Both the up-front access check and a PermissionError raised inside the reader give an
     InputError naming the problem.
     """
-    import meshaudit.reading as reading
+    import meshaudit.mesh.reading as reading
 
     monkeypatch.setattr(reading.os, "access", lambda path, mode: False)
     with pytest.raises(InputError, match="permission denied"):
@@ -329,7 +329,7 @@ def test_permission_denied_branch(good_mesh: Path, monkeypatch: pytest.MonkeyPat
 
 def test_permission_denied_in_cli(good_mesh: Path, capsys, monkeypatch) -> None:
     """The CLI turns the permission error into one line and exit 2 (in-process run)."""
-    import meshaudit.reading as reading
+    import meshaudit.mesh.reading as reading
     from meshaudit.cli import main
 
     monkeypatch.setattr(reading.os, "access", lambda path, mode: False)

@@ -43,7 +43,7 @@ from analytic_elements import (
 from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
-from meshaudit.profiles import BUILTIN
+from meshaudit.judge.profiles import BUILTIN
 
 PROFILES = sorted(BUILTIN)
 LEVELS = (("warn", 1), ("fail", 2))

@@ -15,8 +15,8 @@ import pytest
 from pipeline_meshes import grid, write
 
 import meshaudit
-from meshaudit.compare import compare, match_elements
-from meshaudit.config import Tolerances
+from meshaudit import compare
+from meshaudit.results.compare import Tolerances, match_elements
 
 #: Node 5 of a 3 x 2 grid of unit squares (4 nodes per row) is the interior node (1, 1).
 INNER = 5
@@ -150,7 +150,7 @@ def test_unrelated_meshes_of_the_same_size_compare_distributions_only(tmp_path, 
 
 
 def test_moved_nodes_and_reversed_order_still_correspond():
-    from meshaudit.inspection import audit_mesh
+    from meshaudit import audit_mesh
 
     old = audit_mesh(grid(3, 2))
     moved = audit_mesh(grid(3, 2, shift=(INNER, 0.3, 0.0)))

@@ -13,15 +13,15 @@ import os
 import pytest
 from pipeline_meshes import grid, strip, write
 
-from meshaudit.config import (
+from meshaudit.cli.config import (
     Tolerances,
     discover,
     find_config,
     load_settings,
 )
+from meshaudit.cli.init import STARTER, write_starter
 from meshaudit.errors import ProfileError
-from meshaudit.profiles import BUILTIN
-from meshaudit.starter import STARTER, write_starter
+from meshaudit.judge.profiles import BUILTIN
 
 PYPROJECT_OTHER_TOOL = '[project]\nname = "bracket"\n[tool.other]\nx = 1\n'
 

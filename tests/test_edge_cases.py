@@ -22,7 +22,7 @@ import shapely
 import sympy as sp
 
 import meshaudit
-from meshaudit.frames import element_normals
+from meshaudit.mesh.frames import element_normals
 from meshaudit.metrics import METRIC_NAMES
 from meshaudit.outputs import csv_report, json_report
 

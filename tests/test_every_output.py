@@ -27,8 +27,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import meshaudit
+from meshaudit.mesh.reading import TESTED_EXTENSIONS
 from meshaudit.outputs.ranges import clipped_for_colour, drawable_range
-from meshaudit.reading import TESTED_EXTENSIONS
 
 PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"  # PNG specification, section 5.2
 

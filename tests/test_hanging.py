@@ -478,7 +478,7 @@ def test_cli_passes_when_the_profile_marks_the_interface_intended(tmp_path, run_
 
 
 def test_plot_draws_the_interface_and_crosses_the_hanging_node(tmp_path):
-    from meshaudit.inspection import audit_mesh
+    from meshaudit import audit_mesh
     from meshaudit.outputs import plot
 
     audited = audit_mesh(write_plate(tmp_path))

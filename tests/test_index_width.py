@@ -13,8 +13,9 @@ import meshio
 import numpy as np
 import pytest
 
-from meshaudit import audit, topology
-from meshaudit.reading import load
+from meshaudit import audit
+from meshaudit.mesh import topology
+from meshaudit.mesh.reading import load
 from tests.finding_meshes import NX, NY, grid_points, grid_quads, node, with_crack
 
 

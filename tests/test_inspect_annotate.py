@@ -9,10 +9,10 @@ import numpy as np
 import pytest
 from inspect_meshes import planted_plate
 
-from meshaudit.inspection import audit_mesh
+from meshaudit import audit_mesh
 from meshaudit.metrics import METRIC_NAMES
 from meshaudit.outputs import annotate
-from meshaudit.report import FLAG_NAMES
+from meshaudit.results.report import FLAG_NAMES
 
 
 def by_type(mesh: meshio.Mesh, name: str) -> dict[str, np.ndarray]:

@@ -13,7 +13,7 @@ import numpy as np
 import pytest
 from inspect_meshes import planted_plate
 
-from meshaudit.inspection import audit_mesh
+from meshaudit import audit_mesh
 from meshaudit.metrics import METRIC_NAMES
 from meshaudit.outputs import html_report
 
@@ -177,7 +177,7 @@ def test_histograms_account_for_every_finite_value(plate_html):
 def test_findings_section_when_the_report_has_findings():
     from types import SimpleNamespace
 
-    from meshaudit.explain import explain
+    from meshaudit import explain
 
     audited = audit_mesh(planted_plate())
     finding = SimpleNamespace(

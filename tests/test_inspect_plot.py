@@ -10,7 +10,7 @@ import numpy as np
 import pytest
 from inspect_meshes import curved_shell, grid, planted_plate
 
-from meshaudit.inspection import audit_mesh
+from meshaudit import audit_mesh
 from meshaudit.outputs import plot
 
 PNG_MAGIC = b"\x89PNG\r\n\x1a\n"  # PNG signature (PNG specification, section 5.2)

@@ -18,7 +18,7 @@ from benchmarks.meshgen import distorted_plate
 from meshaudit import BUILTIN_PROFILES, Limit, api, with_limit
 from meshaudit.outputs import json_report
 from meshaudit.outputs.json_elements import element_lines
-from meshaudit.report import FLAG_NAMES
+from meshaudit.results.report import FLAG_NAMES
 
 SAMPLES = Path(__file__).resolve().parents[1] / "samples"
 ENCODE = json.JSONEncoder(allow_nan=False, separators=(", ", ": ")).encode

@@ -10,7 +10,7 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
-from meshaudit.labels.text import (
+from meshaudit.mesh.labels.text import (
     TextLabelError,
     as_bytes,
     integers,

@@ -31,10 +31,9 @@ from label_files import (
 )
 
 import meshaudit
-from meshaudit.explain import explain
-from meshaudit.inspection import audit_mesh
-from meshaudit.labels import for_memory
-from meshaudit.labels.common import FileLabels, LabelBlock, LabelsUnavailable, check_alignment
+from meshaudit import audit_mesh, explain
+from meshaudit.mesh.labels import for_memory
+from meshaudit.mesh.labels.common import FileLabels, LabelBlock, LabelsUnavailable, check_alignment
 
 GMSH_VARIANTS = ["22a", "22b", "41a", "41b"]
 #: Cells sharing a node with the reversed cell (2, 0) of the web corner: (1, 0), (1, 1)

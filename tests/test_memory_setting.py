@@ -12,7 +12,7 @@ SCRIPT = textwrap.dedent(
     """
     import sys
     import numpy as np
-    from meshaudit.memory import return_large_blocks
+    from meshaudit.engine.memory import return_large_blocks
 
     def resident_mb():
         with open("/proc/self/statm") as f:

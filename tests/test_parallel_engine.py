@@ -13,17 +13,18 @@ import pytest
 import shapely
 
 from meshaudit import api
-from meshaudit.elements import ElementBlock, ElementMesh
+from meshaudit.engine import run as engine
+from meshaudit.mesh.elements import ElementBlock, ElementMesh
+from meshaudit.mesh.reading import load
 from meshaudit.mesh_checks import duplicates, overlap
 from meshaudit.outputs import json_report
-from meshaudit.reading import load
 from tests.finding_meshes import grid_points, grid_quads
 
 
 def _big_planted_mesh() -> meshio.Mesh:
     """Two chunks' worth of quads (invented demo grid) with a reversed element, a
     dragged node (overlaps), a duplicated element and a strip of triangles."""
-    nx, ny = 230, 160  # 36800 quads: more than one chunk of api.CHUNK_SIZE
+    nx, ny = 230, 160  # 36800 quads: more than one chunk of engine.CHUNK_SIZE
     rng = np.random.default_rng(7)
     pts = grid_points(nx, ny)
     pts[:, :2] += rng.uniform(-0.15, 0.15, (len(pts), 2))
@@ -37,11 +38,11 @@ def _big_planted_mesh() -> meshio.Mesh:
 
 
 def test_more_chunks_than_threads_same_report_as_one_thread():
-    assert api.CHUNK_SIZE < 36_800  # the mesh below must span several chunks
+    assert engine.CHUNK_SIZE < 36_800  # the mesh below must span several chunks
     elements = load(_big_planted_mesh())
-    serial = api.audit_elements(elements, workers=1)
+    serial = engine.audit_elements(elements, workers=1)
     for workers in (2, 3):
-        threaded = api.audit_elements(elements, workers=workers)
+        threaded = engine.audit_elements(elements, workers=workers)
         # byte-identical JSON: every metric, flag, breach order, finding and loop
         assert json_report.render(threaded, every_element=True) == json_report.render(
             serial, every_element=True
@@ -107,7 +108,7 @@ def test_corner_sort_matches_numpy_row_sort():
 
 
 def test_all_findings_off_skips_the_mesh_checks_and_keeps_element_results(tmp_path):
-    from meshaudit.finding_kinds import KIND_NAMES
+    from meshaudit.judge.finding_kinds import KIND_NAMES
 
     profile = tmp_path / "elements_only.toml"
     lines = ['name = "elements-only"', 'extends = "standard"', "[findings]"]

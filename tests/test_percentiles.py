@@ -15,13 +15,8 @@ from hypothesis.extra.numpy import arrays
 from benchmarks.meshgen import distorted_plate
 from meshaudit import api
 from meshaudit.metrics import METRIC_NAMES
-from meshaudit.percentiles import (
-    SORT_BELOW,
-    heavily_tied,
-    linear_percentiles,
-    partition_at,
-)
-from meshaudit.report import PERCENTILES, metric_statistics
+from meshaudit.results.percentiles import SORT_BELOW, heavily_tied, linear_percentiles, partition_at
+from meshaudit.results.report import PERCENTILES, metric_statistics
 
 QS = [q for _, q in PERCENTILES]
 FINITE = st.floats(-1e9, 1e9, allow_nan=False, allow_infinity=False)

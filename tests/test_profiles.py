@@ -9,9 +9,9 @@ import numpy as np
 import pytest
 
 import meshaudit
+from meshaudit.judge.profiles import BUILTIN, Limit, ProfileError, load_profile, with_limit
+from meshaudit.judge.verdicts import breach_level
 from meshaudit.metrics import METRIC_INFO
-from meshaudit.profiles import BUILTIN, Limit, ProfileError, load_profile, with_limit
-from meshaudit.verdicts import breach_level
 
 
 def _rectangles(widths: list[float]) -> meshio.Mesh:

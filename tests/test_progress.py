@@ -18,12 +18,13 @@ import meshio
 
 from benchmarks.meshgen import distorted_plate
 from meshaudit import api
-from meshaudit.progress_bar import wanted
+from meshaudit.cli.progress import wanted
+from meshaudit.engine import run as engine
 from tests.conftest import REPO
 
 
 def test_audit_reports_progress_up_to_the_element_count():
-    mesh = distorted_plate(3 * api.CHUNK_SIZE // 2)  # two chunks
+    mesh = distorted_plate(3 * engine.CHUNK_SIZE // 2)  # two chunks
     calls = []
     api.audit(mesh, progress=lambda stage, done, total: calls.append((stage, done, total)))
     n = sum(len(c.data) for c in mesh.cells)  # meshio's count

@@ -28,11 +28,12 @@ from skfem import (
 )
 
 from meshaudit import audit
-from meshaudit import reference as ref
+from meshaudit.cells import quad as quad_ref
+from meshaudit.cells import triangle as triangle_ref
+from meshaudit.judge.profiles import BUILTIN, with_limit
+from meshaudit.mesh.reading import load
+from meshaudit.mesh.topology import edge_table, interior_pairs
 from meshaudit.metrics import quadratic
-from meshaudit.profiles import BUILTIN, with_limit
-from meshaudit.reading import load
-from meshaudit.topology import edge_table, interior_pairs
 
 SHAPE_METRICS = (
     "scaled_jacobian",
@@ -46,7 +47,11 @@ SHAPE_METRICS = (
 )
 
 # -- reference nodes of each cell type, and a straight-sided element of each --------------
-NODES = {"quad8": ref.QUAD8_NODES, "quad9": ref.QUAD9_NODES, "triangle6": ref.TRIANGLE6_NODES}
+NODES = {
+    "quad8": quad_ref.QUAD8_NODES,
+    "quad9": quad_ref.QUAD9_NODES,
+    "triangle6": triangle_ref.TRIANGLE6_NODES,
+}
 LINEAR = {"quad8": "quad", "quad9": "quad", "triangle6": "triangle"}
 
 
@@ -61,7 +66,7 @@ def straight_sided(cell_type: str, corners: np.ndarray) -> np.ndarray:
         n = np.column_stack([1 - r[:, 0] - r[:, 1], r[:, 0], r[:, 1]])
     else:
         n = np.stack(
-            [(1 + r[:, 0] * c[0]) * (1 + r[:, 1] * c[1]) / 4 for c in ref.QUAD_CORNERS], axis=1
+            [(1 + r[:, 0] * c[0]) * (1 + r[:, 1] * c[1]) / 4 for c in quad_ref.QUAD_CORNERS], axis=1
         )
     return n @ corners
 
@@ -88,9 +93,9 @@ def sympy_shape_functions(cell_type: str) -> tuple[list[sp.Expr], sp.Symbol, sp.
 
 
 DERIVATIVES = {
-    "quad8": ref.quad8_shape_derivatives,
-    "quad9": ref.quad9_shape_derivatives,
-    "triangle6": ref.triangle6_shape_derivatives,
+    "quad8": quad_ref.quad8_shape_derivatives,
+    "quad9": quad_ref.quad9_shape_derivatives,
+    "triangle6": triangle_ref.triangle6_shape_derivatives,
 }
 
 
@@ -110,10 +115,10 @@ def test_gauss_rules_integrate_what_they_claim():
     # Common practice: 3x3 Gauss-Legendre integrates x^5 y^4 exactly on [-1,1]^2 (zero for an
     # odd power, 2/5 * 2/5 for x^4 y^4); the 3-point interior triangle rule integrates
     # degree 2 exactly: int x^2 = int xy * 2 = 1/12 on the reference triangle.
-    g, w = ref.QUAD_GAUSS_3X3, ref.QUAD_WEIGHTS_3X3
+    g, w = quad_ref.QUAD_GAUSS_3X3, quad_ref.QUAD_WEIGHTS_3X3
     assert w @ (g[:, 0] ** 4 * g[:, 1] ** 4) == pytest.approx(4 / 25)
     assert w @ (g[:, 0] ** 5 * g[:, 1] ** 4) == pytest.approx(0.0, abs=1e-15)
-    t, v = ref.TRIANGLE_GAUSS_3, ref.TRIANGLE_WEIGHTS_3
+    t, v = triangle_ref.TRIANGLE_GAUSS_3, triangle_ref.TRIANGLE_WEIGHTS_3
     assert v @ t[:, 0] ** 2 == pytest.approx(1 / 12)
     assert v @ (t[:, 0] * t[:, 1]) == pytest.approx(1 / 24)
 
@@ -168,7 +173,9 @@ def distorted(cell_type: str, seed: int) -> np.ndarray:
 def test_det_j_at_gauss_points_and_nodes_match_scikit_fem(cell_type, seed):
     nodes = distorted(cell_type, seed)
     element = quadratic.ELEMENTS[cell_type]
-    gauss_points = ref.TRIANGLE_GAUSS_3 if cell_type == "triangle6" else ref.QUAD_GAUSS_3X3
+    gauss_points = (
+        triangle_ref.TRIANGLE_GAUSS_3 if cell_type == "triangle6" else quad_ref.QUAD_GAUSS_3X3
+    )
     ours = quadratic.jacobian_determinants(element.gauss_derivatives, nodes[None])[0]
     np.testing.assert_allclose(ours, skfem_det_j(cell_type, nodes, gauss_points), rtol=1e-12)
     at_nodes = quadratic.jacobian_determinants(element.node_derivatives, nodes[None])[0]
@@ -310,7 +317,7 @@ def test_midside_offsets_are_fractions_of_the_edge_length():
     nodes = straight_sided("quad8", np.array([[0.0, 0.0], [4.0, 0.0], [4.0, 4.0], [0.0, 4.0]]))
     nodes = np.column_stack([nodes, np.zeros(8)])
     nodes[4] += [0.6, -0.4, 0.3]
-    along, across = quadratic.midside_offsets(nodes[None], ref.QUAD_MIDSIDE_EDGES)
+    along, across = quadratic.midside_offsets(nodes[None], quad_ref.QUAD_MIDSIDE_EDGES)
     assert along[0, 0] == pytest.approx(0.15)
     assert across[0, 0] == pytest.approx(0.5 / 4.0)
     np.testing.assert_allclose(along[0, 1:], 0.0, atol=1e-15)
@@ -410,7 +417,7 @@ def test_collapsed_quarter_point_quad_is_the_crack_tip_element():
     nodes = collapsed_quad8(0.25)
     tip_nodes = NODES["quad8"][[0, 1, 4]]
     np.testing.assert_allclose(skfem_det_j("quad8", nodes, tip_nodes), 0.0, atol=1e-12)
-    assert (skfem_det_j("quad8", nodes, ref.QUAD_GAUSS_3X3) > 0.0).all()
+    assert (skfem_det_j("quad8", nodes, quad_ref.QUAD_GAUSS_3X3) > 0.0).all()
     twin = nodes[[0, 2, 3, 5, 6, 7]]
     mesh = meshio.Mesh(
         np.vstack([nodes, twin]), [("quad8", [list(range(8))]), ("triangle6", [list(range(8, 14))])]

@@ -15,7 +15,7 @@ import meshio
 import numpy as np
 
 from meshaudit import audit
-from meshaudit.profiles import profile_from_dict
+from meshaudit.judge.profiles import profile_from_dict
 
 SAMPLES = Path(__file__).resolve().parents[1] / "samples"
 

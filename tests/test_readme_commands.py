@@ -71,7 +71,7 @@ def _defects_listed(folder: Path, res: subprocess.CompletedProcess) -> None:
 def _every_source(folder: Path, res: subprocess.CompletedProcess) -> None:
     # "prints every limit with its source": a source column in each built-in's table, and
     # a row for every limit of each family
-    from meshaudit.profiles import BUILTIN
+    from meshaudit.judge.profiles import BUILTIN
 
     assert res.stdout.count("source") >= len(BUILTIN)
     rows = {tuple(re.split(r"\s*│\s*", line)[1:3]) for line in res.stdout.splitlines()}

@@ -14,9 +14,9 @@ import numpy as np
 from pipeline_meshes import TWO_GROUPS_MSH, strip, write
 
 import meshaudit
-from meshaudit.profiles import BUILTIN, Limit, with_limit
-from meshaudit.reading import load
-from meshaudit.regions import element_sets
+from meshaudit.judge.profiles import BUILTIN, Limit, with_limit
+from meshaudit.mesh.reading import load
+from meshaudit.mesh.regions import element_sets
 
 ABAQUS_INP = """\
 *HEADING

@@ -177,7 +177,7 @@ def test_a_tiny_element_beside_an_ordinary_one() -> None:
 def test_the_plot_frames_the_mesh_at_any_scale(k: int) -> None:
     # matplotlib lays out no axes on coordinates below about 1e-280: the page counts in a
     # power of ten near the mesh size, and the axes say so; the mesh fills the frame
-    from meshaudit.inspection import audit_mesh
+    from meshaudit import audit_mesh
     from meshaudit.outputs import plot
 
     audited = audit_mesh(shapes_mesh(10.0**k))

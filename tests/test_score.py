@@ -29,11 +29,11 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import meshaudit
-from meshaudit import api
+from meshaudit.engine import run as engine
+from meshaudit.judge.profiles import BUILTIN, Profile, ProfileError, profile_from_dict
+from meshaudit.mesh.reading import load
 from meshaudit.metrics import METRIC_INFO
-from meshaudit.profiles import BUILTIN, Profile, ProfileError, profile_from_dict
-from meshaudit.reading import load
-from meshaudit.report import metric_statistics
+from meshaudit.results.report import metric_statistics
 
 PROFILES = sorted(BUILTIN)
 
@@ -253,15 +253,15 @@ def test_a_flipped_shell_element_scores_in_the_warn_band():
 def test_score_statistics_follow_the_flipped_element_on_the_thread_pool(monkeypatch):
     # one element per chunk, so the threaded engine works out the statistics itself; they
     # must see the scores as the orientation check leaves them
-    monkeypatch.setattr(api, "CHUNK_SIZE", 1)
+    monkeypatch.setattr(engine, "CHUNK_SIZE", 1)
     seen = []
 
     def statistics(metrics, levels):
         seen.append(metrics["score"].copy())
         return metric_statistics(metrics, levels)
 
-    monkeypatch.setattr(api, "metric_statistics", statistics)
-    report = api.audit_elements(load(_bent_strip_with_a_flipped_element()), workers=2)
+    monkeypatch.setattr(engine, "metric_statistics", statistics)
+    report = engine.audit_elements(load(_bent_strip_with_a_flipped_element()), workers=2)
     assert len(seen) == 1
     np.testing.assert_array_equal(seen[0], report.score)
     assert report.statistics()["score"]["min"] == report.score.min() < 2 / 3
@@ -294,8 +294,7 @@ def test_a_profile_cannot_limit_the_score():
 def test_explain_says_where_the_score_sits():
     # 6 x 1 rectangle under standard: warn (aspect 6 > 5); T = (6 - 1)/(10 - 1) +
     # (37/12 - 1)/(101/20 - 1) from the closed forms of aspect ratio and condition
-    from meshaudit.explain import explain
-    from meshaudit.inspection import audit_mesh
+    from meshaudit import audit_mesh, explain
 
     pts = np.vstack([rectangle(6.0), rectangle(1.0) + np.array([10.0, 0.0])])
     audited = audit_mesh(meshio.Mesh(pts, [("quad", np.array([[0, 1, 2, 3], [4, 5, 6, 7]]))]))

@@ -1,4 +1,4 @@
-"""Edge adjacency and orientation groups (meshaudit.topology)."""
+"""Edge adjacency and orientation groups (meshaudit.mesh.topology)."""
 
 from __future__ import annotations
 
@@ -7,12 +7,8 @@ import numpy as np
 import pytest
 import shapely
 
-from meshaudit.reading import load
-from meshaudit.topology import (
-    connected_labels,
-    edge_table,
-    flipped_elements,
-)
+from meshaudit.mesh.reading import load
+from meshaudit.mesh.topology import connected_labels, edge_table, flipped_elements
 
 
 def grid(nx: int, ny: int, lift: float = 0.0) -> tuple[np.ndarray, np.ndarray]:
@@ -103,7 +99,7 @@ def test_a_moebius_band_cannot_be_oriented():
 @pytest.mark.parametrize("bound", [50, 2**62])
 def test_unique_keys_agrees_with_numpy_unique(bound):
     # Reference: numpy.unique (both the packed-sort path and the argsort fallback).
-    from meshaudit.topology import unique_keys
+    from meshaudit.mesh.topology import unique_keys
 
     rng = np.random.default_rng(3)
     key = rng.integers(0, 50, size=2000).astype(np.int64)
@@ -118,7 +114,7 @@ def test_unique_keys_agrees_with_numpy_unique(bound):
 def test_sort_keys_is_numpy_stable_argsort_for_any_key_width(bound):
     # numpy's stable argsort as the reference; wide bounds take the two-pass path that
     # node-pair keys of meshes with millions of nodes need
-    from meshaudit.topology import sort_keys
+    from meshaudit.mesh.topology import sort_keys
 
     rng = np.random.default_rng(11)
     key = rng.integers(0, bound, 20_000)

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..elements import ElementMesh
-from ..topology import CORNERS_PER_FAMILY, corner_rows
+from ..mesh.elements import ElementMesh
+from ..mesh.topology import corner_rows
 
 #: Odd 64-bit multipliers for hashing the sorted corner lists (any odd constants work;
 #: equal hashes are confirmed by comparing the node lists themselves).
@@ -43,7 +43,7 @@ def corner_hashes(mesh: ElementMesh) -> np.ndarray:
     do not matter), built column by column."""
     out = np.empty(mesh.n_elements, dtype=np.uint64)
     for block in mesh.blocks:
-        k = CORNERS_PER_FAMILY[block.family]
+        k = block.cell.n_corners
         columns = _sorted_columns(block.connectivity[:, :k], k)
         with np.errstate(over="ignore"):
             h = np.full(len(block), np.uint64(k))

@@ -8,7 +8,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from ..arrays import unique_values
-from ..topology import EdgeTable, connected_labels
+from ..mesh.topology import EdgeTable, connected_labels
 from .nodes import NodeClusters
 
 

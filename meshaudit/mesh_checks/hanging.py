@@ -36,8 +36,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..arrays import unique_values
-from ..elements import ElementMesh
-from ..topology import CORNERS_PER_FAMILY, EdgeTable
+from ..mesh.elements import ElementMesh
+from ..mesh.topology import EdgeTable
 from . import budget
 from .budget import expand as _expand
 from .edges import free_uses
@@ -212,7 +212,7 @@ def _node_of(
     side i at k + i; -1 for linear elements)."""
     out = np.full(element.size, -1, dtype=np.int64)
     for block in mesh.blocks:
-        k = CORNERS_PER_FAMILY[block.family]
+        k = block.cell.n_corners
         width = block.connectivity.shape[1]
         if element.size == 0 or (midside and width < 2 * k):
             continue

@@ -16,8 +16,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..arrays import unique_values
-from ..elements import ElementMesh
-from ..topology import CORNERS_PER_FAMILY, connected_labels
+from ..mesh.elements import ElementMesh
+from ..mesh.topology import connected_labels
 from . import budget
 
 #: Direction the nodes are sorted along when looking for coincident pairs: irrational
@@ -218,7 +218,7 @@ def without_degenerate(clusters: NodeClusters, mesh: ElementMesh) -> NodeCluster
     np.add.at(size, rep[members], 1)
     codes = []
     for block in mesh.blocks:
-        corners = block.connectivity[:, : CORNERS_PER_FAMILY[block.family]]
+        corners = block.connectivity[:, : block.cell.n_corners]
         touch = clustered[corners].any(axis=1)
         near, rows = corners[touch], block.index[touch].astype(np.int64)
         for column in near.T:

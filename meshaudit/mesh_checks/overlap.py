@@ -23,9 +23,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..arrays import unique_values
-from ..elements import ElementMesh
-from ..frames import anchor
-from ..topology import CORNERS_PER_FAMILY, EdgeTable, corner_rows, sort_keys
+from ..mesh.elements import ElementMesh
+from ..mesh.frames import anchor
+from ..mesh.topology import EdgeTable, corner_rows, sort_keys
 from . import budget
 
 #: Elements per slice in :func:`planar_shapes`: bounds its (n, k) temporaries.
@@ -61,12 +61,12 @@ def node_neighbours(mesh: ElementMesh, elements: np.ndarray) -> np.ndarray:
     marked = np.zeros(mesh.n_points, dtype=bool)
     out = [elements]
     for block in mesh.blocks:
-        conn = block.connectivity[:, : CORNERS_PER_FAMILY[block.family]]
+        conn = block.connectivity[:, : block.cell.n_corners]
         rows = np.searchsorted(block.index, elements)
         mine = (rows < len(block)) & (block.index[np.minimum(rows, len(block) - 1)] == elements)
         marked[conn[rows[mine]]] = True
     for block in mesh.blocks:
-        conn = block.connectivity[:, : CORNERS_PER_FAMILY[block.family]]
+        conn = block.connectivity[:, : block.cell.n_corners]
         out.append(block.index[marked[conn].any(axis=1)])
     return unique_values(np.concatenate(out))
 
@@ -321,7 +321,7 @@ def planar_shapes(mesh: ElementMesh, axes: np.ndarray) -> PlanarShapes:
     measured in slices of :data:`SHAPE_CHUNK` elements (bounded temporaries)."""
     shapes = PlanarShapes.empty(mesh.n_elements, axes, anchor(mesh))
     for block, sl in mesh.chunks(SHAPE_CHUNK):
-        corners = mesh.points[block.connectivity[sl, : CORNERS_PER_FAMILY[block.family]]]
+        corners = mesh.points[block.connectivity[sl, : block.cell.n_corners]]
         shapes.fill(block.index[sl], corners)
     return shapes
 

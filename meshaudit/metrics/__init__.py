@@ -1,17 +1,16 @@
 """Element quality metrics: pure functions over (n_elements, n_nodes, dim) arrays.
 
+The kernels live in one module per element family (:mod:`~meshaudit.metrics.quad`,
+:mod:`~meshaudit.metrics.triangle`; quadratic cells add :mod:`~meshaudit.metrics.quadratic`);
+:data:`meshaudit.cells.CELL_TYPES` says which kernel measures which cell type.
+
 :data:`METRICS` is the machine-readable contract: every report uses these names, in
 this order. Each entry says which direction is worse and what the metric means.
 """
 
 from __future__ import annotations
 
-from collections.abc import Callable
 from dataclasses import dataclass
-
-import numpy as np
-
-from . import quad, quadratic, triangle
 
 
 @dataclass(frozen=True)
@@ -21,7 +20,7 @@ class MetricInfo:
     unit: str
     meaning: str
     #: Whether a profile can set warn/fail limits on it: not for "none", nor for the
-    #: score, which is worked out from the verdict (see :mod:`meshaudit.score`).
+    #: score, which is worked out from the verdict (see :mod:`meshaudit.judge.score`).
     limited: bool = True
 
 
@@ -88,26 +87,12 @@ VALIDITY_FLAGS: tuple[str, ...] = (
 #: shell element whose normal disagrees with its neighbours' (the minority of its patch).
 WARNING_FLAGS: tuple[str, ...] = ("quarter_point", "flipped_normal")
 
-Kernel = Callable[[np.ndarray, np.ndarray], tuple[dict[str, np.ndarray], dict[str, np.ndarray]]]
-
-#: Metric family -> kernel taking (coords3 (n, k, 3), local (n, k, 2)).
-KERNELS: dict[str, Kernel] = {"quad": quad.measure, "triangle": triangle.measure}
-
-#: Cell types whose Jacobian part is measured by :func:`quadratic.measure` on top of the
-#: family kernel (which sees the corner nodes only).
-QUADRATIC_CELLS: frozenset[str] = frozenset(quadratic.ELEMENTS)
-
 __all__ = [
-    "KERNELS",
     "LIMITED_METRICS",
     "METRICS",
     "METRIC_INFO",
     "METRIC_NAMES",
-    "QUADRATIC_CELLS",
     "VALIDITY_FLAGS",
     "WARNING_FLAGS",
     "MetricInfo",
-    "quad",
-    "quadratic",
-    "triangle",
 ]

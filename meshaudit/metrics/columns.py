@@ -8,7 +8,7 @@ through memory once, which is what makes a million-element kernel fast.
 Where a shortcut below replaces the plain formula, it is an exact rearrangement: it
 gives the same floating-point result (see each docstring), barring overflow or
 underflow, which needs element sizes above about 1e75 or below 1e-75: the engine measures
-larger and smaller ones at a power-of-two scale (:mod:`meshaudit.scale`).
+larger and smaller ones at a power-of-two scale (:mod:`meshaudit.mesh.scale`).
 """
 
 from __future__ import annotations

@@ -32,7 +32,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..reference import QUAD_CORNERS, QUAD_GAUSS_2X2
+from ..cells.quad import QUAD_CORNERS, QUAD_GAUSS_2X2
 from .columns import (
     DEGREES,
     Point,
@@ -56,7 +56,7 @@ _G = float(QUAD_GAUSS_2X2[2, 0])  # 1 / sqrt(3)
 def _axes(x: tuple[Point, ...]) -> tuple[Point, Point, Point, Point]:
     """Robinson's e0..e3 from node columns ``x`` (4 nodes x d coordinates).
 
-    The rows of :data:`meshaudit.reference.QUAD_AXES`, written out term by term.
+    The rows of :data:`meshaudit.cells.quad.QUAD_AXES`, written out term by term.
     """
     x1, x2, x3, x4 = x
     e0 = tuple(0.25 * (((a + b) + c) + d) for a, b, c, d in zip(x1, x2, x3, x4))
@@ -512,7 +512,7 @@ def _spatial_warp(x: tuple[Point, ...], sides: list[Point]) -> np.ndarray:
 def measure(
     coords3: np.ndarray, p: np.ndarray
 ) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
-    """All quad metrics (but ``score``, added with the verdict: :mod:`meshaudit.score`)
+    """All quad metrics (but ``score``, added with the verdict: :mod:`meshaudit.judge.score`)
     and validity flags.
 
     ``coords3`` (n, 4, 3) are the nodes in space, ``p`` (n, 4, 2) the same nodes laid in

@@ -37,7 +37,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .. import reference as ref
+from ..cells.mapping import at_points, jacobian_determinants
+from ..cells.registry import CELL_TYPES, CellType
 from . import bernstein, triangle
 from .common import DEGENERATE_TOLERANCE, norm
 
@@ -68,15 +69,17 @@ class QuadraticElement:
     sample_points: np.ndarray  # (g + k, 2) the Gauss points, then the nodes
 
 
-def _element(n_corners, nodes, gauss, weights, derivatives, edges, space) -> QuadraticElement:
+def _element(cell: CellType) -> QuadraticElement:
+    gauss, nodes, derivatives = cell.gauss_points, cell.reference_nodes, cell.shape_derivatives
+    space = cell.jacobian_space
     samples = np.vstack([gauss, nodes])
     to_coeff = space.to_bernstein.T
     return QuadraticElement(
-        n_corners,
-        weights,
+        cell.n_corners,
+        cell.gauss_weights,
         derivatives(gauss),
         derivatives(nodes),
-        edges,
+        cell.midside_edges,
         space,
         derivatives(space.points),
         np.vstack([to_coeff, bernstein.basis_at(space, samples) @ to_coeff]),
@@ -84,60 +87,18 @@ def _element(n_corners, nodes, gauss, weights, derivatives, edges, space) -> Qua
     )
 
 
+#: The reference data of every quadratic surface cell type of
+#: :data:`meshaudit.cells.CELL_TYPES`, derivative tables worked out once.
 ELEMENTS: dict[str, QuadraticElement] = {
-    "quad8": _element(
-        4,
-        ref.QUAD8_NODES,
-        ref.QUAD_GAUSS_3X3,
-        ref.QUAD_WEIGHTS_3X3,
-        ref.quad8_shape_derivatives,
-        ref.QUAD_MIDSIDE_EDGES,
-        bernstein.SQUARE,
-    ),
-    "quad9": _element(
-        4,
-        ref.QUAD9_NODES,
-        ref.QUAD_GAUSS_3X3,
-        ref.QUAD_WEIGHTS_3X3,
-        ref.quad9_shape_derivatives,
-        ref.QUAD_MIDSIDE_EDGES,
-        bernstein.SQUARE,
-    ),
-    "triangle6": _element(
-        3,
-        ref.TRIANGLE6_NODES,
-        ref.TRIANGLE_GAUSS_3,
-        ref.TRIANGLE_WEIGHTS_3,
-        ref.triangle6_shape_derivatives,
-        ref.TRIANGLE_MIDSIDE_EDGES,
-        bernstein.TRIANGLE,
-    ),
+    name: _element(cell)
+    for name, cell in CELL_TYPES.items()
+    if cell.is_quadratic and cell.dimension == 2
 }
-
-
-def jacobian_determinants(derivatives: np.ndarray, p: np.ndarray) -> np.ndarray:
-    """det J (n, m) at the m points whose shape derivatives (m, 2, k) are given.
-
-    ``p`` (n, k, 2) are the nodes in the element's plane; J[a, b] = dx_b / dxi_a summed
-    over the nodes, in length^2 per reference area.
-    """
-    jac = _at_points(derivatives, p)
-    return jac[..., 0, 0] * jac[..., 1, 1] - jac[..., 0, 1] * jac[..., 1, 0]
-
-
-def _at_points(derivatives: np.ndarray, coords: np.ndarray) -> np.ndarray:
-    """sum_k dN_k/dxi_a x_k: (n, m, 2, d) from derivatives (m, 2, k) and coords (n, k, d).
-
-    One batched matrix product (much faster than the equivalent einsum).
-    """
-    m, _, k = derivatives.shape
-    flat = derivatives.reshape(2 * m, k) @ coords
-    return flat.reshape(coords.shape[0], m, 2, coords.shape[2])
 
 
 def surface_area(element: QuadraticElement, coords3: np.ndarray) -> np.ndarray:
     """Area (n,) of the curved surface: Gauss sum of |x_xi cross x_eta| over the element."""
-    t = _at_points(element.gauss_derivatives, coords3)
+    t = at_points(element.gauss_derivatives, coords3)
     u, v = t[:, :, 0], t[:, :, 1]
     nx = u[..., 1] * v[..., 2] - u[..., 2] * v[..., 1]
     ny = u[..., 2] * v[..., 0] - u[..., 0] * v[..., 2]
@@ -245,10 +206,6 @@ QUARTER_POINT_METRICS: tuple[str, ...] = (
 def without_quarter_points_name(metric: str) -> str:
     """Key, in a metrics dict, of ``metric`` measured without the quarter-point nodes."""
     return f"{metric}|without_quarter_points"
-
-
-#: Reference areas: of the square [-1, 1]^2 and of the triangle (0, 0), (1, 0), (0, 1).
-REFERENCE_AREA = {"quad8": 4.0, "quad9": 4.0, "triangle6": 0.5}
 
 
 @dataclass(frozen=True)
@@ -370,7 +327,12 @@ def without_quarter_points(
             centre = 0.5 * (nodes[:, a] + nodes[:, b])
             nodes[:, mid] = np.where(moved[:, side, None], centre, nodes[:, mid])
         twin = jacobian_part(element, nodes).metrics()
-        scale = 1.0 if order is None else REFERENCE_AREA["triangle6"] / REFERENCE_AREA[cell_type]
+        # det J is per reference area: the reference triangle is an eighth of the square
+        own, tri = (
+            CELL_TYPES[cell_type].reference_measure,
+            CELL_TYPES["triangle6"].reference_measure,
+        )
+        scale = 1.0 if order is None else tri / own
         for name in QUARTER_POINT_METRICS:
             if name in twin:
                 value = twin[name] if name == "jacobian_ratio" else twin[name] * scale

@@ -7,7 +7,7 @@ each gets these cell-data arrays, so a VTK-capable viewer can colour and thresho
 - one float array per metric (see ``meshaudit.metrics.METRICS``), ``score`` included;
   NaN where the metric is not defined or the cell was not audited; infinities stay;
 - ``verdict``: 0 ok, 1 warn, 2 fail (-1 not audited);
-- ``flags``: bit mask, bit i = ``meshaudit.report.FLAG_NAMES[i]`` (-1 not audited);
+- ``flags``: bit mask, bit i = ``meshaudit.results.report.FLAG_NAMES[i]`` (-1 not audited);
 - ``flag_<name>``: 0/1 per flag (-1 not audited).
 
 The input file is never written; the caller writes to a temporary file and renames it.
@@ -23,10 +23,10 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from ..elements import SUPPORTED_CELLS
+from ..cells.registry import CELL_TYPES
 from ..errors import OutputError
 from ..metrics import METRIC_NAMES
-from ..report import FLAG_NAMES, Report
+from ..results.report import FLAG_NAMES, Report
 
 if TYPE_CHECKING:
     import meshio
@@ -46,13 +46,13 @@ def annotate_format(path: Path) -> str:
 def block_rows(raw: meshio.Mesh) -> list[np.ndarray | None]:
     """Report indices of every cell of every block of ``raw``; None for blocks not audited.
 
-    Mirrors the read order of :func:`meshaudit.reading.build_elements`.
+    Mirrors the read order of :func:`meshaudit.mesh.reading.build_elements`.
     """
     rows: list[np.ndarray | None] = []
     position = 0
     for cells in raw.cells:
         n = len(cells.data)
-        if cells.type in SUPPORTED_CELLS and n:
+        if cells.type in CELL_TYPES and n:
             rows.append(np.arange(position, position + n))
             position += n
         else:

@@ -21,8 +21,8 @@ from pathlib import Path
 
 from ..errors import OutputError
 from ..paths import reason
-from ..process import stopping_signals_held
 from .destinations import Destination, check_destinations
+from .process import stopping_signals_held
 
 #: A renderer writes one output to the (temporary) path it is given.
 Renderer = Callable[[Path], None]

@@ -8,7 +8,7 @@ from rich.console import Console
 from rich.table import Table
 from rich.text import Text
 
-from ..pipeline import EXIT_FAIL, EXIT_PASS, Outcome, overall_status
+from ..results.status import EXIT_FAIL, EXIT_PASS, Outcome, overall_status
 
 STATUS_WORD = {EXIT_PASS: "pass", EXIT_FAIL: "FAIL"}
 

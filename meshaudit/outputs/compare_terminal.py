@@ -8,9 +8,9 @@ from rich.console import Console, Group
 from rich.table import Table
 from rich.text import Text
 
-from ..compare import Comparison
 from ..metrics import METRIC_INFO, METRIC_NAMES
-from ..report import PERCENTILES
+from ..results.compare import Comparison
+from ..results.report import PERCENTILES
 from .terminal import _fmt
 
 

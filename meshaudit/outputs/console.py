@@ -31,7 +31,7 @@ class PlainConsole(Console):
 
     def on_broken_pipe(self) -> None:
         """Rich would exit with status 1; instead stop printing and let the caller decide
-        (:func:`meshaudit.process.terminal_output` keeps the verdict's exit status)."""
+        (:func:`meshaudit.outputs.process.terminal_output` keeps the verdict's exit status)."""
         self.quiet = True
         raise BrokenPipeError(errno.EPIPE, "Broken pipe")
 

@@ -8,7 +8,7 @@ from collections.abc import Iterator
 import numpy as np
 
 from ..metrics import METRIC_NAMES
-from ..report import Report
+from ..results.report import Report
 
 LEADING = (
     "index",

@@ -14,11 +14,11 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from ..explain import Explanation
-from ..inspection import CORNERS, AuditedMesh, corner_table
-from ..mapping import map_points
-from ..reference import QUAD_CORNERS
-from ..scale import length_exponent
+from ..cells.mapping import map_points
+from ..cells.registry import CELL_TYPES, CellType
+from ..mesh.scale import length_exponent
+from ..results.explain import Explanation
+from ..results.inspection import AuditedMesh, corner_table
 from .mpl import drawable, new_figure
 from .plot import HALO, OUTLINE, mesh_view, plot_format
 from .projection import View, drawing_unit, plane_view, unit_text, with_unit
@@ -32,14 +32,20 @@ GRID_LINES = 9
 SAMPLES = 41
 
 
-def reference_grid(family: str) -> list[np.ndarray]:
+def _on_square(cell: CellType) -> bool:
+    """Whether the cell's reference element is the square [-1, 1]^2 (else the triangle)."""
+    return cell.n_corners == 4
+
+
+def reference_grid(cell: CellType) -> list[np.ndarray]:
     """Polylines (SAMPLES, 2) of the reference grid: xi = const and eta = const
     (and xi + eta = const on the triangle)."""
-    t = np.linspace(-1.0, 1.0, SAMPLES) if family == "quad" else np.linspace(0.0, 1.0, SAMPLES)
+    square = _on_square(cell)
+    t = np.linspace(-1.0, 1.0, SAMPLES) if square else np.linspace(0.0, 1.0, SAMPLES)
     levels = np.linspace(t[0], t[-1], GRID_LINES)
     lines = []
     for c in levels:
-        if family == "quad":
+        if square:
             lines.append(np.column_stack([np.full_like(t, c), t]))
             lines.append(np.column_stack([t, np.full_like(t, c)]))
         else:
@@ -50,18 +56,18 @@ def reference_grid(family: str) -> list[np.ndarray]:
     return lines
 
 
-def reference_boundary(family: str) -> np.ndarray:
+def reference_boundary(cell: CellType) -> np.ndarray:
     """Closed polyline (m, 2) around the reference element, finely sampled."""
     t = np.linspace(0.0, 1.0, SAMPLES)[:-1, None]
-    corners = QUAD_CORNERS if family == "quad" else np.array([[0.0, 0], [1, 0], [0, 1]])
+    corners = cell.corners
     loop = [a + t * (b - a) for a, b in zip(corners, np.roll(corners, -1, axis=0))]
     return np.vstack([*loop, corners[:1]])
 
 
-def reference_cells(family: str) -> np.ndarray:
+def reference_cells(cell: CellType) -> np.ndarray:
     """Small reference cells (m, v, 2) tiling the reference element: squares or triangles."""
     m = GRID_LINES - 1
-    if family == "quad":
+    if _on_square(cell):
         lv = np.linspace(-1.0, 1.0, GRID_LINES)
         a, b = (g.ravel() for g in np.meshgrid(lv[:-1], lv[:-1], indexing="ij"))
         d = lv[1] - lv[0]
@@ -75,9 +81,9 @@ def reference_cells(family: str) -> np.ndarray:
     return np.concatenate([tri_up, tri_down]).astype(float)
 
 
-def folded_cells(cell_type: str, family: str, nodes: np.ndarray) -> np.ndarray:
+def folded_cells(cell: CellType, nodes: np.ndarray) -> np.ndarray:
     """Mapped reference cells whose signed area is <= 0: where the map folds over."""
-    cells = map_points(cell_type, nodes, reference_cells(family))
+    cells = map_points(cell, nodes, reference_cells(cell))
     exponent = length_exponent(cells)  # the sign of an area at any finite size
     with np.errstate(under="ignore"):
         x, y = (np.ldexp(cells[..., k], -exponent) for k in (0, 1))
@@ -89,7 +95,7 @@ def element_view(audited: AuditedMesh, ex: Explanation) -> View:
     """The mesh page for planar meshes; the element's best-fit plane for shells."""
     if audited.report.summary.frame == "planar":
         return mesh_view(audited.report, audited.elements)
-    corners = ex.coordinates[: CORNERS[ex.family]]
+    corners = ex.coordinates[: CELL_TYPES[ex.cell_type].n_corners]
     return with_unit(plane_view(corners), drawing_unit(corners))
 
 
@@ -155,16 +161,17 @@ def _neighbours(ax: Axes, audited: AuditedMesh, ex: Explanation, view: View, win
 def _grid(ax: Axes, ex: Explanation, nodes: np.ndarray) -> None:
     from matplotlib.collections import LineCollection, PolyCollection
 
-    folded = folded_cells(ex.cell_type, ex.family, nodes)
+    cell = CELL_TYPES[ex.cell_type]
+    folded = folded_cells(cell, nodes)
     if len(folded):
         ax.add_collection(
             PolyCollection(
                 folded, facecolors="none", edgecolors=OUTLINE, hatch="////", lw=0.0, gid="folded"
             )
         )
-    lines = [map_points(ex.cell_type, nodes, line) for line in reference_grid(ex.family)]
+    lines = [map_points(cell, nodes, line) for line in reference_grid(cell)]
     ax.add_collection(LineCollection(lines, colors="#3b528b", linewidths=0.7, gid="grid"))
-    edge = map_points(ex.cell_type, nodes, reference_boundary(ex.family))
+    edge = map_points(cell, nodes, reference_boundary(cell))
     ax.plot(edge[:, 0], edge[:, 1], color=OUTLINE, lw=1.8, zorder=4, gid="outline")
 
 
@@ -172,9 +179,10 @@ def _nodes_and_gauss(ax: Axes, ex: Explanation, nodes: np.ndarray) -> None:
     from matplotlib import patheffects
 
     halo = [patheffects.withStroke(linewidth=3, foreground=HALO)]
-    centre = nodes[: CORNERS[ex.family]].mean(axis=0)
+    cell = CELL_TYPES[ex.cell_type]
+    centre = nodes[: cell.n_corners].mean(axis=0)
     for k, p in enumerate(nodes):
-        ax.plot(*p, "o", color=OUTLINE, ms=5 if k < CORNERS[ex.family] else 3.5, zorder=5)
+        ax.plot(*p, "o", color=OUTLINE, ms=5 if k < cell.n_corners else 3.5, zorder=5)
         label = f"{k + 1}: node {int(ex.node_numbers[k])}"
         if k < len(ex.det_j_nodes):
             label += f"\ndet J {ex.det_j_nodes[k]:.4g}"
@@ -191,7 +199,7 @@ def _nodes_and_gauss(ax: Axes, ex: Explanation, nodes: np.ndarray) -> None:
             path_effects=halo,
             zorder=6,
         )
-    g = map_points(ex.cell_type, nodes, ex.gauss_points)
+    g = map_points(cell, nodes, ex.gauss_points)
     ax.plot(g[:, 0], g[:, 1], "P", color="#fde725", mec=OUTLINE, ms=8, zorder=5, gid="gauss")
     for p, d in zip(g, ex.det_j_gauss):
         ax.annotate(

@@ -6,8 +6,8 @@ from rich.console import Console, Group
 from rich.table import Table
 from rich.text import Text
 
-from ..explain import Explanation
-from ..report import json_text
+from ..results.explain import Explanation
+from ..results.report import json_text
 from .terminal import _fmt
 
 

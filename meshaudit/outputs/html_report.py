@@ -17,10 +17,10 @@ from pathlib import Path
 import numpy as np
 
 from .. import __version__
-from ..elements import ElementMesh
+from ..mesh.elements import ElementMesh
 from ..metrics import METRIC_INFO, METRIC_NAMES, VALIDITY_FLAGS
-from ..percentiles import linear_percentiles
-from ..report import Report
+from ..results.percentiles import linear_percentiles
+from ..results.report import Report
 from . import plot
 from .plot import metric_limits
 from .ranges import drawable_range

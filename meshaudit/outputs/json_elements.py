@@ -1,7 +1,7 @@
 """Element records of the JSON report written straight to text, column by column.
 
 :func:`element_lines` gives, for each element, the same line ``json.dumps`` writes for
-its :meth:`meshaudit.report.Report.element_records` dict (separators ", " and ": ",
+its :meth:`meshaudit.results.report.Report.element_records` dict (separators ", " and ": ",
 ASCII only): every number goes through the same ``repr`` the json module uses, every
 name through the json module's own string encoder. It skips building one dict per
 element and walking it again in the encoder, which at a few thousand listed elements
@@ -14,9 +14,9 @@ import json
 
 import numpy as np
 
+from ..judge.verdicts import VERDICT_NAMES
 from ..metrics import METRIC_NAMES
-from ..report import FLAG_NAMES, Report
-from ..verdicts import VERDICT_NAMES
+from ..results.report import FLAG_NAMES, Report
 
 _text = json.JSONEncoder(allow_nan=False, separators=(", ", ": ")).encode
 
@@ -63,7 +63,7 @@ def element_lines(report: Report, rows: np.ndarray) -> list[str]:
 
 
 def numbers(values: np.ndarray) -> list[str]:
-    """JSON text of each float, as :func:`meshaudit.report.json_floats` gives it to the json
+    """JSON text of each float, as :func:`meshaudit.results.report.json_floats` gives it to the json
     module: its repr (-0.0 written 0.0), ``null`` where not defined (NaN), the string
     ``"inf"`` or ``"-inf"`` where infinite (JSON has no infinite number)."""
     values = values.astype(np.float64) + 0.0

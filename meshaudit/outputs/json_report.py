@@ -9,7 +9,7 @@ from typing import Any
 import numpy as np
 
 from .. import __version__
-from ..report import Report, json_text
+from ..results.report import Report, json_text
 from .json_elements import element_lines
 
 #: Bump when a field is renamed or removed; adding fields keeps the version.

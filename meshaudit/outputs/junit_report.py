@@ -13,11 +13,12 @@ import xml.etree.ElementTree as ET
 
 import numpy as np
 
-from ..finding_kinds import KIND_INFO, KIND_NAMES
-from ..metrics import METRIC_INFO, QUADRATIC_CELLS, WARNING_FLAGS
-from ..profiles import Profile
-from ..report import Report
-from ..verdicts import FAIL, INVALID_FLAGS, WARN
+from ..cells.registry import CELL_TYPES
+from ..judge.finding_kinds import KIND_INFO, KIND_NAMES
+from ..judge.profiles import Profile
+from ..judge.verdicts import FAIL, INVALID_FLAGS, WARN
+from ..metrics import METRIC_INFO, WARNING_FLAGS
+from ..results.report import Report
 from .safe_text import xml_safe
 
 #: How many element ids a failure message names.
@@ -47,7 +48,7 @@ def _warning_flags_that_apply(report: Report) -> list[str]:
     normals a mesh without absolute orientation (a shell, or a plane containing z).
     They fail their case only with ``--fail-on warn``, like warn limits."""
     applies = {
-        "quarter_point": bool(set(report.cell_types) & QUADRATIC_CELLS),
+        "quarter_point": any(CELL_TYPES[t].is_quadratic for t in report.cell_types),
         "flipped_normal": report.summary.orientation == "relative",
     }
     return [f for f in WARNING_FLAGS if applies.get(f, True)]

@@ -21,15 +21,15 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
-from ..elements import ElementMesh
 from ..errors import OutputError
-from ..frames import area_vectors
-from ..inspection import corner_table, has_curved_cells, outline_points
+from ..judge.score import BAND_EDGES
+from ..judge.verdicts import FAIL, WARN
+from ..mesh.elements import ElementMesh
+from ..mesh.frames import area_vectors
+from ..mesh.scale import length_exponent, scaled_lengths
 from ..metrics import METRIC_INFO, METRIC_NAMES
-from ..report import Report
-from ..scale import length_exponent, scaled_lengths
-from ..score import BAND_EDGES
-from ..verdicts import FAIL, WARN
+from ..results.inspection import corner_table, has_curved_cells, outline_points
+from ..results.report import Report
 from . import raster
 from .mpl import drawable, new_figure, prepare
 from .projection import (
@@ -105,7 +105,7 @@ def metric_limits(report: Report, metric: str) -> list[tuple[str, str, float]]:
     """(family, 'warn'|'fail', value) of every limit on ``metric`` for the families present.
 
     The score has no limits but its verdict bands: its marks are their edges (family
-    "all"), below 2/3 warn and below 1/3 fail (see :mod:`meshaudit.score`).
+    "all"), below 2/3 warn and below 1/3 fail (see :mod:`meshaudit.judge.score`).
     """
     if metric == "score":
         return [("all", kind, edge) for kind, edge in BAND_EDGES]
@@ -552,9 +552,9 @@ def finding_geometry(
 
     Read from each finding, where present: ``edge_xyz`` (m, 2, 3) segments, ``polylines``
     (node-index or coordinate arrays), ``node_xyz`` (k, 3) or else ``node_ids`` taken as
-    0-based node indices (a :class:`~meshaudit.findings.Finding` always has ``node_xyz``:
-    its ``node_ids`` are node numbers, see :mod:`meshaudit.labels`), and ``element_index``
-    (report rows). Anything else adds nothing.
+    0-based node indices (a :class:`~meshaudit.mesh_checks.findings.Finding` always has
+    ``node_xyz``: its ``node_ids`` are node numbers, see :mod:`meshaudit.mesh.labels`), and
+    ``element_index`` (report rows). Anything else adds nothing.
     """
     lines: list[np.ndarray] = []
     nodes: list[np.ndarray] = [np.zeros((0, 3))]

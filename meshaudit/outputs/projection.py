@@ -13,7 +13,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from ..scale import length_exponent, scaled_lengths
+from ..mesh.scale import length_exponent, scaled_lengths
 
 
 @dataclass(frozen=True)
@@ -54,7 +54,7 @@ def best_fit_view(points: np.ndarray) -> View:
     """View onto the best-fit plane of ``points`` (n, 3); x-y as is when they are flat in z.
 
     Worked out on the points scaled by a power of two where they are of extreme size (see
-    :mod:`meshaudit.scale`), so that no sum of squares overflows; the origin is given back
+    :mod:`meshaudit.mesh.scale`), so that no sum of squares overflows; the origin is given back
     in the points' own units."""
     if len(points) < 3 or np.ptp(points[:, 2]) == 0.0:  # x-y mesh: page = model x, y
         return View(np.zeros(3), np.eye(3)[:2], np.array([0.0, 0.0, 1.0]))
@@ -127,7 +127,7 @@ def with_unit(view: View, unit: float) -> View:
 
 
 def drawing_unit(points: np.ndarray) -> float:
-    """1, or for points of extreme size (beyond 2^+-200, see :mod:`meshaudit.scale`) the
+    """1, or for points of extreme size (beyond 2^+-200, see :mod:`meshaudit.mesh.scale`) the
     power of ten nearest their size: matplotlib cannot lay out axes on coordinates much
     below 1e-280, so such a mesh is drawn counting in this unit (the axes say so)."""
     k = length_exponent(points)

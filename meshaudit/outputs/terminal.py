@@ -13,7 +13,7 @@ from rich.console import Console, Group
 from rich.text import Text
 
 from ..metrics import METRIC_INFO, METRIC_NAMES
-from ..report import PERCENTILES, Report
+from ..results.report import PERCENTILES, Report
 from .terminal_findings import findings_table, loops_line, verdict_suffix
 
 if TYPE_CHECKING:

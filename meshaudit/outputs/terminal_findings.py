@@ -5,8 +5,8 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING
 
-from ..findings import Finding
-from ..report import Report
+from ..mesh_checks.findings import Finding
+from ..results.report import Report
 
 if TYPE_CHECKING:
     from rich.table import Table

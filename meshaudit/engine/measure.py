@@ -1,0 +1,158 @@
+"""Measuring and judging one chunk of elements: pure functions of their arguments.
+
+:func:`measure_elements` lays a chunk of one cell type in its measuring plane (surface
+cells) and calls the kernel its :class:`meshaudit.cells.CellType` names;
+:func:`measure_chunk` adds the verdicts under the profiles. Neither depends on anything
+but its arguments, so chunks can be measured in any order, thread or place.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+import numpy as np
+
+from ..cells.registry import CELL_TYPES, CellType
+from ..judge.profiles import Profile
+from ..judge.verdicts import judge_by_region
+from ..mesh.frames import Frame, to_local
+from ..mesh.scale import element_exponents, scaled_lengths
+from ..metrics import METRIC_NAMES, METRICS, quadratic
+from ..results.report import FLAG_BIT
+
+#: Metrics in length^2 (area and det J): the others are dimensionless.
+AREA_METRICS: tuple[str, ...] = tuple(m.name for m in METRICS if m.unit == "length^2")
+
+#: An element whose area lies outside 2^-200 .. 2^200 may be too small (or large) for
+#: the products of up to eight lengths its metrics take; it is measured again at its own
+#: scale (see :func:`measure_elements`).
+_AREA_RANGE = (2.0**-200, 2.0**200)
+
+
+def measure_elements(
+    cell: CellType | str,
+    coords3: np.ndarray,
+    frame: Frame,
+    exponent: int = 0,
+) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
+    """Metrics and flags of elements of one cell type (see :mod:`meshaudit.cells`),
+    nodes ``coords3`` (n, k, 3).
+
+    A surface cell (dimension 2) is laid in its measuring plane (``frame``) and its family
+    kernel measures the shape on the corner nodes; a quadratic cell type then gets its own
+    Jacobian part and midside checks on all its nodes. A solid (dimension 3) is measured
+    by its kernel on every node in space, with no measuring plane. Metrics the kernel does
+    not measure are NaN.
+
+    ``coords3`` may be the nodes scaled by 2^-``exponent`` (see
+    :func:`meshaudit.mesh.scale.normalised`): area and det J are given back in the nodes'
+    own units. An element whose area comes out beyond 2^+-200 is measured again with its
+    nodes scaled by a power of two of its own (:func:`meshaudit.mesh.scale.element_exponents`),
+    so that no product of lengths overflows or underflows. ``coords3`` are expected
+    within 2^+-:data:`meshaudit.mesh.scale.SAFE_EXPONENT` (:func:`audit_elements` sees to it),
+    so that any finite scale gives the same verdicts.
+    """
+    if isinstance(cell, str):
+        cell = CELL_TYPES[cell]
+    metrics, flags = _measure_elements(cell, coords3, frame)
+    area = metrics["area"]  # never negative
+    odd = np.flatnonzero(~((area > _AREA_RANGE[0]) & (area < _AREA_RANGE[1])))
+    if odd.size:  # rare: collapsed elements, or elements of extreme size
+        own = element_exponents(coords3[odd])
+        rows, own = odd[own != 0], own[own != 0]
+        if rows.size:
+            with np.errstate(under="ignore"):
+                scaled = np.ldexp(coords3[rows], -own[:, None, None])
+            part = _measure_elements(cell, scaled, frame)
+            _rescale(part[0], own)
+            _merge(metrics, flags, rows, part)
+    if exponent:
+        _rescale(metrics, exponent)
+    return metrics, flags
+
+
+def _measure_elements(
+    cell: CellType, coords3: np.ndarray, frame: Frame
+) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
+    if cell.dimension == 3:  # a solid: measured in space, no plane to lay it in
+        metrics, flags = cell.kernel(coords3)
+        return _with_every_metric(metrics, len(coords3)), flags
+    n_corners = cell.n_corners
+    corners = coords3[:, :n_corners]
+    if cell.is_quadratic:
+        local = to_local(coords3, frame, n_corners)
+        metrics, flags = cell.kernel(corners, local[:, :n_corners])
+        return quadratic.measure(cell.name, coords3, local, metrics, flags)
+    metrics, flags = cell.kernel(corners, to_local(corners, frame))
+    # det J of a linear surface element is bilinear or constant: its minimum is at a corner
+    metrics["det_j_lower_bound"] = metrics["det_j_corner_min"]
+    return _with_every_metric(metrics, len(corners)), flags
+
+
+def _with_every_metric(metrics: dict[str, np.ndarray], n: int) -> dict[str, np.ndarray]:
+    """``metrics`` with NaN for each metric of :data:`METRIC_NAMES` it lacks (in place)."""
+    for name in METRIC_NAMES:
+        if name not in metrics and name != "score":
+            metrics[name] = np.full(n, np.nan)
+    return metrics
+
+
+def _rescale(metrics: dict[str, np.ndarray], exponent: int | np.ndarray) -> None:
+    """Area and det J (and their quarter-point twins) measured on nodes scaled by
+    2^-exponent, in place, back in the nodes' own units."""
+    for name in list(metrics):
+        if name.split("|")[0] in AREA_METRICS:
+            metrics[name] = scaled_lengths(metrics[name], exponent, 2)
+
+
+def _merge(
+    metrics: dict[str, np.ndarray],
+    flags: dict[str, np.ndarray],
+    rows: np.ndarray,
+    part: tuple[dict[str, np.ndarray], dict[str, np.ndarray]],
+) -> None:
+    """Write the results ``part`` of elements ``rows`` over theirs (in place); a column
+    the part does not have (a quarter-point twin) is not defined for those rows."""
+    n = len(next(iter(flags.values())))
+    for target, values, fill in ((metrics, part[0], np.nan), (flags, part[1], False)):
+        for name in dict.fromkeys([*target, *values]):
+            dtype = (values[name] if name in values else target[name]).dtype
+            whole = target[name].copy() if name in target else np.full(n, fill, dtype)
+            whole[rows] = values[name] if name in values else fill
+            target[name] = whole
+
+
+def measure_chunk(
+    cell: CellType | str,
+    coords3: np.ndarray,
+    frame: Frame,
+    profile: Profile,
+    codes: np.ndarray | None = None,
+    region_profiles: Sequence[Profile] = (),
+    exponent: int = 0,
+) -> tuple[dict[str, np.ndarray], np.ndarray, dict[str, np.ndarray], np.ndarray]:
+    """Metrics, flag bits, breach levels and verdicts of one chunk of one cell type.
+
+    ``coords3`` may be the nodes scaled by 2^-``exponent`` (see
+    :func:`measure_elements`); the metrics are judged in the nodes' own units.
+
+    Element i is judged under ``profile`` when ``codes[i]`` is 0 (or ``codes`` is None),
+    else under ``region_profiles[codes[i] - 1]``. Its score (``metrics["score"]``, see
+    :mod:`meshaudit.judge.score`) is worked out here, with the verdict it belongs with.
+    Pure: depends only on its arguments, so chunks can be measured in any order or place.
+    """
+    if isinstance(cell, str):
+        cell = CELL_TYPES[cell]
+    metrics, flags = measure_elements(cell, coords3, frame, exponent)
+    if codes is None:
+        codes = np.zeros(len(coords3), dtype=np.int16)
+    levels, verdict, score = judge_by_region(
+        cell.family, metrics, flags, (profile, *region_profiles), codes
+    )
+    metrics["score"] = score
+    bits = np.zeros(len(verdict), dtype=np.uint32)
+    for name, flag in flags.items():
+        bits |= flag.astype(np.uint32) << np.uint32(FLAG_BIT[name])
+    for name, lvl in levels.items():
+        bits |= (lvl > 0).astype(np.uint32) << np.uint32(FLAG_BIT[name])
+    return metrics, bits, levels, verdict

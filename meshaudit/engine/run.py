@@ -1,0 +1,303 @@
+"""``audit_elements``: element arrays in, :class:`~meshaudit.results.report.Report` out.
+
+The engine measures the elements chunk by chunk (:func:`meshaudit.engine.measure.measure_chunk`,
+a pure function of its arguments) on a runner (:mod:`meshaudit.engine.pool`), copies each
+chunk's results into its own rows (:mod:`meshaudit.engine.sink`) and runs the mesh-level
+checks beside the chunks. Results do not depend on the number of threads.
+"""
+
+from __future__ import annotations
+
+import os
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..errors import InputError
+from ..judge.finding_kinds import MESH_CHECK_KINDS
+from ..judge.profiles import Profile, load_profile
+from ..judge.score import rebanded
+from ..judge.verdicts import WARN
+from ..mesh.elements import ElementBlock, ElementMesh
+from ..mesh.frames import Frame, anchor, centroids, choose_frame, frame_notes
+from ..mesh.regions import region_codes
+from ..mesh.scale import normalised, rescaled_findings, scaled_lengths
+from ..mesh.topology import EdgeTable, edge_table
+from ..mesh_checks.findings import (
+    MeshFindings,
+    TopologyPart,
+    find_topology,
+    finish,
+    unaudited_cells,
+)
+from ..mesh_checks.orientation import Orientation, nearly_flat_shell_note
+from ..mesh_checks.orientation import judge as judge_orientation
+from ..mesh_checks.overlap import BoxGrid, PlanarShapes
+from ..results.report import FLAG_BIT, MeshSummary, Report, metric_statistics
+from .measure import measure_chunk
+from .pool import Pending, SerialRunner, ThreadRunner, runner
+from .sink import ChunkSink, rows_of
+
+#: Elements measured per kernel call. Chunking bounds the kernels' temporaries (a few
+#: dozen (n,) float64 arrays) whatever the mesh size, so peak memory is the mesh plus the
+#: per-element result arrays plus a constant; 32768 elements keep those temporaries in the
+#: CPU cache (256 KiB each), which measured about twice as fast as 200000.
+CHUNK_SIZE = 32_768
+
+#: ``progress(stage, done, total)``: told before a stage starts (done 0) and as it goes.
+#: Stages: "read" (total 0: size unknown) and "measure" (total = elements). The core never
+#: prints; the command line turns these calls into a progress bar on a terminal.
+ProgressCallback = Callable[[str, int, int], None]
+
+
+def audit_elements(
+    mesh: ElementMesh,
+    profile: Profile | str | os.PathLike[str] | None = None,
+    fail_on: str = "fail",
+    regions: Mapping[str, Profile | str | os.PathLike[str]] | None = None,
+    progress: ProgressCallback | None = None,
+    workers: int | None = None,
+) -> Report:
+    """Audit element arrays already built (see :func:`meshaudit.mesh.reading.load`).
+
+    ``regions`` maps a region name (gmsh physical group or element set, see
+    :mod:`meshaudit.mesh.regions`) to the profile its elements are judged under.
+    ``progress`` (see :data:`ProgressCallback`) hears about every chunk measured.
+    ``workers``: threads to use (default :func:`meshaudit.engine.pool.default_workers`;
+    1 runs everything in the calling thread). The result does not depend on it.
+
+    Elements are measured in chunks of :data:`CHUNK_SIZE` by
+    :func:`~meshaudit.engine.measure.measure_chunk`, a pure function of its arguments (no
+    global state, nothing shared between chunks), so chunks can be measured in any order
+    or place: here a pool of threads takes them (numpy releases the interpreter lock in
+    its loops) while one of the threads also runs the mesh-level checks that need only
+    the connectivity (:func:`meshaudit.mesh_checks.findings.find_topology`); each chunk's
+    results are copied into its own rows of the per-element arrays. A distributed array
+    engine could map the same function over partitions.
+    """
+    if fail_on not in ("fail", "warn"):
+        raise InputError(f"fail_on must be 'fail' or 'warn', not {fail_on!r}")
+    run = _Run.prepare(mesh, profile, regions)
+    n = run.mesh.n_elements
+    if progress is not None:
+        progress("measure", 0, n)
+    chunks = list(run.mesh.chunks(CHUNK_SIZE))
+    pool = runner(workers, len(chunks))
+    try:
+        pending = pool.later(run.topology)
+        for size in pool.each(run.measure, chunks):
+            run.sink.done += size
+            if progress is not None:
+                progress("measure", run.sink.done, n)
+        notes, mesh_findings, stats = run.finish(pool, pending)
+    finally:
+        pool.shutdown()
+    return run.report(fail_on, notes, mesh_findings, stats)
+
+
+@dataclass
+class _Run:
+    """One audit: what its chunks and checks share, worked out once before measuring."""
+
+    mesh: ElementMesh  # normalised: nodes scaled by 2^-exponent
+    exponent: int
+    frame: Frame
+    profile: Profile
+    region_names: tuple[str, ...]
+    region_profiles: tuple[Profile, ...]
+    codes: np.ndarray  # (n,) region of each element (0: the base profile)
+    ids: np.ndarray
+    cell_types: tuple[str, ...]
+    type_codes: np.ndarray
+    families: tuple[str, ...]
+    family_codes: np.ndarray
+    sink: ChunkSink
+    checks: bool  # some mesh-level finding kind is enabled
+    shapes: PlanarShapes | None  # planar corner polygons for the overlap check
+
+    @classmethod
+    def prepare(
+        cls,
+        mesh: ElementMesh,
+        profile: Profile | str | os.PathLike[str] | None,
+        regions: Mapping[str, Profile | str | os.PathLike[str]] | None,
+    ) -> _Run:
+        prof = load_profile(profile)
+        region_names = tuple(regions or {})
+        region_profiles = tuple(load_profile(p) for p in (regions or {}).values())
+        codes = region_codes(mesh.n_elements, mesh.cell_sets, region_names)
+        # a mesh of extreme size is measured scaled by 2^-exponent (exactly), and its
+        # lengths given back in its own units (see meshaudit.mesh.scale.normalised)
+        mesh, exponent = normalised(mesh)
+        frame = choose_frame(mesh)
+        n = mesh.n_elements
+        cell_types = tuple(dict.fromkeys(b.cell_type for b in mesh.blocks))
+        families = tuple(dict.fromkeys(b.family for b in mesh.blocks))
+        ids = np.empty(n, dtype=np.int64)
+        type_codes = np.empty(n, dtype=np.int8)
+        family_codes = np.empty(n, dtype=np.int8)
+        for block in mesh.blocks:
+            ids[block.index] = block.ids
+            type_codes[block.index] = cell_types.index(block.cell_type)
+            family_codes[block.index] = families.index(block.family)
+        sink = ChunkSink(n, has_quadratic=any(b.cell.is_quadratic for b in mesh.blocks))
+        checks = any(prof.findings.enabled(kind) for kind in MESH_CHECK_KINDS)
+        shapes = None
+        if frame.kind == "planar" and frame.axes is not None and checks:
+            shapes = PlanarShapes.empty(n, frame.axes, anchor(mesh))
+        return cls(
+            mesh,
+            exponent,
+            frame,
+            prof,
+            region_names,
+            region_profiles,
+            codes,
+            ids,
+            cell_types,
+            type_codes,
+            families,
+            family_codes,
+            sink,
+            checks,
+            shapes,
+        )
+
+    def measure(self, block: ElementBlock, sl: slice) -> int:
+        """Measure, judge and store elements ``sl`` of ``block``; returns how many."""
+        rows = rows_of(block.index[sl])
+        coords3 = self.mesh.points[block.connectivity[sl]]
+        result = measure_chunk(
+            block.cell,
+            coords3,
+            self.frame,
+            self.profile,
+            self.codes[rows],
+            self.region_profiles,
+            self.exponent,
+        )
+        centre = centroids(coords3)
+        if self.exponent:
+            centre = scaled_lengths(centre, self.exponent, 1)
+        self.sink.store(rows, result, centre)
+        if self.shapes is not None:
+            self.shapes.fill(rows, coords3[:, : block.cell.n_corners])
+        return sl.stop - sl.start
+
+    def topology(self) -> tuple[EdgeTable | None, TopologyPart | None]:
+        """The edge table and the mesh-level checks that need only the connectivity."""
+        if not self.checks and self.frame.orientation == "+z":  # every finding kind is off
+            return None, None
+        table = edge_table(self.mesh)  # shared by the orientation flags and the findings
+        if not self.checks:
+            return table, None
+        return table, find_topology(self.mesh, self.ids, self.frame, self.profile.findings, table)
+
+    def finish(
+        self, pool: SerialRunner | ThreadRunner, pending: Pending
+    ) -> tuple[list[str], MeshFindings | None, dict | None]:
+        """After the last chunk: orientation, the rest of the mesh-level checks and (on a
+        pool of threads, meanwhile) the statistics. Returns (notes, findings, statistics)."""
+        mesh, frame, sink = self.mesh, self.frame, self.sink
+        # the statistics and the overlap check's grid of box centres need only the
+        # finished columns: worked out while the other checks finish (where orientation is
+        # relative, the statistics wait for the orientation check, which may move scores
+        # to warn)
+        relative = frame.orientation == "relative"
+        summing = grid = None
+        if pool.parallel:
+            if not relative:
+                summing = pool.later(metric_statistics, sink.metrics, sink.ordered_levels())
+            if self.shapes is not None and self.profile.findings.enabled("overlapping_elements"):
+                grid = pool.later(BoxGrid.build, self.shapes.boxes)
+        table, part = pending.result()
+        reversed_ = (sink.bits >> np.uint32(FLAG_BIT["reversed"])) & np.uint32(1) == 1
+        orientation = judge_orientation(mesh, frame, reversed_, table)
+        notes = [*mesh.numbering.notes, *frame_notes(frame), *nearly_flat_shell_note(mesh, frame)]
+        notes += mark_orientation(orientation, sink.bits, sink.verdict, sink.metrics["score"])
+        if pool.parallel and relative:
+            summing = pool.later(metric_statistics, sink.metrics, sink.ordered_levels())
+        mesh_findings = None
+        if part is not None:
+            grid_result = None if grid is None else grid.result
+            mesh_findings = finish(part, mesh, frame, self.shapes, grid_result, orientation)
+        stats = None if summing is None else summing.result()
+        return notes, mesh_findings, stats
+
+    def report(
+        self,
+        fail_on: str,
+        notes: list[str],
+        mesh_findings: MeshFindings | None,
+        stats: dict | None,
+    ) -> Report:
+        mesh, frame, sink = self.mesh, self.frame, self.sink
+        if mesh_findings is not None and self.exponent:
+            mesh_findings = rescaled_findings(mesh_findings, self.exponent)
+        findings = [] if mesh_findings is None else mesh_findings.findings
+        unaudited = unaudited_cells(mesh, self.profile.findings)
+        if unaudited is not None:
+            findings.append(unaudited)
+        summary = MeshSummary(
+            source=mesh.source,
+            n_points=mesh.n_points,
+            element_counts=mesh.element_counts(),
+            skipped=dict(mesh.skipped),
+            frame=frame.kind,
+            normal=None if frame.normal is None else [float(c) for c in frame.normal],
+            orientation=frame.orientation,
+            element_numbers=mesh.numbering.elements,
+            node_numbers=mesh.numbering.nodes,
+        )
+        return Report(
+            summary=summary,
+            profile=self.profile,
+            ids=self.ids,
+            cell_types=self.cell_types,
+            type_codes=self.type_codes,
+            families=self.family_codes,
+            cell_families=self.families,
+            centroids=sink.centre,
+            metrics=sink.metrics,
+            flag_bits=sink.bits,
+            levels=sink.ordered_levels(),
+            verdict=sink.verdict,
+            fail_on=fail_on,
+            notes=notes,
+            region_names=self.region_names,
+            region_profiles=self.region_profiles,
+            region_codes=self.codes,
+            findings=findings,
+            free_edges=mesh_findings.free_edges if mesh_findings is not None else None,
+            precomputed_statistics=stats,
+        )
+
+
+def mark_orientation(
+    orientation: Orientation,
+    bits: np.ndarray,
+    verdict: np.ndarray,
+    score: np.ndarray | None = None,
+) -> list[str]:
+    """Flag the elements facing against the rest of their patch (in place).
+
+    Only where orientation is relative (shells, planar meshes whose plane contains z;
+    see :mod:`meshaudit.mesh_checks.orientation`): the smaller orientation group of each patch gets
+    ``flipped_normal`` (verdict at least warn; ``score``, when given, moves to the warn
+    band with it). Against +z the kernels have flagged the clockwise elements
+    ``reversed`` already. Returns report notes (e.g. a patch that cannot be oriented at
+    all).
+    """
+    if orientation.reference != "relative":
+        return []
+    flipped = orientation.turned
+    bits |= flipped.astype(np.uint32) << np.uint32(FLAG_BIT["flipped_normal"])
+    raised = np.flatnonzero(flipped & (verdict < WARN))
+    if score is not None:
+        rebanded(score, raised, verdict[raised], np.full(raised.size, WARN))
+    verdict[raised] = WARN
+    twisted = int(orientation.twisted.sum())
+    if twisted:
+        return [f"{twisted} elements lie on a patch that cannot be consistently oriented"]
+    return []

@@ -1,0 +1,159 @@
+"""The mesh-level finding kinds, their default severities and why.
+
+Kind names are a machine-readable contract (JSON ``findings[].kind``, profile
+``[findings]`` keys, JUnit test-case names): don't rename them.
+
+Severities: ``fail`` fails the mesh (exit status 1), ``warn`` fails it only under
+``fail_on="warn"``, ``info`` never does, ``off`` skips the check.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+SEVERITIES: tuple[str, ...] = ("off", "info", "warn", "fail")
+
+#: Relative distance under which two distinct nodes are the same point: this times the
+#: shorter of the two nodes' shortest adjacent edges. From memory (common practice for
+#: node-merge tolerances in double precision, no single source).
+COINCIDENT_TOLERANCE = 1e-6
+
+#: Two elements overlap when their common area exceeds this fraction of the smaller
+#: element's area. meshaudit default, no published source: well above round-off, well
+#: below any overlap an analyst would mean.
+OVERLAP_FRACTION = 1e-3
+
+
+@dataclass(frozen=True)
+class FindingKind:
+    name: str
+    severity: str  # default severity
+    counts: str  # what ``count`` counts
+    meaning: str
+    rationale: str  # why the default severity
+    geometry: str = "any"  # "any", or the only frame kind it applies to ("planar", "shell")
+    #: "any", or the only orientation reference it applies to ("+z" or "relative", see
+    #: meshaudit.mesh_checks.orientation)
+    orientation: str = "any"
+
+    def applies_to(self, frame_kind: str, orientation: str = "any") -> bool:
+        """Whether this check runs on a mesh of ``frame_kind`` whose orientation is judged
+        against ``orientation`` ("any": whatever the reference)."""
+        return self.geometry in ("any", frame_kind) and (
+            self.orientation in ("any", orientation) or orientation == "any"
+        )
+
+
+KINDS: tuple[FindingKind, ...] = (
+    FindingKind(
+        "coincident_nodes",
+        "fail",
+        "places",
+        "distinct nodes at the same place (within the tolerance): not merged; counted by "
+        "place (a cluster of nodes at one place counts once, whatever its size)",
+        "unmerged nodes cut the load path; the solver sees two parts (common practice)",
+    ),
+    FindingKind(
+        "crack_edges",
+        "fail",
+        "free edges",
+        "free edges lying on other free edges: an unintended cut inside the part",
+        "the part is split along them; loads do not cross (common practice)",
+    ),
+    FindingKind(
+        "hanging_nodes",
+        "fail",
+        "nodes",
+        "corner nodes lying inside another element's free edge: a non-conforming "
+        "interface (a coarse element beside finer ones) with no shared node there",
+        "the two sides are not connected unless the solver constrains the hanging nodes; "
+        'set "info" where the interface is tied on purpose (common practice)',
+    ),
+    FindingKind(
+        "orphan_nodes",
+        "warn",
+        "nodes",
+        "nodes that no cell uses",
+        "they carry no stiffness: some solvers stop on a singular matrix, others drop "
+        "them (common practice)",
+    ),
+    FindingKind(
+        "duplicate_elements",
+        "fail",
+        "elements",
+        "elements on the same node set as an earlier element (any order or rotation)",
+        "stiffness and mass are counted twice (common practice)",
+    ),
+    FindingKind(
+        "overlapping_elements",
+        "fail",
+        "element pairs",
+        "element pairs covering a common area without sharing their node set (planar meshes)",
+        "material is counted twice where they overlap (common practice)",
+        "planar",
+    ),
+    FindingKind(
+        "inconsistent_winding",
+        "fail",
+        "elements",
+        "planar mesh: elements wound clockwise about +z (the elements flagged reversed)",
+        "a 2-D solver reads x and y, so it sees them inverted, negative det J (common practice)",
+        "planar",
+        "+z",
+    ),
+    FindingKind(
+        "opposite_normals",
+        "warn",
+        "elements",
+        "shell, or planar mesh whose plane contains z: elements facing against the rest of "
+        "their patch (the elements flagged flipped_normal)",
+        "shell solvers accept either normal, but top/bottom results, pressures and offsets "
+        "flip across the seam (common practice)",
+        "any",
+        "relative",
+    ),
+    FindingKind(
+        "non_manifold_edges",
+        "warn",
+        "edges",
+        "edges shared by more than two elements",
+        "intended at shell T-joints (stiffeners), a defect in a plane model (common practice)",
+    ),
+    FindingKind(
+        "unaudited_cells",
+        "warn",
+        "cells",
+        "surface or volume cells of a type meshaudit does not measure (solids, polygons): "
+        "their quality is unknown",
+        'a pass says nothing about them, so it is never silent; set "fail" where every '
+        "element must be audited (common practice: a gate reports what it did not check)",
+    ),
+)
+KIND_INFO: dict[str, FindingKind] = {k.name: k for k in KINDS}
+KIND_NAMES: tuple[str, ...] = tuple(k.name for k in KINDS)
+#: Kinds found by the checks that look at nodes and connectivity (the others need no
+#: mesh pass: ``unaudited_cells`` is read off the cell counts).
+MESH_CHECK_KINDS: tuple[str, ...] = tuple(k for k in KIND_NAMES if k != "unaudited_cells")
+
+
+def default_severities() -> dict[str, str]:
+    return {k.name: k.severity for k in KINDS}
+
+
+@dataclass(frozen=True)
+class FindingSettings:
+    """Severity of each finding kind plus the two tolerances of the mesh-level checks."""
+
+    severity: dict[str, str] = field(default_factory=default_severities)
+    coincident_tolerance: float = COINCIDENT_TOLERANCE
+    overlap_fraction: float = OVERLAP_FRACTION
+
+    def enabled(self, kind: str) -> bool:
+        return self.severity.get(kind, KIND_INFO[kind].severity) != "off"
+
+    def to_dict(self) -> dict[str, object]:
+        return {
+            "severity": dict(self.severity),
+            "coincident_tolerance": self.coincident_tolerance,
+            "overlap_fraction": self.overlap_fraction,
+        }

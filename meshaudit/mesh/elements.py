@@ -1,0 +1,109 @@
+"""The element arrays every later stage works on.
+
+``read`` produces an :class:`ElementMesh`: the node coordinates and one
+:class:`ElementBlock` per audited cell block. Nothing here computes a metric.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..cells.registry import CELL_TYPES, CellType
+from .labels import IN_MEMORY, Numbering
+
+#: meshio cell-type name prefixes by topological dimension (0 points, 1 lines, 2 surfaces,
+#: 3 solids). Quadratic and higher-order variants share their linear type's prefix.
+_DIMENSION_PREFIXES: tuple[tuple[int, tuple[str, ...]], ...] = (
+    (0, ("vertex",)),
+    (1, ("line",)),
+    (2, ("triangle", "quad", "polygon")),
+    (3, ("tetra", "hexahedron", "wedge", "pyramid", "polyhedron")),
+)
+
+
+def cell_dimension(cell_type: str) -> int:
+    """Topological dimension of a meshio cell type: 0 vertex, 1 line, 2 surface, 3 solid.
+
+    A type not known here counts as 3, so that cells meshaudit cannot name are reported
+    with the solids it does not audit rather than passed over with the lines.
+    """
+    for dim, prefixes in _DIMENSION_PREFIXES:
+        if cell_type.startswith(prefixes):
+            return dim
+    return 3
+
+
+@dataclass(frozen=True)
+class ElementBlock:
+    """One block of elements of a single cell type, in file order."""
+
+    cell_type: str
+    connectivity: np.ndarray  # (n, k) int64 node indices into ElementMesh.points
+    ids: np.ndarray  # (n,) int64: the element's number (see meshaudit.mesh.labels)
+    index: np.ndarray  # (n,) int64: 0-based position among audited elements
+
+    @property
+    def cell(self) -> CellType:
+        """What meshaudit knows about the block's cell type (see :mod:`meshaudit.cells`)."""
+        return CELL_TYPES[self.cell_type]
+
+    @property
+    def family(self) -> str:
+        return CELL_TYPES[self.cell_type].family
+
+    def __len__(self) -> int:
+        return int(self.connectivity.shape[0])
+
+
+@dataclass
+class ElementMesh:
+    """Node coordinates plus the audited element blocks of one mesh."""
+
+    points: np.ndarray  # (n_points, 3) float64
+    blocks: list[ElementBlock]
+    skipped: dict[str, int] = field(default_factory=dict)  # cell type -> count not audited
+    source: str = "<memory>"
+    cell_sets: dict[str, np.ndarray] = field(default_factory=dict)  # name -> element indices
+    #: Nodes that cells not audited (lines, vertices, solids...) refer to: not orphans.
+    other_nodes: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.int64))
+    #: How elements and nodes are numbered in reports (the file's labels or positions).
+    numbering: Numbering = IN_MEMORY
+
+    @property
+    def n_elements(self) -> int:
+        return sum(len(b) for b in self.blocks)
+
+    @property
+    def n_points(self) -> int:
+        return int(self.points.shape[0])
+
+    def element_counts(self) -> dict[str, int]:
+        counts: dict[str, int] = {}
+        for b in self.blocks:
+            counts[b.cell_type] = counts.get(b.cell_type, 0) + len(b)
+        return counts
+
+    def unaudited(self) -> dict[str, int]:
+        """Cells of a surface or volume type not audited (solids, polygons, types not
+        known): the part of :attr:`skipped` whose quality the audit does not cover."""
+        return {t: n for t, n in self.skipped.items() if cell_dimension(t) >= 2}
+
+    def used_nodes(self) -> np.ndarray:
+        """Boolean mask (n_points,): which nodes some audited element refers to.
+
+        One scatter per block, O(elements) time and n_points bytes; cheaper than a sort.
+        """
+        used = np.zeros(self.n_points, dtype=bool)
+        for b in self.blocks:
+            used[b.connectivity] = True
+        return used
+
+    def chunks(self, size: int) -> Iterator[tuple[ElementBlock, slice]]:
+        """Yield (block, slice) pairs covering every element, at most ``size`` per chunk."""
+        for block in self.blocks:
+            n = len(block)
+            for start in range(0, n, size):
+                yield block, slice(start, min(start + size, n))
