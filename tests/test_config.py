@@ -142,7 +142,7 @@ def test_profiles_lists_builtins_files_and_the_configured_limits(tmp_path, run_c
     assert res.returncode == 0
     for name in ("standard", "strict", "lenient"):
         assert f"{name}: " in res.stdout
-    assert res.stdout.count("aspect_ratio") == 6  # quad and triangle in each built-in
+    assert res.stdout.count("aspect_ratio") == 9  # quad, triangle, hexahedron in each built-in
     (tmp_path / "meshaudit.toml").write_text(
         "[limits.quad]\n"
         'skew = { warn = 12, fail = 24, source = "bracket plate project rule" }\n'

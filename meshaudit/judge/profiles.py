@@ -25,7 +25,6 @@ import math
 import os
 import sys
 from dataclasses import dataclass, field, replace
-from decimal import ROUND_CEILING, ROUND_FLOOR, Decimal
 from fractions import Fraction
 from pathlib import Path
 from typing import Any
@@ -33,6 +32,8 @@ from typing import Any
 from ..cells.registry import FAMILIES as CELL_FAMILIES
 from ..errors import ProfileError
 from ..metrics import METRIC_INFO
+from . import solid_limits
+from .derived import midside, outward
 from .finding_kinds import KIND_NAMES, SEVERITIES, FindingSettings
 
 
@@ -45,8 +46,11 @@ def toml_module() -> Any:
     return tomllib
 
 
-#: The element families a profile sets limits for (see :mod:`meshaudit.cells`).
-FAMILIES = CELL_FAMILIES
+#: The element families a profile sets limits for: those of :mod:`meshaudit.cells` and the
+#: solid families, whose kernels exist before the engine measures them.
+FAMILIES: tuple[str, ...] = tuple(
+    dict.fromkeys([*CELL_FAMILIES, "tetra", "hexahedron", "wedge", "pyramid"])
+)
 
 COMMON = "common practice, no single source"
 OWN = "meshaudit default, no published source"
@@ -163,14 +167,6 @@ _SQRT3 = math.sqrt(3.0)
 _GAUSS3 = math.sqrt(0.6)
 
 
-def _outward(value: float, worse: str) -> float:
-    """``value`` to five significant figures, rounded away from the ideal (see above)."""
-    exact = Decimal(f"{value:.12g}")
-    step = Decimal(1).scaleb(exact.adjusted() - 4)
-    rounding = ROUND_CEILING if worse == "high" else ROUND_FLOOR
-    return float(exact.quantize(step, rounding=rounding))
-
-
 def rectangle_condition(aspect: float) -> float:
     """Condition number of an aspect:1 rectangle, (r^2 + 1) / (2 r), at every corner."""
     return (aspect * aspect + 1.0) / (2.0 * aspect)
@@ -189,7 +185,7 @@ def cap_triangle_aspect(base_angle: float) -> float:
 
 
 def _pairs(fn: Any, warn: float, fail: float, worse: str, why: str) -> tuple[float, float, str]:
-    return (_outward(fn(warn), worse), _outward(fn(fail), worse), why)
+    return (outward(fn(warn), worse), outward(fn(fail), worse), why)
 
 
 _MAX_ANGLE_Q = (
@@ -238,24 +234,6 @@ _JR_T = (
     "along its edge, at the midside along-offset limits d; a linear triangle reads 1"
 )
 
-#: Midside-node limits (quadratic elements; linear ones read NaN and never breach).
-#: Along: det J vanishes at a corner when its edge's midside node reaches the quarter
-#: point, 0.25 (Henshell and Shaw 1975; Barsoum 1976, from memory); the warn and fail
-#: limits keep a working margin below it. Across: a midside node at h off the chord bends
-#: the edge's end tangents by atan(4 h / L) (14 deg at 0.0625, 31 deg at 0.15).
-_ALONG = "margin below the quarter point 0.25 where det J vanishes at the corner"
-_ACROSS = "{w} tilts the edge's end tangents {tw} deg off the chord, {f} tilts {tf} deg"
-
-
-def _midside(along: tuple[float, float], across: tuple[float, float], own: str) -> dict:
-    """Midside-offset limits with their reasons (``own``: the profile's own-choice source)."""
-    tilt = [f"{math.degrees(math.atan(4.0 * h)):.0f}" for h in across]
-    why = _ACROSS.format(w=across[0], tw=tilt[0], f=across[1], tf=tilt[1])
-    return {
-        "midside_offset_along": (*along, f"{own}; {_ALONG}"),
-        "midside_offset_across": (*across, f"{own}; {why}"),
-    }
-
 
 def _fraction(taper: float) -> str:
     """Short side over long side of the trapezoid of this taper, (1 - t)/(1 + t)."""
@@ -292,7 +270,7 @@ def _quad(
             "min_angle": (aw, af, anchor),
             "max_angle": (180.0 - aw, 180.0 - af, _MAX_ANGLE_Q),
             "condition": _pairs(rectangle_condition, *aspect, "high", _COND_Q),
-            **_midside(along, across, own),
+            **midside(along, across, own),
         }
     )
 
@@ -318,7 +296,7 @@ def _triangle(
             "max_angle": (180.0 - 2.0 * aw, 180.0 - 2.0 * af, _MAX_ANGLE_T),
             "condition": _pairs(rectangle_condition, *aspect, "high", _COND_T),
             "jacobian_ratio": _pairs(lambda d: (1 + 2 * d) / (1 - 2 * d), *along, "high", _JR_T),
-            **_midside(along, across, own),
+            **midside(along, across, own),
         }
     )
 
@@ -326,64 +304,104 @@ def _triangle(
 _TIGHT = OWN + "; tighter variant of 'standard'"
 _LOOSE = OWN + "; looser variant of 'standard'"
 
-STANDARD = Profile(
+
+def _builtin(
+    name: str,
+    description: str,
+    quad: dict[str, tuple[float, float]],
+    triangle_angle: tuple[float, float],
+    dihedral: tuple[float, float],
+    along: tuple[float, float],
+    across: tuple[float, float],
+    anchor: str,
+    own: str,
+) -> Profile:
+    """A built-in profile from its anchors: the quad's (``quad``: min_angle, aspect, taper,
+    warp), the triangle's smallest angle, the tetrahedra's smallest dihedral angle and the
+    midside offsets. The solid families carry the surface anchors over to their faces and
+    axes (:mod:`meshaudit.judge.solid_limits`)."""
+    mid = {"along": along, "across": across}
+    return Profile(
+        name,
+        description,
+        {
+            "quad": _quad(**quad, **mid, anchor=anchor, own=own),
+            "triangle": _triangle(triangle_angle, **mid, anchor=anchor, own=own),
+            "tetra": _limits(
+                solid_limits.tetra(triangle_angle, dihedral, **mid, anchor=anchor, own=own)
+            ),
+            "hexahedron": _limits(
+                solid_limits.hexahedron(
+                    quad["min_angle"],
+                    quad["aspect"],
+                    quad["taper"],
+                    quad["warp"],
+                    **mid,
+                    anchor=anchor,
+                    own=own,
+                )
+            ),
+            "wedge": _limits(
+                solid_limits.wedge(
+                    triangle_angle, quad["aspect"], quad["taper"], quad["warp"], anchor
+                )
+            ),
+            "pyramid": _limits(
+                solid_limits.pyramid(triangle_angle, dihedral, quad["taper"], quad["warp"], anchor)
+            ),
+        },
+    )
+
+
+STANDARD = _builtin(
     "standard",
-    "General structural analysis with linear and quadratic 2-D and shell elements.",
-    {
-        "quad": _quad(
-            min_angle=(45.0, 30.0),
-            aspect=(5.0, 10.0),
-            taper=(0.4, 0.6),
-            warp=(10.0, 20.0),
-            along=(0.1, 0.2),
-            across=(0.15, 0.3),
-            anchor=COMMON,
-            own=OWN,
-        ),
-        "triangle": _triangle(
-            min_angle=(30.0, 15.0), along=(0.1, 0.2), across=(0.15, 0.3), anchor=COMMON, own=OWN
-        ),
+    "General structural analysis with linear and quadratic 2-D, shell and solid elements.",
+    quad={
+        "min_angle": (45.0, 30.0),
+        "aspect": (5.0, 10.0),
+        "taper": (0.4, 0.6),
+        "warp": (10.0, 20.0),
     },
+    triangle_angle=(30.0, 15.0),
+    dihedral=(15.0, 10.0),
+    along=(0.1, 0.2),
+    across=(0.15, 0.3),
+    anchor=COMMON,
+    own=OWN,
 )
 
-STRICT = Profile(
+STRICT = _builtin(
     "strict",
     "Regions where stresses are read directly (fillets, notches, contact zones).",
-    {
-        "quad": _quad(
-            min_angle=(60.0, 45.0),
-            aspect=(3.0, 5.0),
-            taper=(0.25, 0.4),
-            warp=(5.0, 10.0),
-            along=(0.05, 0.1),
-            across=(0.1, 0.2),
-            anchor=_TIGHT,
-            own=_TIGHT,
-        ),
-        "triangle": _triangle(
-            min_angle=(40.0, 30.0), along=(0.05, 0.1), across=(0.1, 0.2), anchor=_TIGHT, own=_TIGHT
-        ),
+    quad={
+        "min_angle": (60.0, 45.0),
+        "aspect": (3.0, 5.0),
+        "taper": (0.25, 0.4),
+        "warp": (5.0, 10.0),
     },
+    triangle_angle=(40.0, 30.0),
+    dihedral=(20.0, 15.0),
+    along=(0.05, 0.1),
+    across=(0.1, 0.2),
+    anchor=_TIGHT,
+    own=_TIGHT,
 )
 
-LENIENT = Profile(
+LENIENT = _builtin(
     "lenient",
     "Stiffness or load-path models where local stress accuracy is not the goal.",
-    {
-        "quad": _quad(
-            min_angle=(30.0, 15.0),
-            aspect=(10.0, 20.0),
-            taper=(0.6, 0.8),
-            warp=(20.0, 35.0),
-            along=(0.15, 0.22),
-            across=(0.2, 0.4),
-            anchor=_LOOSE,
-            own=_LOOSE,
-        ),
-        "triangle": _triangle(
-            min_angle=(20.0, 10.0), along=(0.15, 0.22), across=(0.2, 0.4), anchor=_LOOSE, own=_LOOSE
-        ),
+    quad={
+        "min_angle": (30.0, 15.0),
+        "aspect": (10.0, 20.0),
+        "taper": (0.6, 0.8),
+        "warp": (20.0, 35.0),
     },
+    triangle_angle=(20.0, 10.0),
+    dihedral=(10.0, 5.0),
+    along=(0.15, 0.22),
+    across=(0.2, 0.4),
+    anchor=_LOOSE,
+    own=_LOOSE,
 )
 
 BUILTIN: dict[str, Profile] = {p.name: p for p in (STANDARD, STRICT, LENIENT)}
@@ -507,7 +525,7 @@ def load_profile(spec: str | os.PathLike[str] | Profile | None = None) -> Profil
 def with_limit(profile: Profile, family: str, metric: str, limit: Limit | None) -> Profile:
     """A copy of ``profile`` with one limit replaced (``None`` removes it).
 
-    Raises :class:`ProfileError` at once for a family other than quad or triangle, a
+    Raises :class:`ProfileError` at once for a family with no limits (see FAMILIES), a
     name that is not a metric taking limits (``score`` takes none: it follows the
     verdict), a limit that is not a :class:`Limit` with finite numbers (or None), or a
     warn limit past the fail limit.

@@ -10,7 +10,8 @@ Since 0 < 2^-T <= 1, ok elements score in (2/3, 1], warn elements in [1/3, 2/3] 
 failing elements in [0, 1/3) (in fact below 1/6: past a fail limit T > 1); invalid
 elements (inverted, non-convex, self-intersecting, degenerate) score exactly 0. So every
 failing element scores below every warn element, and every warn element below every ok
-one, and 1 means every limited metric at its ideal (the square, the equilateral triangle).
+one, and 1 means every limited metric at its ideal (the square, the equilateral triangle,
+the ideal solids: see :data:`SOLID_IDEAL`).
 
 Within its band the score falls as T grows. T sums, over the metrics the profile limits,
 how far each value x has moved from the metric's ideal x* toward its fail limit L (the
@@ -30,13 +31,17 @@ and 0 elsewhere.
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 from ..cells.registry import CELL_TYPES
 from .profiles import Limit
 
-#: Ideal value of each shape metric, per element family: the square and the equilateral
-#: triangle read these. Metrics not listed (area, det J) have no ideal value.
+#: Ideal value of each shape metric, per element family: the square, the equilateral
+#: triangle and the ideal solids (the regular tetrahedron, the cube, the right prism and the
+#: pyramid with all edges equal) read these. Metrics not listed (area, volume, det J) have
+#: no ideal value.
 _COMMON_IDEAL = {
     "jacobian_ratio": 1.0,
     "scaled_jacobian": 1.0,
@@ -47,10 +52,36 @@ _COMMON_IDEAL = {
     "condition": 1.0,
     "midside_offset_along": 0.0,
     "midside_offset_across": 0.0,
+    "edge_ratio": 1.0,
+    "mean_ratio": 1.0,
+    "radius_ratio": 1.0,
+}
+#: The regular tetrahedron's dihedral angle, arccos(1/3) = 70.53 deg.
+REGULAR_DIHEDRAL = math.degrees(math.acos(1.0 / 3.0))
+#: Angles of the ideal solids. The wedge and the pyramid mix faces: their smallest face
+#: angle is ideally 60 (the equilateral triangles) and their largest 90 (the square
+#: faces), the values their ideal element reads, so that element scores 1.
+SOLID_IDEAL: dict[str, dict[str, float]] = {
+    "tetra": {
+        "min_angle": 60.0,
+        "max_angle": 60.0,
+        "min_dihedral": REGULAR_DIHEDRAL,
+        "max_dihedral": REGULAR_DIHEDRAL,
+    },
+    "hexahedron": {
+        "min_angle": 90.0,
+        "max_angle": 90.0,
+        "min_dihedral": 90.0,
+        "max_dihedral": 90.0,
+    },
+    "wedge": {"min_angle": 60.0, "max_angle": 90.0},
+    "pyramid": {"min_angle": 60.0, "max_angle": 90.0},
 }
 IDEAL: dict[str, dict[str, float]] = {
     cell.family: {**_COMMON_IDEAL, **cell.ideal} for cell in CELL_TYPES.values()
 }
+for _family, _angles in SOLID_IDEAL.items():
+    IDEAL[_family] = {**IDEAL.get(_family, _COMMON_IDEAL), **_angles}
 
 #: Width of each verdict's band of scores.
 BAND = 1.0 / 3.0
