@@ -467,3 +467,69 @@ def test_every_box_past_the_condition_limit_is_past_the_aspect_ratio_limit(sides
         expected = np.sqrt((a * a + b * b + c * c) * (1 / a**2 + 1 / b**2 + 1 / c**2)) / 3
         np.testing.assert_allclose(judged.metrics["condition"], expected, rtol=1e-9)
         assert (judged.levels["condition"] <= judged.levels["aspect_ratio"]).all()
+
+
+@pytest.mark.parametrize("profile", PROFILES)
+@pytest.mark.parametrize(("kind", "level"), LEVELS)
+def test_a_lifted_face_corner_reaches_the_warp_limits_of_every_family(profile, kind, level):
+    # a unit-square face with one corner lifted by h reads acos(1/(1 + h^2)), the quad's
+    # anchor: the cube's top face, the wedge's side face 0-1-4-3, the pyramid's base
+    w = _limit(profile, "quad", "warp", kind)
+    lifts = [math.sqrt(1 / math.cos(math.radians(w * f)) - 1) for f in (1 - EPS, 1 + EPS)]
+    for family, cell, build in (
+        ("hexahedron", "hexahedron", lifted_cube),
+        ("wedge", "wedge", lifted_prism),
+        ("pyramid", "pyramid", lifted_pyramid),
+    ):
+        assert _limit(profile, family, "warp", kind) == w
+        judged = judge_solids(cell, [build(h) for h in lifts], profile)
+        np.testing.assert_allclose(judged.metrics["warp"], [w * (1 - EPS), w * (1 + EPS)])
+        assert judged.levels["warp"].tolist() == [level - 1, level], family
+
+
+@pytest.mark.parametrize("profile", PROFILES)
+@pytest.mark.parametrize(("kind", "level"), LEVELS)
+def test_quadratic_solids_take_the_midside_limits_of_the_surface_elements(profile, kind, level):
+    # a midside node moved d along its chord (or h across it, as a fraction of the chord)
+    for metric in ("midside_offset_along", "midside_offset_across"):
+        d = _limit(profile, "quad", metric, kind)
+        for cell, nodes, edge in (
+            ("tetra10", tetra10(regular_tetra()), (0, 1, 4)),
+            ("hexahedron20", hexahedron20(box(1.0)), (0, 1, 8)),
+        ):
+            family = "tetra" if cell == "tetra10" else "hexahedron"
+            assert _limit(profile, family, metric, kind) == d
+            a, b, m = edge
+            chord = nodes[b] - nodes[a]
+            across = np.cross(chord, [0.3, 0.4, 1.0])
+            across *= np.linalg.norm(chord) / np.linalg.norm(across)
+            move = chord if metric == "midside_offset_along" else across
+            shapes = []
+            for f in (1 - EPS, 1 + EPS):
+                shifted = nodes.copy()
+                shifted[m] += d * f * move
+                shapes.append(shifted)
+            judged = judge_solids(cell, shapes, profile)
+            np.testing.assert_allclose(judged.metrics[metric], [d * (1 - EPS), d * (1 + EPS)])
+            assert judged.levels[metric].tolist() == [level - 1, level], (cell, metric)
+
+
+@pytest.mark.parametrize("profile", PROFILES)
+@pytest.mark.parametrize(("kind", "level"), LEVELS)
+def test_a_flat_isosceles_face_reaches_both_tetra_face_angle_rules(profile, kind, level):
+    # base angles phi on the unit edge, apex 180 - 2 phi, circumradius R = 1/(2 sin 2 phi);
+    # the fourth corner over the circumcentre, R + 0.3 from the face's corners: the other
+    # faces are isosceles with apex angles 2 asin(c / (2 (R + 0.3))) between phi and 180 - 2 phi
+    phi = _limit(profile, "tetra", "min_angle", kind)
+    assert _limit(profile, "tetra", "max_angle", kind) == 180 - 2 * phi
+    shapes = []
+    for f in (1 + EPS, 1 - EPS):
+        tan = math.tan(math.radians(phi * f))
+        radius = 1 / (2 * math.sin(math.radians(2 * phi * f)))
+        face = np.array([[0.0, 0, 0], [1.0, 0, 0], [0.5, 0.5 * tan, 0]])
+        centre = [0.5, 0.25 * (tan - 1 / tan), math.sqrt((radius + 0.3) ** 2 - radius**2)]
+        shapes.append(positive(np.vstack([face, centre])))
+    judged = judge_solids("tetra", shapes, profile)
+    np.testing.assert_allclose(judged.metrics["min_angle"], [phi * (1 + EPS), phi * (1 - EPS)])
+    assert judged.levels["min_angle"].tolist() == [level - 1, level]
+    assert judged.levels["max_angle"].tolist() == [level - 1, level]
