@@ -49,10 +49,14 @@ from analytic_solids import (
     triangle_frustum,
     two_fold,
 )
+from conftest import SAMPLES
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from meshaudit.judge.profiles import BUILTIN
+from meshaudit.errors import ProfileError
+from meshaudit.judge.profiles import BUILTIN, Limit, load_profile, with_limit
+from meshaudit.judge.verdicts import judge
+from meshaudit.metrics.solid import tetra as tetra_kernel
 
 PROFILES = sorted(BUILTIN)
 LEVELS = (("warn", 1), ("fail", 2))
@@ -533,3 +537,37 @@ def test_a_flat_isosceles_face_reaches_both_tetra_face_angle_rules(profile, kind
     np.testing.assert_allclose(judged.metrics["min_angle"], [phi * (1 + EPS), phi * (1 - EPS)])
     assert judged.levels["min_angle"].tolist() == [level - 1, level]
     assert judged.levels["max_angle"].tolist() == [level - 1, level]
+
+
+# -- profile files and the solid families -------------------------------------------------
+
+
+def test_a_profile_file_overrides_a_solid_family_and_judge_applies_it(tmp_path):
+    # the README's example profile: [tetra] min_dihedral = { warn = 18, fail = 12 }; a flat
+    # sliver with its side dihedral angles at 16 deg (closed form h^2 = sec 16 - 1) passes
+    # 'standard' (warn below 15) and warns under the file
+    path = tmp_path / "bracket-fine.toml"
+    path.write_text('extends = "standard"\n[tetra]\nmin_dihedral = { warn = 18, fail = 12 }\n')
+    mine = load_profile(path)
+    assert mine.limit("tetra", "min_dihedral") == Limit(18.0, 12.0, f"user profile {path}")
+    sliver = two_fold(math.sqrt(1 / math.cos(math.radians(16)) - 1))
+    metrics, _ = tetra_kernel.measure(sliver[None], "tetra")
+    assert metrics["min_dihedral"][0] == pytest.approx(16.0)
+    full = judge_solids("tetra", [sliver], "standard")
+    levels, _, _ = judge("tetra", full.metrics, full.flags, mine)
+    assert levels["min_dihedral"].tolist() == [1]
+    assert full.levels["min_dihedral"].tolist() == [0]
+
+
+@pytest.mark.parametrize("metric", ["volume", "edge_ratio", "mean_ratio", "min_dihedral"])
+def test_a_surface_family_cannot_limit_a_metric_only_solids_measure(tmp_path, run_cli, metric):
+    # a quad never reads these: the limit is refused at once, in one line, exit status 2
+    path = tmp_path / "p.toml"
+    path.write_text(f"[quad]\n{metric} = {{ warn = 2, fail = 1 }}\n")
+    with pytest.raises(ProfileError, match="solid elements only"):
+        load_profile(path)
+    with pytest.raises(ProfileError, match="solid elements only"):
+        with_limit(BUILTIN["standard"], "triangle", metric, Limit(2.0, 1.0))
+    res = run_cli("check", SAMPLES / "bracket_plate.msh", "--profile", path)
+    assert res.returncode == 2
+    assert res.stderr.count("\n") == 1 and "solid elements only" in res.stderr

@@ -31,7 +31,7 @@ from typing import Any
 
 from ..cells.registry import FAMILIES as CELL_FAMILIES
 from ..errors import ProfileError
-from ..metrics import METRIC_INFO
+from ..metrics import METRIC_INFO, SOLID_METRICS
 from . import solid_limits
 from .derived import midside, outward
 from .finding_kinds import KIND_NAMES, SEVERITIES, FindingSettings
@@ -48,9 +48,10 @@ def toml_module() -> Any:
 
 #: The element families a profile sets limits for: those of :mod:`meshaudit.cells` and the
 #: solid families, whose kernels exist before the engine measures them.
-FAMILIES: tuple[str, ...] = tuple(
-    dict.fromkeys([*CELL_FAMILIES, "tetra", "hexahedron", "wedge", "pyramid"])
-)
+SOLID_FAMILIES: tuple[str, ...] = ("tetra", "hexahedron", "wedge", "pyramid")
+FAMILIES: tuple[str, ...] = tuple(dict.fromkeys([*CELL_FAMILIES, *SOLID_FAMILIES]))
+#: Metrics only solid elements measure: a surface family cannot limit them.
+SOLID_ONLY: frozenset[str] = frozenset(m.name for m in SOLID_METRICS)
 
 COMMON = "common practice, no single source"
 OWN = "meshaudit default, no published source"
@@ -135,6 +136,16 @@ def _check_order(family: str, metric: str, limit: Limit, where: str) -> None:
         )
 
 
+def _check_solid_only(family: str, metric: str, where: str) -> None:
+    """ProfileError for a metric only solids measure (volume, mean ratio, ...) limited for a
+    surface family: its elements never read it."""
+    if metric in SOLID_ONLY and family not in SOLID_FAMILIES:
+        raise ProfileError(
+            f"{where}: {family}.{metric}: {metric} is measured for solid elements only "
+            f"({', '.join(SOLID_FAMILIES)})"
+        )
+
+
 def _check_limit(family: Any, metric: Any, limit: Any, where: str) -> None:
     """ProfileError unless ``limit`` can stand for ``metric`` of ``family`` (None: none)."""
     if family not in FAMILIES:
@@ -143,6 +154,7 @@ def _check_limit(family: Any, metric: Any, limit: Any, where: str) -> None:
     if info is None or not info.limited:
         takes = ", ".join(m for m, i in METRIC_INFO.items() if i.limited)
         raise ProfileError(f"{where}: {metric!r} is not a metric that takes limits ({takes})")
+    _check_solid_only(family, metric, where)
     if limit is None:
         return
     if not isinstance(limit, Limit):
@@ -431,6 +443,7 @@ def profile_from_dict(
         for metric, spec in table.items():
             if metric not in METRIC_INFO or not METRIC_INFO[metric].limited:
                 raise ProfileError(f"{where}: {family}.{metric} is not a metric that takes limits")
+            _check_solid_only(family, metric, where)
             if not isinstance(spec, dict):
                 raise ProfileError(
                     f"{where}: {family}.{metric} must be a table like {{ warn = 1, fail = 2 }}"
