@@ -96,7 +96,7 @@ def test_user_profile_overrides_extends_and_switches_off(tmp_path):
         ("[quad]\naspect_ratio = { warn = 9, fail = 3 }\n", "above fail"),
         ("[quad]\nscaled_jacobian = { warn = 0.1, fail = 0.5 }\n", "below fail"),
         ("[quad]\nnot_a_metric = { warn = 1 }\n", "not a metric"),
-        ("[hexahedron]\n", "unknown key"),
+        ("[polyhedron]\n", "unknown key"),
         ("[quad]\naspect_ratio = { warn = 'x' }\n", "finite number"),
         ('extends = "nope"\n', "unknown profile"),
         ("[quad\n", "not valid TOML"),

@@ -52,7 +52,7 @@ STANDARD = meshaudit.BUILTIN_PROFILES["standard"]
     "family, metric, limit",
     [
         ("quad", "aspect_rato", meshaudit.Limit(4.0, 8.0)),  # a typo
-        ("hexahedron", "aspect_ratio", meshaudit.Limit(4.0, 8.0)),  # no such family
+        ("polyhedron", "aspect_ratio", meshaudit.Limit(4.0, 8.0)),  # no such family
         ("quad", "score", meshaudit.Limit(0.5, 0.3)),  # the score follows the verdict
         ("quad", "det_j_max", meshaudit.Limit(None, 1.0)),  # reported, never judged
         ("quad", "aspect_ratio", meshaudit.Limit(8.0, 4.0)),  # warn past fail

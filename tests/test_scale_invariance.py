@@ -22,7 +22,7 @@ from hypothesis import example, given, settings
 from hypothesis import strategies as st
 
 import meshaudit
-from meshaudit.metrics import METRIC_INFO
+from meshaudit.metrics import METRIC_INFO, length_power
 from meshaudit.outputs import json_report
 
 SIN60 = math.sin(math.radians(60.0))
@@ -71,8 +71,8 @@ SHAPES = [
     ),
 ]
 
-DIMENSIONLESS = [m for m, info in METRIC_INFO.items() if info.unit != "length^2"]
-AREAS = [m for m, info in METRIC_INFO.items() if info.unit == "length^2"]
+DIMENSIONLESS = [m for m in METRIC_INFO if length_power(m, 2) == 0]
+AREAS = [m for m in METRIC_INFO if length_power(m, 2) == 2]
 
 
 def shapes_mesh(scale: float, tilt_deg: float = 0.0) -> meshio.Mesh:
