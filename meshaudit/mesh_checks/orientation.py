@@ -41,7 +41,7 @@ class Orientation:
     reference: str  # "+z", "relative" or "none" (solids alone; see the module docstring)
     turned: np.ndarray  # (n,) bool: elements whose node order should be reversed
     twisted: np.ndarray  # (n,) bool: on a patch no node order can orient ("relative")
-    geometry: str  # "planar" or "shell", for the messages
+    geometry: str  # "planar", "shell" or "beside solids", for the messages
 
 
 def judge(
@@ -59,7 +59,8 @@ def judge(
     if frame.orientation == "+z":
         return Orientation("+z", reversed_.astype(bool, copy=True), none, "planar")
     groups = flipped_elements(mesh, table)
-    return Orientation("relative", groups.flipped, groups.twisted, frame.kind)
+    geometry = "beside solids" if frame.beside_solids else frame.kind
+    return Orientation("relative", groups.flipped, groups.twisted, geometry)
 
 
 def describe(orientation: Orientation, ids: np.ndarray, some: Callable[[np.ndarray], str]) -> str:
@@ -80,11 +81,10 @@ def describe(orientation: Orientation, ids: np.ndarray, some: Callable[[np.ndarr
             f"reading x and y sees their det J negative): reverse their node order: "
             f"{some(ids[turned])}"
         )
-    why = (
-        "a shell has no absolute orientation"
-        if orientation.geometry == "shell"
-        else "the mesh plane contains z, so there is no absolute orientation"
-    )
+    why = {
+        "shell": "a shell has no absolute orientation",
+        "beside solids": "surface elements beside solids have no absolute orientation",
+    }.get(orientation.geometry, "the mesh plane contains z, so there is no absolute orientation")
     parts = []
     if turned.size:
         parts.append(
