@@ -1,4 +1,4 @@
-"""Synthetic distorted quad meshes for the benchmark: a perturbed structured grid.
+"""Synthetic distorted meshes for the benchmark: perturbed structured grids.
 
 The sample part is a fictional "bracket plate", 200 x 120 mm, meshed with a structured
 grid of four-node quads whose interior nodes are moved by a seeded random amount (at most
@@ -6,6 +6,13 @@ a fifth of the grid spacing in x and in y, so every grid element stays convex an
 tenths of a percent draw a warning under the standard profile). A few
 elements are then spoiled on purpose so that the audit has something to find: one
 reversed (clockwise), one bow-tie, one collapsed and one non-convex element.
+
+For the solids (:func:`distorted_block`), the plate's 200 x 120 x 40 mm block is meshed
+with a structured grid of eight-node hexahedra, or of those cubes each cut into six
+tetrahedra along its main diagonal (the same cut in every cube, so neighbours share their
+faces' diagonals), interior nodes moved by up to a fifth (hexahedra) or a tenth
+(tetrahedra) of the spacing along each axis; one element is listed mirrored (inverted)
+and one has two corners on one node (degenerate).
 """
 
 from __future__ import annotations
@@ -111,3 +118,62 @@ def write_mesh(mesh: meshio.Mesh, path: Path) -> Path:
     fmt, options = FORMATS[path.suffix.lstrip(".")]
     meshio.write(path, mesh, file_format=fmt, **options)
     return path
+
+
+BLOCK_MM = (200.0, 120.0, 40.0)
+#: Largest random move of an interior node, as a fraction of the spacing, per cell type.
+BLOCK_JITTER = {"hexahedron": 0.2, "tetra": 0.1}
+#: The six tetrahedra of a cube along its main diagonal 0-7, corners numbered i + 2j + 4k:
+#: 0 -> one axis -> two axes -> 7, one per order of the axes (a conforming cut).
+_CUBE_TETS = np.array(
+    [[0, 1, 3, 7], [0, 1, 5, 7], [0, 2, 3, 7], [0, 2, 6, 7], [0, 4, 5, 7], [0, 4, 6, 7]]
+)
+#: The cube's corners in meshio's hexahedron order (bottom counter-clockwise, then top).
+_HEX_ORDER = np.array([0, 1, 3, 2, 4, 5, 7, 6])
+
+
+def _block_grid(cubes: int) -> tuple[int, int, int]:
+    """(nx, ny, nz) with about ``cubes`` cells, in the block's 5:3:1 proportions."""
+    unit = (cubes / (BLOCK_MM[0] * BLOCK_MM[1] * BLOCK_MM[2] / BLOCK_MM[2] ** 3)) ** (1 / 3)
+    return tuple(max(1, round(unit * side / BLOCK_MM[2])) for side in BLOCK_MM)
+
+
+def distorted_block(n_elements: int, cell_type: str = "hexahedron", seed: int = 7) -> meshio.Mesh:
+    """The bracket plate's block meshed with about ``n_elements`` hexahedra or tetrahedra
+    (``cell_type`` "hexahedron" or "tetra"), interior nodes moved at random, one element
+    mirrored and one collapsed (``mesh.info["planted"]``: name -> element index)."""
+    per_cube = 6 if cell_type == "tetra" else 1
+    nx, ny, nz = _block_grid(max(1, round(n_elements / per_cube)))
+    rng = np.random.default_rng(seed)
+    axes = [np.linspace(0.0, size, n + 1) for size, n in zip(BLOCK_MM, (nx, ny, nz))]
+    z, y, x = np.meshgrid(axes[2], axes[1], axes[0], indexing="ij")
+    points = np.column_stack([x.ravel(), y.ravel(), z.ravel()])
+    node = np.arange(points.shape[0], dtype=np.int64).reshape(nz + 1, ny + 1, nx + 1)
+    inner = np.ones(node.shape, dtype=bool)
+    inner[[0, -1]] = inner[:, [0, -1]] = inner[:, :, [0, -1]] = False
+    spacing = np.array([BLOCK_MM[0] / nx, BLOCK_MM[1] / ny, BLOCK_MM[2] / nz])
+    jitter = BLOCK_JITTER[cell_type]
+    moved = node[inner]
+    points[moved] += rng.uniform(-jitter, jitter, (moved.size, 3)) * spacing
+    # the 8 corners of every cube, numbered i + 2j + 4k
+    corners = np.stack(
+        [node[k : nz + k, j : ny + j, i : nx + i] for k in (0, 1) for j in (0, 1) for i in (0, 1)],
+        axis=-1,
+    ).reshape(-1, 8)
+    if cell_type == "tetra":
+        cells = corners[:, _CUBE_TETS].reshape(-1, 4)
+        a, b, c = (points[cells[:, k]] - points[cells[:, 0]] for k in (1, 2, 3))
+        mirrored = np.einsum("ij,ij->i", np.cross(a, b), c) < 0.0
+        cells[mirrored] = cells[mirrored][:, [0, 2, 1, 3]]  # every tetrahedron positive
+    else:
+        cells = corners[:, _HEX_ORDER]
+    middle = len(cells) // 2
+    planted = {"inverted": middle, "degenerate": middle + len(cells) // 4}
+    if cell_type == "tetra":
+        cells[middle] = cells[middle][[0, 2, 1, 3]]  # mirrored: det J < 0
+    else:
+        cells[middle] = np.roll(cells[middle], 4)  # bottom and top swapped: det J < 0
+    cells[planted["degenerate"], 1] = cells[planted["degenerate"], 0]  # a zero-length edge
+    mesh = meshio.Mesh(points, [(cell_type, cells)])
+    mesh.info = {"planted": planted, "grid": (nx, ny, nz)}
+    return mesh

@@ -3,9 +3,11 @@
     python -m benchmarks.run                       # 10^4, 10^5 and 10^6 quads
     python -m benchmarks.run --sizes 1e7 --no-plot # ten million (about 3 GB of files)
     python -m benchmarks.run --sizes 1000 --out /tmp/bench   # a smoke run
+    python -m benchmarks.run --cells tetra,hexahedron --sizes 1e5,1e6 --no-plot
 
-For each size a distorted bracket-plate quad mesh (see :mod:`benchmarks.meshgen`) is
-written as binary gmsh msh 4.1 and as VTU. For each file, in the same run:
+For each size a distorted bracket-plate mesh (see :mod:`benchmarks.meshgen`) is written as
+binary gmsh msh 4.1 and as VTU: quads (the default), or with ``--cells`` tetrahedra and
+hexahedra filling the plate's block. For each file, in the same run:
 
 - bare read: ``python -c "meshio.read(FILE)"`` in a fresh interpreter, wall time;
 - audit: ``python -m meshaudit check FILE --json OUT --quiet`` from this checkout (no
@@ -35,7 +37,7 @@ import time
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from .meshgen import distorted_plate, write_mesh
+from .meshgen import distorted_block, distorted_plate, write_mesh
 
 REPO = Path(__file__).resolve().parents[1]
 STAGES = (
@@ -66,6 +68,7 @@ class Run:
 class Row:
     size: int
     fmt: str
+    cell: str
     file_mb: float
     bare: Run
     audit: Run
@@ -122,19 +125,25 @@ def best_of(repeat: int, argv: list[str], cwd: Path) -> Run:
     return min(runs, key=lambda r: r.seconds)
 
 
-def prepare(size: int, formats: list[str], outdir: Path) -> dict[str, Path]:
-    """Mesh files of ``size`` elements, generated once and reused if already there."""
-    paths = {fmt: outdir / f"plate_{size}.{fmt}" for fmt in formats}
+#: Cell types the benchmark meshes: quads on the plate, solids in its block.
+CELLS = ("quad", "tetra", "hexahedron")
+
+
+def prepare(size: int, formats: list[str], outdir: Path, cell: str = "quad") -> dict[str, Path]:
+    """Mesh files of ``size`` elements of ``cell`` type, generated once and reused if
+    already there."""
+    stem = f"plate_{size}" if cell == "quad" else f"block_{cell}_{size}"
+    paths = {fmt: outdir / f"{stem}.{fmt}" for fmt in formats}
     missing = [fmt for fmt, p in paths.items() if not p.exists()]
     if missing:
-        mesh = distorted_plate(size)
+        mesh = distorted_plate(size) if cell == "quad" else distorted_block(size, cell)
         for fmt in missing:
             write_mesh(mesh, paths[fmt])
         del mesh
     return paths
 
 
-def measure(path: Path, size: int, outdir: Path, repeat: int, plot: bool) -> Row:
+def measure(path: Path, size: int, outdir: Path, repeat: int, plot: bool, cell: str) -> Row:
     py = sys.executable
     bare_argv = [py, "-c", BARE_READ, str(path)]
     json_out = outdir / f"{path.name}.report.json"
@@ -163,7 +172,8 @@ def measure(path: Path, size: int, outdir: Path, repeat: int, plot: bool) -> Row
         stages = result["times"]
         not_ok = result["verdicts"]["warn"] + result["verdicts"]["fail"]
     file_mb = path.stat().st_size / 1e6
-    return Row(size, path.suffix.lstrip("."), file_mb, bare, audit, elements_only, stages, not_ok)
+    fmt = path.suffix.lstrip(".")
+    return Row(size, fmt, cell, file_mb, bare, audit, elements_only, stages, not_ok)
 
 
 def help_time(repeat: int) -> float:
@@ -176,6 +186,7 @@ def markdown(rows: list[Row], help_seconds: float) -> str:
         "elements",
         "not ok",
         "format",
+        "cells",
         "file MB",
         "bare read s",
         "audit s",
@@ -192,6 +203,7 @@ def markdown(rows: list[Row], help_seconds: float) -> str:
             f"{r.size:,}",
             "-" if r.not_ok is None else f"{r.not_ok:,}",
             r.fmt,
+            r.cell,
             f"{r.file_mb:.1f}",
             f"{r.bare.seconds:.2f}",
             f"{r.audit.seconds:.2f}",
@@ -240,6 +252,11 @@ def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(prog="python -m benchmarks.run", description=__doc__)
     parser.add_argument("--sizes", default="1e4,1e5,1e6", help="element counts, comma-separated")
     parser.add_argument("--formats", default="msh,vtu", help="msh and/or vtu")
+    parser.add_argument(
+        "--cells",
+        default="quad",
+        help=f"cell types, comma-separated: {', '.join(CELLS)} (solids fill the plate's block)",
+    )
     parser.add_argument("--out", type=Path, default=REPO / "benchmarks" / "out")
     parser.add_argument("--markdown", type=Path, help="Markdown table (default OUT/results.md)")
     parser.add_argument("--repeat", type=int, default=1, help="best of N timed runs")
@@ -254,20 +271,19 @@ def main(argv: list[str] | None = None) -> int:
 
     args.out.mkdir(parents=True, exist_ok=True)
     formats = [f.strip() for f in args.formats.split(",") if f.strip()]
+    cells = [c.strip() for c in args.cells.split(",") if c.strip()]
+    unknown = sorted(set(cells) - set(CELLS))
+    if unknown:
+        parser.error(f"--cells: not a benchmark cell type: {', '.join(unknown)}")
     rows: list[Row] = []
-    for size in parse_sizes(args.sizes):
-        paths = prepare(size, formats, args.out)
-        plot = not args.no_plot and size <= args.plot_up_to
-        for fmt in formats:
-            row = measure(paths[fmt], size, args.out, args.repeat, plot)
-            rows.append(row)
-            print(
-                f"{size:>10,} {fmt}: bare read {row.bare.seconds:.2f} s, "
-                f"audit {row.audit.seconds:.2f} s (x{row.ratio:.2f}), "
-                f"peak {row.audit.peak_mb:.0f} MB; without mesh checks "
-                f"{row.elements_only.seconds:.2f} s (x{row.elements_ratio:.2f})",
-                flush=True,
-            )
+    for cell in cells:
+        for size in parse_sizes(args.sizes):
+            paths = prepare(size, formats, args.out, cell)
+            plot = not args.no_plot and size <= args.plot_up_to
+            for fmt in formats:
+                row = measure(paths[fmt], size, args.out, args.repeat, plot, cell)
+                rows.append(row)
+                _progress(row)
     text = f"Machine: {machine()}.\n\n" + markdown(rows, help_time(args.repeat))
     dest = args.markdown or args.out / "results.md"
     dest.write_text(text, encoding="utf-8")
@@ -275,6 +291,16 @@ def main(argv: list[str] | None = None) -> int:
     print(text, end="")
     print(f"(written to {dest})")
     return 0
+
+
+def _progress(row: Row) -> None:
+    print(
+        f"{row.size:>10,} {row.cell} {row.fmt}: bare read {row.bare.seconds:.2f} s, "
+        f"audit {row.audit.seconds:.2f} s (x{row.ratio:.2f}), "
+        f"peak {row.audit.peak_mb:.0f} MB; without mesh checks "
+        f"{row.elements_only.seconds:.2f} s (x{row.elements_ratio:.2f})",
+        flush=True,
+    )
 
 
 if __name__ == "__main__":

@@ -13,16 +13,22 @@ Files written next to this script (VTU, which keeps every cell type as such):
 ``bracket_lug.vtu``
     48 hexahedra and 16 wedges; every element passes the `standard` limits.
 ``bracket_lug_defects.vtu``
-    The same mesh with three planted defects (VTK cell index, from 0):
+    The same mesh with three planted defects (VTK cell index, from 0). The inverted
+    hexahedron fails on validity under any profile; the other two are valid elements of
+    poor shape, which fail once the profile limits the solid families' shape metrics
+    (scaled Jacobian, angles, warp, edge ratio):
 
     =====  ==========  ============================================================
     index  type        what was done
     =====  ==========  ============================================================
        46  hexahedron  the top layer's cell at x 40..50, y 30..40: its top corner
                        (50, 40, 10) pulled down to z = -2, below the cell's own
-                       bottom face: det J negative at that corner (inverted)
+                       bottom face: det J negative at that corner (inverted; two
+                       of its faces now cross: self-intersecting too)
         5  hexahedron  bottom layer, x 50..60, y 0..10: its free corner
                        (60, 0, 0) moved to (75, 0, 0), a sheared, tapered cell
+                       (the node is the block's corner, used by no other cell:
+                       moved in place, so no node is left unused)
        48  wedge       the first fillet wedge (x 0..10, y 0..10): its node
                        (0, 0, 20) dropped to (0, 0, 10.5), just above the block:
                        a sliver wedge
@@ -132,8 +138,9 @@ def lug_defects() -> meshio.Mesh:
 
     # hexahedron 46: layer k = 1, j = 3, i = 4; its top corner (50, 40, 10) is position 6
     own_copy(hexes, 46, 6, (50.0, 40.0, -2.0))
-    # hexahedron 5: layer k = 0, j = 0, i = 5; corner (60, 0, 0) is position 1
-    own_copy(hexes, 5, 1, (75.0, 0.0, 0.0))
+    # hexahedron 5: layer k = 0, j = 0, i = 5; corner (60, 0, 0) is position 1, the
+    # block's corner: no other cell uses it, so it moves in place (no unused node left)
+    points[hexes[5, 1]] = (75.0, 0.0, 0.0)
     # wedge 0 (cell 48): section triangle 0 at y 0..10; its node (0, 0, 20) is position 0
     own_copy(wedges, 0, 0, (0.0, 0.0, 10.5))
     points = np.vstack([points, *extra])

@@ -122,7 +122,7 @@ BAD_FILES = [
     ("truncated-bdf", _truncated("nastran"), "corrupt"),
     ("xdmf-without-its-h5", _xdmf_without_h5, "missing"),
     ("only-lines", _only("line", [[0, 1], [1, 2]]), "no supported elements"),
-    ("only-tetra", _only("tetra", [[0, 1, 2, 4]]), "tetra"),
+    ("only-polygon", _only("polygon", [[0, 1, 2, 3, 4]]), "polygon"),
     (
         "node-past-end-vtk",
         _text("past_end.vtk", legacy_vtk(GOOD_POINTS, "4 0 1 2 7")),

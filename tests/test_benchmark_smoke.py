@@ -16,7 +16,7 @@ import sys
 import numpy as np
 import shapely
 
-from benchmarks.meshgen import PLANTED, distorted_plate, grid_shape
+from benchmarks.meshgen import PLANTED, distorted_block, distorted_plate, grid_shape
 from tests.conftest import REPO
 
 
@@ -91,3 +91,60 @@ def test_generated_plate_has_the_planted_defects():
     assert len(set(cells[planted["collapsed"]].tolist())) == 3
     concave = polys[planted["non-convex"]]
     assert shapely.area(shapely.convex_hull(concave)) > shapely.area(concave) * 1.01
+
+
+def test_benchmark_of_solids_writes_its_rows(tmp_path):
+    env = dict(os.environ, PYTHONPATH=str(REPO))
+    out, table = tmp_path / "bench", tmp_path / "table.md"
+    argv = [sys.executable, "-m", "benchmarks.run", "--cells", "tetra,hexahedron"]
+    argv += ["--sizes", "1500", "--out", str(out), "--markdown", str(table), "--no-plot"]
+    done = subprocess.run(argv, cwd=REPO, env=env, capture_output=True, text=True, timeout=300)
+    assert done.returncode == 0, done.stderr
+    rows = [line for line in table.read_text().splitlines() if line.startswith("| 1,500 |")]
+    cells = [(r.split("|")[3].strip(), r.split("|")[4].strip()) for r in rows]
+    expected = [("msh", "tetra"), ("vtu", "tetra"), ("msh", "hexahedron"), ("vtu", "hexahedron")]
+    assert cells == expected
+    # the audit the benchmark timed found the planted elements
+    for cell in ("tetra", "hexahedron"):
+        planted = distorted_block(1500, cell).info["planted"]
+        for fmt in ("msh", "vtu"):
+            doc = json.loads((out / f"block_{cell}_1500.{fmt}.report.json").read_text())
+            flags = {e["index"]: set(e["flags"]) for e in doc["elements"]}
+            assert "inverted" in flags[planted["inverted"]]
+            assert "degenerate" in flags[planted["degenerate"]]
+
+
+def _corner_determinants(p: np.ndarray, cells: np.ndarray, triples: list) -> np.ndarray:
+    """det[a, b, c] of the edges from each corner to the three corners listed (n, c)."""
+    out = []
+    for corner, *far in triples:
+        a, b, c = (p[cells[:, f]] - p[cells[:, corner]] for f in far)
+        out.append(np.einsum("ij,ij->i", np.cross(a, b), c))
+    return np.stack(out, axis=1)
+
+
+def test_generated_block_fills_the_block_with_valid_solids():
+    # Closed form: the block is 200 x 120 x 40 mm = 960,000 mm^3; the cubes' cut into
+    # six tetrahedra fills it once, so the tetrahedra's volumes (numpy's determinants,
+    # |det| / 6) add up to it. Every element but the planted two is positively oriented:
+    # its corner determinants (the three edges leaving a corner, right-handed in meshio's
+    # order: common practice) are positive.
+    hex_triples = [[0, 1, 3, 4], [1, 2, 0, 5], [2, 3, 1, 6], [3, 0, 2, 7]]
+    hex_triples += [[4, 7, 5, 0], [5, 4, 6, 1], [6, 5, 7, 2], [7, 6, 4, 3]]
+    for cell, triples in (("tetra", [[0, 1, 2, 3]]), ("hexahedron", hex_triples)):
+        mesh = distorted_block(3000, cell)
+        nx, ny, nz = mesh.info["grid"]
+        cells = mesh.cells_dict[cell]
+        assert len(cells) == nx * ny * nz * (6 if cell == "tetra" else 1)
+        planted = list(mesh.info["planted"].values())
+        keep = np.ones(len(cells), dtype=bool)
+        keep[planted] = False
+        det = _corner_determinants(mesh.points, cells, triples)
+        assert (det[keep] > 0.0).all()
+        assert (det[planted[0]] < 0.0).all()  # mirrored: negative at every corner
+        if cell == "tetra":
+            original = cells.copy()
+            original[planted[0]] = original[planted[0]][[0, 2, 1, 3]]
+            volume = np.abs(_corner_determinants(mesh.points, original, triples))[:, 0] / 6.0
+            volume[planted[1]] = 0.0  # collapsed: its share is missing
+            assert volume.sum() < 960_000.0 < volume.sum() + 2.0 * volume.max()

@@ -22,7 +22,7 @@ from hypothesis import example, given, settings
 from hypothesis import strategies as st
 
 import meshaudit
-from meshaudit.metrics import METRIC_INFO
+from meshaudit.metrics import METRIC_INFO, length_power
 from meshaudit.outputs import json_report
 
 SIN60 = math.sin(math.radians(60.0))
@@ -71,8 +71,8 @@ SHAPES = [
     ),
 ]
 
-DIMENSIONLESS = [m for m, info in METRIC_INFO.items() if info.unit != "length^2"]
-AREAS = [m for m, info in METRIC_INFO.items() if info.unit == "length^2"]
+DIMENSIONLESS = [m for m in METRIC_INFO if length_power(m, 2) == 0]
+AREAS = [m for m in METRIC_INFO if length_power(m, 2) == 2]
 
 
 def shapes_mesh(scale: float, tilt_deg: float = 0.0) -> meshio.Mesh:
@@ -197,3 +197,88 @@ def test_every_power_of_ten(tilt: float) -> None:
     # every scale 10^k, k from -170 to 154, in turn: no window of scales is missed
     for k in range(-170, 155):
         check_scaled(meshaudit.audit(shapes_mesh(10.0**k, tilt_deg=tilt)), 10.0**k)
+
+
+# -- solids: lengths^3 scale with the cube of the factor --------------------------------
+SQRT2, SQRT3 = math.sqrt(2.0), math.sqrt(3.0)
+#: Solids with closed-form values (common practice): the regular tetrahedron of edge 1
+#: (volume 1/(6 sqrt 2), det J = 6 V on the unit reference tetrahedron, dihedral angle
+#: arccos(1/3), mean ratio and radius ratio 1); the unit cube (det J 1/8 on [-1, 1]^3);
+#: the right prism over the unit equilateral triangle, height 1 (volume sqrt(3)/4); the
+#: pyramid on the unit square with equilateral sides (height 1/sqrt 2, volume sqrt(2)/6);
+#: each reads scaled Jacobian and condition number 1 (its family's ideal shape).
+SOLIDS = [
+    (
+        "tetra",
+        [[0, 0, 0], [1, 0, 0], [0.5, SIN60, 0], [0.5, SIN60 / 3.0, math.sqrt(2.0 / 3.0)]],
+        {
+            "volume": 1.0 / (6.0 * SQRT2),
+            "det_j_min": 1.0 / SQRT2,
+            "min_dihedral": math.degrees(math.acos(1.0 / 3.0)),
+            "mean_ratio": 1.0,
+            "radius_ratio": 1.0,
+        },
+    ),
+    (
+        "hexahedron",
+        [[0, 0, 0], [1, 0, 0], [1, 1, 0], [0, 1, 0], [0, 0, 1], [1, 0, 1], [1, 1, 1], [0, 1, 1]],
+        {"volume": 1.0, "det_j_min": 0.125, "aspect_ratio": 1.0, "min_dihedral": 90.0},
+    ),
+    (
+        "wedge",
+        [[0, 0, 0], [1, 0, 0], [0.5, SIN60, 0], [0, 0, 1], [1, 0, 1], [0.5, SIN60, 1]],
+        {"volume": SQRT3 / 4.0, "edge_ratio": 1.0},
+    ),
+    (
+        "pyramid",
+        [[0, 0, 0], [1, 0, 0], [1, 1, 0], [0, 1, 0], [0.5, 0.5, 1.0 / SQRT2]],
+        {"volume": SQRT2 / 6.0, "edge_ratio": 1.0},
+    ),
+]
+SOLID_DIMENSIONLESS = [m for m in METRIC_INFO if length_power(m, 3) == 0]
+VOLUMES = [m for m in METRIC_INFO if length_power(m, 3) == 3]
+
+
+def solids_mesh(scale: float) -> meshio.Mesh:
+    """The four solids side by side, 3 units apart, every coordinate times ``scale``."""
+    points, cells = [], []
+    for k, (cell_type, nodes, _) in enumerate(SOLIDS):
+        start = len(points)
+        points += [[x + 3.0 * k, y, z] for x, y, z in nodes]
+        cells.append((cell_type, np.array([list(range(start, start + len(nodes)))])))
+    return meshio.Mesh(np.array(points) * scale, cells)
+
+
+SOLID_REFERENCE = meshaudit.audit(solids_mesh(1.0))
+
+
+def test_solids_at_scale_one_match_the_closed_forms() -> None:
+    for row, (cell_type, _, values) in enumerate(SOLIDS):
+        assert SOLID_REFERENCE.types[row] == cell_type
+        assert SOLID_REFERENCE.verdict_names[row] == "ok"
+        for name in ("scaled_jacobian", "condition"):
+            assert SOLID_REFERENCE.metrics[name][row] == pytest.approx(1.0, rel=1e-12)
+        for name, value in values.items():
+            assert SOLID_REFERENCE.metrics[name][row] == pytest.approx(value, rel=1e-12), name
+
+
+@pytest.mark.parametrize("k", [-300, -170, -101, -31, -30, 0, 30, 31, 101, 102, 154, 300])
+def test_solids_read_the_same_at_any_scale(k: int) -> None:
+    scale = 10.0**k
+    report = meshaudit.audit(solids_mesh(scale))
+    assert list(report.verdict_names) == list(SOLID_REFERENCE.verdict_names)
+    assert report.flag_bits.tolist() == SOLID_REFERENCE.flag_bits.tolist()
+    for name in SOLID_DIMENSIONLESS:
+        np.testing.assert_allclose(
+            report.metrics[name], SOLID_REFERENCE.metrics[name], rtol=1e-9, atol=1e-9, err_msg=name
+        )
+    for name in VOLUMES:  # volume and det J: length^3
+        with np.errstate(over="ignore", under="ignore"):
+            expected = SOLID_REFERENCE.metrics[name] * scale * scale * scale
+        got = report.metrics[name]
+        normal = np.isfinite(expected) & (np.abs(expected) >= NORMAL)
+        np.testing.assert_allclose(got[normal], expected[normal], rtol=1e-9, err_msg=name)
+        assert np.isposinf(got[np.isposinf(expected)]).all(), name
+        small = ~normal & np.isfinite(expected)
+        assert (np.abs(got[small]) <= 2.0 * NORMAL).all(), name
+    strict_json(json_report.render(report, every_element=True))

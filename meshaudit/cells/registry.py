@@ -6,6 +6,11 @@ kernel, the topology and the mesh-level checks the corners and edges, explain an
 plots the reference nodes, the Gauss rule and the shape functions. A new cell type is one
 new entry in :data:`CELL_TYPES` (its reference data in a module of this package, its
 kernel in :mod:`meshaudit.metrics`), and nothing else in the pipeline names it.
+
+Surface cells (dimension 2): ``quad``, ``quad8``, ``quad9``, ``triangle``, ``triangle6``.
+Solids (dimension 3, :mod:`meshaudit.cells.solid` adapts the kernels' own reference
+tables): ``tetra``, ``tetra10``, ``hexahedron``, ``hexahedron20``, ``hexahedron27``,
+``wedge``, ``pyramid``.
 """
 
 from __future__ import annotations
@@ -20,6 +25,7 @@ from ..metrics import bernstein
 from ..metrics import quad as quad_kernel
 from ..metrics import triangle as triangle_kernel
 from . import quad as Q
+from . import solid as S
 from . import triangle as T
 from .mapping import jacobian_determinants
 
@@ -30,11 +36,13 @@ Measured = tuple[dict[str, np.ndarray], dict[str, np.ndarray]]
 #: nodes in space and laid in the element's measuring plane (see
 #: :func:`meshaudit.mesh.frames.to_local`). Dimension 3: ``kernel(coords (n, k, 3))``, every
 #: node in space, no measuring plane. Returns the metrics of :data:`meshaudit.metrics.METRICS`
-#: it measures (the engine fills the others with NaN) and the validity flags.
+#: it measures (the engine fills the others with NaN) and its flags (the engine reads a
+#: validity flag the kernel does not return as False).
 Kernel = Callable[..., Measured]
 
 #: det J of elements at the Gauss points (n, g) and at the reference nodes (n, k), from
-#: their nodes (n, k, dim) laid in their measuring plane, as the audit measures them.
+#: their nodes laid in their measuring plane (n, k, 2) (surface cells) or in space
+#: (n, k, 3) (solids), as the audit measures them.
 Jacobians = Callable[[np.ndarray], tuple[np.ndarray, np.ndarray]]
 
 
@@ -48,8 +56,10 @@ class CellType:
     faces, each counter-clockwise seen from outside the element (a surface cell is its own
     one face). ``gauss_points`` (g, dimension) and ``gauss_weights`` (g,): the rule a solver
     integrates the element with, where det J is reported. ``shape_functions`` maps
-    reference points (..., dimension) to (..., k); ``shape_derivatives`` points (m,
-    dimension) to (m, dimension, k).
+    reference points (m, dimension) to (m, k); ``shape_derivatives`` points (m,
+    dimension) to (m, dimension, k). ``corner_triples`` (solids, (c, 4)): a corner and
+    the far ends of the three edges leaving it, right-handed for a positively oriented
+    element (the corner Jacobians).
     """
 
     name: str  # meshio cell type
@@ -73,6 +83,7 @@ class CellType:
     #: Bernstein space that holds det J (see meshaudit.metrics.quadratic).
     midside_edges: np.ndarray | None = None
     jacobian_space: bernstein.BernsteinSpace | None = None
+    corner_triples: np.ndarray | None = None
 
     @property
     def n_nodes(self) -> int:
@@ -195,9 +206,37 @@ TRIANGLE6 = CellType(
     jacobian_space=bernstein.TRIANGLE,
 )
 
+
+def _solid(name: str) -> CellType:
+    """A solid's entry, from the reference table its kernel exports."""
+    family, module, table = S.SOLIDS[name]
+    data = S.reference_data(table)
+    return CellType(
+        name=name,
+        family=family,
+        dimension=3,
+        n_corners=data.n_corners,
+        reference_nodes=data.nodes,
+        edges=data.edges,
+        faces=data.faces,
+        gauss_points=data.gauss_points,
+        gauss_weights=data.gauss_weights,
+        shape_functions=data.shape_functions,
+        shape_derivatives=data.shape_derivatives,
+        kernel=S.lazy_kernel(module, name),
+        # the pyramid's apex has no det J: its limit there depends on the direction
+        jacobians=S.solid_jacobians(data, (4,) if name == "pyramid" else ()),
+        reference_measure=data.volume,
+        midside_edges=data.midside_edges,
+        corner_triples=data.corner_triples,
+    )
+
+
+SOLID_CELLS: tuple[CellType, ...] = tuple(_solid(name) for name in S.SOLIDS)
+
 #: meshio cell type -> its :class:`CellType`: the cell types meshaudit audits.
 CELL_TYPES: Mapping[str, CellType] = MappingProxyType(
-    {cell.name: cell for cell in (QUAD, TRIANGLE, QUAD8, QUAD9, TRIANGLE6)}
+    {cell.name: cell for cell in (QUAD, TRIANGLE, QUAD8, QUAD9, TRIANGLE6, *SOLID_CELLS)}
 )
 
 #: The metric families, in table order.

@@ -45,7 +45,8 @@ def add(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
 def profile_table(profile: Profile, title: str | None = None) -> Table:
     from rich.table import Table
 
-    from ..metrics import METRIC_INFO
+    from ..cells.registry import CELL_TYPES
+    from ..metrics import METRIC_INFO, unit_of
 
     t = Table(title=title or f"{profile.name}: {profile.description}", title_justify="left")
     for col in ("family", "metric", "unit", "worse when", "warn", "fail", "source"):
@@ -57,7 +58,8 @@ def profile_table(profile: Profile, title: str | None = None) -> Table:
             info = METRIC_INFO[metric]
             worse = "above" if info.worse == "high" else "below"
             cells = ["-" if v is None else f"{v:g}" for v in (lim.warn, lim.fail)]
-            t.add_row(family, metric, info.unit, worse, *cells, lim.source)
+            dims = {c.dimension for c in CELL_TYPES.values() if c.family == family}
+            t.add_row(family, metric, unit_of(metric, dims), worse, *cells, lim.source)
     return t
 
 

@@ -17,16 +17,22 @@ from ..judge.profiles import Profile
 from ..judge.verdicts import judge_by_region
 from ..mesh.frames import Frame, to_local
 from ..mesh.scale import element_exponents, scaled_lengths
-from ..metrics import METRIC_NAMES, METRICS, quadratic
+from ..metrics import METRIC_NAMES, VALIDITY_FLAGS, length_power, quadratic
 from ..results.report import FLAG_BIT
 
-#: Metrics in length^2 (area and det J): the others are dimensionless.
-AREA_METRICS: tuple[str, ...] = tuple(m.name for m in METRICS if m.unit == "length^2")
+#: An element whose size (area of a surface element, |volume| of a solid) lies outside
+#: 2^(-100 p) .. 2^(100 p), p its power of length, may be too small (or large) for the
+#: products of up to eight lengths its metrics take; it is measured again at its own scale
+#: (see :func:`measure_elements`). The same bound on its lengths, 2^-100 .. 2^100, whatever
+#: the dimension.
+_SIZE_EXPONENT = 100
 
-#: An element whose area lies outside 2^-200 .. 2^200 may be too small (or large) for
-#: the products of up to eight lengths its metrics take; it is measured again at its own
-#: scale (see :func:`measure_elements`).
-_AREA_RANGE = (2.0**-200, 2.0**200)
+
+def _size(cell: CellType, metrics: dict[str, np.ndarray]) -> tuple[np.ndarray, int]:
+    """(size (n,), its power of length): area of surface elements, |volume| of solids."""
+    if cell.dimension == 3:
+        return np.abs(metrics["volume"]), 3
+    return metrics["area"], 2  # never negative
 
 
 def measure_elements(
@@ -45,18 +51,21 @@ def measure_elements(
     not measure are NaN.
 
     ``coords3`` may be the nodes scaled by 2^-``exponent`` (see
-    :func:`meshaudit.mesh.scale.normalised`): area and det J are given back in the nodes'
-    own units. An element whose area comes out beyond 2^+-200 is measured again with its
-    nodes scaled by a power of two of its own (:func:`meshaudit.mesh.scale.element_exponents`),
-    so that no product of lengths overflows or underflows. ``coords3`` are expected
-    within 2^+-:data:`meshaudit.mesh.scale.SAFE_EXPONENT` (:func:`audit_elements` sees to it),
-    so that any finite scale gives the same verdicts.
+    :func:`meshaudit.mesh.scale.normalised`): area, volume and det J are given back in the
+    nodes' own units (length^2, length^3, length^dimension: :func:`meshaudit.metrics.length_power`).
+    An element whose size (area, or |volume| of a solid) comes out beyond 2^+-200
+    (2^+-300 for a volume) is measured again with its nodes scaled by a power of two of its
+    own (:func:`meshaudit.mesh.scale.element_exponents`), so that no product of lengths
+    overflows or underflows. ``coords3`` are expected within
+    2^+-:data:`meshaudit.mesh.scale.SAFE_EXPONENT` (:func:`audit_elements` sees to it), so
+    that any finite scale gives the same verdicts.
     """
     if isinstance(cell, str):
         cell = CELL_TYPES[cell]
     metrics, flags = _measure_elements(cell, coords3, frame)
-    area = metrics["area"]  # never negative
-    odd = np.flatnonzero(~((area > _AREA_RANGE[0]) & (area < _AREA_RANGE[1])))
+    size, power = _size(cell, metrics)
+    low, high = 2.0 ** (-_SIZE_EXPONENT * power), 2.0 ** (_SIZE_EXPONENT * power)
+    odd = np.flatnonzero(~((size > low) & (size < high)))
     if odd.size:  # rare: collapsed elements, or elements of extreme size
         own = element_exponents(coords3[odd])
         rows, own = odd[own != 0], own[own != 0]
@@ -64,10 +73,10 @@ def measure_elements(
             with np.errstate(under="ignore"):
                 scaled = np.ldexp(coords3[rows], -own[:, None, None])
             part = _measure_elements(cell, scaled, frame)
-            _rescale(part[0], own)
+            _rescale(part[0], own, cell.dimension)
             _merge(metrics, flags, rows, part)
     if exponent:
-        _rescale(metrics, exponent)
+        _rescale(metrics, exponent, cell.dimension)
     return metrics, flags
 
 
@@ -76,13 +85,14 @@ def _measure_elements(
 ) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
     if cell.dimension == 3:  # a solid: measured in space, no plane to lay it in
         metrics, flags = cell.kernel(coords3)
-        return _with_every_metric(metrics, len(coords3)), flags
+        return _with_every_metric(metrics, len(coords3)), _with_every_flag(flags, len(coords3))
     n_corners = cell.n_corners
     corners = coords3[:, :n_corners]
     if cell.is_quadratic:
         local = to_local(coords3, frame, n_corners)
         metrics, flags = cell.kernel(corners, local[:, :n_corners])
-        return quadratic.measure(cell.name, coords3, local, metrics, flags)
+        metrics, flags = quadratic.measure(cell.name, coords3, local, metrics, flags)
+        return _with_every_metric(metrics, len(corners)), flags
     metrics, flags = cell.kernel(corners, to_local(corners, frame))
     # det J of a linear surface element is bilinear or constant: its minimum is at a corner
     metrics["det_j_lower_bound"] = metrics["det_j_corner_min"]
@@ -97,12 +107,23 @@ def _with_every_metric(metrics: dict[str, np.ndarray], n: int) -> dict[str, np.n
     return metrics
 
 
-def _rescale(metrics: dict[str, np.ndarray], exponent: int | np.ndarray) -> None:
-    """Area and det J (and their quarter-point twins) measured on nodes scaled by
-    2^-exponent, in place, back in the nodes' own units."""
+def _with_every_flag(flags: dict[str, np.ndarray], n: int) -> dict[str, np.ndarray]:
+    """``flags`` with False for each validity flag it lacks (in place): a kernel leaves
+    out the flags that cannot occur for its cell type (a wedge cannot be a bow-tie)."""
+    for name in VALIDITY_FLAGS:
+        if name not in flags:
+            flags[name] = np.zeros(n, dtype=bool)
+    return flags
+
+
+def _rescale(metrics: dict[str, np.ndarray], exponent: int | np.ndarray, dimension: int) -> None:
+    """Area, volume and det J (and their quarter-point twins) measured on nodes scaled by
+    2^-exponent, in place, back in the nodes' own units: each times 2^(p exponent), p its
+    power of length (:func:`meshaudit.metrics.length_power`)."""
     for name in list(metrics):
-        if name.split("|")[0] in AREA_METRICS:
-            metrics[name] = scaled_lengths(metrics[name], exponent, 2)
+        power = length_power(name, dimension)
+        if power:
+            metrics[name] = scaled_lengths(metrics[name], exponent, power)
 
 
 def _merge(

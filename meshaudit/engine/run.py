@@ -4,13 +4,17 @@ The engine measures the elements chunk by chunk (:func:`meshaudit.engine.measure
 a pure function of its arguments) on a runner (:mod:`meshaudit.engine.pool`), copies each
 chunk's results into its own rows (:mod:`meshaudit.engine.sink`) and runs the mesh-level
 checks beside the chunks. Results do not depend on the number of threads.
+
+Solids are measured like any element; the mesh-level checks and the measuring plane look
+at the surface elements only (:meth:`meshaudit.mesh.elements.ElementMesh.surface_part`),
+their findings mapped back to report positions.
 """
 
 from __future__ import annotations
 
 import os
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -27,6 +31,7 @@ from ..mesh.topology import EdgeTable, edge_table
 from ..mesh_checks.findings import (
     MeshFindings,
     TopologyPart,
+    at_report_positions,
     find_topology,
     finish,
     unaudited_cells,
@@ -102,6 +107,13 @@ class _Run:
 
     mesh: ElementMesh  # normalised: nodes scaled by 2^-exponent
     exponent: int
+    #: The surface elements alone (the mesh itself when it has no solids), numbered
+    #: 0..m-1, what the mesh-level checks look at; ``positions`` (m,) their report
+    #: positions and ``surface_row`` (n,) the inverse (-1 for a solid), both None
+    #: without solids.
+    surface: ElementMesh
+    positions: np.ndarray | None
+    surface_row: np.ndarray | None
     frame: Frame
     profile: Profile
     region_names: tuple[str, ...]
@@ -130,7 +142,13 @@ class _Run:
         # a mesh of extreme size is measured scaled by 2^-exponent (exactly), and its
         # lengths given back in its own units (see meshaudit.mesh.scale.normalised)
         mesh, exponent = normalised(mesh)
-        frame = choose_frame(mesh)
+        surface, positions = mesh.surface_part()
+        surface_row = None
+        if positions is not None:
+            surface_row = np.full(mesh.n_elements, -1, dtype=np.int64)
+            surface_row[positions] = np.arange(positions.size)
+        # the surface elements decide: solids have no plane
+        frame = choose_frame(surface, beside_solids=mesh.has_solids)
         n = mesh.n_elements
         cell_types = tuple(dict.fromkeys(b.cell_type for b in mesh.blocks))
         families = tuple(dict.fromkeys(b.family for b in mesh.blocks))
@@ -141,14 +159,21 @@ class _Run:
             ids[block.index] = block.ids
             type_codes[block.index] = cell_types.index(block.cell_type)
             family_codes[block.index] = families.index(block.family)
-        sink = ChunkSink(n, has_quadratic=any(b.cell.is_quadratic for b in mesh.blocks))
+        sink = ChunkSink(
+            n,
+            has_quadratic=any(b.cell.is_quadratic for b in mesh.blocks),
+            has_solids=mesh.has_solids,
+        )
         checks = any(prof.findings.enabled(kind) for kind in MESH_CHECK_KINDS)
         shapes = None
         if frame.kind == "planar" and frame.axes is not None and checks:
-            shapes = PlanarShapes.empty(n, frame.axes, anchor(mesh))
+            shapes = PlanarShapes.empty(surface.n_elements, frame.axes, anchor(surface))
         return cls(
             mesh,
             exponent,
+            surface,
+            positions,
+            surface_row,
             frame,
             prof,
             region_names,
@@ -181,7 +206,9 @@ class _Run:
         if self.exponent:
             centre = scaled_lengths(centre, self.exponent, 1)
         self.sink.store(rows, result, centre)
-        if self.shapes is not None:
+        if self.shapes is not None and block.cell.dimension == 2:
+            if self.surface_row is not None:  # the surface part numbers its own rows
+                rows = rows_of(self.surface_row[block.index[sl]])
             self.shapes.fill(rows, coords3[:, : block.cell.n_corners])
         return sl.stop - sl.start
 
@@ -189,17 +216,19 @@ class _Run:
         """The edge table and the mesh-level checks that need only the connectivity."""
         if not self.checks and self.frame.orientation == "+z":  # every finding kind is off
             return None, None
-        table = edge_table(self.mesh)  # shared by the orientation flags and the findings
+        surface = self.surface  # the checks look at the surface elements only
+        table = edge_table(surface)  # shared by the orientation flags and the findings
         if not self.checks:
             return table, None
-        return table, find_topology(self.mesh, self.ids, self.frame, self.profile.findings, table)
+        ids = self.ids if self.positions is None else self.ids[self.positions]
+        return table, find_topology(surface, ids, self.frame, self.profile.findings, table)
 
     def finish(
         self, pool: SerialRunner | ThreadRunner, pending: Pending
     ) -> tuple[list[str], MeshFindings | None, dict | None]:
         """After the last chunk: orientation, the rest of the mesh-level checks and (on a
         pool of threads, meanwhile) the statistics. Returns (notes, findings, statistics)."""
-        mesh, frame, sink = self.mesh, self.frame, self.sink
+        mesh, frame, sink = self.surface, self.frame, self.sink
         # the statistics and the overlap check's grid of box centres need only the
         # finished columns: worked out while the other checks finish (where orientation is
         # relative, the statistics wait for the orientation check, which may move scores
@@ -213,15 +242,23 @@ class _Run:
                 grid = pool.later(BoxGrid.build, self.shapes.boxes)
         table, part = pending.result()
         reversed_ = (sink.bits >> np.uint32(FLAG_BIT["reversed"])) & np.uint32(1) == 1
+        if self.positions is not None:
+            reversed_ = reversed_[self.positions]
         orientation = judge_orientation(mesh, frame, reversed_, table)
         notes = [*mesh.numbering.notes, *frame_notes(frame), *nearly_flat_shell_note(mesh, frame)]
-        notes += mark_orientation(orientation, sink.bits, sink.verdict, sink.metrics["score"])
+        notes += mark_orientation(
+            widened(orientation, self.positions, len(sink.verdict)),
+            sink.bits,
+            sink.verdict,
+            sink.metrics["score"],
+        )
         if pool.parallel and relative:
             summing = pool.later(metric_statistics, sink.metrics, sink.ordered_levels())
         mesh_findings = None
         if part is not None:
             grid_result = None if grid is None else grid.result
             mesh_findings = finish(part, mesh, frame, self.shapes, grid_result, orientation)
+            mesh_findings = at_report_positions(mesh_findings, self.positions)
         stats = None if summing is None else summing.result()
         return notes, mesh_findings, stats
 
@@ -272,6 +309,17 @@ class _Run:
             free_edges=mesh_findings.free_edges if mesh_findings is not None else None,
             precomputed_statistics=stats,
         )
+
+
+def widened(orientation: Orientation, positions: np.ndarray | None, n: int) -> Orientation:
+    """The orientation of a mesh's surface part (elements at report ``positions``) over
+    all ``n`` elements: no solid is turned or twisted. ``positions`` None: as it is."""
+    if positions is None:
+        return orientation
+    turned, twisted = np.zeros(n, dtype=bool), np.zeros(n, dtype=bool)
+    turned[positions] = orientation.turned
+    twisted[positions] = orientation.twisted
+    return replace(orientation, turned=turned, twisted=twisted)
 
 
 def mark_orientation(

@@ -6,7 +6,7 @@ import threading
 
 import numpy as np
 
-from ..metrics import METRIC_NAMES, quadratic
+from ..metrics import METRIC_NAMES, SOLID_METRICS, quadratic
 
 
 def rows_of(index: np.ndarray) -> slice | np.ndarray:
@@ -21,15 +21,14 @@ class ChunkSink:
     """Per-element result arrays that chunks, measured in any order and from several
     threads, copy their results into (each chunk its own rows)."""
 
-    def __init__(self, n: int, has_quadratic: bool) -> None:
+    def __init__(self, n: int, has_quadratic: bool, has_solids: bool = False) -> None:
         self.n = n
         self.done = 0
-        # a linear-only mesh has no midside nodes: those columns are one shared NaN
-        self.copied = (
-            METRIC_NAMES
-            if has_quadratic
-            else tuple(m for m in METRIC_NAMES if m not in quadratic.MIDSIDE_METRICS)
-        )
+        # a linear-only mesh has no midside nodes, a mesh without solids no volumes or
+        # dihedral angles: those columns are one shared NaN
+        shared = () if has_quadratic else quadratic.MIDSIDE_METRICS
+        shared += () if has_solids else SOLID_METRICS
+        self.copied = tuple(m for m in METRIC_NAMES if m not in shared)
         self.metrics = {
             name: np.empty(n) if name in self.copied else nan_column(n) for name in METRIC_NAMES
         }

@@ -35,10 +35,16 @@ class FindingKind:
     #: "any", or the only orientation reference it applies to ("+z" or "relative", see
     #: meshaudit.mesh_checks.orientation)
     orientation: str = "any"
+    #: Whether the check looks at the surface elements (their edges, nodes, windings):
+    #: such checks have nothing to look at in a mesh of solids alone (frame "solid"); the
+    #: mesh-level checks do not cover solids yet.
+    surface: bool = True
 
     def applies_to(self, frame_kind: str, orientation: str = "any") -> bool:
         """Whether this check runs on a mesh of ``frame_kind`` whose orientation is judged
         against ``orientation`` ("any": whatever the reference)."""
+        if self.surface and frame_kind == "solid":
+            return False
         return self.geometry in ("any", frame_kind) and (
             self.orientation in ("any", orientation) or orientation == "any"
         )
@@ -76,6 +82,7 @@ KINDS: tuple[FindingKind, ...] = (
         "nodes that no cell uses",
         "they carry no stiffness: some solvers stop on a singular matrix, others drop "
         "them (common practice)",
+        surface=False,
     ),
     FindingKind(
         "duplicate_elements",
@@ -123,10 +130,12 @@ KINDS: tuple[FindingKind, ...] = (
         "unaudited_cells",
         "warn",
         "cells",
-        "surface or volume cells of a type meshaudit does not measure (solids, polygons): "
+        "surface or volume cells of a type meshaudit does not measure (polygons, polyhedra, "
+        "types it does not know): "
         "their quality is unknown",
         'a pass says nothing about them, so it is never silent; set "fail" where every '
         "element must be audited (common practice: a gate reports what it did not check)",
+        surface=False,
     ),
 )
 KIND_INFO: dict[str, FindingKind] = {k.name: k for k in KINDS}

@@ -28,7 +28,8 @@ def cell_dimension(cell_type: str) -> int:
     """Topological dimension of a meshio cell type: 0 vertex, 1 line, 2 surface, 3 solid.
 
     A type not known here counts as 3, so that cells meshaudit cannot name are reported
-    with the solids it does not audit rather than passed over with the lines.
+    with the volume cells it does not audit (polyhedra) rather than passed over with the
+    lines.
     """
     for dim, prefixes in _DIMENSION_PREFIXES:
         if cell_type.startswith(prefixes):
@@ -67,7 +68,7 @@ class ElementMesh:
     skipped: dict[str, int] = field(default_factory=dict)  # cell type -> count not audited
     source: str = "<memory>"
     cell_sets: dict[str, np.ndarray] = field(default_factory=dict)  # name -> element indices
-    #: Nodes that cells not audited (lines, vertices, solids...) refer to: not orphans.
+    #: Nodes that cells not audited (lines, vertices, polygons...) refer to: not orphans.
     other_nodes: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.int64))
     #: How elements and nodes are numbered in reports (the file's labels or positions).
     numbering: Numbering = IN_MEMORY
@@ -87,7 +88,7 @@ class ElementMesh:
         return counts
 
     def unaudited(self) -> dict[str, int]:
-        """Cells of a surface or volume type not audited (solids, polygons, types not
+        """Cells of a surface or volume type not audited (polygons, polyhedra, types not
         known): the part of :attr:`skipped` whose quality the audit does not cover."""
         return {t: n for t, n in self.skipped.items() if cell_dimension(t) >= 2}
 
@@ -100,6 +101,52 @@ class ElementMesh:
         for b in self.blocks:
             used[b.connectivity] = True
         return used
+
+    @property
+    def has_solids(self) -> bool:
+        """Whether some audited block is a solid (dimension 3)."""
+        return any(b.cell.dimension == 3 for b in self.blocks)
+
+    def surface_part(self) -> tuple[ElementMesh, np.ndarray | None]:
+        """The surface elements (dimension 2) as a mesh of their own, and their report
+        positions.
+
+        The mesh-level checks (edges, orientation, overlaps, duplicates) are surface
+        checks: a solid's edges are shared by any number of solids, so they would all read
+        as non-manifold. Without solids this is the mesh itself and None. Otherwise the
+        surface blocks are numbered 0..m-1 in report order and ``positions`` (m,) gives
+        each one's report position (so ``ids[positions]`` are their numbers); the nodes the
+        solids use count as nodes of other cells (:attr:`other_nodes`), so a node only a
+        solid uses is no orphan. A mesh of solids alone gives a surface part with no
+        blocks.
+        """
+        if not self.has_solids:
+            return self, None
+        surface = [b for b in self.blocks if b.cell.dimension == 2]
+        other = np.zeros(self.n_points, dtype=bool)  # a scatter per block, as used_nodes
+        other[self.other_nodes] = True
+        for b in self.blocks:
+            if b.cell.dimension == 3:
+                other[b.connectivity] = True
+        positions = (
+            np.concatenate([b.index for b in surface]) if surface else np.zeros(0, dtype=np.int64)
+        )
+        blocks, start = [], 0
+        for b in surface:
+            n = len(b)
+            blocks.append(
+                ElementBlock(b.cell_type, b.connectivity, b.ids, np.arange(start, start + n))
+            )
+            start += n
+        part = ElementMesh(
+            points=self.points,
+            blocks=blocks,
+            skipped=self.skipped,
+            source=self.source,
+            other_nodes=np.flatnonzero(other),
+            numbering=self.numbering,
+        )
+        return part, positions
 
     def chunks(self, size: int) -> Iterator[tuple[ElementBlock, slice]]:
         """Yield (block, slice) pairs covering every element, at most ``size`` per chunk."""

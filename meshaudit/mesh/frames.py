@@ -11,11 +11,20 @@ reference. Anything else is a shell surface: each element is measured in its own
 best-fit plane (see :func:`element_normals`), which has no absolute orientation either.
 Without a reference, only relative orientation is judged: neighbours must agree
 (see :mod:`meshaudit.mesh_checks.orientation`).
+
+Only surface elements decide (the caller passes
+:meth:`meshaudit.mesh.elements.ElementMesh.surface_part`): solids are measured in space,
+each against its own reference element, with no plane. A mesh of solids alone has no
+measuring plane at all: its frame is ``"solid"``, with no orientation judged between
+elements (each solid's orientation is the sign of its own det J). Surface elements beside
+solids belong to a 3-D model (skins, shells, load surfaces): no 2-D solver reads them, so
+even when they lie in one plane their orientation is judged between neighbours, not
+against +z (``Frame.beside_solids``).
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -37,12 +46,15 @@ ROUNDING = 64 * float(np.finfo(np.float64).eps)
 class Frame:
     """How elements of a mesh are laid flat before the 2-D metrics are taken."""
 
-    kind: str  # "planar" or "shell"
+    kind: str  # "planar", "shell" or "solid" (no surface elements: nothing to lay flat)
     normal: np.ndarray | None = None  # unit normal of the mesh plane (planar only)
     axes: np.ndarray | None = None  # (2, 3) in-plane unit axes t1, t2 (planar only)
     #: Planar only: the plane contains the z direction (its projection on x-y is a line,
     #: within the planar tolerance), so a 2-D solver reading x and y sees it edge-on.
     vertical: bool = False
+    #: Planar only: the mesh has solids too (a 3-D model): orientation is judged between
+    #: neighbours, each element measured in its own winding, as in a plane containing z.
+    beside_solids: bool = False
     #: Shell only: the largest distance of a node from the nodes' least-squares plane,
     #: over the mesh extent, and that plane's unit normal (for the report notes).
     flatness: float | None = None
@@ -53,8 +65,12 @@ class Frame:
         """What element orientation is judged against: ``"+z"`` (a planar mesh whose plane
         does not contain z: each element's area projected on x-y must be positive) or
         ``"relative"`` (shells and planar meshes whose plane contains z: neighbours must
-        agree, see :mod:`meshaudit.mesh_checks.orientation`)."""
-        return "+z" if self.kind == "planar" and not self.vertical else "relative"
+        agree, see :mod:`meshaudit.mesh_checks.orientation`) or ``"none"`` (a mesh of solids
+        alone: no surface elements to compare; each solid is judged by its own det J)."""
+        if self.kind == "solid":
+            return "none"
+        absolute = self.kind == "planar" and not (self.vertical or self.beside_solids)
+        return "+z" if absolute else "relative"
 
     @property
     def tilt(self) -> float | None:
@@ -66,6 +82,8 @@ class Frame:
 
 #: The frame of a mesh in a plane z = const.
 XY_FRAME = Frame("planar", np.array([0.0, 0.0, 1.0]), np.eye(3)[:2])
+#: The frame of a mesh of solids alone: no surface element, no measuring plane.
+SOLID_FRAME = Frame("solid")
 
 
 def area_vectors(coords: np.ndarray) -> np.ndarray:
@@ -107,21 +125,27 @@ def anchor(mesh: ElementMesh) -> np.ndarray:
     return np.zeros(3)
 
 
-def choose_frame(mesh: ElementMesh) -> Frame:
+def choose_frame(mesh: ElementMesh, beside_solids: bool = False) -> Frame:
     """Decide whether ``mesh`` is planar (in which plane, judged against what) or a shell.
 
     Planar: every used node within ``PLANAR_TOLERANCE`` x the mesh extent (plus
     :data:`ROUNDING` x the largest coordinate magnitude) of the least-squares plane of the
     nodes. The plane normal is taken with a positive z component, so orientation is
     judged against +z; when the nodes' projection on x-y is a line (thinner than the same
-    tolerance across it), the plane contains z and the frame is ``vertical``.
+    tolerance across it), the plane contains z and the frame is ``vertical``. A mesh with
+    no elements (the surface part of a mesh of solids alone) is ``"solid"``.
+    ``beside_solids``: ``mesh`` is the surface part of a mesh that has solids too (see the
+    module docstring).
     """
+    if mesh.n_elements == 0:
+        return SOLID_FRAME
+    xy = XY_FRAME if not beside_solids else replace(XY_FRAME, beside_solids=True)
     z = mesh.points[:, 2]
     if z.min() == z.max():  # every point in one plane z = const: no need to select nodes
-        return XY_FRAME
+        return xy
     pts = mesh.points[mesh.used_nodes()]
     if np.ptp(pts[:, 2]) == 0.0:
-        return XY_FRAME
+        return xy
     k = length_exponent(pts)
     if k:  # measured at a scale where squares and sums of squares cannot overflow
         with np.errstate(under="ignore"):
@@ -148,7 +172,9 @@ def choose_frame(mesh: ElementMesh) -> Frame:
             normal = -normal
     elif normal[2] < 0.0:
         normal = -normal
-    return Frame("planar", normal, _plane_axes(normal), vertical=vertical)
+    return Frame(
+        "planar", normal, _plane_axes(normal), vertical=vertical, beside_solids=beside_solids
+    )
 
 
 def centroids(coords: np.ndarray) -> np.ndarray:
@@ -253,21 +279,24 @@ def to_local(coords: np.ndarray, frame: Frame, n_corners: int | None = None) -> 
     about +z gets a negative det J); shells use each element's own best-fit plane through
     its centroid (see :func:`element_normals`). In a plane that contains z there is no
     reference, so each element is measured in its own winding, as a shell element is:
-    one wound clockwise in the plane's axes is mirrored (a reflection changes no shape).
-    Only the first ``n_corners`` nodes (default: all) define the centroid, the plane and
-    the winding, so a quadratic element's corners land exactly where its linear twin's
-    would; the midside nodes are projected onto that plane.
+    one wound clockwise in the plane's axes is mirrored (a reflection changes no shape);
+    so is a planar surface beside solids (``frame.beside_solids``). Only the first
+    ``n_corners`` nodes (default: all) define the centroid, the plane and the winding,
+    so a quadratic element's corners land exactly where its linear twin's would; the
+    midside nodes are projected onto that plane.
     """
     corners = coords if n_corners is None else coords[:, :n_corners]
     in_xy = frame.kind == "planar" and np.array_equal(frame.axes, np.eye(3)[:2])
-    if in_xy and n_corners is None:
+    own_winding = frame.vertical or frame.beside_solids
+    if in_xy and n_corners is None and not own_winding:
         return _to_local_xy(coords)
     if frame.kind == "planar":
         rel = coords - centroids(corners)[:, None, :]
-        if in_xy:
-            return rel[:, :, :2] + 0.0  # what the product with the axes gives, to the bit
-        local = rel @ frame.axes.T
-        if frame.vertical:
+        if in_xy:  # what the product with the axes gives, to the bit
+            local = rel[:, :, :2] + 0.0
+        else:
+            local = rel @ frame.axes.T
+        if own_winding:
             _own_winding(local, corners.shape[1])
         return local
     return _to_local_own_plane(coords, corners)
@@ -283,6 +312,13 @@ def _own_winding(local: np.ndarray, n_corners: int) -> None:
 
 def frame_notes(frame: Frame) -> list[str]:
     """Report notes on where a planar mesh lies when that is not the x-y plane."""
+    if frame.kind == "planar" and frame.beside_solids:
+        return [
+            "the surface elements lie in one plane, but the mesh has solids too (a 3-D "
+            "model): they are measured in their plane, each in its own winding, and "
+            "their orientation is judged only between neighbours (flipped_normal, "
+            "opposite_normals)"
+        ]
     if frame.kind != "planar" or frame.tilt is None or frame.tilt == 0.0:
         return []
     if frame.vertical:

@@ -12,7 +12,7 @@ arrays a plot can draw: element positions, node coordinates, edge end coordinate
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from functools import partial
 from typing import Any
 
@@ -83,6 +83,20 @@ class Finding:
 class MeshFindings:
     findings: list[Finding]
     free_edges: edges.FreeEdges | None
+
+
+def at_report_positions(found: MeshFindings, positions: np.ndarray | None) -> MeshFindings:
+    """Findings made on a mesh's surface part (see
+    :meth:`meshaudit.mesh.elements.ElementMesh.surface_part`) with their element positions
+    (``element_index``, the free edges' ``element``) turned into report positions;
+    ``positions`` None: they are report positions already."""
+    if positions is None:
+        return found
+    findings = [replace(f, element_index=positions[f.element_index]) for f in found.findings]
+    free = found.free_edges
+    if free is not None:
+        free = replace(free, element=positions[free.element])
+    return MeshFindings(findings, free)
 
 
 def _some(values: np.ndarray) -> str:
@@ -339,6 +353,8 @@ def _orientation_finding(part: TopologyPart, orientation: Orientation) -> None:
     orientation), with the same count and the same remedy; see
     :mod:`meshaudit.mesh_checks.orientation`. The edges are the seams where neighbours disagree."""
     out = part.out
+    if orientation.reference == "none":  # solids alone: nothing compared
+        return
     if orientation.reference == "+z":
         kind = "inconsistent_winding"
         named = orientation.turned

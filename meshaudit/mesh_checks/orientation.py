@@ -16,6 +16,10 @@ What an element's orientation is judged against depends on the mesh (see
   ``flipped_normal`` and the ``opposite_normals`` finding names exactly these elements;
   reversing their node order makes the patch agree. A patch that cannot be oriented at
   all (a Moebius-like band) is named, but no element of it is to blame.
+- ``"none"``, a mesh of solids alone: no surface elements to compare. Each solid's
+  orientation is the sign of its own det J (flagged ``reversed`` by its kernel).
+
+Only surface elements are compared (:meth:`meshaudit.mesh.elements.ElementMesh.surface_part`).
 """
 
 from __future__ import annotations
@@ -34,10 +38,10 @@ from ..mesh.topology import EdgeTable, flipped_elements
 class Orientation:
     """Which elements are wound the wrong way, and against what."""
 
-    reference: str  # "+z" or "relative" (see the module docstring)
+    reference: str  # "+z", "relative" or "none" (solids alone; see the module docstring)
     turned: np.ndarray  # (n,) bool: elements whose node order should be reversed
     twisted: np.ndarray  # (n,) bool: on a patch no node order can orient ("relative")
-    geometry: str  # "planar" or "shell", for the messages
+    geometry: str  # "planar", "shell" or "beside solids", for the messages
 
 
 def judge(
@@ -50,10 +54,13 @@ def judge(
     ``table``: the mesh's edge table, for the relative check (built here unless given).
     """
     none = np.zeros(mesh.n_elements, dtype=bool)
+    if frame.orientation == "none":
+        return Orientation("none", none, none.copy(), frame.kind)
     if frame.orientation == "+z":
         return Orientation("+z", reversed_.astype(bool, copy=True), none, "planar")
     groups = flipped_elements(mesh, table)
-    return Orientation("relative", groups.flipped, groups.twisted, frame.kind)
+    geometry = "beside solids" if frame.beside_solids else frame.kind
+    return Orientation("relative", groups.flipped, groups.twisted, geometry)
 
 
 def describe(orientation: Orientation, ids: np.ndarray, some: Callable[[np.ndarray], str]) -> str:
@@ -74,11 +81,10 @@ def describe(orientation: Orientation, ids: np.ndarray, some: Callable[[np.ndarr
             f"reading x and y sees their det J negative): reverse their node order: "
             f"{some(ids[turned])}"
         )
-    why = (
-        "a shell has no absolute orientation"
-        if orientation.geometry == "shell"
-        else "the mesh plane contains z, so there is no absolute orientation"
-    )
+    why = {
+        "shell": "a shell has no absolute orientation",
+        "beside solids": "surface elements beside solids have no absolute orientation",
+    }.get(orientation.geometry, "the mesh plane contains z, so there is no absolute orientation")
     parts = []
     if turned.size:
         parts.append(

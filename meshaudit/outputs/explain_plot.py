@@ -4,6 +4,10 @@ Lines xi = const and eta = const of the reference element are pushed through the
 own map (bilinear for quads, affine for triangles). Where the map folds (det J <= 0) the
 mapped grid cells turn inside out; those cells are hatched, so an inverted or folded
 element shows at a glance. Neighbours (elements sharing a node) are drawn in grey.
+
+A solid is drawn plainly for now: its edges (curved ones through its own map) in an
+oblique view, its nodes and Gauss points labelled with det J; no reference grid and no
+neighbours.
 """
 
 from __future__ import annotations
@@ -101,6 +105,8 @@ def element_view(audited: AuditedMesh, ex: Explanation) -> View:
 
 def draw(audited: AuditedMesh, ex: Explanation) -> Figure:
     """Build the figure of one element (nothing is written)."""
+    if CELL_TYPES[ex.cell_type].dimension == 3:
+        return _draw_solid(ex)
     view = element_view(audited, ex)
     nodes = view.project(ex.coordinates)
     fig = new_figure(figsize=(8.0, 7.0), layout="constrained")
@@ -136,14 +142,18 @@ def render(path: Path, audited: AuditedMesh, ex: Explanation) -> None:
 def _neighbours(ax: Axes, audited: AuditedMesh, ex: Explanation, view: View, window: tuple) -> None:
     from matplotlib.collections import PolyCollection
 
-    table = corner_table(audited.elements)
-    verts = view.project(audited.elements.points[table[ex.neighbour_rows]])
+    table = corner_table(audited.elements)[:, :4]  # surface neighbours: polygons
+    surface = np.array([CELL_TYPES[t].dimension == 2 for t in audited.report.cell_types])
+    codes = audited.report.type_codes[ex.neighbour_rows]
+    drawn = surface[codes] if len(codes) else np.zeros(0, dtype=bool)
+    rows, ids = ex.neighbour_rows[drawn], ex.neighbour_ids[drawn]
+    verts = view.project(audited.elements.points[table[rows]])
     ax.add_collection(
         PolyCollection(verts, facecolors="#e6e6e6", edgecolors="#8c8c8c", lw=0.8, gid="neighbours")
     )
     lo, hi = window
     inset = 0.04 * (hi - lo)
-    for k, v in zip(ex.neighbour_ids, verts):
+    for k, v in zip(ids, verts):
         # the id sits at the neighbour's centroid, pulled inside the frame when it is off it
         c = np.clip(v.mean(axis=0), lo + inset, hi - inset)
         ax.text(
@@ -226,3 +236,68 @@ def _frame(ax: Axes, nodes: np.ndarray) -> None:
     ax.set_ylim(lo[1], hi[1])
     ax.set_aspect("equal")
     ax.tick_params(labelsize=8)
+
+
+#: The direction a solid is seen from (towards the viewer): above, in front, to the right.
+SOLID_VIEW = np.array([1.0, -1.6, 1.2]) / np.linalg.norm([1.0, -1.6, 1.2])
+
+
+def solid_view(coords: np.ndarray) -> View:
+    """An oblique view of one solid's nodes (k, 3): seen from :data:`SOLID_VIEW`, z up."""
+    right = np.cross([0.0, 0.0, 1.0], SOLID_VIEW)
+    right /= np.linalg.norm(right)
+    up = np.cross(SOLID_VIEW, right)
+    view = View(coords.mean(axis=0), np.stack([right, up]), SOLID_VIEW)
+    return with_unit(view, drawing_unit(coords))
+
+
+def _draw_solid(ex: Explanation) -> Figure:
+    """A solid's edges in an oblique view, nodes and Gauss points labelled with det J."""
+    from matplotlib import patheffects
+    from matplotlib.collections import LineCollection
+
+    cell = CELL_TYPES[ex.cell_type]
+    view = solid_view(ex.coordinates)
+    t = np.linspace(0.0, 1.0, SAMPLES)[:, None]
+    ref = cell.reference_nodes
+    edges = [ref[a] + t * (ref[b] - ref[a]) for a, b in cell.edges]
+    lines = [view.project(map_points(cell, ex.coordinates, e)) for e in edges]
+    nodes = view.project(ex.coordinates)
+    fig = new_figure(figsize=(8.0, 7.0), layout="constrained")
+    ax = fig.add_subplot(1, 1, 1)
+    ax.add_collection(LineCollection(lines, colors=OUTLINE, linewidths=1.6, gid="outline"))
+    halo = [patheffects.withStroke(linewidth=3, foreground=HALO)]
+    centre = nodes[: cell.n_corners].mean(axis=0)
+    for k, p in enumerate(nodes):
+        ax.plot(*p, "o", color=OUTLINE, ms=5 if k < cell.n_corners else 3.5, zorder=5)
+        det = ex.det_j_nodes[k] if k < len(ex.det_j_nodes) else np.nan
+        label = f"{k + 1}: node {int(ex.node_numbers[k])}"
+        label += f"\ndet J {det:.4g}" if np.isfinite(det) else ""
+        away = p - centre
+        away = away / (np.hypot(*away) or 1.0)
+        ax.annotate(
+            label,
+            xy=p,
+            xytext=tuple(26.0 * away),
+            textcoords="offset points",
+            ha="center",
+            va="center",
+            fontsize=7.5,
+            path_effects=halo,
+            zorder=6,
+        )
+    g = view.project(map_points(cell, ex.coordinates, ex.gauss_points))
+    ax.plot(g[:, 0], g[:, 1], "P", color="#fde725", mec=OUTLINE, ms=7, zorder=5, gid="gauss")
+    for p, d in zip(g, ex.det_j_gauss):
+        ax.annotate(
+            f"{d:.4g}", xy=p, xytext=(5, 5), textcoords="offset points", fontsize=7, zorder=6
+        )
+    _frame(ax, nodes)
+    lines_ = _title(ex).splitlines()[:-1]
+    lines_.append(
+        "edges in an oblique view (z up); Gauss points marked with det J; the mapped "
+        "reference grid and the neighbours are not drawn for solids yet"
+    )
+    ax.set_title(drawable("\n".join(lines_)), fontsize=9)
+    ax.set_xlabel("oblique view" + unit_text(view), fontsize=8)
+    return fig

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import math
+
 from rich.console import Console, Group
 from rich.table import Table
 from rich.text import Text
@@ -27,23 +29,35 @@ def nodes_table(ex: Explanation) -> Table:
     return t
 
 
+AXES = ("xi", "eta", "zeta")
+
+
+def _where(ex: Explanation) -> str:
+    return "space" if ex.measured_in == "space" else f"the {ex.measured_in}"
+
+
 def gauss_table(ex: Explanation) -> Table:
-    t = Table(
-        title=f"det J at the Gauss points (measured in the {ex.measured_in})", title_justify="left"
-    )
-    for col in ("point", "xi", "eta", "det J"):
+    t = Table(title=f"det J at the Gauss points (measured in {_where(ex)})", title_justify="left")
+    for col in ("point", *AXES[: ex.dimension], "det J"):
         t.add_column(col, justify="right")
     for k, (g, d) in enumerate(zip(ex.gauss_points, ex.det_j_gauss)):
-        t.add_row(str(k + 1), f"{g[0]:+.6f}", f"{g[1]:+.6f}", _fmt(float(d)))
+        t.add_row(str(k + 1), *(f"{v:+.6f}" for v in g), _fmt(float(d)))
     return t
 
 
 def bound_line(ex: Explanation) -> Text:
     """det J over the whole element, one line."""
     b = ex.det_j_bound
+    axes = AXES[: ex.dimension]
+    where = [b[a] for a in axes]
+    at = (
+        f"at ({', '.join(axes)}) = ({', '.join(f'{v:+.4f}' for v in where)})"
+        if all(math.isfinite(v) for v in where)
+        else "inside the element (found by subdivision)"
+    )
     text = (
         f"det J over the whole element: at least {_fmt(b['lower'])}; smallest value found "
-        f"{_fmt(b['upper'])} at (xi, eta) = ({b['xi']:+.4f}, {b['eta']:+.4f})"
+        f"{_fmt(b['upper'])} {at}"
     )
     if b["undecided"]:
         text += "; sign of the minimum undecided (reported as inverted)"

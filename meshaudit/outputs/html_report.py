@@ -18,7 +18,7 @@ import numpy as np
 
 from .. import __version__
 from ..mesh.elements import ElementMesh
-from ..metrics import METRIC_INFO, METRIC_NAMES, VALIDITY_FLAGS
+from ..metrics import METRIC_INFO, METRIC_NAMES, VALIDITY_FLAGS, unit_of
 from ..results.percentiles import linear_percentiles
 from ..results.report import Report
 from . import plot
@@ -252,7 +252,7 @@ def _limit_marks(report: Report, metric: str, lo: float, hi: float, sx, top, ph)
 def _caption(report: Report, name: str) -> str:
     info = METRIC_INFO[name]
     values = np.asarray(report.metrics[name], dtype=float)
-    unit = "" if info.unit == "1" else f" [{info.unit}]"
+    unit = "" if info.unit == "1" else f" [{unit_of(name, report.dimensions)}]"
     notes = []
     inf = int(np.isinf(values).sum())
     if inf:

@@ -69,10 +69,17 @@ def finding_cases(suite: ET.Element, report: Report) -> None:
             case = ET.SubElement(
                 suite, "testcase", classname="meshaudit.findings", name=name, time="0"
             )
-            why = f"not checked on a {report.summary.frame} mesh"
-            ET.SubElement(
-                case, "skipped", message=f"{why} (orientation {report.summary.orientation})"
-            )
+            if report.summary.frame == "solid":
+                why = (
+                    "not checked: the mesh has no surface elements, and the mesh-level "
+                    "checks cover surface elements only"
+                )
+            else:
+                why = (
+                    f"not checked on a {report.summary.frame} mesh "
+                    f"(orientation {report.summary.orientation})"
+                )
+            ET.SubElement(case, "skipped", message=why)
             continue
         f = found.get(kind)
         if f is None:

@@ -12,7 +12,7 @@ from typing import TYPE_CHECKING
 from rich.console import Console, Group
 from rich.text import Text
 
-from ..metrics import METRIC_INFO, METRIC_NAMES
+from ..metrics import METRIC_INFO, METRIC_NAMES, unit_of
 from ..results.report import PERCENTILES, Report
 from .terminal_findings import findings_table, loops_line, verdict_suffix
 
@@ -56,7 +56,7 @@ def summary_table(report: Report) -> Table:
     t.add_column()
     t.add_row("file", s.source)
     t.add_row("nodes", f"{s.n_points:,}")
-    t.add_row("elements", ", ".join(f"{v:,} {k}" for k, v in s.element_counts.items()))
+    t.add_row("elements", s.elements_text())
     t.add_row("not audited", s.skipped_text() or "none")
     if s.element_numbers:
         t.add_row("element numbers", s.element_numbers)
@@ -102,7 +102,8 @@ def distribution_table(report: Report) -> Table:
         cells = [_fmt(st[key]) for key, _ in PERCENTILES]
         if st["infinite"]:
             cells[-1] = f"inf ({st['infinite']})"
-        t.add_row(name, METRIC_INFO[name].unit, *cells, str(st["past_warn"]), str(st["past_fail"]))
+        unit = unit_of(name, report.dimensions)
+        t.add_row(name, unit, *cells, str(st["past_warn"]), str(st["past_fail"]))
     return t
 
 

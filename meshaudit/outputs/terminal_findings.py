@@ -61,6 +61,8 @@ def loops_line(report: Report) -> str:
     """Summary of the free-edge loops, e.g. '2: outer 14 edges (length 14); hole 4 edges
     (length 4)': the part's boundary first, then cracks and non-conforming interfaces."""
     free = report.free_edges
+    if report.summary.frame == "solid":
+        return "not checked (no surface elements; the faces of solids are not checked yet)"
     if free is None:
         return "not checked"
     if free.n_loops == 0:

@@ -3,7 +3,8 @@ the profile's limits with the reason for each breach, flags and neighbours.
 
 Pure data (:class:`Explanation`); ``meshaudit.outputs.explain_text`` prints it and
 ``meshaudit.outputs.explain_plot`` draws it. det J comes from the same kernels the audit
-uses, evaluated in the same measuring plane (:mod:`meshaudit.mesh.frames`).
+uses, evaluated in the same measuring plane (:mod:`meshaudit.mesh.frames`); a solid's in
+space, from its cell type's reference tables (:data:`meshaudit.cells.CELL_TYPES`).
 """
 
 from __future__ import annotations
@@ -20,9 +21,21 @@ from ..judge.score import BAND
 from ..judge.verdicts import INVALID_FLAGS, VERDICT_NAMES
 from ..mesh.frames import choose_frame, to_local
 from ..mesh.scale import element_exponents, scaled_lengths
-from ..metrics import METRIC_INFO, METRIC_NAMES, quadratic
+from ..metrics import METRIC_INFO, METRIC_NAMES, quadratic, unit_of
 from .inspection import AuditedMesh, corner_table, element_nodes, neighbours
 from .report import finite_or_none, json_float
+
+#: Solids: their orientation is their own det J's sign; their faces can fold, cross or
+#: flatten (see the kernels in meshaudit.metrics.solid).
+SOLID_FLAG_REASONS = {
+    "reversed": "det J is negative at every node and Gauss point: the node order is "
+    "mirrored (the element is numbered inside out; reverse its node order)",
+    "nonconvex": "a re-entrant corner: the corner Jacobians disagree in sign, or a face "
+    "has a corner turned against the face's normal",
+    "self_intersecting": "a face crosses itself: two of its corners are turned against "
+    "the face's normal (as in an element twisted by half a turn)",
+    "degenerate": "two corners are at the same place, or the element has no volume (it is flat)",
+}
 
 FLAG_REASONS = {
     "inverted": "det J is negative at {negative}: the map from the reference element "
@@ -81,18 +94,20 @@ class Explanation:
     node_indices: np.ndarray  # (k,) 0-based node indices, in element order
     node_numbers: np.ndarray  # (k,) the same nodes' numbers (the file's node labels)
     coordinates: np.ndarray  # (k, 3)
-    gauss_points: np.ndarray  # (m, 2) reference coordinates
+    gauss_points: np.ndarray  # (m, dimension) reference coordinates
     det_j_gauss: np.ndarray  # (m,)
-    node_reference: np.ndarray  # (c, 2) reference coordinates of the corners (every node
-    det_j_nodes: np.ndarray  # (c,) det J at each of them        of a quadratic element)
+    node_reference: np.ndarray  # (c, dimension) reference coordinates of the corners
+    det_j_nodes: np.ndarray  # (c,) det J at each of them (every node of a quadratic
+    #                          element; NaN at a pyramid's apex, where it has no value)
     metrics: list[MetricLine]
     flags: list[str]
     flag_reasons: dict[str, str]
     neighbour_ids: np.ndarray
     neighbour_rows: np.ndarray
-    measured_in: str  # "mesh plane" or "element's best-fit plane"
+    measured_in: str  # "mesh plane", "element's best-fit plane" or "space" (a solid)
     #: det J over the whole element: lower (det J >= lower everywhere), upper (smallest
-    #: value found), xi, eta (where), undecided (bool)
+    #: value found), xi, eta (and zeta for a solid: where; NaN when found inside by
+    #: subdivision at a point not kept), undecided (bool)
     det_j_bound: dict[str, Any] = field(default_factory=dict)
     notes: list[str] = field(default_factory=list)
     findings: list[str] = field(default_factory=list)  # mesh-level findings naming it
@@ -103,9 +118,16 @@ class Explanation:
     def breaches(self) -> list[MetricLine]:
         return [m for m in self.metrics if m.level in ("warn", "fail")]
 
+    @property
+    def dimension(self) -> int:
+        """2 for a surface element, 3 for a solid."""
+        return int(self.gauss_points.shape[1])
+
     def to_dict(self) -> dict[str, Any]:
         def floats(a: np.ndarray) -> list[Any]:
             return [finite_or_none(v) for v in np.ravel(a)]
+
+        axes = ("xi", "eta", "zeta")[: self.dimension]
 
         return {
             "id": self.id,
@@ -122,14 +144,13 @@ class Explanation:
                 )
             ],
             "gauss_points": [
-                {"xi": float(g[0]), "eta": float(g[1]), "det_j": finite_or_none(d)}
+                {**dict(zip(axes, map(float, g))), "det_j": finite_or_none(d)}
                 for g, d in zip(self.gauss_points, self.det_j_gauss)
             ],
             "det_j_nodes": [
                 {
                     "node": int(self.node_numbers[k]),
-                    "xi": float(r[0]),
-                    "eta": float(r[1]),
+                    **dict(zip(axes, map(float, r))),
                     "det_j": finite_or_none(d),
                 }
                 for k, (r, d) in enumerate(zip(self.node_reference, self.det_j_nodes))
@@ -156,14 +177,17 @@ def local_nodes(audited: AuditedMesh, i: int) -> tuple[np.ndarray, str]:
 def scaled_local_nodes(audited: AuditedMesh, i: int) -> tuple[np.ndarray, int, str]:
     """:func:`local_nodes` scaled by 2^-k, and k: an element of extreme size is measured
     at a scale where products of lengths cannot overflow or underflow (k = 0 for any
-    ordinary one; see :mod:`meshaudit.mesh.scale`)."""
+    ordinary one; see :mod:`meshaudit.mesh.scale`). A solid's nodes stay in space (k, 3)."""
     cell = CELL_TYPES[audited.report.cell_types[int(audited.report.type_codes[i])]]
     coords3 = audited.elements.points[element_nodes(audited.elements, i)]
     exponent = int(element_exponents(coords3[None])[0])
     if exponent:
         with np.errstate(under="ignore"):
             coords3 = np.ldexp(coords3, -exponent)
-    frame = choose_frame(audited.elements)
+    if cell.dimension == 3:
+        return coords3, exponent, "space"
+    surface, _ = audited.elements.surface_part()
+    frame = choose_frame(surface, beside_solids=audited.elements.has_solids)
     local = to_local(coords3[None], frame, cell.n_corners)[0]
     where = "mesh plane" if frame.kind == "planar" else "element's best-fit plane"
     return local, exponent, where
@@ -186,7 +210,10 @@ def det_j_bound(
     """det J over the whole element: at least ``lower`` everywhere, ``upper`` the smallest
     value found, at reference point (``xi``, ``eta``), and whether the sign of the minimum
     stayed ``undecided``. Quadratic elements: the Bernstein bound the audit uses; linear
-    ones: det J is bilinear or constant, so the smallest corner value is the minimum."""
+    ones: det J is bilinear or constant, so the smallest corner value is the minimum.
+    Solids: see :func:`solid_det_j_bound`."""
+    if CELL_TYPES[cell_type].dimension == 3:
+        return solid_det_j_bound(cell_type, local, node_points, det_nodes)
     if cell_type in quadratic.ELEMENTS:
         part = quadratic.jacobian_part(quadratic.ELEMENTS[cell_type], local[None], locate=True)
         lower, upper = float(part.lower[0]), float(part.bounds.upper[0])
@@ -198,6 +225,49 @@ def det_j_bound(
         xi, eta = (float(v) for v in node_points[k])
         undecided = False
     return {"lower": lower, "upper": upper, "xi": xi, "eta": eta, "undecided": undecided}
+
+
+def solid_det_j_bound(
+    cell_type: str, coords: np.ndarray, node_points: np.ndarray, det_nodes: np.ndarray
+) -> dict[str, Any]:
+    """det J over a whole solid (nodes ``coords`` (k, 3) in space), as the audit's kernel
+    bounds it: ``lower`` its certified lower bound (``det_j_lower_bound``); ``upper`` the
+    smallest value found, at the Gauss points, the nodes, or (tetra10, hexahedra) inside
+    by the kernel's subdivision, at (``xi``, ``eta``, ``zeta``) (NaN where the
+    subdivision does not keep the point); ``undecided`` whether the sign of the minimum
+    stayed unknown (reported as inverted)."""
+    cell = CELL_TYPES[cell_type]
+    gauss, nodal = cell.jacobians(coords[None])
+    values = np.concatenate([gauss[0], nodal[0]])
+    points = np.vstack([cell.gauss_points, node_points])
+    values = np.where(np.isnan(values), np.inf, values)  # the pyramid's apex
+    k = int(np.argmin(values))
+    upper, where = float(values[k]), points[k].astype(float)
+    metrics, _ = cell.kernel(coords[None])
+    lower = float(metrics["det_j_lower_bound"][0])
+    undecided = False
+    if cell_type == "tetra10":
+        from ..metrics.solid import tetra
+
+        found = tetra.det_j_bounds(coords[None])
+        if float(found.upper[0]) < upper:  # found inside (NaN: not looked for)
+            upper, where = float(found.upper[0]), found.where[0, 1:].astype(float)
+        undecided = bool(found.undecided[0])
+    elif cell.family == "hexahedron":
+        from ..metrics.solid import hex_jacobian
+
+        part = hex_jacobian.jacobian_part(cell_type, coords[None])
+        if float(part.found[0]) < upper:  # found inside, at a point not kept
+            upper, where = float(part.found[0]), np.full(3, np.nan)
+        undecided = bool(part.undecided[0])
+    return {
+        "lower": lower,
+        "upper": upper,
+        "xi": float(where[0]),
+        "eta": float(where[1]),
+        "zeta": float(where[2]),
+        "undecided": undecided,
+    }
 
 
 def _reason(name: str, value: float, worse: str, level: str, warn, fail) -> str:
@@ -244,25 +314,29 @@ def metric_lines(audited: AuditedMesh, i: int) -> list[MetricLine]:
         if name == "score":
             invalid = any(report.flag(f)[i] for f in INVALID_FLAGS)
             reason = _score_reason(value, int(report.verdict[i]), invalid)
-        lines.append(MetricLine(name, value, info.unit, info.worse, warn, fail, level, reason))
+        unit = unit_of(name, [CELL_TYPES[report.cell_types[int(report.type_codes[i])]].dimension])
+        lines.append(MetricLine(name, value, unit, info.worse, warn, fail, level, reason))
     return lines
 
 
 def _flag_reasons(
-    flags: list[str], node_numbers, det_nodes, metrics, bound: dict[str, Any]
+    flags: list[str], node_numbers, det_nodes, metrics, bound: dict[str, Any], solid: bool
 ) -> dict[str, str]:
     negative = ", ".join(
         f"node {int(n)} (det J {d:.4g})" for n, d in zip(node_numbers, det_nodes) if d < 0
     )
     if not negative and bound and bound["upper"] < 0:
+        axes = ("xi", "eta", "zeta") if solid else ("xi", "eta")
+        at = ", ".join(f"{bound[a]:.4g}" for a in axes)
         negative = (
-            f"(xi, eta) = ({bound['xi']:.4g}, {bound['eta']:.4g}) in the element "
+            f"({', '.join(axes)}) = ({at}) in the element "
             f"(det J {bound['upper']:.4g}; no node or Gauss point shows it)"
         )
     values = {m.name: m.value for m in metrics}
+    reasons = {**FLAG_REASONS, **SOLID_FLAG_REASONS} if solid else FLAG_REASONS
     out = {}
     for flag in flags:
-        template = FLAG_REASONS.get(flag)
+        template = reasons.get(flag)
         if flag == "inverted" and bound.get("undecided"):
             template = FLAG_REASONS["undecided"]
         if template:
@@ -286,10 +360,13 @@ def explain(audited: AuditedMesh, element_id: int) -> Explanation:
     local, exponent, where = scaled_local_nodes(audited, i)
     gauss_pts, det_gauss, ref_corners, det_corners = jacobians(cell_type, local)
     bound = det_j_bound(cell_type, local, ref_corners, det_corners)
-    if exponent:  # det J back in the mesh's units (length^2)
-        det_gauss, det_corners = (scaled_lengths(d, exponent, 2) for d in (det_gauss, det_corners))
+    power = CELL_TYPES[cell_type].dimension  # det J in length^2 or length^3
+    if exponent:  # det J back in the mesh's units
+        det_gauss, det_corners = (
+            scaled_lengths(d, exponent, power) for d in (det_gauss, det_corners)
+        )
         for key in ("lower", "upper"):
-            bound[key] = float(scaled_lengths(np.float64(bound[key]), exponent, 2))
+            bound[key] = float(scaled_lengths(np.float64(bound[key]), exponent, power))
     nodes = element_nodes(audited.elements, i)
     numbers = audited.elements.numbering.node_numbers(nodes)
     lines = metric_lines(audited, i)
@@ -311,7 +388,7 @@ def explain(audited: AuditedMesh, element_id: int) -> Explanation:
         det_j_nodes=det_corners,
         metrics=lines,
         flags=flags,
-        flag_reasons=_flag_reasons(flags, numbers, det_corners, lines, bound),
+        flag_reasons=_flag_reasons(flags, numbers, det_corners, lines, bound, power == 3),
         neighbour_ids=report.ids[near],
         neighbour_rows=near,
         measured_in=where,

@@ -13,6 +13,7 @@ from typing import Any
 import numpy as np
 
 from ..arrays import unique_values
+from ..cells.registry import CELL_TYPES
 from ..judge.profiles import Profile
 from ..judge.verdicts import FAIL, VERDICT_NAMES, WARN
 from ..mesh_checks.edges import FreeEdges
@@ -35,10 +36,10 @@ class MeshSummary:
     n_points: int
     element_counts: dict[str, int]  # cell type -> number audited
     skipped: dict[str, int]  # cell type -> number not audited
-    frame: str  # "planar" or "shell"
+    frame: str  # "planar", "shell" or "solid" (no surface elements)
     normal: list[float] | None = None
-    #: what element orientation is judged against: "+z" or "relative"
-    #: (see :mod:`meshaudit.mesh_checks.orientation`)
+    #: what element orientation is judged against: "+z", "relative" or "none" (solids
+    #: alone; see :mod:`meshaudit.mesh_checks.orientation`)
     orientation: str = "+z"
     #: Which numbers the reports give elements and nodes (see meshaudit.mesh.labels).
     element_numbers: str = ""
@@ -48,20 +49,69 @@ class MeshSummary:
     def n_elements(self) -> int:
         return sum(self.element_counts.values())
 
+    def family_counts(self) -> dict[str, int]:
+        """Elements audited per family (hexahedron20 counts as a hexahedron), in the
+        order the families first appear."""
+        counts: dict[str, int] = {}
+        for cell_type, n in self.element_counts.items():
+            family = CELL_TYPES[cell_type].family
+            counts[family] = counts.get(family, 0) + n
+        return counts
+
+    @property
+    def n_solids(self) -> int:
+        """How many audited elements are solids (dimension 3)."""
+        return sum(n for t, n in self.element_counts.items() if CELL_TYPES[t].dimension == 3)
+
+    def elements_text(self) -> str:
+        """The elements audited in words, by family (a family's cell types in brackets
+        when it has others than its namesake), surface and solid families apart when
+        both occur: '48 hexahedron, 16 wedge' or 'surface: 20 triangle; solid: 1,200
+        hexahedron (1,000 hexahedron, 200 hexahedron20)'."""
+        groups: dict[int, list[str]] = {}
+        for family, total in self.family_counts().items():
+            types = {t: n for t, n in self.element_counts.items() if CELL_TYPES[t].family == family}
+            text = f"{total:,} {family}"
+            if set(types) != {family}:
+                text += " (" + ", ".join(f"{n:,} {t}" for t, n in types.items()) + ")"
+            dimension = CELL_TYPES[next(iter(types))].dimension
+            groups.setdefault(dimension, []).append(text)
+        if len(groups) == 1:
+            return ", ".join(next(iter(groups.values())))
+        return "; ".join(
+            f"{'surface' if d == 2 else 'solid'}: {', '.join(groups[d])}" for d in sorted(groups)
+        )
+
     def skipped_text(self) -> str:
         """The cells not audited, e.g. '120 tetra, 40 line' ('' when every cell was)."""
         return ", ".join(f"{n:,} {t}" for t, n in self.skipped.items())
 
     def geometry_text(self) -> str:
         """The geometry in words, with what orientation is judged against (for reports)."""
-        if self.frame != "planar":
+        if self.frame == "solid":
             return (
+                "solid (volume elements only, each measured in space against its reference "
+                "element; orientation: the sign of each element's own det J; the mesh-level "
+                "checks cover surface elements only, and there are none)"
+            )
+        solids = self.n_solids
+        if self.frame != "planar":
+            text = (
                 "shell surface in 3-D (each element in its own best-fit plane; orientation "
                 "judged between neighbours)"
             )
-        if self.orientation == "+z":
-            return "planar (orientation against +z: clockwise elements are reversed)"
-        return "planar, plane contains z (orientation judged between neighbours)"
+        elif self.orientation == "+z":
+            text = "planar (orientation against +z: clockwise elements are reversed)"
+        elif solids:
+            text = "planar surface elements (orientation judged between neighbours)"
+        else:
+            text = "planar, plane contains z (orientation judged between neighbours)"
+        if solids:
+            text += (
+                f", with {solids:,} solid elements measured in space (orientation: the sign "
+                "of each one's det J; the mesh-level checks cover the surface elements only)"
+            )
+        return text
 
     def to_dict(self) -> dict[str, Any]:
         return {
@@ -69,6 +119,7 @@ class MeshSummary:
             "nodes": self.n_points,
             "elements": self.n_elements,
             "elements_by_type": dict(self.element_counts),
+            "elements_by_family": self.family_counts(),
             "skipped_cells": dict(self.skipped),
             "geometry": self.frame,
             "plane_normal": self.normal,
@@ -120,6 +171,11 @@ class Report:
     @property
     def score(self) -> np.ndarray:
         return self.metrics["score"]
+
+    @property
+    def dimensions(self) -> set[int]:
+        """The dimensions of the cell types audited: {2}, {3} or {2, 3}."""
+        return {CELL_TYPES[t].dimension for t in self.cell_types}
 
     @property
     def types(self) -> np.ndarray:
