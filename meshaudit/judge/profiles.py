@@ -51,7 +51,7 @@ def toml_module() -> Any:
 SOLID_FAMILIES: tuple[str, ...] = ("tetra", "hexahedron", "wedge", "pyramid")
 FAMILIES: tuple[str, ...] = tuple(dict.fromkeys([*CELL_FAMILIES, *SOLID_FAMILIES]))
 #: Metrics only solid elements measure: a surface family cannot limit them.
-SOLID_ONLY: frozenset[str] = frozenset(m.name for m in SOLID_METRICS)
+SOLID_ONLY: frozenset[str] = frozenset(SOLID_METRICS)
 
 COMMON = "common practice, no single source"
 OWN = "meshaudit default, no published source"

@@ -101,31 +101,8 @@ METRICS: tuple[MetricInfo, ...] = (
         "max_dihedral", "high", "deg", "tetrahedra, hexahedra: largest angle between two faces"
     ),
 )
-#: Metrics only solid elements measure (see :mod:`meshaudit.metrics.solid`): profiles can
-#: limit them and verdicts judge them, and their limits are built in for the solid
-#: families (:mod:`meshaudit.judge.solid_limits`). They join the report columns
-#: (:data:`METRIC_NAMES`) when the engine measures solids; a name already in
-#: :data:`METRICS` keeps that entry.
-SOLID_METRICS: tuple[MetricInfo, ...] = (
-    MetricInfo(
-        "volume", "low", "length^3", "signed volume of a solid element; no limit by default"
-    ),
-    MetricInfo("mean_ratio", "low", "1", "tetrahedra: Liu and Joe's mean ratio, 1 regular, 0 flat"),
-    MetricInfo(
-        "radius_ratio",
-        "high",
-        "1",
-        "tetrahedra: circumradius over three inradii, 1 regular, infinite when flat",
-    ),
-    MetricInfo("edge_ratio", "high", "1", "solids: longest over shortest edge"),
-    MetricInfo("min_dihedral", "low", "deg", "solids: smallest angle between two faces at an edge"),
-    MetricInfo("max_dihedral", "high", "deg", "solids: largest angle between two faces at an edge"),
-)
 METRIC_NAMES: tuple[str, ...] = tuple(m.name for m in METRICS)
-METRIC_INFO: dict[str, MetricInfo] = {
-    **{m.name: m for m in SOLID_METRICS},
-    **{m.name: m for m in METRICS},
-}
+METRIC_INFO: dict[str, MetricInfo] = {m.name: m for m in METRICS}
 #: The metrics a profile can limit, in report order.
 LIMITED_METRICS: tuple[str, ...] = tuple(m.name for m in METRICS if m.limited)
 #: Metrics only solids measure (NaN for every surface element).
