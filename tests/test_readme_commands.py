@@ -88,8 +88,20 @@ def _junit_and_json_per_mesh(folder: Path, res: subprocess.CompletedProcess) -> 
         assert json.loads((reports / f"{mesh.stem}.json").read_text())["schema"]
 
 
+def _lug_defects_listed(folder: Path, res: subprocess.CompletedProcess) -> None:
+    # "an inverted hexahedron, a sheared one and a sliver wedge (fails)"
+    _defects_listed(folder, res)
+    assert re.search(r"│ 46 │ hexahedron │ fail .*inverted", res.stdout)
+    assert re.search(r"│ +5 │ hexahedron │ fail", res.stdout)
+    assert re.search(r"│ 48 │ wedge +│ fail", res.stdout)
+
+
 PROMISES: dict[str, Promise] = {
     "meshaudit check samples/bracket_plate.msh": Promise(0, ["PASS"]),
+    "meshaudit check samples/bracket_lug.vtu": Promise(0, ["PASS", "48 hexahedron, 16 wedge"]),
+    "meshaudit check samples/bracket_lug_defects.vtu": Promise(
+        1, ["FAIL", "3 of 64 elements fail"], check=_lug_defects_listed
+    ),
     "meshaudit check samples/bracket_plate_defects.msh": Promise(
         1, ["FAIL"], check=_defects_listed
     ),

@@ -352,7 +352,7 @@ def test_lug_sample_passes_with_closed_form_volumes() -> None:
     assert not report.findings
 
 
-def test_lug_defects_fail_on_the_inverted_hexahedron_only_until_limits_exist() -> None:
+def test_lug_defects_without_shape_limits_fail_on_the_inverted_hexahedron_only() -> None:
     # The planted defects (samples/make_solid_samples.py): hexahedron 46 has a top corner
     # pulled below its own bottom face: det J there is det[a, b, c] / 8 of the corner's
     # three edges (10, 0, 0), (0, 10, 0) and (0, 0, -12)... negative; hexahedron 5 and
@@ -370,6 +370,24 @@ def test_lug_defects_fail_on_the_inverted_hexahedron_only_until_limits_exist() -
     # shape function, whose xi-derivative integrates to 1): 500 + 15 x 5 x 2.5
     sheared = report.position_of(5)
     assert report.metrics["volume"][sheared] == pytest.approx(500.0 + 15.0 * 5.0 * 2.5)
+
+
+def test_lug_defects_under_the_standard_limits_fail_on_all_three() -> None:
+    # Closed forms of the planted shapes (samples/make_solid_samples.py): hexahedron 5's
+    # face y = 0 has the corner (60, 0, 0) moved to (75, 0, 0) on a 5 high layer, so its
+    # angle there is atan(5 / 15) = 18.43 deg, past the hexahedron's min_angle fail limit
+    # (30 deg); wedge 48's top node dropped to 0.5 above the block over a 10 long edge
+    # gives a face angle of atan(0.5 / 10) = 2.86 deg (fail limit 15 deg).
+    report = meshaudit.audit(SAMPLES / "bracket_lug_defects.vtu")
+    assert not report.passed
+    assert sorted(report.ids[report.failing].tolist()) == [5, 46, 48]
+    assert report.verdict_counts() == {"ok": 61, "warn": 0, "fail": 3}
+    sheared, sliver = report.position_of(5), report.position_of(48)
+    assert report.metrics["min_angle"][sheared] == pytest.approx(np.degrees(np.arctan(5 / 15)))
+    assert report.metrics["min_angle"][sliver] == pytest.approx(np.degrees(np.arctan(0.5 / 10)))
+    limits = meshaudit.BUILTIN_PROFILES["standard"].limits
+    assert report.metrics["min_angle"][sheared] < limits["hexahedron"]["min_angle"].fail
+    assert report.metrics["min_angle"][sliver] < limits["wedge"]["min_angle"].fail
 
 
 def _lug_with_skin(skin_duplicate: bool = False) -> meshio.Mesh:
