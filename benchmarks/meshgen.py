@@ -10,10 +10,11 @@ reversed (clockwise), one bow-tie, one collapsed and one non-convex element.
 For the solids (:func:`distorted_block`), the plate's 200 x 120 x 40 mm block is meshed
 with a structured grid of eight-node hexahedra, or of those cubes each cut into six
 tetrahedra along its main diagonal (the same cut in every cube, so neighbours share their
-faces' diagonals), interior nodes moved by up to 3 % (hexahedra) or 4 % (tetrahedra) of the spacing along
-each axis (in space a random move warps faces: larger moves would make most solids warn,
-and the benchmark would time a report of every element rather than the audit); one element is listed mirrored (inverted)
-and one has two corners on one node (degenerate).
+faces' diagonals), interior nodes moved by up to 3 % (hexahedra) or 4 % (tetrahedra) of
+the spacing along each axis (in space a random move warps faces: larger moves would make
+most solids warn, and the benchmark would time a report of every element rather than the
+audit); one element is listed mirrored (inverted) and one has two corners on one node
+(degenerate).
 """
 
 from __future__ import annotations

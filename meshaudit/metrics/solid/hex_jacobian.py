@@ -30,7 +30,7 @@ from .hex_reference import REFERENCE, ReferenceCell
 FLOOR_TOLERANCE = 1e-10
 
 #: Elements measured together: bounds the temporaries (a few MB) whatever the chunk.
-BLOCK = {1: 1024, 2: 256}
+BLOCK = {1: 4096, 2: 256}  # linear: see hexahedron.BLOCK
 
 
 def _lagrange_1d(nodes: np.ndarray, t: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
