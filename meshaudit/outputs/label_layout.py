@@ -23,6 +23,8 @@ RADII = (10.0, 18.0, 28.0, 40.0)
 _ANGLES = np.radians([45.0, 135.0, 225.0, 315.0, 90.0, 270.0, 0.0, 180.0])
 #: Gap kept between two label boxes, in pixels (covers a label's rounded frame).
 GAP = 4.0
+#: Half size (pixels) of the square kept clear around each anchor and marker.
+MARK = 4.0
 
 
 def freeze_layout(fig: Figure) -> Any:
@@ -52,15 +54,22 @@ def place_labels(
     renderer: Any,
     taken: list[Any] | None = None,
     arrows: bool = True,
+    keep_clear: np.ndarray | None = None,
 ) -> list[bool]:
     """Annotate ``ax`` with ``texts`` at data points ``anchors`` (n, 2), each with its own
     text keyword arguments (``styles``: gid, fontsize, bbox, ...). Returns which labels were
     placed. ``taken`` (display boxes already covered, e.g. by another axes' labels) is
-    extended with the boxes placed."""
+    extended with the boxes placed. No label covers the anchors themselves nor the data
+    points ``keep_clear`` (m, 2) (markers a label must not hide)."""
     from matplotlib.text import Text
+    from matplotlib.transforms import Bbox
 
     boxes = taken if taken is not None else []
     frame = ax.get_window_extent(renderer)
+    points = [anchors] if keep_clear is None else [anchors, keep_clear]
+    marks = ax.transData.transform(np.vstack(points).reshape(-1, 2))
+    marks = marks[np.isfinite(marks).all(axis=1)]
+    clear = [Bbox.from_extents(x - MARK, y - MARK, x + MARK, y + MARK) for x, y in marks]
     placed = []
     for anchor, text, style in zip(anchors, texts, styles):
         ok = False
@@ -86,7 +95,7 @@ def place_labels(
                     and box.y0 >= frame.y0
                     and box.y1 <= frame.y1
                 )
-                if inside and not _overlaps(box, boxes):
+                if inside and not _overlaps(box, boxes) and not _overlaps(box, clear):
                     boxes.append(box)
                     ok = True
                     break

@@ -169,6 +169,13 @@ def face_cells(cell: CellType, per_side: int = 4) -> tuple[np.ndarray, np.ndarra
     return corners, centres
 
 
+def mapped(cell: CellType, coords: np.ndarray, ref: np.ndarray) -> np.ndarray:
+    """Points in space (..., 3) of reference points ``ref`` (..., 3) of one element with
+    nodes ``coords`` (k, 3), any leading shape."""
+    flat = ref.reshape(-1, ref.shape[-1])
+    return (cell.shape_functions(flat) @ coords).reshape(*ref.shape[:-1], coords.shape[-1])
+
+
 def determinants(cell: CellType, coords: np.ndarray, points: np.ndarray) -> np.ndarray:
     """det J (m,) of one element (nodes ``coords`` (k, 3)) at reference ``points`` (m, 3)."""
     jac = np.einsum("mak,kb->mab", cell.shape_derivatives(points), coords)

@@ -19,6 +19,7 @@ flagged count, not with the interior.
 
 from __future__ import annotations
 
+import textwrap
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
@@ -42,7 +43,7 @@ SKIN_ALPHA = 0.22
 NEIGHBOUR_ALPHA = 0.12
 SKIN_EDGE = (0.45, 0.45, 0.45, 0.45)
 #: At most this many flagged elements are drawn with all their faces (worst first); the
-#: rest are marked by a ring at their centre.
+#: rest are marked by a dot at their centre.
 MAX_OPAQUE = 20_000
 MAX_LABELS = 40
 
@@ -52,7 +53,7 @@ FLAG_RULES = {
     "reversed": "mirrored node order",
     "nonconvex": "re-entrant corner",
     "self_intersecting": "faces cross",
-    "degenerate": "no volume (corners coincide or lie flat)",
+    "degenerate": "no volume",
     "undecided": "sign of det J unknown",
     "quarter_point": "midside node at the quarter point",
     "flipped_normal": "normal against its patch",
@@ -184,8 +185,9 @@ def draw_volume(report: Report, elements: ElementMesh, color_by: str, insets: in
     polys, poly_owner = element_faces(elements, wanted)
     xy, poly_depth = _projected(view, polys)
     _flagged(ax, xy, poly_owner, poly_depth, report, colours)
-    if len(ringed):
-        _rings(ax, view.project(report.centroids[ringed]), report.failing[ringed])
+    if len(ringed):  # beyond MAX_OPAQUE: a dot at the centre of each
+        dots = view.project(report.centroids[ringed])
+        ax.plot(*dots.T, ".", ms=2.0, color=plot.OUTLINE, ls="none", gid="flagged-dots", zorder=2)
     _frame(ax, skin_xy.reshape(-1, 2) if len(skin_xy) else page)
 
     bar = fig.colorbar(
@@ -272,14 +274,6 @@ def _flagged(
         ),
         autolim=False,
     )
-
-
-def _rings(ax: Axes, centres: np.ndarray, failing: np.ndarray) -> None:
-    from .plot import OUTLINE
-
-    for mask, size, gid in ((failing, 9.0, "fail-rings"), (~failing, 5.0, "warn-rings")):
-        if mask.any():
-            ax.plot(*centres[mask].T, "o", ms=size, mfc="none", mec=OUTLINE, ls="none", gid=gid)
 
 
 def _frame(ax: Axes, xy: np.ndarray, pad: float = 0.06) -> None:
@@ -403,10 +397,11 @@ def _close_up(
     value = float(report.metrics[color_by][i])
     unit = unit_of(color_by, report.dimensions)
     unit = {"1": "", "deg": "°"}.get(unit, f" {unit}")
+    rule = textwrap.fill(report_rule(report, i), 34)
     ax.set_title(
         drawable(
             f"id {int(report.ids[i])} ({cell.name}): {report.verdict_names[i]}\n"
-            f"{report_rule(report, i)}\n{color_by} {value:.3g}{unit}"
+            f"{rule}\n{color_by} {value:.3g}{unit}"
         ),
         fontsize=8,
         gid=f"close-up-{int(report.ids[i])}",
