@@ -5,7 +5,7 @@ triangle x [-1, 1], the pyramid) in a fixed oblique view, z up: its faces, the g
 of each face, its corners numbered by their position in the element and its Gauss points
 numbered g1, g2, ... in the order of the rule.
 
-Right, the element, seen along the direction that shows it largest
+Right, the element, seen along the direction that shows it best
 (:func:`meshaudit.outputs.solid_views.element_view`): the same face grid lines pushed
 through the element's own map (curved for a quadratic element), the Gauss points mapped
 and labelled with det J, the corners labelled with their node numbers and det J there;

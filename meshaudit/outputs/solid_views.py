@@ -3,11 +3,13 @@
 - :func:`volume_view`: a whole volume mesh seen obliquely: the page first laid on the two
   longest sides of the mesh's bounding box (the view along its shortest side), then turned
   30 degrees up and 25 degrees across, as a markedly curved shell is;
-- :func:`element_view`: one element seen along the direction that shows it largest: of a
-  fixed set of directions spread evenly over the half sphere, the one that maximises the
-  element's projected area (half the sum over its faces of |face area vector . direction|,
-  the shadow area of a closed surface seen along that direction); ties go to the first
-  in the set, so the view is deterministic;
+- :func:`element_view`: one element seen along a direction that shows it large and opens
+  up its faces: of a fixed set of directions spread evenly over the half sphere, those
+  whose projected area (half the sum over its faces of |face area vector . direction|, the
+  shadow area of a closed surface seen along that direction) is at least 85 % of the
+  largest; of these, the one where the face seen most edge-on is seen most openly (largest
+  smallest |unit face normal . direction|), so no face collapses to a line; ties go to the
+  first in the set, so the view is deterministic;
 - :func:`face_outlines`: every face of an element as a closed polygon in space, each edge
   sampled through the element's own map (curved for a quadratic element);
 - :func:`face_grid`: the reference element's grid lines on each face, mapped the same way.
@@ -25,6 +27,9 @@ from .projection import View, drawing_unit, tilted, with_unit
 VOLUME_OBLIQUE = (30.0, 25.0)
 #: How many directions the element view chooses among (over the half sphere z' >= 0).
 VIEW_DIRECTIONS = 400
+#: The element view keeps the directions whose projected area is at least this fraction
+#: of the largest.
+NEAR_LARGEST = 0.85
 
 
 def box_view(points: np.ndarray) -> View:
@@ -73,15 +78,30 @@ def projected_area(areas: np.ndarray, directions: np.ndarray) -> np.ndarray:
     return 0.5 * np.abs(areas @ directions.T).sum(axis=0)
 
 
+def best_direction(areas: np.ndarray, directions: np.ndarray | None = None) -> np.ndarray:
+    """The direction (3,) one element with face area vectors ``areas`` (f, 3) is seen
+    along: among the directions whose projected area is at least :data:`NEAR_LARGEST` of
+    the largest, the one that sees its most edge-on face most openly (largest smallest
+    |unit face normal . direction|, faces of no area left out); ties to the first."""
+    dirs = _directions() if directions is None else directions
+    shadow = projected_area(areas, dirs)
+    near = shadow >= NEAR_LARGEST * shadow.max()
+    size = np.linalg.norm(areas, axis=1)
+    faces = size > 1e-12 * (size.max() or 1.0)
+    if not faces.any():
+        return dirs[int(np.argmax(shadow))]
+    normals = areas[faces] / size[faces, None]
+    openness = np.abs(normals @ dirs.T).min(axis=0)
+    return dirs[int(np.argmax(np.where(near, openness, -1.0)))]
+
+
 def element_view(cell: CellType, coords: np.ndarray) -> View:
-    """The view of one element (nodes ``coords`` (k, 3)) that shows it largest (see the
-    module docstring); page y is the projection of the model's z axis (of y where the view
-    looks along z), so the page is upright."""
+    """The view of one element (nodes ``coords`` (k, 3)) that shows it best (see
+    :func:`best_direction`); page y is the projection of the model's z axis (of y where
+    the view looks along z), so the page is upright."""
     k = length_exponent(coords)
     scaled = scaled_lengths(coords, -k, 1) if k else coords
-    dirs = _directions()
-    areas = face_area_vectors(cell, scaled - scaled.mean(axis=0))
-    normal = dirs[int(np.argmax(projected_area(areas, dirs)))]
+    normal = best_direction(face_area_vectors(cell, scaled - scaled.mean(axis=0)))
     up = np.array([0.0, 0.0, 1.0]) if abs(normal[2]) < 0.9 else np.array([0.0, 1.0, 0.0])
     up = up - (up @ normal) * normal
     up /= np.linalg.norm(up)

@@ -9,7 +9,7 @@
   outline and white halo of the surface plot, warn ones dashed; failing ids labelled
   (the file's element numbers), warn ids too where room is left;
 - close-ups of the worst flagged elements with their neighbours (elements sharing a
-  node, faint), each seen along the direction that shows it largest
+  node, faint), each seen along the direction that shows it best
   (:func:`meshaudit.outputs.solid_views.element_view`), titled with the rule it breaks.
 
 The view is oblique (:func:`meshaudit.outputs.solid_views.volume_view`). Only the
@@ -171,6 +171,7 @@ def draw_volume(report: Report, elements: ElementMesh, color_by: str, insets: in
     fig = new_figure(figsize=(14.0, 9.0), layout="constrained")
     worst = report.worst(insets) if insets > 0 else np.empty(0, dtype=np.int64)
     ax, inset_axes = plot._layout(fig, len(worst))
+    ax.set_gid("mesh")
 
     faces, owner = skin(elements)
     page = view.project(elements.points)
