@@ -111,7 +111,7 @@ def element_view(cell: CellType, coords: np.ndarray) -> View:
 
 
 def _face_loop(cell: CellType, face: tuple[int, ...], per_edge: int) -> np.ndarray:
-    """Reference points (4 * per_edge, 3) around one face, ``per_edge`` per edge (a
+    """Reference points (4 * per_edge, dim) around one face, ``per_edge`` per edge (a
     triangle face repeats its last point to the quadrilateral's count)."""
     corners = cell.reference_nodes[list(face)]
     t = np.linspace(0.0, 1.0, per_edge, endpoint=False)[:, None]
@@ -122,13 +122,14 @@ def _face_loop(cell: CellType, face: tuple[int, ...], per_edge: int) -> np.ndarr
 
 def face_outlines(cell: CellType, coords: np.ndarray, per_edge: int | None = None) -> np.ndarray:
     """Every face of ``n`` elements of one cell type as closed polygons in space: (n, f,
-    m, 3), ``coords`` (n, k, 3). A linear element's faces are their corners (m = 4); a
-    quadratic element's edges are sampled ``per_edge`` times (default 6) through its map."""
+    m, 3), ``coords`` (n, k, 3); a surface cell has one face, itself. A linear element's
+    faces are their corners (m = 4); a quadratic element's edges are sampled ``per_edge``
+    times (default 6) through its map."""
     if per_edge is None:
         per_edge = 6 if cell.is_quadratic else 1
-    loops = np.stack([_face_loop(cell, face, per_edge) for face in cell.faces])  # (f, m, 3)
-    f, m, _ = loops.shape
-    weights = cell.shape_functions(loops.reshape(-1, 3))  # (f m, k)
+    loops = np.stack([_face_loop(cell, face, per_edge) for face in cell.faces])  # (f, m, dim)
+    f, m, dim = loops.shape
+    weights = cell.shape_functions(loops.reshape(-1, dim))  # (f m, k)
     return np.einsum("pk,nkd->npd", weights, coords).reshape(len(coords), f, m, 3)
 
 
