@@ -31,7 +31,7 @@ from .mpl import drawable, new_figure
 from .plot import HALO, OUTLINE
 from .projection import View, drawing_unit, unit_text, with_unit
 from .solid_views import (
-    determinants,
+    det_j_signs,
     element_view,
     face_cells,
     face_grid,
@@ -159,15 +159,19 @@ def _panel(
     nodes = view.project(coords)
     c = cell.n_corners
     det_nodes = np.asarray(ex.det_j_nodes, dtype=float)
+    # signs worked out at a power-of-two scale: right at any element size (the pyramid's
+    # apex, where det J has no value, is never marked)
     negative_node = np.zeros(len(coords), dtype=bool)
+    negative_gauss = np.zeros(len(cell.gauss_points), dtype=bool)
     if not reference:
-        negative_node[: len(det_nodes)] = np.nan_to_num(det_nodes, nan=1.0) < 0.0
+        at_nodes = det_j_signs(cell, coords, cell.reference_nodes[: len(det_nodes)])
+        negative_node[: len(det_nodes)] = (at_nodes < 0.0) & ~np.isnan(det_nodes)
+        negative_gauss = det_j_signs(cell, coords, cell.gauss_points) < 0.0
     corner = np.arange(len(coords)) < c
     ax.plot(*nodes[corner & ~negative_node].T, "o", color=OUTLINE, ms=5, ls="none", zorder=5)
     ax.plot(*nodes[~corner & ~negative_node].T, "o", color=OUTLINE, ms=3, ls="none", zorder=5)
     gauss = view.project(map_points(cell, coords, cell.gauss_points))
     det_gauss = np.asarray(ex.det_j_gauss, dtype=float)
-    negative_gauss = (det_gauss < 0.0) if not reference else np.zeros(len(gauss), dtype=bool)
     ax.plot(
         *gauss[~negative_gauss].T, "P", color=GAUSS, mec=OUTLINE, ms=7, ls="none",
         gid="reference-gauss" if reference else "gauss", zorder=5,
@@ -203,8 +207,7 @@ def _folded(ax: Axes, cell: CellType, coords: np.ndarray, view: View) -> None:
     from matplotlib.collections import PolyCollection
 
     patches, centres = face_cells(cell)
-    det = determinants(cell, coords, centres)
-    bad = det <= 0.0
+    bad = det_j_signs(cell, coords, centres) <= 0.0
     if not bad.any():
         return
     patches = mapped(cell, coords, patches[bad])  # (m, 4, 3)

@@ -197,7 +197,11 @@ def mapped(cell: CellType, coords: np.ndarray, ref: np.ndarray) -> np.ndarray:
     return (cell.shape_functions(flat) @ coords).reshape(*ref.shape[:-1], coords.shape[-1])
 
 
-def determinants(cell: CellType, coords: np.ndarray, points: np.ndarray) -> np.ndarray:
-    """det J (m,) of one element (nodes ``coords`` (k, 3)) at reference ``points`` (m, 3)."""
-    jac = np.einsum("mak,kb->mab", cell.shape_derivatives(points), coords)
-    return np.linalg.det(jac) + 0.0
+def det_j_signs(cell: CellType, coords: np.ndarray, points: np.ndarray) -> np.ndarray:
+    """Sign (m,) of det J of one element (nodes ``coords`` (k, 3)) at reference ``points``
+    (m, 3): -1, 0 or 1; worked out at a power-of-two scale, so that an element of extreme
+    size neither overflows nor underflows to 0."""
+    k = length_exponent(coords)
+    scaled = scaled_lengths(coords, -k, 1) if k else coords
+    jac = np.einsum("mak,kb->mab", cell.shape_derivatives(points), scaled)
+    return np.sign(np.linalg.det(jac)) + 0.0
