@@ -352,3 +352,28 @@ def test_annotated_solids_carry_the_json_report(run_cli, tmp_path):
             v = records[i]["metrics"][name]
             want.append(np.nan if v is None else float(v))
         np.testing.assert_array_equal(got, np.array(want), err_msg=name)
+
+
+# -- the HTML report of solids ---------------------------------------------------------------------
+def test_html_report_of_the_lug_shows_its_failing_solids(tmp_path):
+    # samples/make_solid_samples.py plants three failures: hexahedra 46 and 5, wedge 48
+    import base64
+    import io
+    import re
+
+    import matplotlib.image
+    from matplotlib import colormaps
+
+    from meshaudit.outputs import html_report
+
+    audited = audit_mesh(SAMPLES / "bracket_lug_defects.vtu")
+    page = html_report.render(audited.report, audited.elements)
+    assert {int(i) for i in re.findall(r'data-id="(\d+)"', page)} == {5, 46, 48}
+    for metric in ("volume", "min_dihedral", "max_dihedral", "edge_ratio"):
+        assert f'data-metric="{metric}"' in page  # the solid metrics' histograms
+    assert "flagged elements opaque" in page
+    png = re.search(r'src="data:image/png;base64,([^"]+)"', page).group(1)
+    image = matplotlib.image.imread(io.BytesIO(base64.b64decode(png)), format="png")[..., :3]
+    # the failing solids (scores near 0) are painted in the lowest colour of viridis
+    low = np.array(colormaps["viridis"](0.0)[:3])
+    assert (np.abs(image - low) < 0.02).all(axis=-1).sum() > 500
