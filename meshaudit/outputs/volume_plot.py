@@ -180,14 +180,14 @@ def draw_volume(report: Report, elements: ElementMesh, color_by: str, insets: in
     _skin(ax, skin_xy, colours[owner], np.argsort(depth, kind="stable"))
 
     flagged = report.worst()  # flagged rows, worst first
-    opaque, ringed = flagged[:MAX_OPAQUE], flagged[MAX_OPAQUE:]
+    opaque, dotted = flagged[:MAX_OPAQUE], flagged[MAX_OPAQUE:]
     wanted = np.zeros(len(report), dtype=bool)
     wanted[opaque] = True
     polys, poly_owner = element_faces(elements, wanted)
     xy, poly_depth = _projected(view, polys)
     _flagged(ax, xy, poly_owner, poly_depth, report, colours)
-    if len(ringed):  # beyond MAX_OPAQUE: a dot at the centre of each
-        dots = view.project(report.centroids[ringed])
+    if len(dotted):  # beyond MAX_OPAQUE: a dot at the centre of each
+        dots = view.project(report.centroids[dotted])
         ax.plot(*dots.T, ".", ms=2.0, color=plot.OUTLINE, ls="none", gid="flagged-dots", zorder=2)
     _frame(ax, skin_xy.reshape(-1, 2) if len(skin_xy) else page)
 
@@ -328,8 +328,9 @@ def _labels(ax: Axes, report: Report, view: View, flagged: np.ndarray, renderer:
     for k in range(len(rows)):
         if sum(placed) == MAX_LABELS:
             break
+        one = slice(k, k + 1)
         placed += place_labels(
-            ax, anchors[k : k + 1], texts[k : k + 1], styles[k : k + 1], renderer, taken
+            ax, anchors[one], texts[one], styles[one], renderer, taken, keep_clear=anchors
         )
     failing = int(report.failing.sum())
     shown = sum(1 for k, ok in enumerate(placed) if ok and report.failing[rows[k]])
