@@ -93,6 +93,29 @@ def test_boundary_of_the_bracket_lug_hexahedra_and_wedges():
     assert set(audited.report.types[owner[tri]]) == {"wedge"}
 
 
+def test_boundary_of_a_block_of_tetrahedra_is_two_triangles_per_square():
+    # every cube cut into 6 tetrahedra around its diagonal from corner 0 to corner 6
+    # (Kuhn's subdivision, conforming between cubes): each boundary square of the block
+    # is two triangles, 2 * 6 n^2 in all, of total area 6 n^2 (closed form)
+    n = 3
+    points, hexes = hex_block(n)
+    paths = ((1, 2), (1, 5), (3, 2), (3, 7), (4, 5), (4, 7))  # the 6 monotone paths 0 -> 6
+    tets = np.concatenate([hexes[:, [0, a, b, 6]] for a, b in paths])
+    p = points[tets]
+    signed = np.einsum(
+        "ij,ij->i", np.cross(p[:, 1] - p[:, 0], p[:, 2] - p[:, 0]), p[:, 3] - p[:, 0]
+    )
+    tets[signed < 0] = tets[signed < 0][:, [0, 2, 1, 3]]  # each one positively oriented
+    audited = audit_mesh(meshio.Mesh(points, [("tetra", tets)]))
+    corners, _ = boundary_faces(audited.elements)
+    assert len(corners) == 12 * n * n
+    q = points[corners]
+    area = 0.5 * np.cross(q[:, 1] - q[:, 0], q[:, 2] - q[:, 0])
+    assert np.linalg.norm(area, axis=1).sum() == pytest.approx(6.0 * n * n)
+    np.testing.assert_allclose(area.sum(axis=0), 0.0, atol=1e-12)
+    assert (np.einsum("ij,ij->i", area, q[:, :3].mean(axis=1) - n / 2.0) > 0).all()
+
+
 # -- the volume plot -----------------------------------------------------------------------
 def _pixels(fig) -> np.ndarray:
     fig.canvas.draw()
