@@ -116,6 +116,25 @@ def test_boundary_of_a_block_of_tetrahedra_is_two_triangles_per_square():
     assert (np.einsum("ij,ij->i", area, q[:, :3].mean(axis=1) - n / 2.0) > 0).all()
 
 
+def test_boundary_faces_are_the_corner_sets_used_once():
+    # an independent count: Python's Counter over every face's corner set (frozenset)
+    from collections import Counter
+
+    from meshaudit.mesh.faces import solid_faces
+
+    audited = audit_mesh(SAMPLES / "bracket_lug_defects.vtu")
+    every, _ = solid_faces(audited.elements)
+    counts = Counter(frozenset(face.tolist()) for face in every)
+    once = {key for key, n in counts.items() if n == 1}
+    corners, owner = boundary_faces(audited.elements)
+    assert {frozenset(face.tolist()) for face in corners} == once
+    assert len(corners) == len(once)
+    for face, row in zip(corners, owner):  # each face belongs to its owner
+        block = next(b for b in audited.elements.blocks if row in b.index)
+        nodes = set(block.connectivity[row - block.index[0]].tolist())
+        assert set(face.tolist()) <= nodes
+
+
 # -- the volume plot -----------------------------------------------------------------------
 def _pixels(fig) -> np.ndarray:
     fig.canvas.draw()

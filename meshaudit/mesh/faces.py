@@ -12,7 +12,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .elements import ElementMesh
+from .elements import ElementBlock, ElementMesh
 
 #: Corner columns of a face table: a triangle face repeats its last corner in the fourth.
 FACE_WIDTH = 4
@@ -26,35 +26,52 @@ def solid_faces(elements: ElementMesh) -> tuple[np.ndarray, np.ndarray]:
     One array operation per face of each cell type (a hexahedron block: six), whatever
     the number of elements.
     """
-    corners: list[np.ndarray] = []
-    owners: list[np.ndarray] = []
-    for block in elements.blocks:
-        if block.cell.dimension != 3 or len(block) == 0:
-            continue
-        for face in block.cell.faces:
-            cols = list(face) + [face[-1]] * (FACE_WIDTH - len(face))
-            corners.append(block.connectivity[:, cols])
-            owners.append(block.index)
-    if not corners:
+    slots = _slots(elements)
+    if not slots:
         return np.zeros((0, FACE_WIDTH), dtype=np.int64), np.zeros(0, dtype=np.int64)
     return (
-        np.concatenate(corners).astype(np.int64, copy=False),
-        np.concatenate(owners).astype(np.int64, copy=False),
+        np.concatenate([block.connectivity[:, cols] for block, cols in slots]).astype(np.int64),
+        np.concatenate([block.index for block, _ in slots]).astype(np.int64),
     )
 
 
+def _sorted4(a, b, c, d):
+    """Four arrays sorted element by element (a sorting network of five exchanges)."""
+    a, b = np.minimum(a, b), np.maximum(a, b)
+    c, d = np.minimum(c, d), np.maximum(c, d)
+    a, c = np.minimum(a, c), np.maximum(a, c)
+    b, d = np.minimum(b, d), np.maximum(b, d)
+    b, c = np.minimum(b, c), np.maximum(b, c)
+    return a, b, c, d
+
+
+def _keys(a, b, c, d) -> tuple[np.ndarray, np.ndarray]:
+    """Keys of faces with corners a, b, c, d (arrays); d == c for a triangle."""
+    d = np.where(d == c, -1, d)  # a triangle: its repeated corner counts as -1
+    s = [(x + 1).astype(np.uint64) for x in _sorted4(a, b, c, d)]
+    shift = np.uint64(32)
+    return (s[0] << shift) | s[1], (s[2] << shift) | s[3]
+
+
 def face_keys(corners: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Two uint64 keys per face, equal exactly when two faces have the same corner set.
+    """Two uint64 keys per face (corners (F, 4)), equal exactly when two faces have the
+    same corner set.
 
     The corners are sorted; a triangle (its last corner repeated) counts its repeated
     corner as -1, so it never matches a quadrilateral. Each key packs two node indices
     (plus one) in 32 bits each: node indices below 2^32 - 1.
     """
-    marked = corners.copy()
-    marked[corners[:, 2] == corners[:, 3], 3] = -1  # a triangle: its repeat counts as -1
-    s = (np.sort(marked, axis=1) + 1).astype(np.uint64)
-    shift = np.uint64(32)
-    return (s[:, 0] << shift) | s[:, 1], (s[:, 2] << shift) | s[:, 3]
+    return _keys(*(corners[:, k] for k in range(FACE_WIDTH)))
+
+
+def _slots(elements: ElementMesh) -> list[tuple[ElementBlock, list[int]]]:
+    """(block, the face's corner columns, padded to 4) of every face of every solid block."""
+    return [
+        (block, list(face) + [face[-1]] * (FACE_WIDTH - len(face)))
+        for block in elements.blocks
+        if block.cell.dimension == 3 and len(block)
+        for face in block.cell.faces
+    ]
 
 
 def boundary_faces(elements: ElementMesh) -> tuple[np.ndarray, np.ndarray]:
@@ -62,18 +79,31 @@ def boundary_faces(elements: ElementMesh) -> tuple[np.ndarray, np.ndarray]:
     owning element's face order, outward for a positively oriented element, triangles
     with their last corner repeated; owner (B,) int64 report index of that element).
 
-    Faces are returned in the order of :func:`solid_faces` (block, face, element).
+    Faces are returned in the order of :func:`solid_faces` (block, face, element); only
+    their keys are built for every face, the corner table for the boundary ones alone.
     A mesh without solids has no boundary faces.
     """
-    corners, owners = solid_faces(elements)
-    if len(corners) == 0:
-        return corners, owners
-    high, low = face_keys(corners)
+    slots = _slots(elements)
+    sizes = [len(block) for block, _ in slots]
+    total = int(sum(sizes))
+    if total == 0:
+        return np.zeros((0, FACE_WIDTH), dtype=np.int64), np.zeros(0, dtype=np.int64)
+    high = np.empty(total, dtype=np.uint64)
+    low = np.empty(total, dtype=np.uint64)
+    starts = np.concatenate([[0], np.cumsum(sizes)])
+    for (block, cols), start, stop in zip(slots, starts[:-1], starts[1:]):
+        conn = block.connectivity
+        high[start:stop], low[start:stop] = _keys(*(conn[:, k].astype(np.int64) for k in cols))
     order = np.lexsort((low, high))
     hs, ls = high[order], low[order]
     same_as_next = (hs[1:] == hs[:-1]) & (ls[1:] == ls[:-1])
-    shared = np.zeros(len(order), dtype=bool)
+    shared = np.zeros(total, dtype=bool)
     shared[:-1] |= same_as_next
     shared[1:] |= same_as_next
     once = np.sort(order[~shared])
-    return corners[once], owners[once]
+    corners, owners = [], []
+    for (block, cols), start, stop in zip(slots, starts[:-1], starts[1:]):
+        rows = once[(once >= start) & (once < stop)] - start
+        corners.append(block.connectivity[rows][:, cols].astype(np.int64))
+        owners.append(block.index[rows].astype(np.int64))
+    return np.concatenate(corners), np.concatenate(owners)
