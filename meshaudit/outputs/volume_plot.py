@@ -177,18 +177,11 @@ def draw_volume(report: Report, elements: ElementMesh, color_by: str, insets: in
     page = view.project(elements.points)
     skin_xy = page[faces]
     depth = view.depth(elements.points)[faces].mean(axis=1)
-    _skin(ax, skin_xy, colours[owner], np.argsort(depth, kind="stable"))
 
     flagged = report.worst()  # flagged rows, worst first
     opaque, dotted = flagged[:MAX_OPAQUE], flagged[MAX_OPAQUE:]
     wanted = np.zeros(len(report), dtype=bool)
     wanted[opaque] = True
-    polys, poly_owner = element_faces(elements, wanted)
-    xy, poly_depth = _projected(view, polys)
-    _flagged(ax, xy, poly_owner, poly_depth, report, colours)
-    if len(dotted):  # beyond MAX_OPAQUE: a dot at the centre of each
-        dots = view.project(report.centroids[dotted])
-        ax.plot(*dots.T, ".", ms=2.0, color=plot.OUTLINE, ls="none", gid="flagged-dots", zorder=2)
     _frame(ax, skin_xy.reshape(-1, 2) if len(skin_xy) else page)
 
     bar = fig.colorbar(
@@ -215,7 +208,16 @@ def draw_volume(report: Report, elements: ElementMesh, color_by: str, insets: in
     unit = unit_text(view)
     ax.set_xlabel("u (along the first view axis)" + unit, fontsize=8)
     ax.set_ylabel("v (along the second view axis)" + unit, fontsize=8)
+    # the layout does not depend on the faces (limits are set, autolim off): laid out
+    # before they are added, so that the many faces are drawn once, when saved
     renderer = freeze_layout(fig)
+    _skin(ax, skin_xy, colours[owner], np.argsort(depth, kind="stable"))
+    polys, poly_owner = element_faces(elements, wanted)
+    xy, poly_depth = _projected(view, polys)
+    _flagged(ax, xy, poly_owner, poly_depth, report, colours)
+    if len(dotted):  # beyond MAX_OPAQUE: a dot at the centre of each
+        dots = view.project(report.centroids[dotted])
+        ax.plot(*dots.T, ".", ms=2.0, color=plot.OUTLINE, ls="none", gid="flagged-dots", zorder=2)
     _labels(ax, report, view, flagged, renderer)
     return fig
 
