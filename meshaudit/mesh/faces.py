@@ -48,7 +48,8 @@ def _sorted4(a, b, c, d):
 def _keys(a, b, c, d) -> tuple[np.ndarray, np.ndarray]:
     """Keys of faces with corners a, b, c, d (arrays); d == c for a triangle."""
     d = np.where(d == c, -1, d)  # a triangle: its repeated corner counts as -1
-    s = [(x + 1).astype(np.uint64) for x in _sorted4(a, b, c, d)]
+    one = np.uint64(1)  # -1 read as uint64 wraps round to 0 when one is added
+    s = [x.astype(np.int64, copy=False).view(np.uint64) + one for x in _sorted4(a, b, c, d)]
     shift = np.uint64(32)
     return (s[0] << shift) | s[1], (s[2] << shift) | s[3]
 

@@ -43,8 +43,10 @@ SKIN_ALPHA = 0.22
 NEIGHBOUR_ALPHA = 0.12
 SKIN_EDGE = (0.45, 0.45, 0.45, 0.45)
 #: At most this many flagged elements are drawn with all their faces (worst first); the
-#: rest are marked by a dot at their centre.
-MAX_OPAQUE = 20_000
+#: rest are marked by a dot at their centre ...
+MAX_OPAQUE = 5_000
+#: ... and at most this many more by a dot each (the next worst); any others not at all.
+MAX_DOTS = 100_000
 MAX_LABELS = 40
 
 #: What each flag means, in a few words, for picture titles.
@@ -134,15 +136,19 @@ def element_faces(elements: ElementMesh, wanted: np.ndarray) -> tuple[list[np.nd
     return polys, owner
 
 
-def _projected(view: View, polys: list[np.ndarray]) -> tuple[list[np.ndarray], np.ndarray]:
-    """Page polygons (a list, any vertex counts) and the depth of each (mean of its
-    vertices; larger is nearer)."""
-    out: list[np.ndarray] = []
-    depth = []
-    for p in polys:
-        out.extend(view.project(p))
-        depth.append(view.depth(p).mean(axis=1))
-    return out, (np.concatenate(depth) if depth else np.zeros(0))
+def _projected(view: View, polys: list[np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
+    """Page polygons (F, m, 2), blocks with fewer vertices per face padded by repeating
+    their last one (one array: matplotlib builds its paths at once), and the depth of
+    each face (mean of its vertices; larger is nearer)."""
+    if not polys:
+        return np.zeros((0, 4, 2)), np.zeros(0)
+    m = max(p.shape[1] for p in polys)
+    padded = [
+        p if p.shape[1] == m else np.concatenate([p, np.repeat(p[:, -1:], m - p.shape[1], 1)], 1)
+        for p in polys
+    ]
+    depth = np.concatenate([view.depth(p).mean(axis=1) for p in polys])
+    return view.project(np.concatenate(padded)), depth
 
 
 def touching(elements: ElementMesh, nodes: np.ndarray) -> np.ndarray:
@@ -169,7 +175,8 @@ def draw_volume(report: Report, elements: ElementMesh, color_by: str, insets: in
     used = elements.points[elements.used_nodes()]
     view = volume_view(used)
     fig = new_figure(figsize=(14.0, 9.0), layout="constrained")
-    worst = report.worst(insets) if insets > 0 else np.empty(0, dtype=np.int64)
+    flagged = report.worst()  # flagged rows, worst first
+    worst = flagged[: max(insets, 0)]
     ax, inset_axes = plot._layout(fig, len(worst))
     ax.set_gid("mesh")
 
@@ -178,8 +185,7 @@ def draw_volume(report: Report, elements: ElementMesh, color_by: str, insets: in
     skin_xy = page[faces]
     depth = view.depth(elements.points)[faces].mean(axis=1)
 
-    flagged = report.worst()  # flagged rows, worst first
-    opaque, dotted = flagged[:MAX_OPAQUE], flagged[MAX_OPAQUE:]
+    opaque, dotted = flagged[:MAX_OPAQUE], flagged[MAX_OPAQUE : MAX_OPAQUE + MAX_DOTS]
     wanted = np.zeros(len(report), dtype=bool)
     wanted[opaque] = True
     _frame(ax, skin_xy.reshape(-1, 2) if len(skin_xy) else page)
@@ -267,11 +273,11 @@ def _flagged(
     fails = report.failing[owner[order]]
     ax.add_collection(
         PolyCollection(
-            [xy[k] for k in order],
+            xy[order],
             facecolors=colours[owner[order]],
             edgecolors=OUTLINE,
             linewidths=np.where(fails, FAIL_WIDTH, WARN_WIDTH),
-            linestyles=["solid" if f else WARN_DASH for f in fails],
+            linestyles="solid" if fails.all() else ["solid" if f else WARN_DASH for f in fails],
             gid=gid,
             zorder=3,
         ),
@@ -345,6 +351,18 @@ def _labels(ax: Axes, report: Report, view: View, flagged: np.ndarray, renderer:
             fontsize=8,
             gid="unlabelled",
         )
+    if len(flagged) > MAX_OPAQUE:
+        dots = min(len(flagged) - MAX_OPAQUE, MAX_DOTS)
+        rest = len(flagged) - MAX_OPAQUE - dots
+        ax.text(
+            0.01,
+            0.045,
+            f"the worst {MAX_OPAQUE:,} flagged elements drawn with their faces, the next "
+            f"{dots:,} as dots" + (f", {rest:,} more not drawn" if rest else ""),
+            transform=ax.transAxes,
+            fontsize=8,
+            gid="flagged-drawn",
+        )
 
 
 def _close_up(
@@ -375,7 +393,7 @@ def _close_up(
         faint[:, 3] = NEIGHBOUR_ALPHA
         ax.add_collection(
             PolyCollection(
-                [xy[k] for k in order],
+                xy[order],
                 facecolors=faint,
                 edgecolors=(0.4, 0.4, 0.4, 0.5),
                 linewidths=0.5,
