@@ -6,7 +6,8 @@
   (alpha :data:`SKIN_ALPHA`) back to front;
 - every flagged element (fail, warn) drawn opaque with all its faces, back to front,
   on top of the skin, so an element deep inside shows: failing ones with the solid black
-  outline and white halo of the surface plot, warn ones dashed; failing ids labelled
+  outline and white halo of the surface plot (the halo round the element's silhouette),
+  warn ones dashed; failing ids labelled
   (the file's element numbers), warn ids too where room is left;
 - close-ups of the worst flagged elements with their neighbours (elements sharing a
   node, faint), each seen along the direction that shows it best
@@ -265,12 +266,25 @@ def _flagged(
     """Faces of flagged elements, opaque, back to front, outlined by their verdict."""
     from matplotlib.collections import PolyCollection
 
-    from .plot import FAIL_WIDTH, OUTLINE, WARN_DASH, WARN_WIDTH
+    from .plot import FAIL_WIDTH, HALO, OUTLINE, WARN_DASH, WARN_WIDTH
 
     if not len(owner):
         return
     order = np.argsort(depth, kind="stable")
     fails = report.failing[owner[order]]
+    # the white halo of the project's outline: wide white edges under all the opaque
+    # faces, so it shows around each element's silhouette only, not across its faces
+    ax.add_collection(
+        PolyCollection(
+            xy,
+            facecolors="none",
+            edgecolors=HALO,
+            linewidths=np.where(report.failing[owner], FAIL_WIDTH, WARN_WIDTH) + 1.6,
+            gid=f"{gid}-halo",
+            zorder=2.9,
+        ),
+        autolim=False,
+    )
     ax.add_collection(
         PolyCollection(
             xy[order],
