@@ -360,7 +360,7 @@ def _labels(ax: Axes, report: Report, view: View, flagged: np.ndarray, renderer:
         ax.text(
             0.01,
             0.01,
-            f"{failing - shown} more failing elements drawn, not labelled (see the reports)",
+            f"{failing - shown} more failing elements not labelled (see the reports)",
             transform=ax.transAxes,
             fontsize=8,
             gid="unlabelled",
