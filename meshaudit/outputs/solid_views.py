@@ -12,7 +12,8 @@
   first in the set, so the view is deterministic;
 - :func:`face_outlines`: every face of an element as a closed polygon in space, each edge
   sampled through the element's own map (curved for a quadratic element);
-- :func:`face_grid`: the reference element's grid lines on each face, mapped the same way.
+- :func:`face_grid`: the reference element's grid lines on each face (the caller maps
+  them through the element's map).
 """
 
 from __future__ import annotations
@@ -39,7 +40,7 @@ def box_view(points: np.ndarray) -> View:
     order = np.argsort(-(hi - lo), kind="stable")
     eye = np.eye(3)
     a, b = eye[order[0]], eye[order[1]]
-    return View((lo + hi) / 2.0, np.stack([a, b]), np.cross(a, b))
+    return View(lo / 2.0 + hi / 2.0, np.stack([a, b]), np.cross(a, b))  # no overflow
 
 
 def volume_view(points: np.ndarray) -> View:
