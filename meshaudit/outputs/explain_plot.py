@@ -5,9 +5,8 @@ own map (bilinear for quads, affine for triangles). Where the map folds (det J <
 mapped grid cells turn inside out; those cells are hatched, so an inverted or folded
 element shows at a glance. Neighbours (elements sharing a node) are drawn in grey.
 
-A solid is drawn plainly for now: its edges (curved ones through its own map) in an
-oblique view, its nodes and Gauss points labelled with det J; no reference grid and no
-neighbours.
+A solid is drawn by :mod:`meshaudit.outputs.solid_explain`: its reference element beside
+it, the reference grid of each face mapped onto it, its neighbours faint.
 """
 
 from __future__ import annotations
@@ -106,7 +105,9 @@ def element_view(audited: AuditedMesh, ex: Explanation) -> View:
 def draw(audited: AuditedMesh, ex: Explanation) -> Figure:
     """Build the figure of one element (nothing is written)."""
     if CELL_TYPES[ex.cell_type].dimension == 3:
-        return _draw_solid(ex)
+        from .solid_explain import draw as draw_solid
+
+        return draw_solid(audited, ex)
     view = element_view(audited, ex)
     nodes = view.project(ex.coordinates)
     fig = new_figure(figsize=(8.0, 7.0), layout="constrained")
@@ -236,68 +237,3 @@ def _frame(ax: Axes, nodes: np.ndarray) -> None:
     ax.set_ylim(lo[1], hi[1])
     ax.set_aspect("equal")
     ax.tick_params(labelsize=8)
-
-
-#: The direction a solid is seen from (towards the viewer): above, in front, to the right.
-SOLID_VIEW = np.array([1.0, -1.6, 1.2]) / np.linalg.norm([1.0, -1.6, 1.2])
-
-
-def solid_view(coords: np.ndarray) -> View:
-    """An oblique view of one solid's nodes (k, 3): seen from :data:`SOLID_VIEW`, z up."""
-    right = np.cross([0.0, 0.0, 1.0], SOLID_VIEW)
-    right /= np.linalg.norm(right)
-    up = np.cross(SOLID_VIEW, right)
-    view = View(coords.mean(axis=0), np.stack([right, up]), SOLID_VIEW)
-    return with_unit(view, drawing_unit(coords))
-
-
-def _draw_solid(ex: Explanation) -> Figure:
-    """A solid's edges in an oblique view, nodes and Gauss points labelled with det J."""
-    from matplotlib import patheffects
-    from matplotlib.collections import LineCollection
-
-    cell = CELL_TYPES[ex.cell_type]
-    view = solid_view(ex.coordinates)
-    t = np.linspace(0.0, 1.0, SAMPLES)[:, None]
-    ref = cell.reference_nodes
-    edges = [ref[a] + t * (ref[b] - ref[a]) for a, b in cell.edges]
-    lines = [view.project(map_points(cell, ex.coordinates, e)) for e in edges]
-    nodes = view.project(ex.coordinates)
-    fig = new_figure(figsize=(8.0, 7.0), layout="constrained")
-    ax = fig.add_subplot(1, 1, 1)
-    ax.add_collection(LineCollection(lines, colors=OUTLINE, linewidths=1.6, gid="outline"))
-    halo = [patheffects.withStroke(linewidth=3, foreground=HALO)]
-    centre = nodes[: cell.n_corners].mean(axis=0)
-    for k, p in enumerate(nodes):
-        ax.plot(*p, "o", color=OUTLINE, ms=5 if k < cell.n_corners else 3.5, zorder=5)
-        det = ex.det_j_nodes[k] if k < len(ex.det_j_nodes) else np.nan
-        label = f"{k + 1}: node {int(ex.node_numbers[k])}"
-        label += f"\ndet J {det:.4g}" if np.isfinite(det) else ""
-        away = p - centre
-        away = away / (np.hypot(*away) or 1.0)
-        ax.annotate(
-            label,
-            xy=p,
-            xytext=tuple(26.0 * away),
-            textcoords="offset points",
-            ha="center",
-            va="center",
-            fontsize=7.5,
-            path_effects=halo,
-            zorder=6,
-        )
-    g = view.project(map_points(cell, ex.coordinates, ex.gauss_points))
-    ax.plot(g[:, 0], g[:, 1], "P", color="#fde725", mec=OUTLINE, ms=7, zorder=5, gid="gauss")
-    for p, d in zip(g, ex.det_j_gauss):
-        ax.annotate(
-            f"{d:.4g}", xy=p, xytext=(5, 5), textcoords="offset points", fontsize=7, zorder=6
-        )
-    _frame(ax, nodes)
-    lines_ = _title(ex).splitlines()[:-1]
-    lines_.append(
-        "edges in an oblique view (z up); Gauss points marked with det J; the mapped "
-        "reference grid and the neighbours are not drawn for solids yet"
-    )
-    ax.set_title(drawable("\n".join(lines_)), fontsize=9)
-    ax.set_xlabel("oblique view" + unit_text(view), fontsize=8)
-    return fig

@@ -355,6 +355,13 @@ def _histograms(report: Report) -> str:
     return f'<div class="hists">{"".join(figs)}</div>'
 
 
+def _plot_shows(elements: ElementMesh) -> str:
+    """What the plot shows, for its alternative text."""
+    if elements.has_solids:
+        return "boundary see-through, flagged elements opaque and outlined"
+    return "failing elements outlined"
+
+
 def render(report: Report, elements: ElementMesh, color_by: str = "score") -> str:
     """The whole HTML document as a string (control characters of names escaped)."""
     name = escape(Path(report.summary.source).name)
@@ -368,7 +375,7 @@ def render(report: Report, elements: ElementMesh, color_by: str = "score") -> st
         f"<p>{escape(plot.title(report))}</p>"
         f"<h2>Summary</h2>{_summary(report)}"
         f'<h2>Mesh coloured by {escape(color_by)}</h2><img class="plot" id="plot" '
-        f'alt="mesh coloured by {escape(color_by)}, failing elements outlined" '
+        f'alt="mesh coloured by {escape(color_by)}, {_plot_shows(elements)}" '
         f'src="data:image/png;base64,{png}">'
         f"{_findings(report)}"
         f"<h2>Elements not ok</h2>{_table(report)}"

@@ -8,9 +8,8 @@
 - insets: close-ups of the worst few flagged elements and their surroundings;
 - mesh-level findings (when the report carries any): dash-dot polylines and node crosses.
 
-Only surface elements are drawn for now (:func:`meshaudit.results.inspection.surface_only`):
-the subtitle says how many solids were left out, and a mesh of solids alone gets an empty
-view saying so.
+A mesh with solids (alone or beside surface elements) is drawn by
+:mod:`meshaudit.outputs.volume_plot`: its boundary see-through, its flagged elements opaque.
 
 matplotlib is imported here only, so the command line starts fast without it. Figures are
 built on ``matplotlib.figure.Figure`` directly (no pyplot state, Agg-family canvases), and
@@ -32,7 +31,7 @@ from ..mesh.elements import ElementMesh
 from ..mesh.frames import area_vectors
 from ..mesh.scale import length_exponent, scaled_lengths
 from ..metrics import METRIC_INFO, METRIC_NAMES, unit_of
-from ..results.inspection import corner_table, has_curved_cells, outline_points, surface_only
+from ..results.inspection import corner_table, has_curved_cells, outline_points
 from ..results.report import Report
 from . import raster
 from .mpl import drawable, new_figure, prepare
@@ -197,10 +196,10 @@ def draw(
     """
     if color_by not in METRIC_NAMES:
         raise OutputError(f"cannot colour by {color_by!r}: not a metric")
-    whole = report
-    report, elements, solids = surface_only(report, elements)
-    if len(report) == 0:
-        return _nothing_drawn(whole, solids, color_by)
+    if elements.has_solids:
+        from .volume_plot import draw_volume
+
+        return draw_volume(report, elements, color_by, insets)
     view = mesh_view(report, elements)
     table = corner_table(elements)
     xy = view.project(elements.points)
@@ -229,8 +228,8 @@ def draw(
     for sub, i in zip(inset_axes, worst):
         _inset(sub, report, verts, boxes, values, cmap, norm, int(i), color_by)
         sub.plot(*xy[table[int(i)]].T, "o", ms=2.5, color=OUTLINE, zorder=5)
-    fig.suptitle(drawable(title(whole)), fontsize=12, fontweight="bold")
-    ax.set_title(_subtitle(report, color_by, view, solids), fontsize=9)
+    fig.suptitle(drawable(title(report)), fontsize=12, fontweight="bold")
+    ax.set_title(_subtitle(report, color_by, view), fontsize=9)
     flat_xy = report.summary.frame == "planar" and np.allclose(view.axes, np.eye(3)[:2])
     unit = unit_text(view)
     ax.set_xlabel(("x" if flat_xy else "u (along the first view axis)") + unit, fontsize=8)
@@ -269,45 +268,13 @@ def title(report: Report) -> str:
     )
 
 
-#: What the plot says of the solids it leaves out.
-SOLIDS_NOT_DRAWN = "not drawn: pictures of solids are not available yet"
-
-
-def _subtitle(report: Report, color_by: str, view: View, solids: int = 0) -> str:
+def _subtitle(report: Report, color_by: str, view: View) -> str:
     if report.summary.frame == "planar":
         where = "drawn in the mesh plane"
     else:
         n = ", ".join(f"{c:.2f}" for c in view.normal)
         where = f"shell seen from direction ({n})"
-    text = f"coloured by {color_by}; {where}"
-    if solids:
-        text += (
-            f"\nsurface elements only: {solids:,} solid elements {SOLIDS_NOT_DRAWN} "
-            "(see the reports)"
-        )
-    return text
-
-
-def _nothing_drawn(report: Report, solids: int, color_by: str) -> Figure:
-    """An empty view for a mesh with no surface element: it says why nothing is drawn."""
-    fig = new_figure(figsize=(10.0, 6.0), layout="constrained")
-    ax = fig.add_subplot(1, 1, 1)
-    ax.set_axis_off()
-    ax.text(
-        0.5,
-        0.5,
-        f"Nothing to draw: this mesh has {solids:,} solid elements and no surface "
-        f"elements.\nSolid elements are {SOLIDS_NOT_DRAWN}:\n"
-        f"their {color_by} and every other metric are in the terminal, JSON, CSV and "
-        "HTML reports.",
-        ha="center",
-        va="center",
-        fontsize=11,
-        transform=ax.transAxes,
-        gid="nothing-drawn",
-    )
-    fig.suptitle(drawable(title(report)), fontsize=12, fontweight="bold")
-    return fig
+    return f"coloured by {color_by}; {where}"
 
 
 def _layout(fig: Figure, n_insets: int) -> tuple[Axes, list[Axes]]:

@@ -8,7 +8,7 @@ reads once and keeps all three together in an :class:`AuditedMesh`.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 import numpy as np
@@ -36,8 +36,7 @@ def corner_table(elements: ElementMesh) -> np.ndarray:
 
     Elements with fewer corners repeat their last corner in the columns left, so for a
     surface mesh every row is a closed polygon that can be drawn as is (the repeated vertex
-    adds a zero-length edge); the plots draw the surface elements only (see
-    :func:`surface_only`).
+    adds a zero-length edge).
     """
     width = max([4, *(b.cell.n_corners for b in elements.blocks)])
     table = np.empty((elements.n_elements, width), dtype=np.int64)
@@ -104,45 +103,3 @@ def outline_points(elements: ElementMesh, xy: np.ndarray) -> np.ndarray:
         weights = block.cell.shape_functions(ref)  # (m, k)
         out[block.index] = np.einsum("mk,nkd->nmd", weights, xy[block.connectivity])
     return out
-
-
-def surface_only(report: Report, elements: ElementMesh) -> tuple[Report, ElementMesh, int]:
-    """The report and element arrays of the surface elements alone, and how many solids
-    were left out: what the mesh pictures draw for now (they draw no solids). Without
-    solids: ``report`` and ``elements`` themselves and 0.
-
-    The part's report keeps every per-element column of the surface elements only, in
-    report order, renumbered 0..m-1 as :meth:`ElementMesh.surface_part` numbers them; the
-    findings' element positions follow (elements of no finding are dropped); its
-    statistics are worked out again when asked for.
-    """
-    part, positions = elements.surface_part()
-    if positions is None:
-        return report, elements, 0
-    row = np.full(len(report), -1, dtype=np.int64)
-    row[positions] = np.arange(positions.size)
-
-    def kept(index: np.ndarray) -> np.ndarray:
-        mapped = row[np.asarray(index, dtype=np.int64)]
-        return mapped[mapped >= 0]
-
-    findings = [replace(f, element_index=kept(f.element_index)) for f in report.findings]
-    free = report.free_edges
-    if free is not None:
-        free = replace(free, element=row[free.element])
-    sub = replace(
-        report,
-        ids=report.ids[positions],
-        type_codes=report.type_codes[positions],
-        families=report.families[positions],
-        centroids=report.centroids[positions],
-        metrics={name: values[positions] for name, values in report.metrics.items()},
-        flag_bits=report.flag_bits[positions],
-        levels={name: lvl[positions] for name, lvl in report.levels.items()},
-        verdict=report.verdict[positions],
-        region_codes=None if report.region_codes is None else report.region_codes[positions],
-        findings=findings,
-        free_edges=free,
-        precomputed_statistics=None,
-    )
-    return sub, part, len(report) - positions.size

@@ -1,0 +1,444 @@
+"""The plot of a mesh with solids: a see-through skin and the flagged elements inside.
+
+- the outer boundary (faces of exactly one solid, :func:`meshaudit.mesh.faces.
+  boundary_faces`) and any surface elements, each face coloured by the metric of the
+  element behind it on the same colour scale as the surface plot, drawn see-through
+  (alpha :data:`SKIN_ALPHA`) back to front;
+- every flagged element (fail, warn) drawn opaque with all its faces, back to front,
+  on top of the skin, so an element deep inside shows: failing ones with the solid black
+  outline and white halo of the surface plot (the halo round the element's silhouette),
+  warn ones dashed; failing ids labelled
+  (the file's element numbers), warn ids too where room is left;
+- close-ups of the worst flagged elements with their neighbours (elements sharing a
+  node, faint), each seen along the direction that shows it best
+  (:func:`meshaudit.outputs.solid_views.element_view`), titled with the rule it breaks.
+
+The view is oblique (:func:`meshaudit.outputs.solid_views.volume_view`). Only the
+boundary and the flagged elements are drawn, so the work grows with the boundary and the
+flagged count, not with the interior.
+"""
+
+from __future__ import annotations
+
+import textwrap
+from typing import TYPE_CHECKING, Any
+
+import numpy as np
+
+from ..cells.registry import CELL_TYPES
+from ..mesh.elements import ElementMesh
+from ..mesh.faces import boundary_faces
+from ..metrics import METRIC_INFO, VALIDITY_FLAGS, WARNING_FLAGS, unit_of
+from ..results.report import Report
+from .label_layout import freeze_layout, place_labels
+from .mpl import drawable, new_figure
+from .projection import View, unit_text
+from .solid_views import element_view, face_outlines, volume_view
+
+if TYPE_CHECKING:
+    from matplotlib.axes import Axes
+    from matplotlib.figure import Figure
+
+#: Opacity of the skin faces and of a close-up's neighbours.
+SKIN_ALPHA = 0.22
+NEIGHBOUR_ALPHA = 0.12
+SKIN_EDGE = (0.45, 0.45, 0.45, 0.45)
+#: At most this many flagged elements are drawn with all their faces (worst first); the
+#: rest are marked by a dot at their centre ...
+MAX_OPAQUE = 5_000
+#: ... and at most this many more by a dot each (the next worst); any others not at all.
+MAX_DOTS = 100_000
+MAX_LABELS = 40
+
+#: What each flag means, in a few words, for picture titles.
+FLAG_RULES = {
+    "inverted": "det J < 0",
+    "reversed": "mirrored node order",
+    "nonconvex": "re-entrant corner",
+    "self_intersecting": "faces cross",
+    "degenerate": "no volume",
+    "undecided": "sign of det J unknown",
+    "quarter_point": "midside node at the quarter point",
+    "flipped_normal": "normal against its patch",
+}
+
+
+def _degrees(unit: str) -> str:
+    return "°" if unit == "deg" else ""
+
+
+def rule_text(flags: list[str], breaches: list[tuple[str, float, float | None]]) -> str:
+    """The rule an element breaks, in one line: its first validity or warning flag with
+    what it means ("inverted: det J < 0"), else the breached metric furthest past its
+    limit relative to the limit ("min_dihedral 4.1° < 10°"); "+k more" when there are
+    other breaches. ``breaches``: (metric, value, limit) at the element's worst level."""
+    named = [f for f in flags if f in FLAG_RULES and f in (*VALIDITY_FLAGS, *WARNING_FLAGS)]
+    if named:
+        rest = len(named) - 1 + len(breaches)
+        more = f" (+{rest} more)" if rest else ""
+        return f"{named[0]}: {FLAG_RULES[named[0]]}{more}"
+    if not breaches:
+        return "no limit breached"
+
+    def past(item: tuple[str, float, float | None]) -> float:
+        _, value, limit = item
+        if limit is None or not np.isfinite(value):
+            return np.inf
+        return abs(value - limit) / (abs(limit) or 1.0)
+
+    name, value, limit = max(breaches, key=past)
+    info = METRIC_INFO[name]
+    sign = "<" if info.worse == "low" else ">"
+    deg = _degrees(info.unit)
+    more = f" (+{len(breaches) - 1} more)" if len(breaches) > 1 else ""
+    bound = "" if limit is None else f" {sign} {limit:g}{deg}"
+    return f"{name} {value:.3g}{deg}{bound}{more}"
+
+
+def report_rule(report: Report, i: int) -> str:
+    """:func:`rule_text` of report row ``i``."""
+    breached = report.breached(i)
+    worst = max((lvl for _, lvl, _ in breached.values()), default="", key=["warn", "fail"].index)
+    items = [(m, v, lim) for m, (v, lvl, lim) in breached.items() if lvl == worst]
+    return rule_text(report.flags_of(i), items)
+
+
+# -- geometry of the drawn faces -----------------------------------------------------------
+def skin(elements: ElementMesh) -> tuple[np.ndarray, np.ndarray]:
+    """The faces the see-through skin is made of: the boundary faces of the solids and
+    the surface elements: (corners (F, 4) node indices, triangles repeating their last
+    corner; owner (F,) report index)."""
+    corners, owners = boundary_faces(elements)
+    parts, rows = [corners], [owners]
+    for block in elements.blocks:
+        if block.cell.dimension == 2 and len(block):
+            k = block.cell.n_corners
+            cols = list(range(k)) + [k - 1] * (4 - k)
+            parts.append(block.connectivity[:, cols].astype(np.int64))
+            rows.append(block.index)
+    return np.concatenate(parts), np.concatenate(rows)
+
+
+def element_faces(elements: ElementMesh, wanted: np.ndarray) -> tuple[list[np.ndarray], np.ndarray]:
+    """Every face of the elements at report rows where ``wanted`` (n,) is True, as closed
+    polygons in space (curved edges sampled for quadratic elements): (one (F_b, m_b, 3)
+    array per block, owner (F,) report index, in the same order)."""
+    polys, owners = [], []
+    for block in elements.blocks:
+        sel = wanted[block.index]
+        if not sel.any():
+            continue
+        coords = elements.points[block.connectivity[sel]]
+        outlines = face_outlines(block.cell, coords)  # (n, f, m, 3)
+        n, f, m, _ = outlines.shape
+        polys.append(outlines.reshape(n * f, m, 3))
+        owners.append(np.repeat(block.index[sel], f))
+    owner = np.concatenate(owners) if owners else np.zeros(0, dtype=np.int64)
+    return polys, owner
+
+
+def _projected(view: View, polys: list[np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
+    """Page polygons (F, m, 2), blocks with fewer vertices per face padded by repeating
+    their last one (one array: matplotlib builds its paths at once), and the depth of
+    each face (mean of its vertices; larger is nearer)."""
+    if not polys:
+        return np.zeros((0, 4, 2)), np.zeros(0)
+    m = max(p.shape[1] for p in polys)
+    padded = [
+        p if p.shape[1] == m else np.concatenate([p, np.repeat(p[:, -1:], m - p.shape[1], 1)], 1)
+        for p in polys
+    ]
+    depth = np.concatenate([view.depth(p).mean(axis=1) for p in polys])
+    return view.project(np.concatenate(padded)), depth
+
+
+def touching(elements: ElementMesh, nodes: np.ndarray) -> np.ndarray:
+    """Boolean (n,) over report rows: elements using any of ``nodes``."""
+    mark = np.zeros(elements.n_points, dtype=bool)
+    mark[nodes] = True
+    hit = np.zeros(elements.n_elements, dtype=bool)
+    for block in elements.blocks:
+        hit[block.index] = mark[block.connectivity].any(axis=1)
+    return hit
+
+
+def _rgba(values: np.ndarray, cmap: Any, norm: Any) -> np.ndarray:
+    return np.asarray(cmap(norm(values)), dtype=float)
+
+
+# -- drawing -------------------------------------------------------------------------------
+def draw_volume(report: Report, elements: ElementMesh, color_by: str, insets: int) -> Figure:
+    """The figure of a mesh with solids (see the module docstring)."""
+    from . import plot
+
+    values, cmap, norm, label, extend = plot.colour_scale(report, color_by)
+    colours = _rgba(values, cmap, norm)
+    used = elements.points[elements.used_nodes()]
+    view = volume_view(used)
+    fig = new_figure(figsize=(14.0, 9.0), layout="constrained")
+    flagged = report.worst()  # flagged rows, worst first
+    worst = flagged[: max(insets, 0)]
+    ax, inset_axes = plot._layout(fig, len(worst))
+    ax.set_gid("mesh")
+
+    faces, owner = skin(elements)
+    page = view.project(elements.points)
+    skin_xy = page[faces]
+    depth = view.depth(elements.points)[faces].mean(axis=1)
+
+    opaque, dotted = flagged[:MAX_OPAQUE], flagged[MAX_OPAQUE : MAX_OPAQUE + MAX_DOTS]
+    wanted = np.zeros(len(report), dtype=bool)
+    wanted[opaque] = True
+    _frame(ax, skin_xy.reshape(-1, 2) if len(skin_xy) else page)
+
+    bar = fig.colorbar(
+        _mappable(cmap, norm),
+        ax=ax,
+        orientation="horizontal",
+        fraction=0.045,
+        pad=0.02,
+        extend=extend,
+    )
+    bar.ax.set_gid("colourbar")
+    bar.set_label(label)
+    plot._limit_marks(bar, report, color_by, norm)
+    _legend(ax, values)
+    for sub, i in zip(inset_axes, worst):
+        _close_up(sub, report, elements, colours, int(i), color_by)
+    fig.suptitle(drawable(plot.title(report)), fontsize=12, fontweight="bold")
+    n = ", ".join(f"{c:.2f}" for c in view.normal)
+    ax.set_title(
+        f"coloured by {color_by}; solids seen from direction ({n}), oblique; boundary "
+        "faces see-through, flagged elements opaque",
+        fontsize=9,
+    )
+    unit = unit_text(view)
+    ax.set_xlabel("u (along the first view axis)" + unit, fontsize=8)
+    ax.set_ylabel("v (along the second view axis)" + unit, fontsize=8)
+    # the layout does not depend on the faces (limits are set, autolim off): laid out
+    # before they are added, so that the many faces are drawn once, when saved
+    renderer = freeze_layout(fig)
+    _skin(ax, skin_xy, colours[owner], np.argsort(depth, kind="stable"))
+    polys, poly_owner = element_faces(elements, wanted)
+    xy, poly_depth = _projected(view, polys)
+    _flagged(ax, xy, poly_owner, poly_depth, report, colours)
+    if len(dotted):  # beyond MAX_OPAQUE: a dot at the centre of each
+        dots = view.project(report.centroids[dotted])
+        ax.plot(*dots.T, ".", ms=2.0, color=plot.OUTLINE, ls="none", gid="flagged-dots", zorder=2)
+    _labels(ax, report, view, flagged, renderer)
+    return fig
+
+
+def _mappable(cmap: Any, norm: Any) -> Any:
+    from matplotlib.cm import ScalarMappable
+
+    return ScalarMappable(norm=norm, cmap=cmap)
+
+
+def _skin(ax: Axes, xy: np.ndarray, rgba: np.ndarray, order: np.ndarray) -> None:
+    from matplotlib.collections import PolyCollection
+
+    faces = rgba[order].copy()
+    faces[:, 3] = SKIN_ALPHA
+    ax.add_collection(
+        PolyCollection(
+            xy[order],
+            facecolors=faces,
+            edgecolors=SKIN_EDGE,
+            linewidths=0.3,
+            gid="skin",
+            zorder=1,
+            rasterized=len(order) > 20_000,
+        ),
+        autolim=False,
+    )
+
+
+def _flagged(
+    ax: Axes,
+    xy: list[np.ndarray],
+    owner: np.ndarray,
+    depth: np.ndarray,
+    report: Report,
+    colours: np.ndarray,
+    gid: str = "flagged",
+) -> None:
+    """Faces of flagged elements, opaque, back to front, outlined by their verdict."""
+    from matplotlib.collections import PolyCollection
+
+    from .plot import FAIL_WIDTH, HALO, OUTLINE, WARN_DASH, WARN_WIDTH
+
+    if not len(owner):
+        return
+    order = np.argsort(depth, kind="stable")
+    fails = report.failing[owner[order]]
+    # the white halo of the project's outline: wide white edges under all the opaque
+    # faces, so it shows around each element's silhouette only, not across its faces
+    ax.add_collection(
+        PolyCollection(
+            xy,
+            facecolors="none",
+            edgecolors=HALO,
+            linewidths=np.where(report.failing[owner], FAIL_WIDTH, WARN_WIDTH) + 1.6,
+            gid=f"{gid}-halo",
+            zorder=2.9,
+        ),
+        autolim=False,
+    )
+    ax.add_collection(
+        PolyCollection(
+            xy[order],
+            facecolors=colours[owner[order]],
+            edgecolors=OUTLINE,
+            linewidths=np.where(fails, FAIL_WIDTH, WARN_WIDTH),
+            linestyles="solid" if fails.all() else ["solid" if f else WARN_DASH for f in fails],
+            gid=gid,
+            zorder=3,
+        ),
+        autolim=False,
+    )
+
+
+def _frame(ax: Axes, xy: np.ndarray, pad: float = 0.06) -> None:
+    finite = xy[np.isfinite(xy).all(axis=1)]
+    lo, hi = finite.min(axis=0), finite.max(axis=0)
+    size = float(max(hi - lo)) or 1.0
+    ax.set_xlim(lo[0] - pad * size, hi[0] + pad * size)
+    ax.set_ylim(lo[1] - pad * size, hi[1] + pad * size)
+    ax.set_aspect("equal")
+    ax.tick_params(labelsize=8)
+
+
+def _legend(ax: Axes, values: np.ndarray) -> None:
+    from matplotlib.lines import Line2D
+    from matplotlib.patches import Patch
+
+    from .plot import FAIL_WIDTH, NOT_DEFINED, OUTLINE, WARN_DASH, WARN_WIDTH
+
+    handles = [
+        Line2D([], [], color=OUTLINE, lw=FAIL_WIDTH, label="fails (opaque, id labelled)"),
+        Line2D([], [], color=OUTLINE, lw=WARN_WIDTH, ls=WARN_DASH, label="warn (opaque)"),
+        Patch(fc=(0.5, 0.5, 0.5, SKIN_ALPHA), ec=SKIN_EDGE, label="boundary faces (see-through)"),
+    ]
+    if np.ma.count_masked(values):
+        handles.append(Patch(fc=NOT_DEFINED, label="metric not defined"))
+    ax.figure.legend(
+        handles=handles, loc="outside lower left", ncol=len(handles), fontsize=8, frameon=False
+    )
+
+
+def _labels(ax: Axes, report: Report, view: View, flagged: np.ndarray, renderer: Any) -> None:
+    """Ids of the failing elements, worst first, then of warn elements, where room
+    allows; at most MAX_LABELS; none covering another."""
+    from .plot import OUTLINE
+
+    rows = flagged[: 4 * MAX_LABELS]
+    anchors = view.project(report.centroids[rows])
+    styles, texts = [], []
+    for i in rows:
+        element = int(report.ids[i])
+        if report.failing[i]:
+            frame = {"boxstyle": "round,pad=0.2", "fc": "white", "ec": OUTLINE, "lw": 0.6}
+            styles.append({"fontsize": 7.5, "gid": f"fail-id-{element}", "bbox": frame})
+        else:
+            frame = {"boxstyle": "round,pad=0.2", "fc": "white", "ec": "#8c8c8c", "lw": 0.5}
+            styles.append({"fontsize": 6.5, "gid": f"warn-id-{element}", "bbox": frame})
+        styles[-1]["zorder"] = 6
+        texts.append(str(element))
+    placed: list[bool] = []
+    taken: list[Any] = []
+    for k in range(len(rows)):
+        if sum(placed) == MAX_LABELS:
+            break
+        one = slice(k, k + 1)
+        placed += place_labels(
+            ax, anchors[one], texts[one], styles[one], renderer, taken, keep_clear=anchors
+        )
+    failing = int(report.failing.sum())
+    shown = sum(1 for k, ok in enumerate(placed) if ok and report.failing[rows[k]])
+    if failing > shown:
+        ax.text(
+            0.01,
+            0.01,
+            f"{failing - shown} more failing elements not labelled (see the reports)",
+            transform=ax.transAxes,
+            fontsize=8,
+            gid="unlabelled",
+        )
+    if len(flagged) > MAX_OPAQUE:
+        dots = min(len(flagged) - MAX_OPAQUE, MAX_DOTS)
+        rest = len(flagged) - MAX_OPAQUE - dots
+        ax.text(
+            0.01,
+            0.045,
+            f"the worst {MAX_OPAQUE:,} flagged elements drawn with their faces, the next "
+            f"{dots:,} as dots" + (f", {rest:,} more not drawn" if rest else ""),
+            transform=ax.transAxes,
+            fontsize=8,
+            gid="flagged-drawn",
+        )
+
+
+def _close_up(
+    ax: Axes,
+    report: Report,
+    elements: ElementMesh,
+    colours: np.ndarray,
+    i: int,
+    color_by: str,
+) -> None:
+    """Element ``i`` with its neighbours (faint), seen along its best direction."""
+    from matplotlib.collections import PolyCollection
+
+    from ..results.inspection import element_nodes
+    from .plot import OUTLINE
+
+    nodes = element_nodes(elements, i)
+    cell = CELL_TYPES[report.cell_types[int(report.type_codes[i])]]
+    coords = elements.points[nodes]
+    view = element_view(cell, coords) if cell.dimension == 3 else volume_view(coords)
+    near = touching(elements, nodes[: cell.n_corners])
+    near[i] = False
+    polys, owner = element_faces(elements, near)
+    xy, depth = _projected(view, polys)
+    if len(owner):
+        order = np.argsort(depth, kind="stable")
+        faint = colours[owner[order]].copy()
+        faint[:, 3] = NEIGHBOUR_ALPHA
+        ax.add_collection(
+            PolyCollection(
+                xy[order],
+                facecolors=faint,
+                edgecolors=(0.4, 0.4, 0.4, 0.5),
+                linewidths=0.5,
+                gid="close-up-neighbours",
+                zorder=1,
+            )
+        )
+    mine = np.zeros(len(report), dtype=bool)
+    mine[i] = True
+    polys, owner = element_faces(elements, mine)
+    xy, depth = _projected(view, polys)
+    _flagged(ax, xy, owner, depth, report, colours, gid="close-up-element")
+    corners = view.project(coords[: cell.n_corners])
+    ax.plot(*corners.T, "o", ms=2.5, color=OUTLINE, zorder=5, ls="none")
+    lo, hi = corners.min(axis=0), corners.max(axis=0)
+    half = 0.75 * (float(max(hi - lo)) or 1.0)
+    centre = (lo + hi) / 2.0
+    ax.set_xlim(centre[0] - half, centre[0] + half)
+    ax.set_ylim(centre[1] - half, centre[1] + half)
+    ax.set_aspect("equal")
+    ax.set_xticks([])
+    ax.set_yticks([])
+    value = float(report.metrics[color_by][i])
+    unit = unit_of(color_by, report.dimensions)
+    unit = {"1": "", "deg": "°"}.get(unit, f" {unit}")
+    rule = textwrap.fill(report_rule(report, i), 34)
+    ax.set_title(
+        drawable(
+            f"id {int(report.ids[i])} ({cell.name}): {report.verdict_names[i]}\n"
+            f"{rule}\n{color_by} {value:.3g}{unit}"
+        ),
+        fontsize=8,
+        gid=f"close-up-{int(report.ids[i])}",
+    )
