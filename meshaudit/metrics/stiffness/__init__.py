@@ -25,15 +25,9 @@ import numpy as np
 
 from ...cells.registry import CellType
 from ...mesh.frames import Frame, to_local
+from .. import STIFFNESS_METRICS
 from . import bending, element
 from .rules import tables
-
-#: The metrics of this module, in report order.
-STIFFNESS_METRICS: tuple[str, ...] = (
-    "stable_time_step",
-    "bending_error",
-    "bending_error_distortion",
-)
 
 #: Largest deviation of sum_i x_i (x) dN_i/dx from the identity a Gauss point may show
 #: (the strains of u = eps x come out as eps times that matrix): meshaudit default, no
