@@ -77,11 +77,8 @@ def table() -> str:
             q9["bending_error"],
             q["stable_time_step"] / square,
         ]
-        lines.append(
-            f"| {name} | "
-            + " | ".join(f"{abs(c) if abs(c) < 5e-12 else c:.3g}" for c in cells)
-            + " |"
-        )
+        text = ["0" if abs(c) < 1e-9 else f"{c:.3g}" for c in cells]  # rounding: 0
+        lines.append(f"| {name} | " + " | ".join(text) + " |")
     return "\n".join(lines)
 
 
