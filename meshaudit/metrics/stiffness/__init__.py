@@ -127,14 +127,15 @@ def _block(
     if rows.size:
         sub = element.Geometry(geo.nodes[..., rows], geo.det[:, rows], geo.grad[..., rows])
         kmat = element.stiffness(element.geometric_part(tab, sub), lam[rows], mu[rows])
-        masses = element.lumped_masses(tab, element.fine_det(tab, xn[rows]))
+        fine = element.fine_det(tab, xn[rows])
+        masses = element.lumped_masses(tab, fine)
         with np.errstate(divide="ignore", invalid="ignore"):
             omega2 = element.largest_eigenvalue(kmat, masses) / rho[rows]
             dt = 2.0 / np.sqrt(omega2) * size[rows]
         good = (masses > 0).all(axis=1) & np.isfinite(dt) & (dt > 0)
         step[rows] = np.where(good, dt, 0.0)
         if d == 2:
-            err[rows], dist[rows] = _bending(cell, tab, xn[rows], kmat, lam[rows], mu[rows])
+            err[rows], dist[rows] = _bending(cell, tab, xn[rows], fine, kmat, lam[rows], mu[rows])
     out = {"stable_time_step": step}
     if d == 2:
         out["bending_error"] = err
@@ -142,13 +143,14 @@ def _block(
     return out, failed
 
 
-def _bending(cell, tab, x, kmat, lam, mu) -> tuple[np.ndarray, np.ndarray]:
+def _bending(cell, tab, x, fine, kmat, lam, mu) -> tuple[np.ndarray, np.ndarray]:
     """(bending_error, bending_error_distortion) of valid surface elements."""
     d1, d2, lengths = bending.axes(cell, x)
-    error = bending.relative_errors(tab, x, kmat, lam, mu, (d1, d2))
+    error = bending.relative_errors(tab, x, fine, kmat, lam, mu, (d1, d2))
     ref = bending.undistorted(cell, lengths / lengths.max(axis=1, keepdims=True))
     kref = element.stiffness(element.geometric_part(tab, element.geometry(tab, ref)), lam, mu)
     ex = np.tile([1.0, 0.0], (len(x), 1))
     ey = np.tile([0.0, 1.0], (len(x), 1))
-    base = bending.relative_errors(tab, ref, kref, lam, mu, (ex, ey))
+    fine_ref = element.fine_det(tab, ref)
+    base = bending.relative_errors(tab, ref, fine_ref, kref, lam, mu, (ex, ey))
     return error, error - base
