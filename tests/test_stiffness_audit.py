@@ -323,3 +323,30 @@ def test_materials_from_the_configuration(run_cli, tmp_path):
     )
     result = run_cli("check", path)
     assert result.returncode == 2 and "nu" in result.stderr
+
+
+def test_the_readme_table_is_the_scripts():
+    # the README's bending table is what benchmarks/bending_table.py writes today
+    from benchmarks.bending_table import table
+    from tests.conftest import REPO
+
+    assert table() in (REPO / "README.md").read_text(encoding="utf-8")
+
+
+def test_the_readme_closed_forms():
+    # README: the bilinear rectangle of aspect a reads nu^2/(1 - nu^2) + a^2/(2 (1 + nu))
+    # (sympy, test_stiffness_reference.py): 0.48 for the square at nu = 0.3; the
+    # equilateral triangle 1.01, the right isosceles one 3.4
+    assert _bending("quad", [[0, 0], [2, 0], [2, 2], [0, 2]])["bending_error"] == pytest.approx(
+        0.09 / 0.91 + 1 / 2.6
+    )
+    lam, mu = 0.3 / 0.91, 1 / 2.6
+    for corners, expected in (
+        ([[0, 0], [1, 0], [0.5, math.sqrt(3) / 2]], 1.01),
+        ([[0, 0], [1, 0], [0, 1]], 3.4),
+    ):
+        out, _ = stiffness._block(
+            CELL_TYPES["triangle"], np.array([corners], dtype=float), np.array([False]),
+            np.array([lam]), np.array([mu]), np.array([1.0]),
+        )  # fmt: skip
+        assert f"{out['bending_error'][0]:.3g}".startswith(str(expected))
