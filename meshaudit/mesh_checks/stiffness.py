@@ -36,38 +36,35 @@ def stiffness_findings(
     steps: np.ndarray, failed: np.ndarray, ids: np.ndarray, profile: Profile
 ) -> list[Finding]:
     """The findings of the kinds above that occur and are enabled in ``profile``."""
-    settings = profile.findings
-    out = []
-    rows = np.flatnonzero(failed)
-    if rows.size and settings.enabled("constant_strain_failure"):
-        out.append(
-            Finding(
-                kind="constant_strain_failure",
-                severity=settings.severity["constant_strain_failure"],
-                count=int(rows.size),
-                element_ids=ids[rows],
-                node_ids=np.zeros(0, dtype=np.int64),
-                element_index=rows,
-                message=f"{rows.size:,} elements do not reproduce a constant strain field "
-                "(imposed u = eps x: strains off eps, or det J <= 0, at a Gauss point)",
-            )
-        )
     rows, median = small_steps(steps)
-    if rows.size and settings.enabled("small_time_step"):
-        out.append(
-            Finding(
-                kind="small_time_step",
-                severity=settings.severity["small_time_step"],
-                count=int(rows.size),
-                element_ids=ids[rows],
-                node_ids=np.zeros(0, dtype=np.int64),
-                element_index=rows,
-                message=f"{rows.size:,} elements have a stable time step below "
-                f"{SMALL_STEP_FRACTION:g} of the median ({median:.4g}): they set the step "
-                "of an explicit run",
-            )
+    found = (
+        (
+            "constant_strain_failure",
+            np.flatnonzero(failed),
+            "do not reproduce a constant strain field (imposed u = eps x: strains off eps, "
+            "or det J <= 0, at a Gauss point)",
+        ),
+        (
+            "small_time_step",
+            rows,
+            f"have a stable time step below {SMALL_STEP_FRACTION:g} of the median "
+            f"({median:.4g}): they set the step of an explicit run",
+        ),
+    )
+    settings = profile.findings
+    return [
+        Finding(
+            kind=kind,
+            severity=settings.severity[kind],
+            count=int(rows.size),
+            element_ids=ids[rows],
+            node_ids=np.zeros(0, dtype=np.int64),
+            element_index=rows,
+            message=f"{rows.size:,} elements {what}",
         )
-    return out
+        for kind, rows, what in found
+        if rows.size and settings.enabled(kind)
+    ]
 
 
 def material_notes(materials: MaterialMap) -> list[str]:
