@@ -270,7 +270,9 @@ def solid_det_j_bound(
     }
 
 
-def stiffness_reason(name: str, value: float, reason: str, materials: dict | None) -> str:
+def stiffness_reason(
+    name: str, value: float, reason: str, materials: dict | None, solid: bool = False
+) -> str:
     """What a stiffness metric's value of one element means (see
     :mod:`meshaudit.metrics.stiffness`), after ``reason`` (its limit, if breached)."""
     from ..metrics.stiffness.bending import FIELD
@@ -278,9 +280,9 @@ def stiffness_reason(name: str, value: float, reason: str, materials: dict | Non
     if materials is None:
         return "not defined: no material given (--material, [materials])"
     if math.isnan(value):
-        if name == "stable_time_step":
-            return "not defined: no material covers this element's region"
-        return "not defined for solids, or no material covers this element's region"
+        if solid and name != "stable_time_step":
+            return "not defined for solids (the bending field is a plane one)"
+        return "not defined: no material covers this element's region"
     if name == "stable_time_step":
         what = (
             "0: the element is not valid (a validity flag, or det J <= 0 at a Gauss point)"
@@ -343,7 +345,8 @@ def metric_lines(audited: AuditedMesh, i: int) -> list[MetricLine]:
             invalid = any(report.flag(f)[i] for f in INVALID_FLAGS)
             reason = _score_reason(value, int(report.verdict[i]), invalid)
         if name in STIFFNESS_METRICS:
-            reason = stiffness_reason(name, value, reason, report.materials)
+            solid = CELL_TYPES[report.cell_types[int(report.type_codes[i])]].dimension == 3
+            reason = stiffness_reason(name, value, reason, report.materials, solid)
         unit = unit_of(name, [CELL_TYPES[report.cell_types[int(report.type_codes[i])]].dimension])
         lines.append(MetricLine(name, value, unit, info.worse, warn, fail, level, reason))
     return lines
