@@ -350,3 +350,15 @@ def test_the_readme_closed_forms():
             np.array([lam]), np.array([mu]), np.array([1.0]),
         )  # fmt: skip
         assert f"{out['bending_error'][0]:.3g}".startswith(str(expected))
+
+
+@pytest.mark.parametrize("scale", [1e-150, 1e-40, 1e40, 1e200])
+def test_any_finite_scale(scale):
+    # dt ~ size (common practice), the bending error has no unit: at any finite scale
+    # (the audit measures extreme meshes scaled by a power of two, README "Metrics")
+    mesh = _grid(2, 1, widths=[2.0, 1.3])
+    mesh.points[4, 1] += 0.2
+    base = meshaudit.audit(mesh, material=STEEL).metrics
+    scaled = meshaudit.audit(meshio.Mesh(mesh.points * scale, mesh.cells), material=STEEL).metrics
+    assert scaled["stable_time_step"] == pytest.approx(base["stable_time_step"] * scale, rel=1e-12)
+    assert scaled["bending_error"] == pytest.approx(base["bending_error"], rel=1e-12)
