@@ -49,7 +49,7 @@ def measure(cell_type: str, corners: np.ndarray) -> dict[str, float]:
     cell = CELL_TYPES[cell_type]
     nodes = CELL_TYPES["quad"].shape_functions(cell.reference_nodes) @ corners
     lam, mu = NU / (1 - NU**2), 1 / (2 * (1 + NU))
-    out, _ = stiffness._block(
+    out, _ = stiffness.measure_nodes(
         cell,
         nodes[None].astype(float),
         np.array([False]),

@@ -77,7 +77,7 @@ def main(argv: list[str] | None = None) -> None:
         valid = np.zeros(CHUNK_SIZE, dtype=bool)
         for sl in chunks:
             m = sl.stop - sl.start
-            stiffness._block(cell, local[sl], valid[:m], lam_n[sl], mu_n[sl], rho_n[sl])
+            stiffness.measure_nodes(cell, local[sl], valid[:m], lam_n[sl], mu_n[sl], rho_n[sl])
 
     mesh = load(plate)
     rows = [

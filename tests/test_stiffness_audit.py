@@ -199,7 +199,7 @@ def _quad_nodes(cell_type: str, corners: np.ndarray) -> np.ndarray:
 def _bending(cell_type: str, corners, nu: float = 0.3) -> dict[str, float]:
     lam, mu = nu / (1 - nu**2), 1 / (2 * (1 + nu))
     nodes = _quad_nodes(cell_type, np.asarray(corners, dtype=float))
-    out, _ = stiffness._block(
+    out, _ = stiffness.measure_nodes(
         CELL_TYPES[cell_type], nodes[None], np.array([False]), np.array([lam]),
         np.array([mu]), np.array([1.0]),
     )  # fmt: skip
@@ -345,7 +345,7 @@ def test_the_readme_closed_forms():
         ([[0, 0], [1, 0], [0.5, math.sqrt(3) / 2]], 1.01),
         ([[0, 0], [1, 0], [0, 1]], 3.4),
     ):
-        out, _ = stiffness._block(
+        out, _ = stiffness.measure_nodes(
             CELL_TYPES["triangle"], np.array([corners], dtype=float), np.array([False]),
             np.array([lam]), np.array([mu]), np.array([1.0]),
         )  # fmt: skip

@@ -77,7 +77,7 @@ def measure(
     step = max(1, _BLOCK_ENTRIES // (d * k) ** 2)
     for start in range(0, n, step):
         sl = slice(start, min(n, start + step))
-        part, failed[sl] = _block(cell, x[sl], invalid[sl], lam[sl], mu[sl], rho[sl])
+        part, failed[sl] = measure_nodes(cell, x[sl], invalid[sl], lam[sl], mu[sl], rho[sl])
         for name, values in part.items():
             out[name][sl] = values
     if exponent:
@@ -105,7 +105,7 @@ def constant_strain_failures(geo: element.Geometry) -> np.ndarray:
     return ~(deviation <= STRAIN_TOLERANCE) | ~(geo.det > 0).all(axis=0)
 
 
-def _block(
+def measure_nodes(
     cell: CellType,
     x: np.ndarray,
     invalid: np.ndarray,
@@ -113,6 +113,10 @@ def _block(
     mu: np.ndarray,
     rho: np.ndarray,
 ) -> tuple[dict[str, np.ndarray], np.ndarray]:
+    """:func:`measure` of elements whose nodes ``x`` (n, k, d) are already laid out (in
+    their plane for a surface cell, see :func:`element_nodes`), in one block (memory
+    (n, k d, k d)): the metrics (surface cells: all three; solids: the time step) and
+    the constant-strain failures."""
     tab = tables(cell.name)
     xn, size = _normalised(x)
     geo = element.geometry(tab, xn)
