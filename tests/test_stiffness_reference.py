@@ -7,7 +7,8 @@
   (quadratic cells). Eigenvalues do not depend on how either side numbers its degrees of
   freedom.
 * sympy: the bilinear rectangle's strain energy under pure bending, integrated
-  symbolically from its shape functions, as a function of the aspect ratio and nu.
+  symbolically from its shape functions, as a function of the aspect ratio and nu; the
+  six-node right prism's stiffness, integrated exactly from its shape functions.
 * Facts of the trade (common practice): the bar's step L / c with c = sqrt(E / rho), and
   the scaling laws dt ~ size, dt ~ sqrt(rho / E).
 """
@@ -81,7 +82,11 @@ def _distorted(p: np.ndarray) -> np.ndarray:
 
 @pytest.mark.parametrize(
     ("linear", "quadratic", "element", "intorder"),
-    [("quad", None, skfem.ElementQuad1(), 3), ("quad", "quad9", skfem.ElementQuad2(), 5)],
+    [
+        ("quad", None, skfem.ElementQuad1(), 3),
+        ("quad", "quad8", skfem.ElementQuadS2(), 5),
+        ("quad", "quad9", skfem.ElementQuad2(), 5),
+    ],
 )
 def test_quad_time_step_matches_skfem(linear, quadratic, element, intorder):
     # scikit-fem: intorder 3 is the 2x2 Gauss rule, 5 the 3x3 (the rules we integrate with)
@@ -116,7 +121,11 @@ def test_tetra_time_step_matches_skfem(quadratic, element):
 
 @pytest.mark.parametrize(
     ("quadratic", "element", "intorder"),
-    [(None, skfem.ElementHex1(), 3), ("hexahedron27", skfem.ElementHex2(), 5)],
+    [
+        (None, skfem.ElementHex1(), 3),
+        ("hexahedron20", skfem.ElementHexS2(), 5),
+        ("hexahedron27", skfem.ElementHex2(), 5),
+    ],
 )
 def test_hexahedron_time_step_matches_skfem(quadratic, element, intorder):
     sk = skfem.MeshHex()  # the unit cube, in scikit-fem's own node order
@@ -211,3 +220,53 @@ def test_step_scales_with_size_and_wave_speed(cell_type):
     assert step(3.0 * nodes + 7.0) == pytest.approx(3.0 * base, rel=1e-9)
     assert step(nodes, scale_e=4.0) == pytest.approx(base / 2.0, rel=1e-9)
     assert step(nodes, rho=9.0 * RHO) == pytest.approx(3.0 * base, rel=1e-9)
+
+
+def _sympy_prism_step(height: float) -> float:
+    """2/omega_max of the right prism over the triangle (0, 0), (1, 0), (0, 1), z from 0 to
+    ``height``, six nodes, from sympy: the shape functions L_i (1 -+ zeta)/2, B
+    differentiated symbolically, K = int B^T D B integrated exactly monomial by monomial
+    (int xi^a eta^b over the triangle = a! b! / (a + b + 2)!), row-sum masses."""
+    xi, eta, zeta = sp.symbols("xi eta zeta")
+    tri = [1 - xi - eta, xi, eta]
+    shape = [t * (1 - zeta) / 2 for t in tri] + [t * (1 + zeta) / 2 for t in tri]
+    dz = sp.Rational(2) / sp.nsimplify(height)  # d zeta / dz
+    grads = [(sp.diff(n, xi), sp.diff(n, eta), sp.diff(n, zeta) * dz) for n in shape]
+    rows = [[0] * 18 for _ in range(6)]
+    for i, (gx, gy, gz) in enumerate(grads):
+        u, v, w = 3 * i, 3 * i + 1, 3 * i + 2
+        rows[0][u], rows[1][v], rows[2][w] = gx, gy, gz
+        rows[3][v], rows[3][w] = gz, gy
+        rows[4][u], rows[4][w] = gz, gx
+        rows[5][u], rows[5][v] = gy, gx
+    b = sp.Matrix(rows)
+    lam, mu = sp.nsimplify(LAM), sp.nsimplify(MU)
+    d = sp.zeros(6, 6)
+    d[:3, :3] = sp.ones(3, 3) * lam
+    for k in range(6):
+        d[k, k] += 2 * mu if k < 3 else mu
+
+    def integral(expr):
+        poly = sp.Poly(sp.expand(expr), xi, eta, zeta)
+        total = 0
+        for (a, c, e), coeff in poly.terms():
+            if e % 2:
+                continue
+            tri_part = sp.factorial(a) * sp.factorial(c) / sp.factorial(a + c + 2)
+            total += coeff * tri_part * sp.Rational(2, e + 1)
+        return total / dz  # dz = d zeta * height / 2
+
+    k_matrix = (b.T * d * b).applyfunc(integral)
+    masses = [float(integral(n)) * RHO for n in shape for _ in range(3)]
+    k_num = np.array(k_matrix.tolist(), dtype=float)
+    omega2 = scipy.linalg.eigh(k_num, np.diag(masses), eigvals_only=True).max()
+    return 2.0 / np.sqrt(omega2)
+
+
+def test_wedge_time_step_matches_sympy():
+    # the six-point rule integrates the right prism's stiffness exactly
+    ref = CELL_TYPES["wedge"].reference_nodes.copy()
+    height = 1.7
+    ref[:, 2] = (ref[:, 2] + 1.0) / 2.0 * height  # z from 0 to the height
+    expected = _sympy_prism_step(height)
+    assert _ours("wedge", ref)["stable_time_step"][0] == pytest.approx(expected, rel=1e-9)
