@@ -201,7 +201,9 @@ def test_thin_bar_step_is_the_wave_estimate():
     assert 1 / np.sqrt(2) - 1e-12 <= out["stable_time_step"][0] / estimate <= 1.0
 
 
-@pytest.mark.parametrize("cell_type", ["quad", "triangle6", "tetra", "hexahedron20", "wedge"])
+@pytest.mark.parametrize(
+    "cell_type", ["quad", "triangle6", "tetra", "hexahedron20", "wedge", "pyramid"]
+)
 def test_step_scales_with_size_and_wave_speed(cell_type):
     # common practice: dt ~ L / c, so dt doubles with the element and goes as sqrt(rho / E)
     cell = CELL_TYPES[cell_type]
