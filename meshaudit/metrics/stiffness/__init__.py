@@ -36,8 +36,8 @@ from .rules import tables
 STRAIN_TOLERANCE = 1e-8
 
 #: Entries of the largest temporary (n, d k, d k) array per block: bounds the memory of
-#: the batched matrices whatever the chunk size (about 16 MB).
-_BLOCK_ENTRIES = 1 << 21
+#: the batched matrices whatever the chunk size (about 8 MB).
+_BLOCK_ENTRIES = 1 << 20
 
 
 def element_nodes(cell: CellType, coords3: np.ndarray, frame: Frame) -> np.ndarray:
