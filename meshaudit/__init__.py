@@ -21,6 +21,7 @@ if TYPE_CHECKING:
     from .engine.run import audit_elements
     from .judge.profiles import BUILTIN as BUILTIN_PROFILES
     from .judge.profiles import Limit, Profile, load_profile, with_limit
+    from .material import Material
     from .mesh_checks.findings import Finding
     from .results.compare import compare
     from .results.explain import explain
@@ -39,6 +40,7 @@ _LAZY = {
     "BUILTIN_PROFILES": ("judge.profiles", "BUILTIN"),
     "Finding": ("mesh_checks.findings", "Finding"),
     "Limit": ("judge.profiles", "Limit"),
+    "Material": ("material", "Material"),
     "Profile": ("judge.profiles", "Profile"),
     "Report": ("results.report", "Report"),
     "compare": ("results.compare", "compare"),
@@ -68,6 +70,7 @@ __all__ = [
     "Finding",
     "InputError",
     "Limit",
+    "Material",
     "MeshAuditError",
     "OutputError",
     "Profile",

@@ -12,6 +12,7 @@ import os
 from collections.abc import Mapping
 from typing import Any
 
+from .engine.materials import MaterialSpec
 from .engine.run import ProgressCallback, audit_elements
 from .judge.profiles import Profile
 from .mesh.reading import load, load_with_mesh
@@ -27,11 +28,15 @@ def audit(
     regions: Mapping[str, Profile | str | os.PathLike[str]] | None = None,
     progress: ProgressCallback | None = None,
     workers: int | None = None,
+    material: MaterialSpec = None,
 ) -> Report:
     """Audit a mesh file (any format meshio reads) or a ``meshio.Mesh`` in memory.
 
     ``progress`` (optional) is called as the stages go: see :data:`ProgressCallback`.
-    ``workers``: threads, as in :func:`audit_elements`.
+    ``workers``: threads, as in :func:`audit_elements`. ``material``: a
+    :class:`meshaudit.Material` (or region name -> material, ``"default"`` for the rest)
+    to measure the stable time step and the bending error with (see
+    :mod:`meshaudit.metrics.stiffness`); without it they are not defined.
 
     >>> import meshio, numpy as np
     >>> points = np.array([[0.0, 0.0], [2.0, 0.0], [2.0, 1.0], [0.0, 1.0]])
@@ -45,7 +50,7 @@ def audit(
     if progress is not None:
         progress("read", 0, 0)
     mesh = load(source, file_format)
-    return audit_elements(mesh, profile, fail_on, regions, progress, workers)
+    return audit_elements(mesh, profile, fail_on, regions, progress, workers, material)
 
 
 def audit_mesh(
@@ -55,10 +60,11 @@ def audit_mesh(
     fail_on: str = "fail",
     regions: Mapping[str, Profile | str | os.PathLike[str]] | None = None,
     progress: ProgressCallback | None = None,
+    material: MaterialSpec = None,
 ) -> AuditedMesh:
     """Like :func:`audit`, but keeps the mesh for plots, annotation and explain."""
     if progress is not None:
         progress("read", 0, 0)
     raw, elements = load_with_mesh(source, file_format)
-    report = audit_elements(elements, profile, fail_on, regions, progress)
+    report = audit_elements(elements, profile, fail_on, regions, progress, material=material)
     return AuditedMesh(report, elements, raw)

@@ -23,13 +23,14 @@ import sympy as sp
 
 import meshaudit
 from meshaudit.mesh.frames import element_normals
-from meshaudit.metrics import METRIC_NAMES, SOLID_METRICS
+from meshaudit.metrics import METRIC_NAMES, SOLID_METRICS, STIFFNESS_METRICS
 from meshaudit.outputs import csv_report, json_report
 
 # volumes and dihedral angles mean nothing for a surface element
 TRIANGLE_UNDEFINED = ("skew", "taper", "warp", "midside_offset_along", "midside_offset_across")
-TRIANGLE_UNDEFINED += SOLID_METRICS
+TRIANGLE_UNDEFINED += SOLID_METRICS + STIFFNESS_METRICS  # the latter: no material given
 QUAD_UNDEFINED = ("midside_offset_along", "midside_offset_across", *SOLID_METRICS)
+QUAD_UNDEFINED += STIFFNESS_METRICS
 
 
 def audit_one(nodes, cell: str = "quad"):

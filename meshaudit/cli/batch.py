@@ -19,7 +19,7 @@ import numpy as np
 from ..errors import MeshAuditError, OutputError
 from ..paths import reason
 from ..results.status import EXIT_UNUSABLE, Outcome, exit_status
-from .options import resolve
+from .options import materials_of, resolve
 
 #: File extension of each report kind, used when a directory is given.
 REPORT_SUFFIX = {"json": ".json", "csv": ".csv", "junit": ".xml"}
@@ -93,6 +93,7 @@ def apply_settings(args: argparse.Namespace, mesh: Path, many: bool) -> argparse
     out.mesh = str(mesh)
     out.config_path = settings.path
     out.regions = settings.regions
+    out.materials = materials_of(args, settings)
     out.profile, out.fail_on, out.top = resolved.profile, resolved.fail_on, resolved.top
     for kind in REPORT_SUFFIX:
         given = getattr(args, kind)

@@ -12,7 +12,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING
 
 from ..errors import MeshAuditError
-from .options import add_common_options, positive_int
+from .options import add_common_options, add_material_option, positive_int
 
 if TYPE_CHECKING:
     from ..outputs.atomic import Renderer
@@ -37,6 +37,7 @@ def add(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
         help="mesh file(s) (any format meshio reads) or glob patterns such as 'meshes/*.msh'",
     )
     add_common_options(check)
+    add_material_option(check)
     check.add_argument(
         "--top",
         type=positive_int,
@@ -155,6 +156,7 @@ def audit_and_write(args: argparse.Namespace) -> Report:
         "fail_on": args.fail_on,
         "regions": args.regions,
         "progress": progress,
+        "material": getattr(args, "materials", None),
     }
     if inspection:  # plots and annotation need the mesh as well as the report
         audited = audit_mesh(mesh_path, **options)

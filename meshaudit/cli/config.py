@@ -21,6 +21,15 @@ Layout (``meshaudit.toml``; in ``pyproject.toml`` the same keys sit under
     extends = "strict"               # without extends: starts from [limits]
     [compare]                        # regression tolerances of `meshaudit compare`
     median_score_drop = 0.02
+    [materials.default]              # stiffness metrics (see meshaudit.material)
+    E = 210000.0                     # consistent units: N/mm^2, tonne/mm^3, mm -> s
+    nu = 0.3
+    rho = 7.85e-9
+    t = 2.0                          # thickness of surface elements; plane = "strain"
+    [materials.fillet]               # another material for a region
+    E = 70000.0
+    nu = 0.33
+    rho = 2.7e-9
 """
 
 from __future__ import annotations
@@ -30,15 +39,16 @@ from dataclasses import dataclass, field, fields
 from pathlib import Path
 from typing import Any
 
-from ..errors import ProfileError
+from ..errors import InputError, ProfileError
 from ..judge.profiles import FAMILIES, Profile, load_profile, profile_from_dict, toml_module
+from ..material import Material, materials_table
 from ..paths import reason
 from ..results.compare import Tolerances
 
 CONFIG_NAME = "meshaudit.toml"
 REPORT_KINDS = ("json", "csv", "junit")
 OPTION_KEYS = ("fail_on", "top", "profile", *REPORT_KINDS)
-TABLE_KEYS = ("limits", "regions", "compare")
+TABLE_KEYS = ("limits", "regions", "compare", "materials")
 
 
 class ConfigError(ProfileError):
@@ -56,6 +66,8 @@ class Settings:
     top: int | None = None
     reports: dict[str, str] = field(default_factory=dict)  # kind -> path template
     tolerances: Tolerances = field(default_factory=Tolerances)
+    #: region name (``default``: every other element) -> material (see meshaudit.material)
+    materials: dict[str, Material] = field(default_factory=dict)
 
     @property
     def base_dir(self) -> Path:
@@ -142,6 +154,7 @@ def settings_from_dict(data: dict[str, Any], path: Path) -> Settings:
         top=top,
         reports=reports,
         tolerances=_tolerances(data.get("compare", {}), where),
+        materials=_materials(data.get("materials", {}), where),
     )
 
 
@@ -175,6 +188,13 @@ def _regions(table: Any, base: Profile | None, where: str) -> dict[str, Profile]
         spec = {"name": f"region {name}", "description": f"{start}{overrides}", **spec}
         regions[name] = profile_from_dict(spec, f"{where} [regions.{name}]", base=base)
     return regions
+
+
+def _materials(table: Any, where: str) -> dict[str, Material]:
+    try:
+        return materials_table(table, where)
+    except InputError as exc:
+        raise ConfigError(str(exc)) from None
 
 
 def _tolerances(table: Any, where: str) -> Tolerances:

@@ -9,7 +9,7 @@ import argparse
 from pathlib import Path
 from typing import TYPE_CHECKING
 
-from .options import add_config_options
+from .options import add_config_options, add_material_option
 
 if TYPE_CHECKING:
     from ..outputs.atomic import Renderer
@@ -32,6 +32,7 @@ def add(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
         "'check' would choose: the configuration file's limits, else standard)",
     )
     add_config_options(explain, "configuration file (as for 'check')")
+    add_material_option(explain)
     explain.add_argument(
         "--plot", type=Path, metavar="FILE", help="draw the element (.png, .svg or .pdf)"
     )
@@ -48,7 +49,7 @@ def run(args: argparse.Namespace) -> int:
     from ..outputs.process import terminal_output
     from ..results.explain import explain
     from ..results.status import exit_status
-    from .options import console, resolve
+    from .options import console, materials_of, resolve
 
     mesh_path = Path(args.mesh)
     dests = [p for p in (args.plot, args.json) if p is not None]
@@ -63,6 +64,7 @@ def run(args: argparse.Namespace) -> int:
         file_format=args.file_format,
         fail_on=resolved.fail_on,
         regions=resolved.settings.regions,
+        material=materials_of(args, resolved.settings),
     )
     ex = explain(audited, args.element_id)
     outputs: list[tuple[Path, Renderer]] = []

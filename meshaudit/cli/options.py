@@ -15,6 +15,7 @@ from ..errors import MeshAuditError
 
 if TYPE_CHECKING:
     from ..judge.profiles import Profile
+    from ..material import Material
     from ..outputs.console import PlainConsole
     from .config import Settings
 
@@ -69,6 +70,30 @@ def add_config_options(cmd: argparse.ArgumentParser, help_text: str) -> None:
     """--config FILE and --no-config."""
     cmd.add_argument("--config", type=Path, metavar="FILE", help=help_text)
     cmd.add_argument("--no-config", action="store_true", help="ignore configuration files")
+
+
+def add_material_option(cmd: argparse.ArgumentParser) -> None:
+    """--material E=...,nu=...,rho=...[,t=...][,plane=strain]."""
+    cmd.add_argument(
+        "--material",
+        metavar="E=..,nu=..,rho=..[,t=..]",
+        help="measure the stable time step and the bending error with this material "
+        "(consistent units; the time step comes out in their unit of time); plane stress "
+        "unless plane=strain; default: the configuration's [materials], else none",
+    )
+
+
+def materials_of(args: argparse.Namespace, settings: Settings) -> dict[str, Material] | None:
+    """The materials of an audit: the configuration's ``[materials]`` (region name ->
+    material, ``default`` for the rest), with ``--material`` as the default when given
+    (the region entries stay). None when neither gives one: nothing is measured."""
+    from ..material import DEFAULT, parse_material
+
+    table = dict(settings.materials)
+    given = getattr(args, "material", None)
+    if given is not None:
+        table[DEFAULT] = parse_material(given)
+    return table or None
 
 
 @dataclass(frozen=True)

@@ -27,6 +27,9 @@ from ..results.report import FLAG_BIT
 #: the dimension.
 _SIZE_EXPONENT = 100
 
+#: Key of the constant-strain check's result among a chunk's metrics (with a material).
+STRAIN_FAILED = "constant_strain_failed"
+
 
 def _size(cell: CellType, metrics: dict[str, np.ndarray]) -> tuple[np.ndarray, int]:
     """(size (n,), its power of length): area of surface elements, |volume| of solids."""
@@ -151,6 +154,7 @@ def measure_chunk(
     codes: np.ndarray | None = None,
     region_profiles: Sequence[Profile] = (),
     exponent: int = 0,
+    material: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None,
 ) -> tuple[dict[str, np.ndarray], np.ndarray, dict[str, np.ndarray], np.ndarray]:
     """Metrics, flag bits, breach levels and verdicts of one chunk of one cell type.
 
@@ -161,10 +165,24 @@ def measure_chunk(
     else under ``region_profiles[codes[i] - 1]``. Its score (``metrics["score"]``, see
     :mod:`meshaudit.judge.score`) is worked out here, with the verdict it belongs with.
     Pure: depends only on its arguments, so chunks can be measured in any order or place.
+
+    ``material``: (lambda, mu, rho) per element (see
+    :meth:`meshaudit.engine.materials.MaterialMap.constants`), or None: then the stiffness
+    metrics stay NaN and nothing of :mod:`meshaudit.metrics.stiffness` runs. With it,
+    ``metrics[STRAIN_FAILED]`` (bool) marks the elements failing the constant-strain check.
     """
     if isinstance(cell, str):
         cell = CELL_TYPES[cell]
     metrics, flags = measure_elements(cell, coords3, frame, exponent)
+    if material is not None:
+        from ..metrics import stiffness
+
+        invalid = np.zeros(len(coords3), dtype=bool)
+        for name in VALIDITY_FLAGS:
+            invalid |= flags[name]
+        found, failed = stiffness.measure(cell, coords3, frame, invalid, *material, exponent)
+        metrics.update(found)
+        metrics[STRAIN_FAILED] = failed
     if codes is None:
         codes = np.zeros(len(coords3), dtype=np.int16)
     levels, verdict, score = judge_by_region(

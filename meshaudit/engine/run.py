@@ -39,7 +39,9 @@ from ..mesh_checks.findings import (
 from ..mesh_checks.orientation import Orientation, nearly_flat_shell_note
 from ..mesh_checks.orientation import judge as judge_orientation
 from ..mesh_checks.overlap import BoxGrid, PlanarShapes
+from ..mesh_checks.stiffness import material_notes, stiffness_findings
 from ..results.report import FLAG_BIT, MeshSummary, Report, metric_statistics
+from .materials import MaterialMap, MaterialSpec
 from .measure import measure_chunk
 from .pool import Pending, SerialRunner, ThreadRunner, runner
 from .sink import ChunkSink, rows_of
@@ -63,6 +65,7 @@ def audit_elements(
     regions: Mapping[str, Profile | str | os.PathLike[str]] | None = None,
     progress: ProgressCallback | None = None,
     workers: int | None = None,
+    material: MaterialSpec = None,
 ) -> Report:
     """Audit element arrays already built (see :func:`meshaudit.mesh.reading.load`).
 
@@ -80,10 +83,16 @@ def audit_elements(
     the connectivity (:func:`meshaudit.mesh_checks.findings.find_topology`); each chunk's
     results are copied into its own rows of the per-element arrays. A distributed array
     engine could map the same function over partitions.
+
+    ``material``: a :class:`meshaudit.material.Material` for every element, or a mapping
+    region name -> material (``"default"``: every element no listed region covers; see
+    :mod:`meshaudit.engine.materials`). With it the stiffness metrics are measured
+    (:mod:`meshaudit.metrics.stiffness`) and the findings ``constant_strain_failure`` and
+    ``small_time_step`` looked for; without it nothing of that runs.
     """
     if fail_on not in ("fail", "warn"):
         raise InputError(f"fail_on must be 'fail' or 'warn', not {fail_on!r}")
-    run = _Run.prepare(mesh, profile, regions)
+    run = _Run.prepare(mesh, profile, regions, material)
     n = run.mesh.n_elements
     if progress is not None:
         progress("measure", 0, n)
@@ -127,6 +136,7 @@ class _Run:
     sink: ChunkSink
     checks: bool  # some mesh-level finding kind is enabled
     shapes: PlanarShapes | None  # planar corner polygons for the overlap check
+    materials: MaterialMap | None = None  # None: no material, no stiffness metrics
 
     @classmethod
     def prepare(
@@ -134,8 +144,10 @@ class _Run:
         mesh: ElementMesh,
         profile: Profile | str | os.PathLike[str] | None,
         regions: Mapping[str, Profile | str | os.PathLike[str]] | None,
+        material: MaterialSpec = None,
     ) -> _Run:
         prof = load_profile(profile)
+        materials = MaterialMap.prepare(material, mesh.n_elements, mesh.cell_sets)
         region_names = tuple(regions or {})
         region_profiles = tuple(load_profile(p) for p in (regions or {}).values())
         codes = region_codes(mesh.n_elements, mesh.cell_sets, region_names)
@@ -163,6 +175,7 @@ class _Run:
             n,
             has_quadratic=any(b.cell.is_quadratic for b in mesh.blocks),
             has_solids=mesh.has_solids,
+            has_material=materials is not None,
         )
         checks = any(prof.findings.enabled(kind) for kind in MESH_CHECK_KINDS)
         shapes = None
@@ -187,12 +200,16 @@ class _Run:
             sink,
             checks,
             shapes,
+            materials,
         )
 
     def measure(self, block: ElementBlock, sl: slice) -> int:
         """Measure, judge and store elements ``sl`` of ``block``; returns how many."""
         rows = rows_of(block.index[sl])
         coords3 = self.mesh.points[block.connectivity[sl]]
+        material = None
+        if self.materials is not None:
+            material = self.materials.constants(rows, block.cell.dimension)
         result = measure_chunk(
             block.cell,
             coords3,
@@ -201,6 +218,7 @@ class _Run:
             self.codes[rows],
             self.region_profiles,
             self.exponent,
+            material,
         )
         centre = centroids(coords3)
         if self.exponent:
@@ -276,6 +294,11 @@ class _Run:
         unaudited = unaudited_cells(mesh, self.profile.findings)
         if unaudited is not None:
             findings.append(unaudited)
+        if self.materials is not None:
+            findings += stiffness_findings(
+                sink.metrics["stable_time_step"], sink.strain_failed, self.ids, self.profile
+            )
+            notes = [*notes, *material_notes(self.materials)]
         summary = MeshSummary(
             source=mesh.source,
             n_points=mesh.n_points,
@@ -308,6 +331,7 @@ class _Run:
             findings=findings,
             free_edges=mesh_findings.free_edges if mesh_findings is not None else None,
             precomputed_statistics=stats,
+            materials=None if self.materials is None else self.materials.to_dict(),
         )
 
 

@@ -6,7 +6,7 @@ import threading
 
 import numpy as np
 
-from ..metrics import METRIC_NAMES, SOLID_METRICS, quadratic
+from ..metrics import METRIC_NAMES, SOLID_METRICS, STIFFNESS_METRICS, quadratic
 
 
 def rows_of(index: np.ndarray) -> slice | np.ndarray:
@@ -21,13 +21,19 @@ class ChunkSink:
     """Per-element result arrays that chunks, measured in any order and from several
     threads, copy their results into (each chunk its own rows)."""
 
-    def __init__(self, n: int, has_quadratic: bool, has_solids: bool = False) -> None:
+    def __init__(
+        self, n: int, has_quadratic: bool, has_solids: bool = False, has_material: bool = False
+    ) -> None:
         self.n = n
         self.done = 0
         # a linear-only mesh has no midside nodes, a mesh without solids no volumes or
-        # dihedral angles: those columns are one shared NaN
+        # dihedral angles, an audit without a material no stiffness: those columns are
+        # one shared NaN
         shared = () if has_quadratic else quadratic.MIDSIDE_METRICS
         shared += () if has_solids else SOLID_METRICS
+        shared += () if has_material else STIFFNESS_METRICS
+        #: elements failing the constant-strain check (with a material), else None
+        self.strain_failed = np.zeros(n, dtype=bool) if has_material else None
         self.copied = tuple(m for m in METRIC_NAMES if m not in shared)
         self.metrics = {
             name: np.empty(n) if name in self.copied else nan_column(n) for name in METRIC_NAMES
@@ -48,6 +54,8 @@ class ChunkSink:
         metrics, bits, levels, verdict = result
         for name in self.copied:
             self.metrics[name][rows] = metrics[name]
+        if self.strain_failed is not None:
+            self.strain_failed[rows] = metrics["constant_strain_failed"]
         self.bits[rows] = bits
         self.verdict[rows] = verdict
         self.centre[rows] = centre

@@ -39,6 +39,9 @@ class FindingKind:
     #: such checks have nothing to look at in a mesh of solids alone (frame "solid"); the
     #: mesh-level checks do not cover solids yet.
     surface: bool = True
+    #: Whether the check runs only when the audit is given a material (see
+    #: meshaudit.metrics.stiffness); such kinds are not mesh-level checks of the topology.
+    material: bool = False
 
     def applies_to(self, frame_kind: str, orientation: str = "any") -> bool:
         """Whether this check runs on a mesh of ``frame_kind`` whose orientation is judged
@@ -137,12 +140,35 @@ KINDS: tuple[FindingKind, ...] = (
         "element must be audited (common practice: a gate reports what it did not check)",
         surface=False,
     ),
+    FindingKind(
+        "constant_strain_failure",
+        "fail",
+        "elements",
+        "with a material: elements that do not reproduce a constant strain field (nodal "
+        "displacements u = eps x give strains off eps, or det J <= 0, at a Gauss point)",
+        "the patch test: an element that fails it does not converge to the right answer "
+        "however fine the mesh (common practice)",
+        surface=False,
+        material=True,
+    ),
+    FindingKind(
+        "small_time_step",
+        "warn",
+        "elements",
+        "with a material: elements whose stable time step is below 1/10 of the mesh's median",
+        "they set the step of an explicit run for the whole mesh (common practice; the "
+        "1/10 is a meshaudit default, no published source)",
+        surface=False,
+        material=True,
+    ),
 )
 KIND_INFO: dict[str, FindingKind] = {k.name: k for k in KINDS}
 KIND_NAMES: tuple[str, ...] = tuple(k.name for k in KINDS)
 #: Kinds found by the checks that look at nodes and connectivity (the others need no
 #: mesh pass: ``unaudited_cells`` is read off the cell counts).
-MESH_CHECK_KINDS: tuple[str, ...] = tuple(k for k in KIND_NAMES if k != "unaudited_cells")
+MESH_CHECK_KINDS: tuple[str, ...] = tuple(
+    k.name for k in KINDS if k.name != "unaudited_cells" and not k.material
+)
 
 
 def default_severities() -> dict[str, str]:

@@ -55,6 +55,7 @@ _COMMON_IDEAL = {
     "edge_ratio": 1.0,
     "mean_ratio": 1.0,
     "radius_ratio": 1.0,
+    "bending_error_distortion": 0.0,
 }
 #: The regular tetrahedron's dihedral angle, arccos(1/3) = 70.53 deg.
 REGULAR_DIHEDRAL = math.degrees(math.acos(1.0 / 3.0))
@@ -102,7 +103,8 @@ def distance(
         if ideal is None:  # a size (area, det J): no ideal value, larger is better
             if not (worse == "low" and ref > 0.0):
                 return (breached > 0).astype(float)
-            return np.fmax(np.where(values > 0.0, ref / values, np.inf), 0.0)
+            t = np.where(values > 0.0, ref / values, np.inf)
+            return np.fmax(np.where(np.isnan(values), 0.0, t), 0.0)  # NaN counts 0
         span = ref - ideal if worse == "high" else ideal - ref
         if not span > 0.0:
             return (breached > 0).astype(float)

@@ -22,7 +22,9 @@ DET_J_UNIT = "length^2 or length^3"
 class MetricInfo:
     name: str
     worse: str  # "high" (larger is worse), "low" (smaller is worse) or "none"
-    unit: str  # "1", "deg", "length^2", "length^3" or DET_J_UNIT (see length_power)
+    #: "1", "deg", "length^2", "length^3", DET_J_UNIT (see length_power) or "time" (the
+    #: unit of time of the material's consistent units: seconds for SI)
+    unit: str
     meaning: str
     #: Whether a profile can set warn/fail limits on it: not for "none", nor for the
     #: score, which is worked out from the verdict (see :mod:`meshaudit.judge.score`).
@@ -100,6 +102,26 @@ METRICS: tuple[MetricInfo, ...] = (
     MetricInfo(
         "max_dihedral", "high", "deg", "tetrahedra, hexahedra: largest angle between two faces"
     ),
+    MetricInfo(
+        "stable_time_step",
+        "low",
+        "time",
+        "with a material: 2/omega_max of the element's stiffness against its lumped mass, "
+        "the explicit step it allows (0 for an invalid element)",
+    ),
+    MetricInfo(
+        "bending_error",
+        "high",
+        "1",
+        "with a material, surface elements: relative strain-energy error under exact pure "
+        "bending, worst principal axis",
+    ),
+    MetricInfo(
+        "bending_error_distortion",
+        "high",
+        "1",
+        "bending_error minus the same element type's undistorted (rectangle, isosceles) value",
+    ),
 )
 METRIC_NAMES: tuple[str, ...] = tuple(m.name for m in METRICS)
 METRIC_INFO: dict[str, MetricInfo] = {m.name: m for m in METRICS}
@@ -113,6 +135,13 @@ SOLID_METRICS: tuple[str, ...] = (
     "radius_ratio",
     "min_dihedral",
     "max_dihedral",
+)
+#: Metrics worked out from the element's stiffness and mass: only with a material
+#: (see :mod:`meshaudit.metrics.stiffness`), NaN otherwise.
+STIFFNESS_METRICS: tuple[str, ...] = (
+    "stable_time_step",
+    "bending_error",
+    "bending_error_distortion",
 )
 
 
@@ -161,6 +190,7 @@ __all__ = [
     "METRIC_INFO",
     "METRIC_NAMES",
     "SOLID_METRICS",
+    "STIFFNESS_METRICS",
     "VALIDITY_FLAGS",
     "WARNING_FLAGS",
     "MetricInfo",

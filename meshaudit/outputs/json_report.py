@@ -50,6 +50,11 @@ def _document(report: Report, every_element: bool) -> tuple[dict[str, Any], np.n
         "free_edge_loops": [] if report.free_edges is None else report.free_edges.loops(),
         "elements_listed": "all" if every_element else "not ok",
     }
+    if report.materials is not None:  # only with a material: the default report is unchanged
+        from ..results.time_step import time_step_summary
+
+        doc["materials"] = report.materials
+        doc["time_step"] = time_step_summary(report)
     return doc, np.asarray(rows)
 
 

@@ -65,12 +65,24 @@ def summary_table(report: Report) -> Table:
     t.add_row("profile", f"{report.profile.name} ({report.profile.origin})")
     if report.region_names:
         t.add_row("regions", _regions_text(report))
+    if report.materials is not None:
+        from ..results.time_step import time_step_summary, time_step_text
+
+        t.add_row("material", _materials_text(report.materials))
+        t.add_row("time step", time_step_text(time_step_summary(report)))
     flags = report.flag_counts()
     t.add_row("flags", ", ".join(f"{k} {v}" for k, v in flags.items()) or "none")
     t.add_row("free-edge loops", loops_line(report))
     for note in report.notes:
         t.add_row("note", note)
     return t
+
+
+def _materials_text(materials: dict) -> str:
+    return "\n".join(
+        f"{name}: E={m['E']:g}, nu={m['nu']:g}, rho={m['rho']:g}, t={m['t']:g}, plane {m['plane']}"
+        for name, m in materials.items()
+    )
 
 
 def _regions_text(report: Report) -> str:

@@ -21,7 +21,7 @@ from ..judge.score import BAND
 from ..judge.verdicts import INVALID_FLAGS, VERDICT_NAMES
 from ..mesh.frames import choose_frame, to_local
 from ..mesh.scale import element_exponents, scaled_lengths
-from ..metrics import METRIC_INFO, METRIC_NAMES, quadratic, unit_of
+from ..metrics import METRIC_INFO, METRIC_NAMES, STIFFNESS_METRICS, quadratic, unit_of
 from .inspection import AuditedMesh, corner_table, element_nodes, neighbours
 from .report import finite_or_none, json_float
 
@@ -270,6 +270,36 @@ def solid_det_j_bound(
     }
 
 
+def stiffness_reason(
+    name: str, value: float, reason: str, materials: dict | None, solid: bool = False
+) -> str:
+    """What a stiffness metric's value of one element means (see
+    :mod:`meshaudit.metrics.stiffness`), after ``reason`` (its limit, if breached)."""
+    from ..metrics.stiffness.bending import FIELD
+
+    if materials is None:
+        return "not defined: no material given (--material, [materials])"
+    if math.isnan(value):
+        if solid and name != "stable_time_step":
+            return "not defined for solids (the bending field is a plane one)"
+        return "not defined: no material covers this element's region"
+    if name == "stable_time_step":
+        what = (
+            "0: the element is not valid (a validity flag, or det J <= 0 at a Gauss point)"
+            if value == 0
+            else "2/omega_max of its stiffness (full Gauss rule) against its lumped mass, in "
+            "the time unit of the material's units"
+        )
+    elif math.isinf(value):
+        what = "infinite: the element is not valid"
+    elif name == "bending_error":
+        what = FIELD
+    else:
+        what = "bending_error minus its undistorted twin's (rectangle 2|e1| x 2|e2|, or the "
+        what += "isosceles triangle on the longest edge): what the distortion adds"
+    return f"{reason}; {what}" if reason else what
+
+
 def _reason(name: str, value: float, worse: str, level: str, warn, fail) -> str:
     if level not in ("warn", "fail"):
         return ""
@@ -314,6 +344,9 @@ def metric_lines(audited: AuditedMesh, i: int) -> list[MetricLine]:
         if name == "score":
             invalid = any(report.flag(f)[i] for f in INVALID_FLAGS)
             reason = _score_reason(value, int(report.verdict[i]), invalid)
+        if name in STIFFNESS_METRICS:
+            solid = CELL_TYPES[report.cell_types[int(report.type_codes[i])]].dimension == 3
+            reason = stiffness_reason(name, value, reason, report.materials, solid)
         unit = unit_of(name, [CELL_TYPES[report.cell_types[int(report.type_codes[i])]].dimension])
         lines.append(MetricLine(name, value, unit, info.worse, warn, fail, level, reason))
     return lines

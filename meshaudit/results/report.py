@@ -159,6 +159,9 @@ class Report:
     precomputed_statistics: dict[str, dict[str, Any]] | None = field(
         default=None, repr=False, compare=False
     )
+    #: The materials of an audit with one: region name (``default``: the rest) -> its
+    #: properties; None without (the stiffness metrics are then NaN).
+    materials: dict[str, Any] | None = None
 
     # -- sizes and selections -------------------------------------------------
     def __len__(self) -> int:
