@@ -1,0 +1,269 @@
+"""The face table of the solids: every face of every solid, built with sorts, not
+per-element loops.
+
+Each solid cell type lists its faces outward (corners counter-clockwise seen from
+outside a positively oriented element: ``CellType.faces``, taken from the kernels'
+reference tables). A face is known by its corner nodes (a quadratic solid's faces by
+their corners, as edges are): triangles by 3, quadrilaterals by 4. The faces of all
+solids are keyed by their sorted corner nodes, so two solids sharing a face meet on one
+key; a key used once is a boundary face, twice an interior face, three times or more a
+non-manifold face. For a consistently oriented mesh the two uses of an interior face run
+around it in opposite directions.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .elements import ElementMesh
+from .topology import sort_keys
+
+
+@dataclass(frozen=True)
+class FaceTable:
+    """Every face use (one per face of each solid) and the distinct faces.
+
+    ``corners`` (m, 4) the corner nodes of each use in the element's outward order, a
+    triangle's fourth column -1; ``element`` (m,) the 0-based position of the solid in
+    the mesh the table was built from; ``local`` (m,) int8 the face number in its cell
+    type's table; ``face`` (m,) the distinct face number 0..n_faces-1; ``key``
+    (n_faces, 4) each face's corner nodes ascending, a triangle's padded in front with
+    -1; ``uses`` (n_faces,) how many uses each face has, ``first`` (n_faces,) its first
+    use. A face whose corners collapse
+    to fewer than three nodes is left out; a quadrilateral face with two corners on one
+    node is kept as the triangle it is.
+    """
+
+    corners: np.ndarray
+    element: np.ndarray
+    local: np.ndarray
+    face: np.ndarray
+    key: np.ndarray
+    uses: np.ndarray
+    first: np.ndarray
+
+    @property
+    def n_faces(self) -> int:
+        return int(self.key.shape[0])
+
+    @property
+    def size(self) -> np.ndarray:
+        """(m,) corners of each use: 3 or 4."""
+        return np.where(self.corners[:, 3] < 0, 3, 4)
+
+    def boundary(self) -> np.ndarray:
+        """Use positions (ascending) of the faces used once: the boundary faces."""
+        return np.flatnonzero(self.uses[self.face] == 1)
+
+
+def face_table(mesh: ElementMesh, keep: np.ndarray | None = None) -> FaceTable:
+    """The :class:`FaceTable` of the solids of ``mesh`` (surface blocks are ignored).
+
+    ``keep`` (n_elements,) bool: the elements to take (e.g. without duplicates); all
+    when None. Work: a few passes over the (m, 4) corner array and two sorts of one
+    64-bit key per use, m = faces per solid x solids."""
+    corners, element, local = _face_uses(mesh)
+    if keep is not None and not keep.all():
+        take = keep[element]
+        corners, element, local = corners[take], element[take], local[take]
+    corners, element, local = _collapsed(corners, element, local)
+    key = sorted_rows(corners)
+    face, uniq, uses = _group(key, mesh.n_points)
+    return FaceTable(corners, element, local, face, key[uniq], uses, uniq)
+
+
+def _face_uses(mesh: ElementMesh) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(corners (m, 4), element (m,), local (m,)) of every face of every solid."""
+    parts, elements, locals_ = [], [], []
+    for block in mesh.blocks:
+        cell = block.cell
+        if cell.dimension != 3 or len(block) == 0:
+            continue
+        n = len(block)
+        out = np.full((n, len(cell.faces), 4), -1, dtype=np.int64)
+        for f, face in enumerate(cell.faces):  # a few faces per cell type, whole columns
+            out[:, f, : len(face)] = block.connectivity[:, list(face)]
+        parts.append(out.reshape(-1, 4))
+        elements.append(np.repeat(block.index.astype(np.int64), len(cell.faces)))
+        locals_.append(np.tile(np.arange(len(cell.faces), dtype=np.int8), n))
+    if not parts:
+        return np.zeros((0, 4), dtype=np.int64), np.zeros(0, np.int64), np.zeros(0, np.int8)
+    return np.concatenate(parts), np.concatenate(elements), np.concatenate(locals_)
+
+
+def _collapsed(
+    corners: np.ndarray, element: np.ndarray, local: np.ndarray
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Quadrilateral faces with one side collapsed onto one node become triangles (the
+    repeated corner dropped, order kept); faces of fewer than three distinct corners, or
+    whose repeated corners are not neighbours, are left out."""
+    quad = corners[:, 3] >= 0
+    same = corners == np.roll(corners, -1, axis=1)  # corner i equals corner i + 1
+    same[:, 2] &= quad  # a triangle's closing side is corner 2 -> corner 0
+    tri_close = ~quad & (corners[:, 2] == corners[:, 0])
+    repeats = same.sum(axis=1) + tri_close
+    if not repeats.any():
+        return corners, element, local
+    keep = (repeats == 0) | (quad & (repeats == 1))
+    fix = np.flatnonzero(quad & (repeats == 1))
+    if fix.size:
+        drop = np.argmax(same[fix], axis=1)  # the corner equal to the next one
+        rows = corners[fix]
+        cols = np.arange(4)[None, :]
+        order = np.where(cols < drop[:, None], cols, cols + 1)[:, :3]
+        tri = np.take_along_axis(rows, order % 4, axis=1)
+        distinct = (tri[:, 0] != tri[:, 1]) & (tri[:, 1] != tri[:, 2]) & (tri[:, 2] != tri[:, 0])
+        corners = corners.copy()
+        corners[fix, :3] = tri
+        corners[fix, 3] = -1
+        keep[fix] = distinct
+    return corners[keep], element[keep], local[keep]
+
+
+def sorted_rows(corners: np.ndarray) -> np.ndarray:
+    """(m, 4) each row of ``corners`` (m, 4) ascending, -1 padding first; by a sorting
+    network of whole columns."""
+    c = [corners[:, i].copy() for i in range(4)]
+    for i, j in ((0, 1), (2, 3), (0, 2), (1, 3), (1, 2)):
+        low = np.minimum(c[i], c[j])
+        np.maximum(c[i], c[j], out=c[j])
+        c[i] = low
+    return np.stack(c, axis=1)
+
+
+def key_halves(key: np.ndarray, n_points: int) -> tuple[np.ndarray, np.ndarray, int]:
+    """Two int64 numbers per sorted corner row (each packs two node numbers + 1) and
+    their bound: equal rows, equal pairs."""
+    width = np.int64(n_points + 1)
+    high = (key[:, 0] + 1) * width + (key[:, 1] + 1)
+    low = (key[:, 2] + 1) * width + (key[:, 3] + 1)
+    return high, low, int(width) * int(width)
+
+
+def _group(key: np.ndarray, n_points: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(face (m,), first use of each face (f,), uses (f,)) of sorted corner rows."""
+    m = key.shape[0]
+    if m == 0:
+        empty = np.zeros(0, dtype=np.int64)
+        return empty, empty, empty
+    order = row_order(key, n_points)
+    ordered = key[order]
+    new = np.empty(m, dtype=bool)
+    new[0] = True
+    np.any(ordered[1:] != ordered[:-1], axis=1, out=new[1:])
+    del ordered
+    starts = np.flatnonzero(new)
+    rank = np.cumsum(new) - 1
+    face = np.empty(m, dtype=np.int64)
+    face[order] = rank
+    return face, order[starts], np.diff(np.append(starts, m))
+
+
+def row_order(key: np.ndarray, n_points: int) -> np.ndarray:
+    """Stable ascending order of sorted corner rows ``key`` (m, 4): two packed sorts,
+    the low half first (see :func:`meshaudit.mesh.topology.sort_keys`)."""
+    high, low, bound = key_halves(key, n_points)
+    if bound >= 1 << 62:  # node numbers past 2^31: a plain lexicographic sort
+        return np.lexsort((key[:, 3], key[:, 2], key[:, 1], key[:, 0]))
+    first, _ = sort_keys(low, bound)
+    second, _ = sort_keys(high[first], bound)
+    return first[second]
+
+
+def direction(corners: np.ndarray) -> np.ndarray:
+    """(m,) bool: which way each face use runs around its face. Seen from the smallest
+    corner, True when the next corner is smaller than the previous one. Two uses of one
+    face run opposite ways exactly when their values differ."""
+    size = np.where(corners[:, 3] < 0, 3, 4)
+    big = np.where(corners < 0, np.iinfo(np.int64).max, corners)
+    at = np.argmin(big, axis=1)
+    rows = np.arange(corners.shape[0])
+    after = corners[rows, (at + 1) % size]
+    before = corners[rows, (at + size - 1) % size]
+    return after < before
+
+
+def vector_areas(points: np.ndarray, corners: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(area vectors (m, 3), centroids (m, 3)) of faces ``corners`` (m, 4).
+
+    The area vector of a triangle (a, b, c) is (b - a) x (c - a) / 2; of a quadrilateral
+    (a, b, c, d), (c - a) x (d - b) / 2, its diagonals' cross product (the exact area of
+    a flat quadrilateral; of a warped one, the area of its projection on the plane
+    normal to that vector). Centroids are the mean of the corners. Lengths^2 and
+    lengths."""
+    tri = corners[:, 3] < 0
+    a, b, c = points[corners[:, 0]], points[corners[:, 1]], points[corners[:, 2]]
+    d = points[np.where(tri, corners[:, 2], corners[:, 3])]
+    first = np.where(tri[:, None], b - a, c - a)
+    second = np.where(tri[:, None], c - a, d - b)
+    area = 0.5 * np.cross(first, second)
+    centre = np.where(tri[:, None], (a + b + c) / 3.0, (a + b + c + d) / 4.0)
+    return area, centre
+
+
+@dataclass(frozen=True)
+class SolidEdges:
+    """The corner edges of the solids of ``mesh``, walked block by block and edge by edge
+    of the cell type (whole columns, no table of all edges is kept): what the
+    coincident-node check needs of them. ``mesh`` is the whole mesh (surface and solid
+    blocks), ``nodes`` the corner nodes the solids use, ascending."""
+
+    mesh: ElementMesh
+    nodes: np.ndarray
+
+    @staticmethod
+    def of(mesh: ElementMesh) -> SolidEdges:
+        used = np.zeros(mesh.n_points, dtype=bool)
+        for block in _solid_blocks(mesh):
+            used[block.connectivity[:, : block.cell.n_corners]] = True
+        return SolidEdges(mesh, np.flatnonzero(used))
+
+    def longest_squared(self) -> float:
+        """The largest squared length of a solid's corner edge (0 without solids)."""
+        longest = 0.0
+        for block in _solid_blocks(self.mesh):
+            for a, b in block.cell.edges:
+                step = self.mesh.points[block.connectivity[:, b]]
+                step -= self.mesh.points[block.connectivity[:, a]]
+                longest = max(longest, float(np.einsum("ij,ij->i", step, step).max()))
+        return longest
+
+    def shortest_at(self, involved: np.ndarray) -> np.ndarray:
+        """(n_points,) the shortest non-zero solid edge at each node of the mask
+        ``involved`` (inf elsewhere, and where none)."""
+        shortest = np.full(self.mesh.n_points, np.inf)
+        points = self.mesh.points
+        for block in _solid_blocks(self.mesh):
+            conn = block.connectivity
+            for a, b in block.cell.edges:
+                ends = conn[involved[conn[:, a]] | involved[conn[:, b]]][:, [a, b]]
+                length = np.linalg.norm(points[ends[:, 1]] - points[ends[:, 0]], axis=1)
+                length[length == 0.0] = np.inf
+                np.minimum.at(shortest, ends[:, 0], length)
+                np.minimum.at(shortest, ends[:, 1], length)
+        return shortest
+
+
+def _solid_blocks(mesh: ElementMesh) -> list:
+    return [b for b in mesh.blocks if b.cell.dimension == 3 and len(b)]
+
+
+def matching_rows(a: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(count (k,), rows of ``a``, rows of ``b``): every pair of equal rows of ``a``
+    (j, w) and ``b`` (k, w); ``count`` how many rows of ``a`` each row of ``b`` equals."""
+    both = np.concatenate([a, b])
+    if both.shape[0] == 0:
+        empty = np.zeros(0, dtype=np.int64)
+        return np.zeros(b.shape[0], dtype=np.int64), empty, empty
+    _, inverse = np.unique(both, axis=0, return_inverse=True)
+    inverse = inverse.ravel()
+    ia, ib = inverse[: a.shape[0]], inverse[a.shape[0] :]
+    order = np.argsort(ia, kind="stable")
+    sa = ia[order]
+    lo = np.searchsorted(sa, ib, side="left")
+    count = np.searchsorted(sa, ib, side="right") - lo
+    which = np.repeat(np.arange(count.size), count)
+    pos = lo[which] + (np.arange(which.size) - (np.cumsum(count) - count)[which])
+    return count, order[pos], which
