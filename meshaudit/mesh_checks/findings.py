@@ -275,7 +275,7 @@ def find_topology(
             "coincident_nodes",
             count,
             f"{members.size} distinct nodes at {count} place(s), not merged: "
-            f"nodes {out.some_nodes(members)}",
+            f"nodes {out.some_nodes(members)}" + _shell_and_solid(mesh, clusters, solids),
             None,
             members,
             node_pairs=clusters.pairs,
@@ -387,6 +387,28 @@ def _orientation_finding(part: TopologyPart, orientation: Orientation) -> None:
         None,
         None,
         seams,
+    )
+
+
+def _shell_and_solid(
+    mesh: ElementMesh, clusters: nodes.NodeClusters, solids: SolidEdges | None
+) -> str:
+    """'; k of them join a shell node and a solid node ...' for the places where a node of
+    a surface element ``mesh`` and a node of a solid are not merged ('' when none)."""
+    if solids is None or clusters.members.size == 0 or mesh.n_elements == 0:
+        return ""
+    members, rep = clusters.members, clusters.rep
+    on_shell, on_solid = mesh.used_nodes(), np.zeros(rep.size, dtype=bool)
+    on_solid[solids.nodes] = True
+    shell_place, solid_place = np.zeros(rep.size, dtype=bool), np.zeros(rep.size, dtype=bool)
+    shell_place[rep[members[on_shell[members]]]] = True
+    solid_place[rep[members[on_solid[members]]]] = True
+    both = int(np.count_nonzero(shell_place & solid_place))
+    if both == 0:
+        return ""
+    return (
+        f"; {both} of these places join a shell node and a solid node: the shell is not "
+        "tied to the solid there"
     )
 
 

@@ -256,19 +256,30 @@ def _shells_on_faces(
     surface_positions: np.ndarray | None,
     n_points: int,
 ) -> None:
-    """Shell elements whose corners are exactly the corners of a solid's face."""
+    """Shell elements whose corners are the corners of a solid's face, or (a triangle)
+    three of a quadrilateral face's four corners."""
     if table.n_faces == 0:
         return
-    sh, sl, _ = key_halves(duplicates.sorted_corners(surface), n_points)
-    fh, fl, _ = key_halves(table.key, n_points)
-    _, face, shell = matching_rows(np.stack([fh, fl], axis=1), np.stack([sh, sl], axis=1))
-    if shell.size == 0:
+    shell_key = duplicates.sorted_corners(surface)
+    sh, sl, _ = key_halves(shell_key, n_points)
+    shell_code = np.stack([sh, sl], axis=1)
+    at = np.full(surface.n_elements, -1, dtype=np.int64)
+    candidates = [table.key]
+    faces = [np.arange(table.n_faces)]
+    quads = np.flatnonzero(table.key[:, 0] >= 0)
+    for skip in range(4):  # the four corner triples of each quadrilateral face
+        kept = [c for c in range(4) if c != skip]
+        triple = np.full((quads.size, 4), -1, dtype=np.int64)
+        triple[:, 1:] = table.key[quads][:, kept]
+        candidates.append(triple)
+        faces.append(quads)
+    key = np.concatenate(candidates)
+    fh, fl, _ = key_halves(key, n_points)
+    _, found, shell = matching_rows(np.stack([fh, fl], axis=1), shell_code)
+    at[shell] = np.concatenate(faces)[found]
+    shells = np.flatnonzero(at >= 0)
+    if shells.size == 0:
         return
-    on = np.zeros(surface.n_elements, dtype=bool)
-    on[shell] = True
-    at = np.zeros(surface.n_elements, dtype=np.int64)
-    at[shell] = face
-    shells = np.flatnonzero(on)
     interior = int(np.count_nonzero(table.uses[at[shells]] >= 2))
     where = shells if surface_positions is None else surface_positions[shells]
     out.add(

@@ -92,8 +92,8 @@ class MeshSummary:
         if self.frame == "solid":
             return (
                 "solid (volume elements only, each measured in space against its reference "
-                "element; orientation: the sign of each element's own det J; the mesh-level "
-                "checks cover surface elements only, and there are none)"
+                "element; orientation: the sign of each element's own det J, and neighbours "
+                "compared across their common faces)"
             )
         solids = self.n_solids
         if self.frame != "planar":
@@ -110,7 +110,7 @@ class MeshSummary:
         if solids:
             text += (
                 f", with {solids:,} solid elements measured in space (orientation: the sign "
-                "of each one's det J; the mesh-level checks cover the surface elements only)"
+                "of each one's det J, and neighbours compared across their common faces)"
             )
         return text
 
