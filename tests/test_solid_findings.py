@@ -16,11 +16,6 @@ from pathlib import Path
 import numpy as np
 import pytest
 import shapely
-
-import meshaudit
-from meshaudit.cells import CELL_TYPES
-from meshaudit.mesh.faces import face_table, vector_areas
-from meshaudit.mesh.reading import load
 from solid_meshes import (
     KUHN,
     centres,
@@ -32,6 +27,11 @@ from solid_meshes import (
     refined_beside_coarse,
     tet_block,
 )
+
+import meshaudit
+from meshaudit.cells import CELL_TYPES
+from meshaudit.mesh.faces import face_table, vector_areas
+from meshaudit.mesh.reading import load
 
 SAMPLES = Path(__file__).resolve().parent.parent / "samples"
 KINDS = ("hexahedron", "tetra")
