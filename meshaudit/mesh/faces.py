@@ -18,7 +18,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .elements import ElementMesh
-from .topology import sort_keys
+from .topology import index_dtype, sort_keys
 
 
 @dataclass(frozen=True)
@@ -63,33 +63,68 @@ def face_table(mesh: ElementMesh, keep: np.ndarray | None = None) -> FaceTable:
 
     ``keep`` (n_elements,) bool: the elements to take (e.g. without duplicates); all
     when None. Work: a few passes over the (m, 4) corner array and two sorts of one
-    64-bit key per use, m = faces per solid x solids."""
-    corners, element, local = _face_uses(mesh)
-    if keep is not None and not keep.all():
-        take = keep[element]
-        corners, element, local = corners[take], element[take], local[take]
+    64-bit number per use, m = faces per solid x solids; node and element numbers are
+    held as int32 where they fit (half the memory)."""
+    corners, element, local = _face_uses(mesh, keep)
     corners, element, local = _collapsed(corners, element, local)
-    key = sorted_rows(corners)
-    face, uniq, uses = _group(key, mesh.n_points)
-    return FaceTable(corners, element, local, face, key[uniq], uses, uniq)
+    columns = _sorted_columns(corners)
+    high, low, bound = _halves(columns, mesh.n_points)
+    m = corners.shape[0]
+    if m == 0:
+        empty = np.zeros(0, dtype=np.int64)
+        return FaceTable(corners, element, local, empty, np.zeros((0, 4), np.int64), empty, empty)
+    if bound >= 1 << 62:  # node numbers past 2^31: a plain lexicographic sort
+        order = np.lexsort(columns[::-1])
+    else:
+        first, _ = sort_keys(low, bound)
+        second, _ = sort_keys(high[first], bound)
+        order = first[second]
+        del first, second
+    new = np.empty(m, dtype=bool)
+    new[0] = True
+    ordered = high[order]
+    np.not_equal(ordered[1:], ordered[:-1], out=new[1:])
+    ordered = np.take(low, order, out=ordered)
+    new[1:] |= ordered[1:] != ordered[:-1]
+    del ordered, high, low
+    starts = np.flatnonzero(new)
+    rank = np.cumsum(new, dtype=index_dtype(m))
+    del new
+    rank -= 1
+    face = np.empty(m, dtype=rank.dtype)
+    face[order] = rank
+    del rank
+    uses = np.diff(np.append(starts, m))
+    first_use = order[starts]
+    key = np.stack([c[first_use] for c in columns], axis=1).astype(np.int64)
+    return FaceTable(corners, element, local, face, key, uses, first_use)
 
 
-def _face_uses(mesh: ElementMesh) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """(corners (m, 4), element (m,), local (m,)) of every face of every solid."""
+def _face_uses(
+    mesh: ElementMesh, keep: np.ndarray | None
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(corners (m, 4), element (m,), local (m,)) of every face of every solid kept."""
+    node_type, element_type = index_dtype(mesh.n_points), index_dtype(mesh.n_elements)
     parts, elements, locals_ = [], [], []
-    for block in mesh.blocks:
+    for block in _solid_blocks(mesh):
         cell = block.cell
-        if cell.dimension != 3 or len(block) == 0:
-            continue
-        n = len(block)
-        out = np.full((n, len(cell.faces), 4), -1, dtype=np.int64)
+        conn, index = block.connectivity, block.index
+        if keep is not None and not keep[index].all():
+            conn, index = conn[keep[index]], index[keep[index]]
+        n, k = len(index), len(cell.faces)
+        out = np.empty((n, k, 4), dtype=node_type)
         for f, face in enumerate(cell.faces):  # a few faces per cell type, whole columns
-            out[:, f, : len(face)] = block.connectivity[:, list(face)]
+            for i, corner in enumerate(face):
+                out[:, f, i] = conn[:, corner]
+            if len(face) == 3:
+                out[:, f, 3] = -1
         parts.append(out.reshape(-1, 4))
-        elements.append(np.repeat(block.index.astype(np.int64), len(cell.faces)))
-        locals_.append(np.tile(np.arange(len(cell.faces), dtype=np.int8), n))
+        elements.append(np.repeat(index.astype(element_type), k))
+        locals_.append(np.tile(np.arange(k, dtype=np.int8), n))
     if not parts:
-        return np.zeros((0, 4), dtype=np.int64), np.zeros(0, np.int64), np.zeros(0, np.int8)
+        return np.zeros((0, 4), node_type), np.zeros(0, element_type), np.zeros(0, np.int8)
+    if len(parts) == 1:
+        return parts[0], elements[0], locals_[0]
     return np.concatenate(parts), np.concatenate(elements), np.concatenate(locals_)
 
 
@@ -100,10 +135,12 @@ def _collapsed(
     repeated corner dropped, order kept); faces of fewer than three distinct corners, or
     whose repeated corners are not neighbours, are left out."""
     quad = corners[:, 3] >= 0
-    same = corners == np.roll(corners, -1, axis=1)  # corner i equals corner i + 1
+    same = np.stack(
+        [corners[:, i] == corners[:, (i + 1) % 4] for i in range(4)], axis=1
+    )  # corner i equals corner i + 1
     same[:, 2] &= quad  # a triangle's closing side is corner 2 -> corner 0
-    tri_close = ~quad & (corners[:, 2] == corners[:, 0])
-    repeats = same.sum(axis=1) + tri_close
+    same[:, 3] &= quad
+    repeats = same.sum(axis=1) + (~quad & (corners[:, 2] == corners[:, 0]))
     if not repeats.any():
         return corners, element, local
     keep = (repeats == 0) | (quad & (repeats == 1))
@@ -122,54 +159,41 @@ def _collapsed(
     return corners[keep], element[keep], local[keep]
 
 
-def sorted_rows(corners: np.ndarray) -> np.ndarray:
-    """(m, 4) each row of ``corners`` (m, 4) ascending, -1 padding first; by a sorting
-    network of whole columns."""
+def _sorted_columns(corners: np.ndarray) -> list[np.ndarray]:
+    """The 4 columns of ``corners`` (m, 4) sorted within each row, -1 padding first: a
+    sorting network of whole columns."""
     c = [corners[:, i].copy() for i in range(4)]
     for i, j in ((0, 1), (2, 3), (0, 2), (1, 3), (1, 2)):
         low = np.minimum(c[i], c[j])
         np.maximum(c[i], c[j], out=c[j])
         c[i] = low
-    return np.stack(c, axis=1)
+    return c
+
+
+def sorted_rows(corners: np.ndarray) -> np.ndarray:
+    """(m, 4) each row of ``corners`` (m, 4) ascending, -1 padding first."""
+    return np.stack(_sorted_columns(corners), axis=1)
+
+
+def _halves(columns: list[np.ndarray], n_points: int) -> tuple[np.ndarray, np.ndarray, int]:
+    width = np.int64(n_points + 1)
+    high = columns[0].astype(np.int64)
+    high += 1
+    high *= width
+    high += columns[1]
+    high += 1
+    low = columns[2].astype(np.int64)
+    low += 1
+    low *= width
+    low += columns[3]
+    low += 1
+    return high, low, int(width) * int(width)
 
 
 def key_halves(key: np.ndarray, n_points: int) -> tuple[np.ndarray, np.ndarray, int]:
     """Two int64 numbers per sorted corner row (each packs two node numbers + 1) and
     their bound: equal rows, equal pairs."""
-    width = np.int64(n_points + 1)
-    high = (key[:, 0] + 1) * width + (key[:, 1] + 1)
-    low = (key[:, 2] + 1) * width + (key[:, 3] + 1)
-    return high, low, int(width) * int(width)
-
-
-def _group(key: np.ndarray, n_points: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """(face (m,), first use of each face (f,), uses (f,)) of sorted corner rows."""
-    m = key.shape[0]
-    if m == 0:
-        empty = np.zeros(0, dtype=np.int64)
-        return empty, empty, empty
-    order = row_order(key, n_points)
-    ordered = key[order]
-    new = np.empty(m, dtype=bool)
-    new[0] = True
-    np.any(ordered[1:] != ordered[:-1], axis=1, out=new[1:])
-    del ordered
-    starts = np.flatnonzero(new)
-    rank = np.cumsum(new) - 1
-    face = np.empty(m, dtype=np.int64)
-    face[order] = rank
-    return face, order[starts], np.diff(np.append(starts, m))
-
-
-def row_order(key: np.ndarray, n_points: int) -> np.ndarray:
-    """Stable ascending order of sorted corner rows ``key`` (m, 4): two packed sorts,
-    the low half first (see :func:`meshaudit.mesh.topology.sort_keys`)."""
-    high, low, bound = key_halves(key, n_points)
-    if bound >= 1 << 62:  # node numbers past 2^31: a plain lexicographic sort
-        return np.lexsort((key[:, 3], key[:, 2], key[:, 1], key[:, 0]))
-    first, _ = sort_keys(low, bound)
-    second, _ = sort_keys(high[first], bound)
-    return first[second]
+    return _halves([key[:, i] for i in range(4)], n_points)
 
 
 def direction(corners: np.ndarray) -> np.ndarray:
@@ -177,7 +201,8 @@ def direction(corners: np.ndarray) -> np.ndarray:
     corner, True when the next corner is smaller than the previous one. Two uses of one
     face run opposite ways exactly when their values differ."""
     size = np.where(corners[:, 3] < 0, 3, 4)
-    big = np.where(corners < 0, np.iinfo(np.int64).max, corners)
+    big = corners.astype(np.int64)
+    big[big < 0] = np.iinfo(np.int64).max
     at = np.argmin(big, axis=1)
     rows = np.arange(corners.shape[0])
     after = corners[rows, (at + 1) % size]

@@ -96,7 +96,7 @@ def boundary_surfaces(
     of rows of ``free`` to join (faces meeting across a non-conforming interface)."""
     b = free.size
     cls = np.where(crack, 1, np.where(interface, 2, 0)).astype(np.int64)
-    corners = table.corners[free]
+    corners = table.corners[free].astype(np.int64)
     size = np.where(corners[:, 3] < 0, 3, 4)
     # every side of every free face, keyed by its two nodes and the face's class
     starts = corners
