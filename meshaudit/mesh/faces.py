@@ -30,10 +30,10 @@ class FaceTable:
     the mesh the table was built from; ``local`` (m,) int8 the face number in its cell
     type's table; ``face`` (m,) the distinct face number 0..n_faces-1; ``key``
     (n_faces, 4) each face's corner nodes ascending, a triangle's padded in front with
-    -1; ``uses`` (n_faces,) how many uses each face has, ``first`` (n_faces,) its first
-    use. A face whose corners collapse
-    to fewer than three nodes is left out; a quadrilateral face with two corners on one
-    node is kept as the triangle it is.
+    -1; ``uses`` (n_faces,) how many uses each face has, ``first`` and ``last``
+    (n_faces,) its first and last use (the two uses of an interior face). A face whose
+    corners collapse to fewer than three nodes is left out; a quadrilateral face with two
+    corners on one node is kept as the triangle it is.
     """
 
     corners: np.ndarray
@@ -43,6 +43,7 @@ class FaceTable:
     key: np.ndarray
     uses: np.ndarray
     first: np.ndarray
+    last: np.ndarray
 
     @property
     def n_faces(self) -> int:
@@ -72,7 +73,8 @@ def face_table(mesh: ElementMesh, keep: np.ndarray | None = None) -> FaceTable:
     m = corners.shape[0]
     if m == 0:
         empty = np.zeros(0, dtype=np.int64)
-        return FaceTable(corners, element, local, empty, np.zeros((0, 4), np.int64), empty, empty)
+        key = np.zeros((0, 4), np.int64)
+        return FaceTable(corners, element, local, empty, key, empty, empty, empty)
     if bound >= 1 << 62:  # node numbers past 2^31: a plain lexicographic sort
         order = np.lexsort(columns[::-1])
     else:
@@ -95,9 +97,9 @@ def face_table(mesh: ElementMesh, keep: np.ndarray | None = None) -> FaceTable:
     face[order] = rank
     del rank
     uses = np.diff(np.append(starts, m))
-    first_use = order[starts]
+    first_use, last_use = order[starts], order[starts + uses - 1]
     key = np.stack([c[first_use] for c in columns], axis=1).astype(np.int64)
-    return FaceTable(corners, element, local, face, key, uses, first_use)
+    return FaceTable(corners, element, local, face, key, uses, first_use, last_use)
 
 
 def _face_uses(
@@ -196,18 +198,14 @@ def key_halves(key: np.ndarray, n_points: int) -> tuple[np.ndarray, np.ndarray, 
     return _halves([key[:, i] for i in range(4)], n_points)
 
 
-def direction(corners: np.ndarray) -> np.ndarray:
-    """(m,) bool: which way each face use runs around its face. Seen from the smallest
-    corner, True when the next corner is smaller than the previous one. Two uses of one
-    face run opposite ways exactly when their values differ."""
-    size = np.where(corners[:, 3] < 0, 3, 4)
-    big = corners.astype(np.int64)
-    big[big < 0] = np.iinfo(np.int64).max
-    at = np.argmin(big, axis=1)
-    rows = np.arange(corners.shape[0])
-    after = corners[rows, (at + 1) % size]
-    before = corners[rows, (at + size - 1) % size]
-    return after < before
+def same_way(first: np.ndarray, second: np.ndarray) -> np.ndarray:
+    """(p,) bool: two uses of one face, corners ``first`` and ``second`` (p, 4), run
+    around it the same way: the corner after ``first``'s corner 0 is, in ``second``,
+    also the corner after it. (Consistently oriented neighbours run opposite ways.)"""
+    size = np.where(first[:, 3] < 0, 3, 4)
+    at = np.argmax(second == first[:, :1], axis=1)  # where first's corner 0 is in second
+    after = np.take_along_axis(second, ((at + 1) % size)[:, None], axis=1)[:, 0]
+    return after == first[:, 1]
 
 
 def vector_areas(points: np.ndarray, corners: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

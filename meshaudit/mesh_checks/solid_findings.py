@@ -24,8 +24,8 @@ import numpy as np
 from ..arrays import unique_values
 from ..judge.finding_kinds import FindingSettings
 from ..mesh.elements import ElementMesh
-from ..mesh.faces import FaceTable, direction, face_table, key_halves, matching_rows
-from ..mesh.topology import orientation_groups, sort_keys
+from ..mesh.faces import FaceTable, face_table, key_halves, matching_rows, same_way
+from ..mesh.topology import orientation_groups
 from . import duplicates
 from .findings import MESSAGE_IDS, Finding, MeshFindings, _Builder, _some
 from .solid_hanging import FaceInterface, face_interface
@@ -91,7 +91,9 @@ def finish_solid(part: SolidPart, inverted: np.ndarray) -> tuple[list[Finding], 
     (s,) bool the solids flagged ``inverted`` (negative det J somewhere), in the solid
     part's order. Returns (findings, boundary surfaces)."""
     out = part.out
-    if out.on("inside_out_solids") and part.pairs.size:
+    # no face used the same way round by its two solids: every patch agrees, nothing to
+    # group (the grouping is the costly part)
+    if out.on("inside_out_solids") and part.same.any():
         n = part.positions.size
         groups = orientation_groups(n, part.pairs[:, 0], part.pairs[:, 1], part.same)
         named = groups.flipped | groups.twisted
@@ -295,15 +297,11 @@ def _shells_on_faces(
 def _face_pairs(table: FaceTable) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """(pairs (p, 2) solid positions (solid part) across each face used twice, same
     (p,) whether both use it the same way round, faces (p,) the face numbers)."""
-    two = np.flatnonzero(table.uses[table.face] == 2)
-    if two.size == 0:
-        return np.zeros((0, 2), dtype=np.int64), np.zeros(0, dtype=bool), two
-    order = two[sort_keys(table.face[two].astype(np.int64), table.n_faces)[0]]
-    first, second = order[0::2], order[1::2]
-    turn = direction(table.corners[order])
-    same = turn[0::2] == turn[1::2]
-    pairs = np.stack([table.element[first], table.element[second]], axis=1)
-    return pairs, same, table.face[first]
+    faces = np.flatnonzero(table.uses == 2)
+    first, last = table.first[faces], table.last[faces]
+    same = same_way(table.corners[first], table.corners[last])
+    pairs = np.stack([table.element[first], table.element[last]], axis=1).astype(np.int64)
+    return pairs, same, faces
 
 
 def _face_sides(corners: np.ndarray) -> np.ndarray:
