@@ -396,3 +396,27 @@ def test_kuhn_tetrahedra_fill_the_cube() -> None:
     for t in KUHN:
         a, b, c, d = CUBE[t]
         assert np.linalg.det(np.stack([b - a, c - a, d - a])) == pytest.approx(1.0)
+
+
+def test_collapsed_tetrahedron_leaves_a_void_not_a_non_manifold_face() -> None:
+    # a tetrahedron with two corners on one node encloses nothing: the tetrahedron-shaped
+    # hole it leaves is a closed void of its four faces (closed form: a corner
+    # tetrahedron of the unit cube's Kuhn split has volume 1/6), its two remaining faces
+    # (one triangle, both ways round) cancel
+    points, tets = tet_block()
+    which = 13 * 6
+    hole = tets[which].copy()
+    tets = tets.copy()
+    tets[which, 1] = tets[which, 0]
+    report = meshaudit.audit(mesh(points, ("tetra", tets)))
+    got = found(report)
+    assert "non_manifold_faces" not in got
+    assert got["internal_voids"].count == 1
+    surfaces = report.boundary_surfaces
+    assert surfaces.kind.tolist() == ["skin", "void"]
+    assert -surfaces.volume[1] == pytest.approx(1.0 / 6.0)
+    a, b, c, d = points[hole]
+    faces = [(a, b, c), (a, b, d), (a, c, d), (b, c, d)]
+    area = sum(0.5 * np.linalg.norm(np.cross(q - p, r - p)) for p, q, r in faces)
+    assert surfaces.area[1] == pytest.approx(area)
+    assert report.flag("degenerate")[which]

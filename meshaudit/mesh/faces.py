@@ -17,6 +17,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..arrays import unique_values
 from .elements import ElementMesh
 from .topology import index_dtype, sort_keys
 
@@ -158,6 +159,14 @@ def _collapsed(
         corners[fix, :3] = tri
         corners[fix, 3] = -1
         keep[fix] = distinct
+    # a degenerate solid may be left with one face twice (a tetrahedron with two corners
+    # on one node: its two remaining faces are one triangle, both ways round): the two
+    # uses cancel, as the element encloses nothing there
+    touched = np.flatnonzero(np.isin(element, unique_values(element[repeats > 0])) & keep)
+    if touched.size:
+        rows = np.column_stack([element[touched], sorted_rows(corners[touched])])
+        _, inverse, counts = np.unique(rows, axis=0, return_inverse=True, return_counts=True)
+        keep[touched[counts[inverse.ravel()] > 1]] = False
     return corners[keep], element[keep], local[keep]
 
 
