@@ -169,54 +169,68 @@ def _boundary(
         _hanging(out, table, free, found, positions)
         if out.on("non_conforming_faces") and interface.any():
             rows = np.flatnonzero(interface)
-            elements = positions[table.element[free[rows]]]
-            out.add(
+            _faces_finding(
+                out,
                 "non_conforming_faces",
                 rows.size,
                 f"{rows.size} free face(s) of solids lie on other free faces without "
                 "matching them (a non-conforming interface: hanging nodes, or a "
                 "quadrilateral face against two triangles); not connected unless the "
-                f"solver ties them: solids {_some(out.ids[unique_values(elements)])}",
-                elements,
-                None,
-                None,
-                _face_sides(corners[rows]),
+                "solver ties them: solids ",
+                table.element[free[rows]],
+                corners[rows],
+                positions,
             )
     surfaces = boundary_surfaces(table, points, free, crack, interface, links)
     if out.on("crack_faces") and crack.any():
         rows = np.flatnonzero(crack)
-        elements = positions[table.element[free[rows]]]
-        out.add(
+        _faces_finding(
+            out,
             "crack_faces",
             rows.size,
             f"{rows.size} free face(s) of solids lie on other free faces (unmerged nodes "
             f"cut the part) in crack surface(s) {_some(unique_values(surfaces.surface[rows]))}: "
-            f"solids {_some(out.ids[unique_values(elements)])}",
-            elements,
-            None,
-            None,
-            _face_sides(corners[rows]),
+            "solids ",
+            table.element[free[rows]],
+            corners[rows],
+            positions,
         )
     voids = np.flatnonzero(surfaces.kind == "void")
     if out.on("internal_voids") and voids.size:
         rows = np.flatnonzero(np.isin(surfaces.surface, voids))
-        elements = positions[table.element[free[rows]]]
         shown = "; ".join(
             f"surface {v}: {surfaces.faces[v]} faces, area {surfaces.area[v]:.6g}, "
             f"volume {-surfaces.volume[v]:.6g}"
             for v in voids[:MESSAGE_IDS]
         )
-        out.add(
+        _faces_finding(
+            out,
             "internal_voids",
             voids.size,
             f"{voids.size} internal void(s), closed surfaces inside the part ({shown}); "
-            f"solids around them: {_some(out.ids[unique_values(elements)])}",
-            elements,
-            None,
-            None,
-            _face_sides(corners[rows]),
+            "solids around them: ",
+            table.element[free[rows]],
+            corners[rows],
+            positions,
         )
     return surfaces
+
+
+def _faces_finding(
+    out: _Builder,
+    kind: str,
+    count: int,
+    message: str,
+    owners: np.ndarray,
+    corners: np.ndarray,
+    positions: np.ndarray,
+) -> None:
+    """Add a finding about free faces ``corners`` owned by solids ``owners`` (solid-part
+    positions): the message ends with the solids' numbers, the edges are the faces'
+    sides."""
+    elements = positions[owners]
+    named = _some(out.ids[unique_values(elements)])
+    out.add(kind, count, message + named, elements, None, None, _face_sides(corners))
 
 
 def _hanging(
