@@ -420,3 +420,18 @@ def test_collapsed_tetrahedron_leaves_a_void_not_a_non_manifold_face() -> None:
     area = sum(0.5 * np.linalg.norm(np.cross(q - p, r - p)) for p, q, r in faces)
     assert surfaces.area[1] == pytest.approx(area)
     assert report.flag("degenerate")[which]
+
+
+def test_hanging_nodes_of_shells_and_solids_make_one_finding() -> None:
+    # the refined block with a skin of shells on its bottom (one coarse quad, four fine):
+    # the fine node at (1, 0.5, 0) hangs on the coarse shell's edge and on the coarse
+    # solid's faces; one finding names the five hanging nodes once each
+    points, hexes = refined_beside_coarse()
+    bottom = hexes[points[hexes[:, 0], 2] == 0.0][:, [0, 3, 2, 1]]
+    report = meshaudit.audit(mesh(points, ("quad", bottom), ("hexahedron", hexes)))
+    got = found(report)
+    assert [f.kind for f in report.findings].count("hanging_nodes") == 1
+    hang = got["hanging_nodes"]
+    assert hang.count == 5 == hang.node_ids.size
+    assert got["shells_on_solid_faces"].count == 5
+    assert got["non_conforming_faces"].count == 5

@@ -348,9 +348,11 @@ def merged(found: MeshFindings, solid: list[Finding], surfaces: BoundarySurfaces
             np.concatenate([g.element_index, f.element_index]), return_index=True
         )
         nodes_, node_first = np.unique(np.concatenate([g.node_ids, f.node_ids]), return_index=True)
+        # nodes are counted once (a node may hang on a shell's edge and a solid's face)
+        count = nodes_.size if g.counts == "nodes" else g.count + f.count
         findings[at[f.kind]] = replace(
             g,
-            count=g.count + f.count,
+            count=count,
             element_index=index,
             element_ids=np.concatenate([g.element_ids, f.element_ids])[first],
             node_ids=nodes_,
