@@ -128,3 +128,19 @@ def hex_beside_tets() -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     points = np.vstack([CUBE.astype(float), tet_points + np.array([1.0, 0.0, 0.0])])
     points, (hexes, tets) = merged(points, [np.arange(8)[None], tets + 8])
     return points, hexes, tets
+
+
+def with_midside_nodes(
+    points: np.ndarray, cells: np.ndarray, midside: np.ndarray
+) -> tuple[np.ndarray, np.ndarray]:
+    """Linear cells made quadratic: one node at the middle of each distinct edge, shared
+    by the cells on that edge. ``midside`` (s, 3): corner a, corner b, midside column
+    (the cell type's ``midside_edges``)."""
+    a, b = cells[:, midside[:, 0]], cells[:, midside[:, 1]]
+    pairs = np.stack([np.minimum(a, b).ravel(), np.maximum(a, b).ravel()], axis=1)
+    edges, inverse = np.unique(pairs, axis=0, return_inverse=True)
+    middle = 0.5 * (points[edges[:, 0]] + points[edges[:, 1]])
+    out = np.zeros((cells.shape[0], cells.shape[1] + midside.shape[0]), dtype=np.int64)
+    out[:, : cells.shape[1]] = cells
+    out[:, midside[:, 2]] = points.shape[0] + inverse.reshape(cells.shape[0], -1)
+    return np.vstack([points, middle]), out

@@ -435,3 +435,30 @@ def test_hanging_nodes_of_shells_and_solids_make_one_finding() -> None:
     assert hang.count == 5 == hang.node_ids.size
     assert got["shells_on_solid_faces"].count == 5
     assert got["non_conforming_faces"].count == 5
+
+
+@pytest.mark.parametrize(
+    ("kind", "quadratic"), [("tetra", "tetra10"), ("hexahedron", "hexahedron20")]
+)
+def test_quadratic_solids_faces_by_their_corners(kind: str, quadratic: str) -> None:
+    # the same block with a node at the middle of every edge: faces keyed by their corners
+    # meet as before; the skin is the 3 x 3 x 3 box (closed form); a void is found again
+    from solid_meshes import with_midside_nodes
+
+    points, cells = block(kind)
+    midside = CELL_TYPES[quadratic].midside_edges
+    full_points, full = with_midside_nodes(points, cells, midside)
+    report = meshaudit.audit(mesh(full_points, (quadratic, full)))
+    assert report.findings == []
+    assert report.boundary_surfaces.area[0] == pytest.approx(54.0)
+    cube = np.arange(len(cells)) // PER_CUBE[kind]
+    report = meshaudit.audit(mesh(full_points, (quadratic, full[cube != 13])))
+    got = found(report)
+    assert got["internal_voids"].count == 1
+    assert report.boundary_surfaces.area[1] == pytest.approx(6.0)
+    # the midside nodes of the edges inside the removed cube (its tetrahedra's diagonals)
+    # are left unused: orphans; the hexahedron's edges are all shared with its neighbours
+    unused = np.setdiff1d(full[cube == 13], full[cube != 13])
+    assert set(got) == ({"internal_voids", "orphan_nodes"} if unused.size else {"internal_voids"})
+    if unused.size:
+        assert got["orphan_nodes"].node_ids.tolist() == unused.tolist()

@@ -22,7 +22,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from ..errors import InputError
-from ..judge.finding_kinds import MESH_CHECK_KINDS
+from ..judge.finding_kinds import MESH_CHECK_KINDS, SOLID_FACE_KINDS
 from ..judge.profiles import Profile, load_profile
 from ..judge.score import rebanded
 from ..judge.verdicts import WARN
@@ -231,7 +231,7 @@ class _Run:
         settings = self.profile.findings
         solids = SolidEdges.of(self.mesh) if self.mesh.has_solids else None
         part = find_topology(surface, ids, self.frame, settings, table, solids)
-        if solids is not None:
+        if solids is not None and any(settings.enabled(k) for k in SOLID_FACE_KINDS):
             rep = part.clusters.rep if part.clusters is not None else np.arange(0)
             part.solid = find_solid_topology(
                 self.mesh, self.ids, settings, rep, surface, self.positions

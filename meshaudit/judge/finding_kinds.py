@@ -214,6 +214,13 @@ KINDS: tuple[FindingKind, ...] = (
 )
 KIND_INFO: dict[str, FindingKind] = {k.name: k for k in KINDS}
 KIND_NAMES: tuple[str, ...] = tuple(k.name for k in KINDS)
+#: Kinds found on the solids' corner sets and face table (the face table is built only
+#: when one of them is enabled).
+SOLID_FACE_KINDS: tuple[str, ...] = (
+    "duplicate_elements",
+    "hanging_nodes",
+    *(k.name for k in KINDS if k.solid),
+)
 #: Kinds found by the checks that look at nodes and connectivity (the others need no
 #: mesh pass: ``unaudited_cells`` is read off the cell counts).
 MESH_CHECK_KINDS: tuple[str, ...] = tuple(k for k in KIND_NAMES if k != "unaudited_cells")
