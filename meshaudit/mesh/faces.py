@@ -137,6 +137,12 @@ def _collapsed(
     """Quadrilateral faces with one side collapsed onto one node become triangles (the
     repeated corner dropped, order kept); faces of fewer than three distinct corners, or
     whose repeated corners are not neighbours, are left out."""
+    c = [corners[:, i] for i in range(4)]
+    # a triangle's fourth corner is -1, equal to no node: only quadrilaterals' sides and
+    # a triangle's closing side (or a quadrilateral's diagonal) can repeat a node
+    suspect = (c[0] == c[1]) | (c[1] == c[2]) | (c[2] == c[3]) | (c[3] == c[0]) | (c[2] == c[0])
+    if not suspect.any():  # the usual case: one cheap pass
+        return corners, element, local
     quad = corners[:, 3] >= 0
     same = np.stack(
         [corners[:, i] == corners[:, (i + 1) % 4] for i in range(4)], axis=1
