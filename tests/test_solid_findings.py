@@ -462,3 +462,16 @@ def test_quadratic_solids_faces_by_their_corners(kind: str, quadratic: str) -> N
     assert set(got) == ({"internal_voids", "orphan_nodes"} if unused.size else {"internal_voids"})
     if unused.size:
         assert got["orphan_nodes"].node_ids.tolist() == unused.tolist()
+
+
+def test_every_solid_mirrored_keeps_its_skin_and_void() -> None:
+    # every hexahedron of the block with a void listed mirrored: all faces point inward,
+    # the element checks fail every one (negative det J), and the surfaces still read as
+    # a skin (the largest enclosed volume) and a void, not the other way round
+    points, hexes = hex_block()
+    mirrored = np.delete(hexes, 13, axis=0)[:, [4, 5, 6, 7, 0, 1, 2, 3]]
+    report = meshaudit.audit(mesh(points, ("hexahedron", mirrored)))
+    assert report.flag("inverted").all()
+    assert report.boundary_surfaces.kind.tolist() == ["skin", "void"]
+    assert report.boundary_surfaces.volume[0] == pytest.approx(-27.0)
+    assert {f.kind for f in report.findings} == {"internal_voids"}  # no neighbour disagrees

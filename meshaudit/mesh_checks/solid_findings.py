@@ -200,7 +200,7 @@ def _boundary(
         rows = np.flatnonzero(np.isin(surfaces.surface, voids))
         shown = "; ".join(
             f"surface {v}: {surfaces.faces[v]} faces, area {surfaces.area[v]:.6g}, "
-            f"volume {-surfaces.volume[v]:.6g}"
+            f"volume {abs(surfaces.volume[v]):.6g}"
             for v in voids[:MESSAGE_IDS]
         )
         _faces_finding(

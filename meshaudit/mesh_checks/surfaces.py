@@ -11,7 +11,9 @@ another face's edge), crack, interface and other faces each among their own kind
 surface has its area and the volume it encloses (divergence theorem over its faces,
 which point out of the solids): positive for the outer skin of a body, negative for an
 internal void, whose faces point into the hole. So a surface is a ``skin`` (volume
-> 0), a ``void`` (volume < 0), a ``crack`` or an ``interface``.
+> 0), a ``void`` (volume < 0), a ``crack`` or an ``interface``; when the surface
+enclosing the largest volume has a negative one (every solid mirrored), the signs are
+read the other way round.
 """
 
 from __future__ import annotations
@@ -133,7 +135,15 @@ def boundary_surfaces(
     cls_of[surface] = cls
     kind = np.where(cls_of == 1, "crack", np.where(cls_of == 2, "interface", "skin"))
     kind = kind.astype(object)
-    kind[(cls_of == 0) & (volume < 0)] = "void"
+    # the sign that means "skin": that of the surface enclosing the largest volume (a
+    # mesh whose solids are all mirrored points every face inward: its skin is still the
+    # skin, and the element checks report the mirrored solids)
+    closed = cls_of == 0
+    outward = 1.0
+    if closed.any():
+        largest = np.flatnonzero(closed)[np.argmax(np.abs(volume[closed]))]
+        outward = -1.0 if volume[largest] < 0 else 1.0
+    kind[closed & (volume * outward < 0)] = "void"
     rank = np.select([kind == "skin", kind == "void", kind == "crack"], [0, 1, 2], 3)
     order = np.lexsort((-np.abs(volume), rank))
     new = np.empty(s, dtype=np.int64)
