@@ -71,6 +71,8 @@ def face_table(mesh: ElementMesh, keep: np.ndarray | None = None) -> FaceTable:
     corners, element, local = _collapsed(corners, element, local)
     columns = _sorted_columns(corners)
     high, low, bound = _halves(columns, mesh.n_points)
+    if bound < 1 << 62:
+        del columns  # the keys of the faces are sorted again from their first uses
     m = corners.shape[0]
     if m == 0:
         empty = np.zeros(0, dtype=np.int64)
@@ -99,7 +101,7 @@ def face_table(mesh: ElementMesh, keep: np.ndarray | None = None) -> FaceTable:
     del rank
     uses = np.diff(np.append(starts, m))
     first_use, last_use = order[starts], order[starts + uses - 1]
-    key = np.stack([c[first_use] for c in columns], axis=1).astype(np.int64)
+    key = sorted_rows(corners[first_use]).astype(np.int64)
     return FaceTable(corners, element, local, face, key, uses, first_use, last_use)
 
 
