@@ -37,12 +37,17 @@ SAMPLES = Path(__file__).resolve().parents[1] / "samples"
 SOLID_FAMILIES = sorted({c.family for c in CELL_TYPES.values() if c.dimension == 3})
 #: The block of the bracket lug: 60 x 40 x 10 (closed-form volume 24000).
 BLOCK = (np.linspace(0.0, 60.0, 7), np.linspace(0.0, 40.0, 5), np.linspace(0.0, 10.0, 3))
-SURFACE_KINDS = (
+#: Checks of the surface elements' edges: nothing to look at in a mesh of solids alone.
+SURFACE_KINDS = ("crack_edges", "non_manifold_edges")
+#: Checks that look at the solids too (their nodes, corner sets and faces).
+SOLID_CHECKED = (
     "coincident_nodes",
-    "crack_edges",
     "hanging_nodes",
     "duplicate_elements",
-    "non_manifold_edges",
+    "crack_faces",
+    "non_manifold_faces",
+    "non_conforming_faces",
+    "inside_out_solids",
 )
 
 
@@ -141,13 +146,18 @@ def test_skfem_tetra_mesh_passes_check_with_volumes_of_its_own_quadrature(
     np.testing.assert_allclose(volumes, skfem_volumes, rtol=1e-10)
     assert volumes.sum() == pytest.approx(60.0 * 40.0 * 10.0, rel=1e-12)  # closed form
     # a solid-only mesh: no free edges, no non-manifold edges (every tetrahedron edge is
-    # shared by several), no finding at all; the surface checks are skipped in JUnit
+    # shared by several), no finding at all; the checks of surface edges are skipped in
+    # JUnit, those that look at the solids ran and passed
     assert doc["findings"] == []
     assert "solid (volume elements only" in res.stdout
     root = ET.parse(xml).getroot()
     for kind in SURFACE_KINDS:
         case = root.find(f".//testcase[@name='no {kind.replace('_', ' ')}']")
         assert case is not None and case.find("skipped") is not None, kind
+    for kind in SOLID_CHECKED:
+        case = root.find(f".//testcase[@name='no {kind.replace('_', ' ')}']")
+        assert case is not None and case.find("skipped") is None, kind
+        assert case.find("failure") is None, kind
     orphan = root.find(".//testcase[@name='no orphan nodes']")
     assert orphan.find("skipped") is None and orphan.find("failure") is None
 
@@ -417,7 +427,11 @@ def test_mixed_mesh_solids_and_a_shell_skin_are_both_audited(tmp_path: Path) -> 
     # is shared by four of them, no orphan node although the skin uses a third of them
     free = report.free_edges
     assert free.n_loops == 1 and free.loop_length[0] == pytest.approx(200.0)
-    assert not report.findings
+    # the one finding: the 48 triangles lie on the hexahedra's bottom faces, on three of
+    # each face's four corners (a skin sharing the solids' nodes: information)
+    (on_faces,) = report.findings
+    assert on_faces.kind == "shells_on_solid_faces" and on_faces.severity == "info"
+    assert on_faces.count == 48 and sorted(on_faces.element_index.tolist()) == list(range(48))
     # the same skin alone gives the same loop; alone, it is a 2-D model in x-y, whose
     # triangles a 2-D solver sees clockwise: all reversed (and the solids' nodes orphans)
     skin = meshio.Mesh(mesh.points, [mesh.cells[0]])

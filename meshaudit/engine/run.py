@@ -5,9 +5,12 @@ a pure function of its arguments) on a runner (:mod:`meshaudit.engine.pool`), co
 chunk's results into its own rows (:mod:`meshaudit.engine.sink`) and runs the mesh-level
 checks beside the chunks. Results do not depend on the number of threads.
 
-Solids are measured like any element; the mesh-level checks and the measuring plane look
-at the surface elements only (:meth:`meshaudit.mesh.elements.ElementMesh.surface_part`),
-their findings mapped back to report positions.
+Solids are measured like any element. The measuring plane and the checks of surface
+elements look at the surface elements only
+(:meth:`meshaudit.mesh.elements.ElementMesh.surface_part`), their findings mapped back to
+report positions; the checks of the solids look at their face table
+(:mod:`meshaudit.mesh_checks.solid_findings`), and the node checks (orphans, coincident
+nodes) at every node.
 """
 
 from __future__ import annotations
@@ -19,11 +22,12 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from ..errors import InputError
-from ..judge.finding_kinds import MESH_CHECK_KINDS
+from ..judge.finding_kinds import MESH_CHECK_KINDS, SOLID_FACE_KINDS
 from ..judge.profiles import Profile, load_profile
 from ..judge.score import rebanded
 from ..judge.verdicts import WARN
 from ..mesh.elements import ElementBlock, ElementMesh
+from ..mesh.faces import SolidEdges
 from ..mesh.frames import Frame, anchor, centroids, choose_frame, frame_notes
 from ..mesh.regions import region_codes
 from ..mesh.scale import normalised, rescaled_findings, scaled_lengths
@@ -39,6 +43,7 @@ from ..mesh_checks.findings import (
 from ..mesh_checks.orientation import Orientation, nearly_flat_shell_note
 from ..mesh_checks.orientation import judge as judge_orientation
 from ..mesh_checks.overlap import BoxGrid, PlanarShapes
+from ..mesh_checks.solid_findings import find_solid_topology, finish_solid, merged
 from ..mesh_checks.stiffness import material_notes, stiffness_findings
 from ..results.report import FLAG_BIT, MeshSummary, Report, metric_statistics
 from .materials import MaterialMap, MaterialSpec
@@ -231,15 +236,25 @@ class _Run:
         return sl.stop - sl.start
 
     def topology(self) -> tuple[EdgeTable | None, TopologyPart | None]:
-        """The edge table and the mesh-level checks that need only the connectivity."""
+        """The edge table and the mesh-level checks that need only the connectivity (of
+        the surface elements, and of the solids' faces when there are solids:
+        ``part.solid``)."""
         if not self.checks and self.frame.orientation == "+z":  # every finding kind is off
             return None, None
-        surface = self.surface  # the checks look at the surface elements only
+        surface = self.surface  # the surface checks look at the surface elements only
         table = edge_table(surface)  # shared by the orientation flags and the findings
         if not self.checks:
             return table, None
         ids = self.ids if self.positions is None else self.ids[self.positions]
-        return table, find_topology(surface, ids, self.frame, self.profile.findings, table)
+        settings = self.profile.findings
+        solids = SolidEdges.of(self.mesh) if self.mesh.has_solids else None
+        part = find_topology(surface, ids, self.frame, settings, table, solids)
+        if solids is not None and any(settings.enabled(k) for k in SOLID_FACE_KINDS):
+            rep = part.clusters.rep if part.clusters is not None else np.arange(0)
+            part.solid = find_solid_topology(
+                self.mesh, self.ids, settings, rep, surface, self.positions
+            )
+        return table, part
 
     def finish(
         self, pool: SerialRunner | ThreadRunner, pending: Pending
@@ -277,6 +292,10 @@ class _Run:
             grid_result = None if grid is None else grid.result
             mesh_findings = finish(part, mesh, frame, self.shapes, grid_result, orientation)
             mesh_findings = at_report_positions(mesh_findings, self.positions)
+            if part.solid is not None:
+                inverted = (sink.bits >> np.uint32(FLAG_BIT["inverted"])) & np.uint32(1) == 1
+                solid_found, surfaces = finish_solid(part.solid, inverted[part.solid.positions])
+                mesh_findings = merged(mesh_findings, solid_found, surfaces)
         stats = None if summing is None else summing.result()
         return notes, mesh_findings, stats
 
@@ -330,6 +349,7 @@ class _Run:
             region_codes=self.codes,
             findings=findings,
             free_edges=mesh_findings.free_edges if mesh_findings is not None else None,
+            boundary_surfaces=mesh_findings.surfaces if mesh_findings is not None else None,
             precomputed_statistics=stats,
             materials=None if self.materials is None else self.materials.to_dict(),
         )

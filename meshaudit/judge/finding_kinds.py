@@ -35,17 +35,22 @@ class FindingKind:
     #: "any", or the only orientation reference it applies to ("+z" or "relative", see
     #: meshaudit.mesh_checks.orientation)
     orientation: str = "any"
-    #: Whether the check looks at the surface elements (their edges, nodes, windings):
-    #: such checks have nothing to look at in a mesh of solids alone (frame "solid"); the
-    #: mesh-level checks do not cover solids yet.
+    #: Whether the check looks at the surface elements only (their edges, windings):
+    #: such checks have nothing to look at in a mesh of solids alone (frame "solid").
     surface: bool = True
     #: Whether the check runs only when the audit is given a material (see
     #: meshaudit.metrics.stiffness); such kinds are not mesh-level checks of the topology.
     material: bool = False
+    #: Whether the check looks at the solids only (their faces): it has nothing to look
+    #: at in a mesh without solids, and is not listed for one.
+    solid: bool = False
 
     def applies_to(self, frame_kind: str, orientation: str = "any") -> bool:
         """Whether this check runs on a mesh of ``frame_kind`` whose orientation is judged
-        against ``orientation`` ("any": whatever the reference)."""
+        against ``orientation`` ("any": whatever the reference). A check of the solids
+        applies to any mesh that has solids (see :attr:`solid`)."""
+        if self.solid:
+            return True
         if self.surface and frame_kind == "solid":
             return False
         return self.geometry in ("any", frame_kind) and (
@@ -58,9 +63,11 @@ KINDS: tuple[FindingKind, ...] = (
         "coincident_nodes",
         "fail",
         "places",
-        "distinct nodes at the same place (within the tolerance): not merged; counted by "
-        "place (a cluster of nodes at one place counts once, whatever its size)",
+        "distinct nodes at the same place (within the tolerance): not merged, shells and "
+        "solids alike; counted by place (a cluster of nodes at one place counts once, "
+        "whatever its size)",
         "unmerged nodes cut the load path; the solver sees two parts (common practice)",
+        surface=False,
     ),
     FindingKind(
         "crack_edges",
@@ -73,10 +80,12 @@ KINDS: tuple[FindingKind, ...] = (
         "hanging_nodes",
         "fail",
         "nodes",
-        "corner nodes lying inside another element's free edge: a non-conforming "
-        "interface (a coarse element beside finer ones) with no shared node there",
+        "corner nodes lying inside another element's free edge (solids: inside a free "
+        "face or its edge): a non-conforming interface (a coarse element beside finer "
+        "ones) with no shared node there",
         "the two sides are not connected unless the solver constrains the hanging nodes; "
         'set "info" where the interface is tied on purpose (common practice)',
+        surface=False,
     ),
     FindingKind(
         "orphan_nodes",
@@ -91,8 +100,10 @@ KINDS: tuple[FindingKind, ...] = (
         "duplicate_elements",
         "fail",
         "elements",
-        "elements on the same node set as an earlier element (any order or rotation)",
+        "elements on the same corner nodes as an earlier element of their dimension (any "
+        "order or rotation)",
         "stiffness and mass are counted twice (common practice)",
+        surface=False,
     ),
     FindingKind(
         "overlapping_elements",
@@ -130,6 +141,69 @@ KINDS: tuple[FindingKind, ...] = (
         "intended at shell T-joints (stiffeners), a defect in a plane model (common practice)",
     ),
     FindingKind(
+        "crack_faces",
+        "fail",
+        "free faces",
+        "free faces of solids lying on other free faces (same corner places, distinct "
+        "nodes): an unintended cut inside the part",
+        "the part is split along them; loads do not cross (common practice)",
+        surface=False,
+        solid=True,
+    ),
+    FindingKind(
+        "non_manifold_faces",
+        "fail",
+        "faces",
+        "faces shared by more than two solids",
+        "material on one side of a face is counted twice: solids overlap (common practice)",
+        surface=False,
+        solid=True,
+    ),
+    FindingKind(
+        "non_conforming_faces",
+        "fail",
+        "free faces",
+        "free faces of solids lying on other free faces without matching them: a "
+        "non-conforming interface (hanging nodes, a quadrilateral face against two "
+        "triangles)",
+        "the two sides are not connected unless the solver ties them; set "
+        '"info" (with hanging_nodes) where the interface is tied on purpose (common practice)',
+        surface=False,
+        solid=True,
+    ),
+    FindingKind(
+        "inside_out_solids",
+        "fail",
+        "elements",
+        "solids inside out relative to their neighbours: a face two solids share is used "
+        "the same way round by both (each solid's faces point outward when it is "
+        "positively oriented); the message says which of them have negative det J",
+        "an inverted solid has negative stiffness; a solid folded over its neighbour "
+        "counts material twice (common practice)",
+        surface=False,
+        solid=True,
+    ),
+    FindingKind(
+        "internal_voids",
+        "info",
+        "voids",
+        "closed surfaces of free faces inside the part (their faces point into the hole)",
+        "a cavity is often the design (a bore, a pocket), and is reported so that an "
+        "unintended one (a missing element) is seen (common practice)",
+        surface=False,
+        solid=True,
+    ),
+    FindingKind(
+        "shells_on_solid_faces",
+        "info",
+        "elements",
+        "shell elements on the same corner nodes as a face of a solid (a skin or coating)",
+        "a normal way to model a coating or to apply loads and read stresses on the "
+        "surface; reported so that an unintended one is seen (common practice)",
+        surface=False,
+        solid=True,
+    ),
+    FindingKind(
         "unaudited_cells",
         "warn",
         "cells",
@@ -164,6 +238,13 @@ KINDS: tuple[FindingKind, ...] = (
 )
 KIND_INFO: dict[str, FindingKind] = {k.name: k for k in KINDS}
 KIND_NAMES: tuple[str, ...] = tuple(k.name for k in KINDS)
+#: Kinds found on the solids' corner sets and face table (the face table is built only
+#: when one of them is enabled).
+SOLID_FACE_KINDS: tuple[str, ...] = (
+    "duplicate_elements",
+    "hanging_nodes",
+    *(k.name for k in KINDS if k.solid),
+)
 #: Kinds found by the checks that look at nodes and connectivity (the others need no
 #: mesh pass: ``unaudited_cells`` is read off the cell counts).
 MESH_CHECK_KINDS: tuple[str, ...] = tuple(

@@ -122,17 +122,27 @@ class ElementMesh:
         """
         if not self.has_solids:
             return self, None
-        surface = [b for b in self.blocks if b.cell.dimension == 2]
+        part, positions = self._part(2)
         other = np.zeros(self.n_points, dtype=bool)  # a scatter per block, as used_nodes
         other[self.other_nodes] = True
         for b in self.blocks:
             if b.cell.dimension == 3:
                 other[b.connectivity] = True
+        part.other_nodes = np.flatnonzero(other)
+        return part, positions
+
+    def solid_part(self) -> tuple[ElementMesh, np.ndarray]:
+        """The solids (dimension 3) as a mesh of their own, numbered 0..s-1 in report
+        order, and ``positions`` (s,) their report positions (see :meth:`surface_part`)."""
+        return self._part(3)
+
+    def _part(self, dimension: int) -> tuple[ElementMesh, np.ndarray]:
+        chosen = [b for b in self.blocks if b.cell.dimension == dimension]
         positions = (
-            np.concatenate([b.index for b in surface]) if surface else np.zeros(0, dtype=np.int64)
+            np.concatenate([b.index for b in chosen]) if chosen else np.zeros(0, dtype=np.int64)
         )
         blocks, start = [], 0
-        for b in surface:
+        for b in chosen:
             n = len(b)
             blocks.append(
                 ElementBlock(b.cell_type, b.connectivity, b.ids, np.arange(start, start + n))
@@ -143,7 +153,7 @@ class ElementMesh:
             blocks=blocks,
             skipped=self.skipped,
             source=self.source,
-            other_nodes=np.flatnonzero(other),
+            other_nodes=self.other_nodes,
             numbering=self.numbering,
         )
         return part, positions

@@ -96,4 +96,11 @@ def rescaled_findings(found: MeshFindings, exponent: int) -> MeshFindings:
             loop_length=scaled_lengths(free.loop_length, exponent, 1),
             loop_area=scaled_lengths(free.loop_area, exponent, 2),
         )
-    return replace(found, findings=findings, free_edges=free)
+    surfaces = found.surfaces
+    if surfaces is not None:
+        surfaces = replace(
+            surfaces,
+            area=scaled_lengths(surfaces.area, exponent, 2),
+            volume=scaled_lengths(surfaces.volume, exponent, 3),
+        )
+    return replace(found, findings=findings, free_edges=free, surfaces=surfaces)

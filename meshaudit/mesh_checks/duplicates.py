@@ -1,4 +1,5 @@
-"""Elements that appear twice: the same corner nodes in any order or rotation."""
+"""Elements that appear twice: the same corner nodes in any order or rotation (surface
+elements by their 3 or 4 corners, solids by their 4 to 8)."""
 
 from __future__ import annotations
 
@@ -10,13 +11,26 @@ from ..mesh.topology import corner_rows
 #: Odd 64-bit multipliers for hashing the sorted corner lists (any odd constants work;
 #: equal hashes are confirmed by comparing the node lists themselves).
 _MIX = np.array(
-    [0x9E3779B97F4A7C15, 0xC2B2AE3D27D4EB4F, 0x165667B19E3779F9, 0xD6E8FEB86659FD93],
+    [
+        0x9E3779B97F4A7C15,
+        0xC2B2AE3D27D4EB4F,
+        0x165667B19E3779F9,
+        0xD6E8FEB86659FD93,
+        0xFF51AFD7ED558CCD,
+        0xC4CEB9FE1A85EC53,
+        0x94D049BB133111EB,
+        0xBF58476D1CE4E5B9,
+    ],
     dtype=np.uint64,
 )
+_SHIFTS = (0, 7, 0, 3, 5, 0, 11, 2)
 
 
 def _sorted_columns(connectivity: np.ndarray, k: int) -> list[np.ndarray]:
     """The first ``k`` columns of ``connectivity`` sorted within each row, as k columns."""
+    if k not in _NETWORK:  # solids' 5 to 8 corners: one sort along the rows
+        ordered = np.sort(connectivity[:, :k], axis=1)
+        return [ordered[:, i].copy() for i in range(k)]
     columns = [connectivity[:, i].copy() for i in range(k)]
     for i, j in _NETWORK[k]:  # compare-exchange: column i gets the smaller node
         low = np.minimum(columns[i], columns[j])
@@ -26,15 +40,17 @@ def _sorted_columns(connectivity: np.ndarray, k: int) -> list[np.ndarray]:
 
 
 def sorted_corners(mesh: ElementMesh, positions: np.ndarray | None = None) -> np.ndarray:
-    """(n, 4) corner nodes of each element (or of the elements at ascending
-    ``positions``) in ascending order, padded in front with -1."""
+    """(n, w) corner nodes of each element (or of the elements at ascending
+    ``positions``) in ascending order, padded in front with -1; w is 4, or the most
+    corners an element of ``mesh`` has when that is more (solids)."""
     if positions is None:
         positions = np.arange(mesh.n_elements)
-    out = np.full((positions.size, 4), -1, dtype=np.int64)
+    width = max([4, *(b.cell.n_corners for b in mesh.blocks)])
+    out = np.full((positions.size, width), -1, dtype=np.int64)
     for where, conn in corner_rows(mesh, positions):
         k = conn.shape[1]
         for i, column in enumerate(_sorted_columns(conn, k)):
-            out[where, 4 - k + i] = column
+            out[where, width - k + i] = column
     return out
 
 
@@ -44,10 +60,13 @@ def corner_hashes(mesh: ElementMesh) -> np.ndarray:
     out = np.empty(mesh.n_elements, dtype=np.uint64)
     for block in mesh.blocks:
         k = block.cell.n_corners
+        if k not in _NETWORK:  # solids: a sum of mixed corners, which no order changes
+            out[block.index] = _set_hash(block.connectivity, k)
+            continue
         columns = _sorted_columns(block.connectivity[:, :k], k)
         with np.errstate(over="ignore"):
             h = np.full(len(block), np.uint64(k))
-            for column, mix, shift in zip(columns, _MIX, (0, 7, 0, 3)):
+            for column, mix, shift in zip(columns, _MIX, _SHIFTS):
                 term = column.astype(np.uint64)
                 term *= mix
                 term >>= np.uint64(shift)
@@ -55,6 +74,22 @@ def corner_hashes(mesh: ElementMesh) -> np.ndarray:
                 h *= np.uint64(0x100000001B3)  # spreads each column before the next
         out[block.index] = h
     return out
+
+
+def _set_hash(connectivity: np.ndarray, k: int) -> np.ndarray:
+    """(n,) uint64 hash of the first ``k`` nodes of each row as a set: the sum of each
+    node number mixed on its own (a 64-bit finaliser), so no sort is needed."""
+    h = np.full(connectivity.shape[0], np.uint64(k))
+    with np.errstate(over="ignore"):
+        for i in range(k):
+            x = connectivity[:, i].astype(np.uint64)
+            x ^= x >> np.uint64(33)
+            x *= _MIX[4]
+            x ^= x >> np.uint64(29)
+            x *= _MIX[5]
+            x ^= x >> np.uint64(32)
+            h += x
+    return h
 
 
 def duplicate_elements(mesh: ElementMesh) -> tuple[np.ndarray, np.ndarray]:

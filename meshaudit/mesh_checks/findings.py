@@ -21,6 +21,7 @@ import numpy as np
 from ..arrays import unique_values
 from ..judge.finding_kinds import KIND_INFO, FindingSettings
 from ..mesh.elements import ElementMesh
+from ..mesh.faces import SolidEdges
 from ..mesh.frames import Frame
 from ..mesh.topology import EdgeTable, edge_table
 from . import duplicates, edges, hanging, nodes, overlap
@@ -83,6 +84,8 @@ class Finding:
 class MeshFindings:
     findings: list[Finding]
     free_edges: edges.FreeEdges | None
+    #: the solids' free faces grouped into surfaces (None without solids)
+    surfaces: Any = None
 
 
 def at_report_positions(found: MeshFindings, positions: np.ndarray | None) -> MeshFindings:
@@ -96,7 +99,7 @@ def at_report_positions(found: MeshFindings, positions: np.ndarray | None) -> Me
     free = found.free_edges
     if free is not None:
         free = replace(free, element=positions[free.element])
-    return MeshFindings(findings, free)
+    return MeshFindings(findings, free, found.surfaces)
 
 
 def _some(values: np.ndarray) -> str:
@@ -173,6 +176,10 @@ class TopologyPart:
     keep: np.ndarray
     free: edges.FreeEdges
     runs: np.ndarray | None = None  # planar: edges.forward_runs(table), for the fold check
+    #: the coincident-node places, over the solids' nodes too when there are solids
+    clusters: nodes.NodeClusters | None = None
+    #: the checks of the solids (a :class:`~meshaudit.mesh_checks.solid_findings.SolidPart`)
+    solid: Any = None
 
 
 def unaudited_cells(mesh: ElementMesh, settings: FindingSettings) -> Finding | None:
@@ -231,9 +238,14 @@ def find_topology(
     frame: Frame,
     settings: FindingSettings | None = None,
     table: EdgeTable | None = None,
+    solids: SolidEdges | None = None,
 ) -> TopologyPart:
     """The checks that need only connectivity and nodes: orphan nodes, duplicate
-    elements, coincident nodes, hanging nodes, free edges and cracks, non-manifold edges."""
+    elements, coincident nodes, hanging nodes, free edges and cracks, non-manifold edges.
+
+    ``solids``: the solids beside ``mesh`` (its surface part), when the mesh has any:
+    the coincident nodes are then looked for among the solids' nodes too (the checks of
+    the solids themselves are :mod:`meshaudit.mesh_checks.solid_findings`)."""
     settings = settings or FindingSettings()
     out = _Builder(mesh, ids, settings)
     if out.on("orphan_nodes"):
@@ -256,14 +268,14 @@ def find_topology(
     table = edges.kept_table(table if table is not None else edge_table(mesh), keep)
 
     free_use = edges.free_uses(table)
-    clusters = _coincident(mesh, table, settings, free_use, frame.kind != "planar")
+    clusters = _coincident(mesh, table, settings, free_use, frame.kind != "planar", solids)
     if out.on("coincident_nodes"):
         count, members = clusters.count, clusters.members
         out.add(
             "coincident_nodes",
             count,
             f"{members.size} distinct nodes at {count} place(s), not merged: "
-            f"nodes {out.some_nodes(members)}",
+            f"nodes {out.some_nodes(members)}" + _shell_and_solid(mesh, clusters, solids),
             None,
             members,
             node_pairs=clusters.pairs,
@@ -316,7 +328,7 @@ def find_topology(
     runs = None
     if frame.kind == "planar" and out.on("overlapping_elements"):
         runs = edges.forward_runs(table)
-    return TopologyPart(out, table, keep, free, runs)
+    return TopologyPart(out, table, keep, free, runs, clusters)
 
 
 def finish(
@@ -378,8 +390,32 @@ def _orientation_finding(part: TopologyPart, orientation: Orientation) -> None:
     )
 
 
-#: The finding kinds that use the coincident-node clusters.
+def _shell_and_solid(
+    mesh: ElementMesh, clusters: nodes.NodeClusters, solids: SolidEdges | None
+) -> str:
+    """'; k of them join a shell node and a solid node ...' for the places where a node of
+    a surface element ``mesh`` and a node of a solid are not merged ('' when none)."""
+    if solids is None or clusters.members.size == 0 or mesh.n_elements == 0:
+        return ""
+    members, rep = clusters.members, clusters.rep
+    on_shell, on_solid = mesh.used_nodes(), np.zeros(rep.size, dtype=bool)
+    on_solid[solids.nodes] = True
+    shell_place, solid_place = np.zeros(rep.size, dtype=bool), np.zeros(rep.size, dtype=bool)
+    shell_place[rep[members[on_shell[members]]]] = True
+    solid_place[rep[members[on_solid[members]]]] = True
+    both = int(np.count_nonzero(shell_place & solid_place))
+    if both == 0:
+        return ""
+    return (
+        f"; {both} of these places join a shell node and a solid node: the shell is not "
+        "tied to the solid there"
+    )
+
+
+#: The finding kinds that use the coincident-node clusters (the second group only on a
+#: mesh with solids).
 CLUSTER_KINDS = ("coincident_nodes", "crack_edges", "hanging_nodes")
+SOLID_CLUSTER_KINDS = ("crack_faces", "non_conforming_faces")
 
 
 def _coincident(
@@ -388,6 +424,7 @@ def _coincident(
     settings: FindingSettings,
     free_use: np.ndarray,
     shell: bool,
+    solids: SolidEdges | None = None,
 ) -> nodes.NodeClusters:
     """Clusters of distinct nodes at one place (see :mod:`meshaudit.mesh_checks.nodes`):
     nodes within ``coincident_tolerance`` x the shorter of their shortest adjacent edges,
@@ -400,9 +437,15 @@ def _coincident(
     of free edges are tested); nothing when all three are off. The sweep first uses one
     bound for every node (the tolerance x the longest edge); the local tolerance is then
     worked out only for the few nodes that bound lets through.
+
+    With ``solids`` every corner node of a solid is a candidate too, and their edges
+    count for the tolerance (a solid's node and a shell's node at one place are not
+    merged either).
     """
-    enabled = tuple(kind for kind in CLUSTER_KINDS if settings.enabled(kind))
-    if table.n_edges == 0 or not enabled:
+    kinds = CLUSTER_KINDS + (SOLID_CLUSTER_KINDS if solids is not None else ())
+    enabled = tuple(kind for kind in kinds if settings.enabled(kind))
+    no_solid = solids is None or solids.nodes.size == 0
+    if (table.n_edges == 0 and no_solid) or not enabled:
         return nodes.NodeClusters.none(mesh.n_points)
     if "coincident_nodes" in enabled or (shell and "hanging_nodes" in enabled):
         candidates = np.flatnonzero(mesh.used_nodes())
@@ -411,6 +454,8 @@ def _coincident(
         ends[table.start[free_use]] = True
         ends[table.end[free_use]] = True
         candidates = np.flatnonzero(ends)
+    if not no_solid:
+        candidates = unique_values(np.concatenate([candidates, solids.nodes]))
     pts = mesh.points
     relative = settings.coincident_tolerance
 
@@ -419,13 +464,19 @@ def _coincident(
         involved = np.zeros(mesh.n_points, dtype=bool)
         involved[idx] = True
         near = live[involved[live[:, 0]] | involved[live[:, 1]]]
-        tolerance = relative * nodes.shortest_edge_at(pts, near)[idx]
+        shortest = nodes.shortest_edge_at(pts, near)[idx]
+        if not no_solid:
+            shortest = np.minimum(shortest, solids.shortest_at(involved)[idx])
+        tolerance = relative * shortest
         tolerance[~np.isfinite(tolerance)] = 0.0
         return tolerance
 
-    bound = relative * float(np.sqrt(_longest_squared(pts, table.nodes)))
+    longest = _longest_squared(pts, table.nodes) if table.n_edges else 0.0
+    if not no_solid:
+        longest = max(longest, solids.longest_squared())
+    bound = relative * float(np.sqrt(longest))
     clusters = nodes.coincident_clusters(pts, candidates, bound, local, enabled)
-    return nodes.without_degenerate(clusters, mesh)
+    return nodes.without_degenerate(clusters, mesh if solids is None else solids.mesh)
 
 
 def _longest_squared(points: np.ndarray, edge_nodes: np.ndarray) -> float:

@@ -19,7 +19,10 @@ What an element's orientation is judged against depends on the mesh (see
 - ``"none"``, a mesh of solids alone: no surface elements to compare. Each solid's
   orientation is the sign of its own det J (flagged ``reversed`` by its kernel).
 
-Only surface elements are compared (:meth:`meshaudit.mesh.elements.ElementMesh.surface_part`).
+Here only surface elements are compared
+(:meth:`meshaudit.mesh.elements.ElementMesh.surface_part`); solids are compared with their
+neighbours across their common faces by
+:mod:`meshaudit.mesh_checks.solid_findings` (the ``inside_out_solids`` finding).
 """
 
 from __future__ import annotations

@@ -48,6 +48,11 @@ def _document(report: Report, every_element: bool) -> tuple[dict[str, Any], np.n
         "notes": list(report.notes),
         "findings": [f.to_dict() for f in report.findings],
         "free_edge_loops": [] if report.free_edges is None else report.free_edges.loops(),
+        **(
+            {}
+            if report.boundary_surfaces is None
+            else {"solid_surfaces": report.boundary_surfaces.records()}
+        ),
         "elements_listed": "all" if every_element else "not ok",
     }
     if report.materials is not None:  # only with a material: the default report is unchanged

@@ -14,7 +14,7 @@ from rich.text import Text
 
 from ..metrics import METRIC_INFO, METRIC_NAMES, unit_of
 from ..results.report import PERCENTILES, Report
-from .terminal_findings import findings_table, loops_line, verdict_suffix
+from .terminal_findings import findings_table, loops_line, surfaces_line, verdict_suffix
 
 if TYPE_CHECKING:
     from rich.table import Table
@@ -73,6 +73,8 @@ def summary_table(report: Report) -> Table:
     flags = report.flag_counts()
     t.add_row("flags", ", ".join(f"{k} {v}" for k, v in flags.items()) or "none")
     t.add_row("free-edge loops", loops_line(report))
+    if report.boundary_surfaces is not None:
+        t.add_row("solid surfaces", surfaces_line(report))
     for note in report.notes:
         t.add_row("note", note)
     return t

@@ -1,5 +1,5 @@
 """Terminal pieces for the mesh-level findings: the findings table, the free-edge loop
-line of the summary and the findings part of the verdict line."""
+and solid-surface lines of the summary and the findings part of the verdict line."""
 
 from __future__ import annotations
 
@@ -62,7 +62,7 @@ def loops_line(report: Report) -> str:
     (length 4)': the part's boundary first, then cracks and non-conforming interfaces."""
     free = report.free_edges
     if report.summary.frame == "solid":
-        return "not checked (no surface elements; the faces of solids are not checked yet)"
+        return "none (no surface elements: see the solids' surfaces)"
     if free is None:
         return "not checked"
     if free.n_loops == 0:
@@ -80,6 +80,27 @@ def loops_line(report: Report) -> str:
     ]
     more = f", and {free.n_loops - SHOWN_LOOPS} more" if free.n_loops > SHOWN_LOOPS else ""
     return f"{free.n_loops}: " + "; ".join(parts) + more
+
+
+def surfaces_line(report: Report) -> str:
+    """Summary of the solids' free-face surfaces, e.g. '2: skin 54 faces (area 54,
+    volume 27); void 6 faces (area 6, volume 1)'; skins first, then voids, cracks and
+    non-conforming interfaces (the order they are numbered in)."""
+    surfaces = report.boundary_surfaces
+    if surfaces is None:
+        return "not checked"
+    if surfaces.n_surfaces == 0:
+        return "none"
+    parts = []
+    for rec in surfaces.records()[:SHOWN_LOOPS]:
+        kind = str(rec["kind"])
+        size = f"area {rec['area']:.4g}"
+        if kind in ("skin", "void"):
+            size += f", volume {abs(float(rec['volume'])):.4g}"  # type: ignore[arg-type]
+        parts.append(f"{LOOP_WORDS.get(kind, kind)} {rec['faces']} faces ({size})")
+    more = surfaces.n_surfaces - SHOWN_LOOPS
+    tail = f", and {more} more" if more > 0 else ""
+    return f"{surfaces.n_surfaces}: " + "; ".join(parts) + tail
 
 
 def verdict_suffix(report: Report) -> str:

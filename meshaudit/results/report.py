@@ -18,6 +18,7 @@ from ..judge.profiles import Profile
 from ..judge.verdicts import FAIL, VERDICT_NAMES, WARN
 from ..mesh_checks.edges import FreeEdges
 from ..mesh_checks.findings import Finding
+from ..mesh_checks.surfaces import BoundarySurfaces
 from ..metrics import LIMITED_METRICS, METRIC_NAMES, VALIDITY_FLAGS, WARNING_FLAGS
 from .percentiles import linear_percentiles
 
@@ -91,8 +92,8 @@ class MeshSummary:
         if self.frame == "solid":
             return (
                 "solid (volume elements only, each measured in space against its reference "
-                "element; orientation: the sign of each element's own det J; the mesh-level "
-                "checks cover surface elements only, and there are none)"
+                "element; orientation: the sign of each element's own det J, and neighbours "
+                "compared across their common faces)"
             )
         solids = self.n_solids
         if self.frame != "planar":
@@ -109,7 +110,7 @@ class MeshSummary:
         if solids:
             text += (
                 f", with {solids:,} solid elements measured in space (orientation: the sign "
-                "of each one's det J; the mesh-level checks cover the surface elements only)"
+                "of each one's det J, and neighbours compared across their common faces)"
             )
         return text
 
@@ -155,6 +156,9 @@ class Report:
     findings: list[Finding] = field(default_factory=list)
     #: Free edges chained into loops (None when the checks did not run).
     free_edges: FreeEdges | None = None
+    #: the solids' free faces grouped into surfaces (skin, voids, cracks, interfaces; see
+    #: :mod:`meshaudit.mesh_checks.surfaces`), None without solids or checks
+    boundary_surfaces: BoundarySurfaces | None = None
     #: :meth:`statistics`, when the engine worked it out already (else on first use).
     precomputed_statistics: dict[str, dict[str, Any]] | None = field(
         default=None, repr=False, compare=False
