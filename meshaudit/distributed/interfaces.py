@@ -1,0 +1,380 @@
+"""Matching parts along their boundaries, on the driver, from the parts' free edges.
+
+Each part sends its free edges (edges one of its surface elements uses) with their end
+nodes (:class:`~meshaudit.distributed.work.Boundary`); everything here works on those
+arrays alone, sorted and grouped as a whole, never element by element.
+
+1. **Nodes across parts.** Where every part carries global node ids, two ends with the
+   same id are one node. Otherwise ends of *different* parts closer than the
+   coincident-node tolerance (the relative tolerance times the shorter of their shortest
+   edges) are one node: the parts are joined the way one file made of them with its
+   shared nodes merged would be. Ends of one part stay distinct (an unmerged node of a
+   part is found as in one file).
+2. **Interface edges.** A free edge of a part used by exactly one free edge of another
+   part (same two nodes) lies on the cut between parts: it is interior, never a free
+   edge. One used by more than two elements across parts is a non-manifold edge.
+3. **Elements repeated across parts.** Elements with a corner on a free edge of their
+   part whose corner nodes are the same set as such an element of another part: the
+   later one (by position) repeats the earlier; it is reported as a duplicate and its
+   edges are left out of the matching, as in one file. Corners are compared by global
+   node id where the parts have them (so a copy of a neighbouring part's element, a
+   halo cell written into both parts, is found); without ids only corners on free
+   edges can match, so a copy is found only when all corners of both elements lie on
+   their parts' free edges.
+4. **Free edges, cracks, loops.** The free edges left are the mesh's free edges. Their
+   ends are grouped into places (:func:`meshaudit.mesh_checks.nodes.coincident_clusters`,
+   the sweep the single-file check uses, with each end's tolerance from its part); a
+   free edge joining the same two places as another is a crack edge, whether the two
+   edges come from one part or two (with global ids, two parts whose nodes along the cut
+   have different ids are cracked there). The free edges are chained into loops with the
+   rules of :func:`meshaudit.mesh_checks.edges.free_edges`.
+5. **Unmerged nodes across parts** (global ids): a place holding ends of two or more
+   parts with different ids is a ``coincident_nodes`` place.
+
+Not matched across parts (each part's own checks still run): hanging nodes of one part
+on another part's edges, overlaps between elements of different parts, orientation
+patches that continue across a cut (shells and planes containing z: each part's
+smaller group is flagged within the part; edges run the same way by the elements on
+both sides of a cut are counted in a note), and for solids anything but the nodes on
+their parts' surface elements.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..judge.finding_kinds import FindingSettings
+from ..mesh.frames import Frame
+from ..mesh.topology import connected_labels
+from ..mesh_checks.edges import FreeEdges, with_winding
+from ..mesh_checks.findings import MESSAGE_IDS, Finding
+from ..mesh_checks.nodes import NodeClusters, coincident_clusters
+from .work import Boundary
+
+
+@dataclass
+class CrossPart:
+    """What the matching found: extra findings, the free edges of the whole mesh, how
+    many part nodes were the same node as one of another part, and report notes."""
+
+    findings: list[Finding]
+    free: FreeEdges | None
+    shared_nodes: int
+    notes: list[str]
+
+
+def _some(values: np.ndarray) -> str:
+    shown = ", ".join(str(int(v)) for v in values[:MESSAGE_IDS])
+    return shown + (", ..." if values.size > MESSAGE_IDS else "")
+
+
+def match_parts(
+    boundaries: Sequence[Boundary | None],
+    global_ids: bool,
+    settings: FindingSettings,
+    frame: Frame,
+) -> CrossPart:
+    """Match the parts' free edges (see the module docstring)."""
+    parts = [b for b in boundaries if b is not None]
+    if not parts:
+        return CrossPart([], None, 0, [])
+    part_of = np.concatenate([np.full(b.key.size, k) for k, b in enumerate(parts)])
+    xyz = np.concatenate([b.xyz for b in parts])
+    number = np.concatenate([b.number for b in parts])
+    tol = np.concatenate([b.tolerance for b in parts])
+    first = np.cumsum([0] + [b.key.size for b in parts])[:-1]
+    ends = np.concatenate([b.edges + f for b, f in zip(parts, first)])
+    element = np.concatenate([b.edge_element for b in parts])
+    ids = np.concatenate([b.edge_ids for b in parts])
+    sign = np.concatenate([b.edge_sign for b in parts])
+    on_interface = np.concatenate([b.edge_interface for b in parts])
+    edge_part = part_of[ends[:, 0]] if ends.size else np.zeros(0, dtype=np.int64)
+
+    # 1. one number per node of the whole mesh
+    if global_ids:
+        _, node = np.unique(np.concatenate([b.key for b in parts]), return_inverse=True)
+        node = node.ravel()
+    else:
+        node = _joined_by_place(xyz, tol, part_of)
+    n_nodes = int(node.max()) + 1 if node.size else 0
+    shared = int(node.size - np.unique(node).size)
+    # one row per node: its first end's coordinates and number, its smallest tolerance
+    head = np.full(n_nodes, node.size, dtype=np.int64)
+    np.minimum.at(head, node, np.arange(node.size))
+    node_xyz, node_number = xyz[head], number[head]
+    node_tol = np.full(n_nodes, np.inf)
+    np.minimum.at(node_tol, node, tol)
+    node_parts = _parts_per_node(node, part_of, n_nodes)
+
+    findings: list[Finding] = []
+    # 3. elements repeated across parts
+    copies = _repeated(parts, first, node, global_ids, settings, findings)
+    keep = ~np.isin(element, copies)
+
+    # 2. interface edges
+    a, b = node[ends[:, 0]], node[ends[:, 1]]
+    key = np.minimum(a, b) * np.int64(max(n_nodes, 1)) + np.maximum(a, b)
+    _, inverse, uses = np.unique(key[keep], return_inverse=True, return_counts=True)
+    count = np.zeros(key.size, dtype=np.int64)
+    count[keep] = uses[inverse.ravel()]
+    spans = np.zeros(key.size, dtype=bool)
+    if keep.any():
+        lo = np.full(uses.size, np.iinfo(np.int64).max)
+        hi = np.full(uses.size, -1)
+        np.minimum.at(lo, inverse.ravel(), edge_part[keep])
+        np.maximum.at(hi, inverse.ravel(), edge_part[keep])
+        spans[keep] = (lo != hi)[inverse.ravel()]
+    notes = []
+    matched = keep & (count == 2) & spans
+    same_way = _same_way(a[matched], b[matched], key[matched])
+    if same_way and frame.orientation == "relative":
+        notes.append(
+            f"{same_way} edge(s) between parts are run the same way by the elements on both "
+            "sides: their normals disagree across the cut (flipped_normal is decided "
+            "within each part)"
+        )
+    crowded = keep & (count > 2) & spans
+    if crowded.any() and settings.enabled("non_manifold_edges"):
+        edges_nm = np.unique(key[crowded])
+        findings.append(
+            Finding(
+                kind="non_manifold_edges",
+                severity=settings.severity["non_manifold_edges"],
+                count=int(edges_nm.size),
+                element_ids=np.unique(ids[crowded]),
+                node_ids=np.unique(node_number[np.concatenate([a[crowded], b[crowded]])]),
+                message=f"{edges_nm.size} edge(s) between parts shared by more than two "
+                f"elements: {_some(np.unique(ids[crowded]))}",
+                element_index=np.unique(element[crowded]),
+            )
+        )
+
+    # 4. the free edges of the whole mesh
+    free_mask = keep & (count == 1)
+    fa, fb = a[free_mask], b[free_mask]
+    used = np.zeros(n_nodes, dtype=bool)
+    used[fa] = used[fb] = True
+    places = _places(node_xyz, node_tol, np.flatnonzero(used), settings)
+    ra, rb = places.rep[fa], places.rep[fb]
+    pkey = np.minimum(ra, rb) * np.int64(max(n_nodes, 1)) + np.maximum(ra, rb)
+    _, pinv, pcount = np.unique(pkey, return_inverse=True, return_counts=True)
+    crack = (pcount[pinv.ravel()] > 1) & (ra != rb)
+    free = _loops(
+        fa, fb, element[free_mask], sign[free_mask], crack, on_interface[free_mask], node_xyz, frame
+    )
+    if crack.any() and settings.enabled("crack_edges"):
+        rows = np.flatnonzero(crack)
+        loops = np.unique(free.loop[rows])
+        pairs = np.stack([fa[rows], fb[rows]], axis=1)
+        findings.append(
+            Finding(
+                kind="crack_edges",
+                severity=settings.severity["crack_edges"],
+                count=int(rows.size),
+                element_ids=np.unique(ids[free_mask][rows]),
+                node_ids=np.unique(node_number[pairs]),
+                message=f"{rows.size} free edge(s) lie on other free edges (unmerged nodes "
+                f"cut the part) in free-edge loop(s) {_some(loops)}",
+                element_index=np.unique(element[free_mask][rows]),
+                edges=node_number[pairs],
+                edge_xyz=node_xyz[pairs],
+            )
+        )
+
+    # 5. unmerged nodes of different parts at one place
+    if global_ids and settings.enabled("coincident_nodes") and places.members.size:
+        members = places.members
+        rep = places.rep[members]
+        lo = np.full(n_nodes, np.iinfo(np.int64).max)
+        hi = np.full(n_nodes, -1)
+        np.minimum.at(lo, rep, node_parts[0][members])
+        np.maximum.at(hi, rep, node_parts[1][members])
+        across = lo[rep] != hi[rep]
+        if across.any():
+            held = members[across]
+            reps = places.rep[held]
+            count_places = int(np.unique(reps).size)
+            others = held[reps != held]
+            pairs = np.stack([node_number[places.rep[others]], node_number[others]], axis=1)
+            findings.append(
+                Finding(
+                    kind="coincident_nodes",
+                    severity=settings.severity["coincident_nodes"],
+                    count=count_places,
+                    element_ids=np.zeros(0, dtype=np.int64),
+                    node_ids=np.unique(node_number[held]),
+                    message=f"{held.size} distinct nodes of different parts at "
+                    f"{count_places} place(s), not merged: nodes "
+                    f"{_some(np.unique(node_number[held]))}",
+                    pairs=pairs,
+                    node_xyz=node_xyz[held],
+                )
+            )
+    return CrossPart(findings, free, shared, notes)
+
+
+def _joined_by_place(xyz: np.ndarray, tol: np.ndarray, part_of: np.ndarray) -> np.ndarray:
+    """Without global ids: a number per end, ends of different parts within tolerance
+    sharing one (ends of one part keep numbers of their own)."""
+    n = xyz.shape[0]
+    if n == 0:
+        return np.zeros(0, dtype=np.int64)
+    clusters = coincident_clusters(
+        xyz, np.arange(n), float(tol.max()), lambda idx: tol[idx], ("crack_edges",)
+    )
+    rep = clusters.rep
+    members = clusters.members
+    # a place whose ends all belong to one part is an unmerged node of that part: kept
+    lo = np.full(n, np.iinfo(np.int64).max)
+    hi = np.full(n, -1)
+    np.minimum.at(lo, rep[members], part_of[members])
+    np.maximum.at(hi, rep[members], part_of[members])
+    joined = rep.copy()
+    alone = members[lo[rep[members]] == hi[rep[members]]]
+    joined[alone] = alone
+    _, number = np.unique(joined, return_inverse=True)
+    return number.ravel()
+
+
+def _parts_per_node(node: np.ndarray, part_of: np.ndarray, n: int) -> tuple[np.ndarray, ...]:
+    """(lowest part, highest part) each node of the whole mesh has an end in."""
+    lo = np.full(n, np.iinfo(np.int64).max)
+    hi = np.full(n, -1)
+    np.minimum.at(lo, node, part_of)
+    np.maximum.at(hi, node, part_of)
+    return lo, hi
+
+
+def _places(
+    xyz: np.ndarray, tol: np.ndarray, candidates: np.ndarray, settings: FindingSettings
+) -> NodeClusters:
+    """Distinct nodes of the whole mesh at one place (free-edge ends only)."""
+    on = [k for k in ("crack_edges", "coincident_nodes") if settings.enabled(k)]
+    if candidates.size < 2 or not on:
+        return NodeClusters.none(xyz.shape[0])
+    finite = np.where(np.isfinite(tol), tol, 0.0)
+    return coincident_clusters(
+        xyz, candidates, float(finite[candidates].max()), lambda idx: finite[idx], tuple(on)
+    )
+
+
+def _same_way(a: np.ndarray, b: np.ndarray, key: np.ndarray) -> int:
+    """How many matched edges both their elements run from the same node."""
+    if key.size == 0:
+        return 0
+    order = np.argsort(key, kind="stable")
+    first, second = order[0::2], order[1::2]
+    return int(np.count_nonzero(a[first] == a[second]))
+
+
+def _repeated(
+    parts: Sequence[Boundary],
+    first: np.ndarray,
+    node: np.ndarray,
+    global_ids: bool,
+    settings: FindingSettings,
+    findings: list[Finding],
+) -> np.ndarray:
+    """Elements at part boundaries repeating an element of another part (same corner
+    nodes in any order); adds the finding; returns the copies' positions."""
+    rows, index, ids, part = [], [], [], []
+    for k, (b, f) in enumerate(zip(parts, first)):
+        c = b.rim_corners
+        if global_ids:
+            rows.append(c)
+            index.append(b.rim_index)
+            ids.append(b.rim_ids)
+            part.append(np.full(b.rim_index.size, k))
+            continue
+        inside = c >= 0
+        mapped = np.where(inside, node[np.where(inside, c, 0) + f], -1)
+        # a corner not on a free edge cannot be another part's node: a key of its own
+        mapped = np.where(c < -1, -(k + 1) * (1 << 40) + c, mapped)
+        rows.append(np.sort(mapped, axis=1))
+        index.append(b.rim_index)
+        ids.append(b.rim_ids)
+        part.append(np.full(b.rim_index.size, k))
+    corners = np.concatenate(rows)
+    if corners.shape[0] < 2:
+        return np.zeros(0, dtype=np.int64)
+    index, ids, part = np.concatenate(index), np.concatenate(ids), np.concatenate(part)
+    order = np.lexsort((index, *corners.T[::-1]))
+    corners, index, ids, part = corners[order], index[order], ids[order], part[order]
+    same = np.concatenate([[False], (corners[1:] == corners[:-1]).all(axis=1)])
+    group = np.cumsum(~same) - 1
+    lead = np.flatnonzero(~same)
+    # a copy is reported here when no earlier element of its group is in its own part
+    # (those its part's own check has found); the original is the group's first
+    later = np.flatnonzero(same)
+    earlier_same_part = np.zeros(later.size, dtype=bool)
+    for k in range(int(part.max()) + 1):  # parts, not elements
+        mine = part == k
+        seen = np.maximum.accumulate(np.where(mine, np.arange(part.size), -1))
+        prev = np.concatenate([[-1], seen[:-1]])
+        earlier_same_part |= mine[later] & (prev[later] >= lead[group[later]])
+    copies = later[~earlier_same_part]
+    if copies.size and settings.enabled("duplicate_elements"):
+        originals = lead[group[copies]]
+        pairs = np.stack([ids[originals], ids[copies]], axis=1)
+        text = ", ".join(f"{c} repeats {o}" for o, c in pairs[:MESSAGE_IDS])
+        findings.append(
+            Finding(
+                kind="duplicate_elements",
+                severity=settings.severity["duplicate_elements"],
+                count=int(copies.size),
+                element_ids=np.sort(ids[copies]),
+                node_ids=np.zeros(0, dtype=np.int64),
+                message=f"element {text}",
+                element_index=np.sort(index[copies]),
+                pairs=pairs,
+            )
+        )
+    return index[copies]
+
+
+def _loops(
+    a: np.ndarray,
+    b: np.ndarray,
+    element: np.ndarray,
+    sign: np.ndarray,
+    crack: np.ndarray,
+    on_interface: np.ndarray,
+    xyz: np.ndarray,
+    frame: Frame,
+) -> FreeEdges:
+    """The free edges chained into loops (the rules of
+    :func:`meshaudit.mesh_checks.edges.free_edges`)."""
+    n = xyz.shape[0]
+    shift = on_interface * np.int64(n)
+    label = connected_labels(2 * n if on_interface.any() else max(n, 1), a + shift, b + shift)
+    loop_ids, loop = np.unique(label[a + shift], return_inverse=True)
+    loop = loop.ravel()
+    n_loops = loop_ids.size
+    ends = np.stack([xyz[a], xyz[b]], axis=1)
+    length = np.linalg.norm(ends[:, 1] - ends[:, 0], axis=1)
+    n_edges = np.bincount(loop, minlength=n_loops)
+    cracks = np.bincount(loop, weights=crack, minlength=n_loops).astype(np.int64)
+    kind = np.full(n_loops, "boundary", dtype=object)
+    kind[(cracks == n_edges) & (n_edges > 0)] = "crack"
+    kind[np.bincount(loop, weights=on_interface, minlength=n_loops) > 0] = "interface"
+    free = FreeEdges(
+        nodes=np.stack([a, b], axis=1),
+        element=np.arange(a.size),
+        loop=loop,
+        crack=crack,
+        interface=on_interface,
+        xyz=ends,
+        loop_kind=kind,
+        loop_edges=n_edges.astype(np.int64),
+        loop_length=np.bincount(loop, weights=length, minlength=n_loops),
+        loop_area=np.full(n_loops, np.nan),
+        loop_cracks=cracks,
+    )
+    if frame.kind == "planar" and frame.normal is not None and a.size:
+        free = with_winding(free, xyz, sign.astype(np.float64), frame.normal)
+    from dataclasses import replace
+
+    return replace(free, element=element)
