@@ -83,7 +83,7 @@ def write_partitioned(
         '    <PPoints><PDataArray type="Float64" NumberOfComponents="3"/></PPoints>\n'
         f"{pieces}  </PUnstructuredGrid>\n</VTKFile>\n"
     )
-    merged = folder / "plate_merged.vtu"
+    merged = folder / "merged_plate.vtu"
     meshio.write(merged, meshio.Mesh(points, [("quad", np.concatenate(cells))]))
     return pvtu, merged
 

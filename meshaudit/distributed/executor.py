@@ -93,7 +93,7 @@ def executor_for(cluster: Any, workers: int | None, n_parts: int) -> Iterator[Ex
             n_workers=size,
             threads_per_worker=1,
             processes=True,
-            dashboard_address=None,
+            dashboard_address=":0",  # any free port: never a clash with another run
             silence_logs=50,
         ) as local,
         distributed.Client(local) as client,

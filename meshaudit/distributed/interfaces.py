@@ -282,9 +282,9 @@ def _repeated(
     nodes in any order); adds the finding; returns the copies' positions."""
     rows, index, ids, part = [], [], [], []
     for k, (b, f) in enumerate(zip(parts, first)):
-        c = b.rim_corners
+        c = b.rim_corners[:, :4]
         if global_ids:
-            rows.append(c)
+            rows.append(np.sort(b.rim_corners[:, 4:], axis=1))
             index.append(b.rim_index)
             ids.append(b.rim_ids)
             part.append(np.full(b.rim_index.size, k))

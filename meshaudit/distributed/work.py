@@ -133,8 +133,9 @@ class Boundary:
     edge_sign: np.ndarray  # (m,) winding of the element about the plane normal (+1/-1), or 0
     rim_index: np.ndarray  # (r,) elements with a corner on a free edge: whole-mesh positions
     rim_ids: np.ndarray
-    #: (r, 4) the corners, sorted, -1 padded: global node ids where the parts have them,
-    #: else rows of the free-edge nodes above (-2 - node index for a corner on none)
+    #: (r, 8) the corners, -1 padded: columns 0-3 rows of the free-edge nodes above (-2 -
+    #: node index for a corner on none), columns 4-7 their global node ids (when the
+    #: part has them)
     rim_corners: np.ndarray
 
 
@@ -288,13 +289,13 @@ def _boundary(
         touch = on_edge[corners].any(axis=1)
         if not touch.any():
             continue
+        near = corners[touch]
+        k = near.shape[1]
+        pad = np.full((near.shape[0], 8), -1, dtype=np.int64)
+        rows_of_ends = local[near]
+        pad[:, :k] = np.where(rows_of_ends < 0, -2 - near, rows_of_ends)
         if gids is not None:  # global ids name every corner, on a free edge or not
-            c = np.sort(gids[corners[touch]], axis=1)
-        else:
-            c = local[corners[touch]]
-            c = np.sort(np.where(c < 0, -2 - corners[touch], c), axis=1)
-        pad = np.full((c.shape[0], 4), -1, dtype=np.int64)
-        pad[:, : c.shape[1]] = c
+            pad[:, 4 : 4 + k] = gids[near]
         rim_index.append(rows[touch] + offset)
         rim_ids.append(report.ids[rows[touch]])
         rim_corners.append(pad)
@@ -320,7 +321,7 @@ def _boundary(
         edge_sign=sign,
         rim_index=np.concatenate(rim_index) if rim_index else none,
         rim_ids=np.concatenate(rim_ids) if rim_ids else none,
-        rim_corners=np.concatenate(rim_corners) if rim_corners else none.reshape(0, 4),
+        rim_corners=np.concatenate(rim_corners) if rim_corners else none.reshape(0, 8),
     )
 
 

@@ -1,0 +1,230 @@
+"""A partitioned mesh audited on a Dask LocalCluster gives the audit of the same mesh
+merged into one file.
+
+The outside references: the merged file is made by the test helper (numpy and meshio,
+see :mod:`partitioned_meshes`), not by meshaudit; the planted defects are known by
+construction (how many crack edges and unmerged places a split of four nodes along the
+cut makes, which element is the halo copy, which is reversed); percentiles are checked
+against ``numpy.percentile`` of the merged audit's columns.
+"""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+
+import numpy as np
+import pytest
+from partitioned_meshes import write_partitioned
+
+import meshaudit
+from meshaudit.distributed import audit_parts
+from meshaudit.distributed.sketch import KEPT_BITS, Sketch
+from meshaudit.results.report import PERCENTILES
+
+distributed = pytest.importorskip("distributed")
+
+NX, NY, PARTS = 24, 10, 3
+
+
+@pytest.fixture(scope="module")
+def client():
+    """Two workers in this process (threads): starts in about a second."""
+    with (
+        distributed.LocalCluster(
+            n_workers=2, threads_per_worker=1, processes=False, dashboard_address=":0"
+        ) as cluster,
+        distributed.Client(cluster) as c,
+    ):
+        yield c
+
+
+def _findings(report) -> dict:
+    return {
+        f.kind: (
+            f.severity,
+            f.count,
+            sorted(f.element_ids.tolist()),
+            sorted(f.node_ids.tolist()),
+            sorted(map(tuple, f.pairs.tolist())),
+        )
+        for f in report.findings
+    }
+
+
+def _loops(report) -> list:
+    return sorted(
+        (d["kind"], d["edges"], round(d["length"], 9), d["crack_edges"])
+        for d in report.free_edges.loops()
+    )
+
+
+def _not_ok(report) -> dict:
+    rows = report.worst(only_flagged=True)
+    positions = report.positions(rows)
+    return {
+        int(report.ids[r]): (
+            int(p),
+            int(report.verdict[r]),
+            int(report.flag_bits[r]),
+            {m: float(report.metrics[m][r]) for m in report.metrics},
+        )
+        for r, p in zip(rows.tolist(), positions.tolist())
+    }
+
+
+def _same_numbers(a: dict, b: dict) -> None:
+    """Element by element, metric by metric: equal, NaN where NaN."""
+    assert a.keys() == b.keys()
+    for key in a:
+        pa, va, fa, ma = a[key]
+        pb, vb, fb, mb = b[key]
+        assert (pa, va, fa) == (pb, vb, fb)
+        for m in ma:
+            assert ma[m] == mb[m] or (np.isnan(ma[m]) and np.isnan(mb[m])), (key, m)
+
+
+def test_local_cluster_gives_the_merged_file_audit(tmp_path, client):
+    pvtu, merged = write_partitioned(tmp_path, NX, NY, PARTS)
+    one = meshaudit.audit(str(merged))
+    many = audit_parts(pvtu, cluster=client)
+
+    assert many.passed == one.passed is False
+    assert many.verdict_counts() == one.verdict_counts()
+    assert many.flag_counts() == one.flag_counts()
+    _same_numbers(_not_ok(many), _not_ok(one))
+    assert _findings(many) == _findings(one)
+    assert _loops(many) == _loops(one)
+
+    # by construction: four nodes of the cut split (rows 2..5 of x = 8) make five cut
+    # segments seen from both sides, 10 crack edges, and 4 unmerged places; the halo
+    # copy is the last cell of part 1; element 5 * 24 + 1 was written reversed
+    found = {f.kind: f for f in many.findings}
+    assert found["crack_edges"].count == 10
+    assert found["coincident_nodes"].count == 4
+    part0 = NX // PARTS * NY
+    part1 = part0 + NX // PARTS * NY + 1
+    assert found["duplicate_elements"].element_ids.tolist() == [part1 - 1]
+    reversed_id = (NY // 2) * (NX // PARTS) + 1  # row 5, column 1 of part 0
+    assert found["inconsistent_winding"].element_ids.tolist() == [reversed_id]
+    # the cut itself is no free edge: the outer loop is the plate's outline
+    outer = [d for d in many.free_edges.loops() if d["kind"] == "outer"]
+    assert [d["edges"] for d in outer] == [2 * (NX + NY)]
+
+
+def test_statistics_exact_counts_and_ends_percentiles_within_the_sketch_bound(tmp_path, client):
+    pvtu, merged = write_partitioned(tmp_path, NX, NY, PARTS, crack=False, halo=False)
+    one = meshaudit.audit(str(merged))
+    many = audit_parts(pvtu, cluster=client)
+    for name, entry in many.statistics().items():
+        ref = one.statistics()[name]
+        for key in ("count", "infinite", "min", "max", "past_warn", "past_fail"):
+            assert entry[key] == ref[key], (name, key)
+        values = one.metrics[name][np.isfinite(one.metrics[name])]
+        if values.size == 0:
+            continue
+        expected = np.percentile(values, [q for _, q in PERCENTILES])  # numpy's linear
+        got = np.array([entry[k] for k, _ in PERCENTILES])
+        bound = 2.0**-KEPT_BITS * np.abs(expected).max()
+        assert np.all(np.abs(got - expected) <= bound), name
+
+
+def test_without_global_ids_parts_are_joined_by_coordinates(tmp_path, client):
+    pvtu, merged = write_partitioned(
+        tmp_path, NX, NY, PARTS, crack=False, halo=False, global_ids=False
+    )
+    one = meshaudit.audit(str(merged))
+    many = audit_parts(pvtu, cluster=client)
+    assert many.verdict_counts() == one.verdict_counts()
+    assert _findings(many) == _findings(one)
+    assert _loops(many) == _loops(one)
+    # by construction: no crack, and the plate's outline is the only free-edge loop
+    assert [(d["kind"], d["edges"]) for d in many.free_edges.loops()] == [("outer", 2 * (NX + NY))]
+    # nodes: the merged file has (NX + 1)(NY + 1); the parts share those on the cuts
+    assert many.summary.n_points == (NX + 1) * (NY + 1)
+
+
+def test_sketch_percentiles_against_numpy():
+    """Values of both signs over many magnitudes, cut into three parts: counts, minimum
+    and maximum exact, percentiles within 2^-10 of the magnitude (numpy.percentile)."""
+    rng = np.random.default_rng(3)
+    values = rng.standard_normal(5000) * 10.0 ** rng.integers(-3, 4, 5000)
+    pieces = np.array_split(values, 3)
+    merged = Sketch.merged([Sketch.of(p, None) for p in pieces]).statistics()
+    expected = np.percentile(values, [q for _, q in PERCENTILES])
+    assert merged["count"] == values.size
+    assert merged["min"] == values.min() and merged["max"] == values.max()
+    for (key, _), want in zip(PERCENTILES, expected):
+        assert abs(merged[key] - want) <= 2.0**-KEPT_BITS * abs(want) + 1e-300, key
+    # values with short mantissas come out exact: integers below 2^10
+    whole = rng.integers(0, 1000, 999).astype(float)
+    stats = Sketch.merged([Sketch.of(p, None) for p in np.array_split(whole, 4)]).statistics()
+    for (key, _), want in zip(PERCENTILES, np.percentile(whole, [q for _, q in PERCENTILES])):
+        assert stats[key] == want, key
+
+
+def test_check_command_on_a_pvtu(tmp_path, run_cli):
+    pvtu, merged = write_partitioned(tmp_path, NX, NY, PARTS)
+    out = tmp_path / "elements"
+    out.mkdir()
+    res = run_cli("check", pvtu, "--json", tmp_path / "r.json", "--elements", out, "--quiet")
+    assert res.returncode == 1, res.stderr
+    assert "FAIL" in res.stdout and "of 241 elements" in res.stdout
+    doc = json.loads((tmp_path / "r.json").read_text())
+    single = run_cli("check", merged, "--json", tmp_path / "s.json", "--quiet")
+    ref = json.loads((tmp_path / "s.json").read_text())
+    assert single.returncode == 1
+    assert doc["counts"] == ref["counts"]
+    assert [e["index"] for e in doc["elements"]] == [e["index"] for e in ref["elements"]]
+    assert {f["kind"]: f["count"] for f in doc["findings"]} == {
+        f["kind"]: f["count"] for f in ref["findings"]
+    }
+    # one CSV per part plus the index; together every element once, by its position
+    files = sorted(p.name for p in out.iterdir())
+    assert files == [
+        "plate.part00000.csv",
+        "plate.part00001.csv",
+        "plate.part00002.csv",
+        "plate.parts.csv",
+    ]
+    index = []
+    for name in files[:3]:
+        lines = (out / name).read_text().splitlines()[1:]
+        index += [int(line.split(",")[0]) for line in lines]
+    assert index == list(range(241))
+
+
+def test_parts_pattern_is_one_mesh(tmp_path, run_cli):
+    write_partitioned(tmp_path, NX, NY, PARTS)
+    res = run_cli("check", "--parts", str(tmp_path / "plate_*.vtu"), "--quiet")
+    assert res.returncode == 1, res.stderr
+    assert res.stdout.count("FAIL") == 1 and "of 241 elements" in res.stdout
+
+
+@pytest.mark.parametrize(
+    "trouble",
+    ["missing piece", "no pieces", "plot"],
+)
+def test_refused_in_one_line(tmp_path, run_cli, trouble):
+    pvtu, _ = write_partitioned(tmp_path, 6, 2, 2, crack=False, halo=False)
+    args = ["check", pvtu]
+    if trouble == "missing piece":
+        (tmp_path / "plate_1.vtu").unlink()
+    elif trouble == "no pieces":
+        pvtu.write_text('<VTKFile type="PUnstructuredGrid"><PUnstructuredGrid/></VTKFile>')
+    else:
+        args += ["--plot", tmp_path / "p.png"]
+    res = run_cli(*args)
+    assert res.returncode == 2
+    assert len(res.stderr.strip().splitlines()) == 1 and "Traceback" not in res.stderr
+
+
+def test_core_never_imports_dask():
+    code = (
+        "import sys, meshaudit; meshaudit.audit('samples/bracket_plate.msh'); "
+        "assert 'distributed' not in sys.modules and 'dask' not in sys.modules"
+    )
+    from conftest import REPO
+
+    subprocess.run([sys.executable, "-c", code], check=True, cwd=REPO)
