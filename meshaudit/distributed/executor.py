@@ -68,6 +68,9 @@ def executor_for(cluster: Any, workers: int | None, n_parts: int) -> Iterator[Ex
         yield OnDask(cluster)  # a client the caller connected and will close
         return
     size = max(1, min(workers or default_workers(), n_parts))
+    if cluster is None and size == 1:
+        yield InProcess()
+        return
     distributed = _dask()
     if cluster is not None:
         if distributed is None:
@@ -78,9 +81,6 @@ def executor_for(cluster: Any, workers: int | None, n_parts: int) -> Iterator[Ex
             raise MeshAuditError(f"cannot reach the Dask scheduler at {cluster}: {exc}") from None
         with client:
             yield OnDask(client)
-        return
-    if size == 1:
-        yield InProcess()
         return
     if distributed is None:
         from concurrent.futures import ProcessPoolExecutor

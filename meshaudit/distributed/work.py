@@ -1,5 +1,10 @@
 """What a worker does with one part: read it, measure it, send back small results.
 
+Every task first sets the process's allocator as ``meshaudit check`` does
+(:func:`meshaudit.engine.memory.return_large_blocks`: a Dask worker starts with glibc
+told to hand freed memory back at once, which made each part's chunk temporaries fault
+in anew: 10^6 quads in 4 parts on 2 workers took 13 s that way, 7.5 s this way).
+
 Every function here is a pure function of its arguments (a part's path and what the
 driver decided), so a Dask worker, a local process or the calling thread can run it.
 A part is read where it is measured; only the summaries below travel back:
@@ -22,6 +27,7 @@ from typing import Any
 
 import numpy as np
 
+from ..engine.memory import return_large_blocks
 from ..judge.profiles import Profile
 from ..mesh import labels
 from ..mesh.elements import ElementMesh
@@ -69,6 +75,7 @@ class Survey:
 
 def survey_part(path: str, file_format: str | None) -> Survey:
     """Read a part and summarise it (see :class:`Survey`)."""
+    return_large_blocks()
     raw, mesh, gids = read_part(path, file_format)
     surface, _ = mesh.surface_part()
     pts = surface.points[surface.used_nodes()] if surface.n_elements else np.zeros((0, 3))
@@ -182,6 +189,8 @@ def audit_part(
 ) -> PartResult:
     """Audit one part in the whole mesh's frame and summarise it (module docstring)."""
     from ..engine.run import audit_elements
+
+    return_large_blocks()
 
     _, mesh, gids = read_part(path, task.file_format, cell_offset, point_offset)
     frame = task.frame
