@@ -228,3 +228,58 @@ def test_core_never_imports_dask():
     from conftest import REPO
 
     subprocess.run([sys.executable, "-c", code], check=True, cwd=REPO)
+
+
+def _hex_block(folder, n: int, global_ids: bool):
+    """An n x n x n block of unit cubes cut in two parts across x, and the same block
+    in one file (numpy and meshio): node (i, j, k) at index (i (n+1) + j)(n+1) + k."""
+    import meshio
+
+    x, y, z = np.meshgrid(*(np.arange(n + 1.0),) * 3, indexing="ij")
+    pts = np.stack([x.ravel(), y.ravel(), z.ravel()], 1)
+
+    def idx(i, j, k):
+        return (i * (n + 1) + j) * (n + 1) + k
+
+    i, j, k = (a.ravel() for a in np.meshgrid(*(np.arange(n),) * 3, indexing="ij"))
+    hexes = np.stack(
+        [
+            idx(i, j, k),
+            idx(i + 1, j, k),
+            idx(i + 1, j + 1, k),
+            idx(i, j + 1, k),
+            idx(i, j, k + 1),
+            idx(i + 1, j, k + 1),
+            idx(i + 1, j + 1, k + 1),
+            idx(i, j + 1, k + 1),
+        ],
+        1,
+    )
+    owner = i * 2 // n
+    files = []
+    for p in range(2):
+        cells = hexes[owner == p]
+        used = np.unique(cells)
+        data = {"GlobalNodeId": used} if global_ids else {}
+        path = folder / f"block_{p}.vtu"
+        local = np.searchsorted(used, cells)
+        meshio.write(path, meshio.Mesh(pts[used], [("hexahedron", local)], point_data=data))
+        files.append(str(path))
+    merged = folder / "block_merged.vtu"
+    cells = np.concatenate([hexes[owner == p] for p in range(2)])
+    meshio.write(merged, meshio.Mesh(pts, [("hexahedron", cells)]))
+    return files, merged
+
+
+@pytest.mark.parametrize("global_ids", [True, False])
+def test_solid_parts_share_the_nodes_of_their_cut(tmp_path, client, global_ids):
+    """Nodes of solids are matched across parts: a 4 x 4 x 4 block of hexahedra cut in
+    two has 5^3 nodes (by construction), not 5^3 + the 25 of the cut counted twice."""
+    from meshaudit.mesh.parts import PartSet
+
+    files, merged = _hex_block(tmp_path, 4, global_ids)
+    one = meshaudit.audit(str(merged))
+    many = audit_parts(PartSet("block", tuple(files)), cluster=client)
+    assert many.summary.n_points == one.summary.n_points == 5**3
+    assert many.verdict_counts() == one.verdict_counts() == {"ok": 64, "warn": 0, "fail": 0}
+    assert _findings(many) == _findings(one) == {}

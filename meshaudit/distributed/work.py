@@ -121,7 +121,8 @@ class Boundary:
     :mod:`meshaudit.distributed.interfaces`).
 
     Nodes are the ends of the part's free edges (edges one of its surface elements
-    uses): ``key`` their global node id (or -1 where the parts have none), ``number``
+    uses) and the corners of its solids' free faces (faces one solid uses: the part's
+    skin, its cut included), so that nodes of solid parts are matched too: ``key`` their global node id (or -1 where the parts have none), ``number``
     their reported number, ``xyz`` coordinates, ``tolerance`` the coincident-node
     tolerance (relative tolerance x shortest edge at the node in this part). ``edges``
     are the uses, by the part's surface elements, of every edge whose two ends are such
@@ -268,15 +269,19 @@ def _boundary(
     gids: np.ndarray | None,
 ) -> Boundary | None:
     free = report.free_edges
-    if free is None:
+    skin = skin_nodes(mesh)
+    if free is None and skin.size == 0:
         return None
-    # nodes of free edges, renumbered 0..b-1
-    ends = np.unique(free.nodes)
+    free_nodes = free.nodes if free is not None else np.zeros((0, 2), dtype=np.int64)
+    # nodes of free edges and of the solids' free faces, renumbered 0..b-1
+    ends = np.unique(np.concatenate([free_nodes.ravel(), skin]))
     local = np.full(mesh.n_points, -1, dtype=np.int64)
     local[ends] = np.arange(ends.size)
     on_edge = local >= 0
     corners_of = [(b, b.connectivity[:, : b.cell.n_corners]) for b in surface.blocks]
-    edge_rows = [c[:, [i, j]] for b, c in corners_of for i, j in b.cell.edges.tolist()]
+    edge_rows = [  # every element's edges, solids' too: the tolerance at each node
+        b.connectivity[:, [i, j]] for b in mesh.blocks for i, j in b.cell.edges.tolist()
+    ]
     every_edge = np.concatenate(edge_rows) if edge_rows else np.zeros((0, 2), dtype=np.int64)
     tolerance = (
         task.profile.findings.coincident_tolerance * shortest_edge_at(mesh.points, every_edge)[ends]
@@ -324,14 +329,34 @@ def _boundary(
         edges=local[use_nodes],
         edge_element=element + offset,
         edge_ids=report.ids[element],
-        edge_interface=_among(
-            element, use_nodes, free.element[free.interface], free.nodes[free.interface]
-        ),
+        edge_interface=np.zeros(element.size, dtype=bool)
+        if free is None
+        else _among(element, use_nodes, free.element[free.interface], free.nodes[free.interface]),
         edge_sign=sign,
         rim_index=np.concatenate(rim_index) if rim_index else none,
         rim_ids=np.concatenate(rim_ids) if rim_ids else none,
         rim_corners=np.concatenate(rim_corners) if rim_corners else none.reshape(0, 8),
     )
+
+
+def skin_nodes(mesh: ElementMesh) -> np.ndarray:
+    """Corner nodes of the faces one solid of ``mesh`` uses (its skin; a part's cut
+    faces among them), ascending; empty without solids. Faces are compared by their
+    sorted corners, all solid blocks at once."""
+    rows = []
+    for block in mesh.blocks:
+        if block.cell.dimension != 3:
+            continue
+        for face in block.cell.faces:
+            corners = np.sort(block.connectivity[:, list(face)], axis=1)
+            pad = np.full((corners.shape[0], 4), -1, dtype=np.int64)
+            pad[:, : corners.shape[1]] = corners
+            rows.append(pad)
+    if not rows:
+        return np.zeros(0, dtype=np.int64)
+    faces, counts = np.unique(np.concatenate(rows), axis=0, return_counts=True)
+    nodes = np.unique(faces[counts == 1])
+    return nodes[nodes >= 0]
 
 
 def _among(element: np.ndarray, nodes: np.ndarray, of_element: np.ndarray, of_nodes: np.ndarray):
