@@ -122,8 +122,9 @@ class Boundary:
 
     Nodes are the ends of the part's free edges (edges one of its surface elements
     uses) and the corners of its solids' free faces (faces one solid uses: the part's
-    skin, its cut included), so that nodes of solid parts are matched too: ``key`` their global node id (or -1 where the parts have none), ``number``
-    their reported number, ``xyz`` coordinates, ``tolerance`` the coincident-node
+    skin, its cut included), so that nodes of solid parts are matched too: ``key``
+    their global node id (or -1 where the parts have none), ``number`` their reported
+    number, ``xyz`` coordinates, ``tolerance`` the coincident-node
     tolerance (relative tolerance x shortest edge at the node in this part). ``edges``
     are the uses, by the part's surface elements, of every edge whose two ends are such
     nodes (free edges and the edges along them), as rows of these nodes in the
