@@ -42,14 +42,13 @@ their parts' surface elements.
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
 from ..judge.finding_kinds import FindingSettings
 from ..mesh.frames import Frame
-from ..mesh.topology import connected_labels
-from ..mesh_checks.edges import FreeEdges, with_winding
+from ..mesh_checks.edges import FreeEdges, chained, crack_flags, with_winding
 from ..mesh_checks.findings import MESSAGE_IDS, Finding
 from ..mesh_checks.nodes import NodeClusters, coincident_clusters
 from .work import Boundary
@@ -107,7 +106,7 @@ def match_parts(
     node_xyz, node_number = xyz[head], number[head]
     node_tol = np.full(n_nodes, np.inf)
     np.minimum.at(node_tol, node, tol)
-    node_parts = _parts_per_node(node, part_of, n_nodes)
+    node_parts = _span(node, part_of, part_of, n_nodes)  # parts each node has an end in
 
     findings: list[Finding] = []
     # 3. elements repeated across parts
@@ -122,10 +121,7 @@ def match_parts(
     count[keep] = uses[inverse.ravel()]
     spans = np.zeros(key.size, dtype=bool)
     if keep.any():
-        lo = np.full(uses.size, np.iinfo(np.int64).max)
-        hi = np.full(uses.size, -1)
-        np.minimum.at(lo, inverse.ravel(), edge_part[keep])
-        np.maximum.at(hi, inverse.ravel(), edge_part[keep])
+        lo, hi = _span(inverse.ravel(), edge_part[keep], edge_part[keep], uses.size)
         spans[keep] = (lo != hi)[inverse.ravel()]
     notes = []
     matched = keep & (count == 2) & spans
@@ -158,10 +154,7 @@ def match_parts(
     used = np.zeros(n_nodes, dtype=bool)
     used[fa] = used[fb] = True
     places = _places(node_xyz, node_tol, np.flatnonzero(used), settings)
-    ra, rb = places.rep[fa], places.rep[fb]
-    pkey = np.minimum(ra, rb) * np.int64(max(n_nodes, 1)) + np.maximum(ra, rb)
-    _, pinv, pcount = np.unique(pkey, return_inverse=True, return_counts=True)
-    crack = (pcount[pinv.ravel()] > 1) & (ra != rb)
+    crack = crack_flags(places.rep[fa], places.rep[fb], max(n_nodes, 1))
     free = _loops(
         fa, fb, element[free_mask], sign[free_mask], crack, on_interface[free_mask], node_xyz, frame
     )
@@ -188,10 +181,7 @@ def match_parts(
     if global_ids and settings.enabled("coincident_nodes") and places.members.size:
         members = places.members
         rep = places.rep[members]
-        lo = np.full(n_nodes, np.iinfo(np.int64).max)
-        hi = np.full(n_nodes, -1)
-        np.minimum.at(lo, rep, node_parts[0][members])
-        np.maximum.at(hi, rep, node_parts[1][members])
+        lo, hi = _span(rep, node_parts[0][members], node_parts[1][members], n_nodes)
         across = lo[rep] != hi[rep]
         if across.any():
             held = members[across]
@@ -228,10 +218,7 @@ def _joined_by_place(xyz: np.ndarray, tol: np.ndarray, part_of: np.ndarray) -> n
     rep = clusters.rep
     members = clusters.members
     # a place whose ends all belong to one part is an unmerged node of that part: kept
-    lo = np.full(n, np.iinfo(np.int64).max)
-    hi = np.full(n, -1)
-    np.minimum.at(lo, rep[members], part_of[members])
-    np.maximum.at(hi, rep[members], part_of[members])
+    lo, hi = _span(rep[members], part_of[members], part_of[members], n)
     joined = rep.copy()
     alone = members[lo[rep[members]] == hi[rep[members]]]
     joined[alone] = alone
@@ -239,12 +226,15 @@ def _joined_by_place(xyz: np.ndarray, tol: np.ndarray, part_of: np.ndarray) -> n
     return number.ravel()
 
 
-def _parts_per_node(node: np.ndarray, part_of: np.ndarray, n: int) -> tuple[np.ndarray, ...]:
-    """(lowest part, highest part) each node of the whole mesh has an end in."""
+def _span(
+    group: np.ndarray, low: np.ndarray, high: np.ndarray, n: int
+) -> tuple[np.ndarray, np.ndarray]:
+    """(n,) least of ``low`` and greatest of ``high`` over the items of each group
+    (``group`` (k,) in 0..n-1): which parts a group spans."""
     lo = np.full(n, np.iinfo(np.int64).max)
     hi = np.full(n, -1)
-    np.minimum.at(lo, node, part_of)
-    np.maximum.at(hi, node, part_of)
+    np.minimum.at(lo, group, low)
+    np.maximum.at(hi, group, high)
     return lo, hi
 
 
@@ -345,36 +335,9 @@ def _loops(
     xyz: np.ndarray,
     frame: Frame,
 ) -> FreeEdges:
-    """The free edges chained into loops (the rules of
-    :func:`meshaudit.mesh_checks.edges.free_edges`)."""
-    n = xyz.shape[0]
-    shift = on_interface * np.int64(n)
-    label = connected_labels(2 * n if on_interface.any() else max(n, 1), a + shift, b + shift)
-    loop_ids, loop = np.unique(label[a + shift], return_inverse=True)
-    loop = loop.ravel()
-    n_loops = loop_ids.size
-    ends = np.stack([xyz[a], xyz[b]], axis=1)
-    length = np.linalg.norm(ends[:, 1] - ends[:, 0], axis=1)
-    n_edges = np.bincount(loop, minlength=n_loops)
-    cracks = np.bincount(loop, weights=crack, minlength=n_loops).astype(np.int64)
-    kind = np.full(n_loops, "boundary", dtype=object)
-    kind[(cracks == n_edges) & (n_edges > 0)] = "crack"
-    kind[np.bincount(loop, weights=on_interface, minlength=n_loops) > 0] = "interface"
-    free = FreeEdges(
-        nodes=np.stack([a, b], axis=1),
-        element=np.arange(a.size),
-        loop=loop,
-        crack=crack,
-        interface=on_interface,
-        xyz=ends,
-        loop_kind=kind,
-        loop_edges=n_edges.astype(np.int64),
-        loop_length=np.bincount(loop, weights=length, minlength=n_loops),
-        loop_area=np.full(n_loops, np.nan),
-        loop_cracks=cracks,
-    )
+    """The free edges chained into loops (:func:`meshaudit.mesh_checks.edges.chained`),
+    classed by winding on a planar mesh (``sign`` per edge: its element's winding)."""
+    free = chained(a, b, np.arange(a.size), crack, on_interface, xyz)
     if frame.kind == "planar" and frame.normal is not None and a.size:
         free = with_winding(free, xyz, sign.astype(np.float64), frame.normal)
-    from dataclasses import replace
-
     return replace(free, element=element)
