@@ -72,6 +72,7 @@ def write_parts(n_elements: int, parts: int, out: Path, single: bool) -> Path:
 
 
 def _peak_mb() -> float:
+    """This process's peak resident memory, MB (run on each worker)."""
     return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
 
 
@@ -83,14 +84,33 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--memory-limit", default="1.5GB")
     parser.add_argument("--no-single", action="store_true", help="skip the one-process audit")
     parser.add_argument("--out", type=Path, help="keep the files here (default: a temporary)")
+    parser.add_argument("--write-only", action="store_true", help=argparse.SUPPRESS)
     args = parser.parse_args(argv)
-    from distributed import Client, LocalCluster
-
     out = args.out or Path(tempfile.mkdtemp(prefix="meshaudit-dist-"))
     out.mkdir(parents=True, exist_ok=True)
     n = int(args.elements)
+    if args.write_only:
+        write_parts(n, args.parts, out, not args.no_single)
+        return 0
+    from distributed import Client, LocalCluster
+
+    # written by a child: Linux passes a process's peak resident size on to the processes
+    # it starts (through fork and exec), so this process stays small for the peaks below
     start = time.perf_counter()
-    pvtu = write_parts(n, args.parts, out, not args.no_single)
+    argv_write = [
+        sys.executable,
+        "-m",
+        "benchmarks.bench_distributed",
+        "--write-only",
+        "--elements",
+        str(n),
+        "--parts",
+        str(args.parts),
+        "--out",
+        str(out),
+    ]
+    run_child(argv_write + (["--no-single"] if args.no_single else []), Path.cwd())
+    pvtu = out / "plate.pvtu"
     written = time.perf_counter() - start
     size_mb = sum(p.stat().st_size for p in out.glob("plate_0*.vtu")) / 1e6
     print(
