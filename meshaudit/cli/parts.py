@@ -12,6 +12,7 @@ use --elements.
 from __future__ import annotations
 
 import argparse
+import os
 from pathlib import Path
 
 from ..errors import MeshAuditError
@@ -100,7 +101,11 @@ def run(args: argparse.Namespace) -> int:
     check_destinations([p for p, _ in reports], protected)
 
     from ..distributed import audit_parts
+    from ..outputs.part_elements import PartWriter
 
+    writer = None
+    if args.elements is not None:
+        writer = PartWriter(os.path.abspath(args.elements), parts.stem, args.columnar)
     report = audit_parts(
         parts,
         profile=resolved.profile,
@@ -108,8 +113,7 @@ def run(args: argparse.Namespace) -> int:
         regions=resolved.regions,
         cluster=cluster,
         file_format=args.file_format,
-        element_dir=args.elements,
-        columnar=args.columnar,
+        element_writer=writer,
     )
     atomic.write_all(
         [(dest, _report_renderer(kind, report, resolved)) for dest, kind in reports], protected

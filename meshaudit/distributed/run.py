@@ -24,7 +24,7 @@ from typing import Any
 
 import numpy as np
 
-from ..errors import InputError, MeshAuditError, OutputError
+from ..errors import InputError
 from ..judge.profiles import Profile, load_profile
 from ..mesh.frames import frame_notes
 from ..mesh.parts import PartSet, is_partitioned, parts_of_pattern, parts_of_pvtu
@@ -56,8 +56,7 @@ def audit_parts(
     regions: Mapping[str, Profile | str | os.PathLike[str]] | None = None,
     cluster: Any = None,
     file_format: str | None = None,
-    element_dir: str | os.PathLike[str] | None = None,
-    columnar: bool = False,
+    element_writer: Any = None,
     keep: int = KEEP,
     workers: int | None = None,
 ) -> PartitionedReport:
@@ -68,31 +67,19 @@ def audit_parts(
     ``workers=1``: every part in the calling process, one after the other), the
     address of a running Dask scheduler (``"tcp://host:8786"``), or a
     ``distributed.Client`` already connected.
-    ``element_dir``: write one per-element report per part there (CSV, or Parquet with
-    ``columnar``) plus ``{stem}.parts.csv``, their index; on a cluster the directory
-    must be one every worker can write to.
+    ``element_writer``: writes one per-element report per part and their index (a
+    :class:`meshaudit.outputs.part_elements.PartWriter`; on a cluster its directory must
+    be one every worker can write to); None: no element reports.
     """
     if fail_on not in ("fail", "warn"):
         raise InputError(f"fail_on must be 'fail' or 'warn', not {fail_on!r}")
     parts = part_set(source)
     prof = load_profile(profile)
     region_profiles = {name: load_profile(p) for name, p in (regions or {}).items()}
-    if element_dir is not None:
-        _check_dir(str(element_dir), columnar)
+    if element_writer is not None:
+        element_writer.check()
     with executor_for(cluster, workers, len(parts.parts)) as pool:
-        return _run(
-            pool, parts, prof, fail_on, region_profiles, file_format, element_dir, columnar, keep
-        )
-
-
-def _check_dir(path: str, columnar: bool) -> None:
-    if not os.path.isdir(path):
-        raise OutputError(f"{path}: element report directory does not exist")
-    if columnar:
-        from .elements import columnar_available
-
-        if not columnar_available():
-            raise OutputError("columnar element reports need pyarrow (pip install pyarrow)")
+        return _run(pool, parts, prof, fail_on, region_profiles, file_format, element_writer, keep)
 
 
 def _run(
@@ -102,8 +89,7 @@ def _run(
     fail_on: str,
     regions: dict[str, Profile],
     file_format: str | None,
-    element_dir: str | os.PathLike[str] | None,
-    columnar: bool,
+    writer: Any,
     keep: int,
 ) -> PartitionedReport:
     paths = list(parts.parts)
@@ -125,9 +111,7 @@ def _run(
         fail_on=fail_on,
         regions=regions,
         keep=keep,
-        element_dir=None if element_dir is None else os.path.abspath(element_dir),
-        element_stem=parts.stem,
-        columnar=columnar,
+        writer=writer,
     )
     results = []
     try:
@@ -156,53 +140,14 @@ def _run(
         report = assemble(
             parts.source, results, cross, profile, fail_on, regions, frame_summary, notes
         )
-        if task.element_dir is not None:
-            _put_in_place(task.element_dir, parts, paths, results, element_offsets)
+        if writer is not None:
+            writer.finish(paths, results, element_offsets)
         return report
     except BaseException:
-        if task.element_dir is not None:
-            _discard(task, n)
+        if writer is not None:
+            writer.discard(n)
         raise
 
 
 def _starts(sizes: Sequence[int]) -> list[int]:
     return [int(v) for v in np.concatenate([[0], np.cumsum(sizes)[:-1]])]
-
-
-def _put_in_place(
-    directory: str,
-    parts: PartSet,
-    paths: list[str],
-    results: Sequence[Any],
-    firsts: Sequence[int],
-) -> None:
-    from ..outputs import atomic
-    from .elements import index_text, settle
-
-    files = [r.element_file for r in results if r.element_file]
-    text = index_text(paths, results, firsts)
-    index = os.path.join(directory, f"{parts.stem}.parts.csv")
-    try:
-        atomic.write_all([(_path(index), lambda p: atomic.write_text(p, text))])
-    except MeshAuditError:
-        settle(files, keep=False)
-        raise
-    settle(files, keep=True)
-
-
-def _discard(task: PartTask, n: int) -> None:
-    from .elements import settle
-    from .work import part_name
-
-    assert task.element_dir is not None
-    names = [
-        os.path.join(task.element_dir, part_name(task.element_stem, k, task.columnar))
-        for k in range(n)
-    ]
-    settle(names, keep=False)
-
-
-def _path(text: str) -> Any:
-    from pathlib import Path
-
-    return Path(text)

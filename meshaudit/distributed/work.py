@@ -21,7 +21,7 @@ A part is read where it is measured; only the summaries below travel back:
 
 from __future__ import annotations
 
-import os
+from collections.abc import Callable
 from dataclasses import dataclass, field, replace
 from typing import Any
 
@@ -181,9 +181,10 @@ class PartTask:
     fail_on: str
     regions: dict[str, Profile]
     keep: int  # not-ok elements sent back at most
-    element_dir: str | None  # where per-part element reports go (None: none)
-    element_stem: str = "part"
-    columnar: bool = False
+    #: writes the part's element report, ``writer(report, first position, part number)``
+    #: -> its file name (e.g. :class:`meshaudit.outputs.part_elements.PartWriter`); None:
+    #: no element reports
+    writer: Callable[[Report, int, int], str] | None = None
 
 
 def audit_part(
@@ -230,8 +231,8 @@ def audit_part(
         boundary=_boundary(report, mesh, surface, positions, frame, task, element_offset, gids),
         numbering=(mesh.numbering.elements, mesh.numbering.nodes),
     )
-    if task.element_dir is not None:
-        result.element_file = _write_elements(report, element_offset, index, task)
+    if task.writer is not None:
+        result.element_file = task.writer(report, element_offset, index)
     return result
 
 
@@ -387,22 +388,3 @@ def _winding(mesh: ElementMesh, rows: np.ndarray, normal: np.ndarray) -> np.ndar
         corners = mesh.points[block.connectivity[at[inside], : block.cell.n_corners]]
         sign[inside] = np.where(area_vectors(corners) @ normal < 0.0, -1, 1)
     return sign
-
-
-def _write_elements(report: Report, offset: int, index: int, task: PartTask) -> str:
-    """Write the part's per-element report (CSV, or Parquet) to a temporary name in
-    ``task.element_dir``; the driver puts it in place with the others."""
-    from .elements import write_part
-
-    return write_part(report, offset, index, task)
-
-
-def part_name(stem: str, index: int, columnar: bool) -> str:
-    """File name of part ``index``'s element report."""
-    return f"{stem}.part{index:05d}.{'parquet' if columnar else 'csv'}"
-
-
-def temporary(path: str) -> str:
-    """The temporary name a part report is written to before it is put in place."""
-    head, tail = os.path.split(path)
-    return os.path.join(head, f".{tail}.partial")
