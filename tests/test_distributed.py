@@ -283,3 +283,54 @@ def test_solid_parts_share_the_nodes_of_their_cut(tmp_path, client, global_ids):
     assert many.summary.n_points == one.summary.n_points == 5**3
     assert many.verdict_counts() == one.verdict_counts() == {"ok": 64, "warn": 0, "fail": 0}
     assert _findings(many) == _findings(one) == {}
+
+
+def _coarse_beside_fine(folder):
+    """Part 0: 2 x 3 squares of side 2 (x in 0..4); part 1: 4 x 6 squares of side 1 (x in
+    4..8): along the cut x = 4 the fine part has a node in the middle of each coarse side,
+    which the coarse part does not have (numpy and meshio; ids = merged point index)."""
+    import meshio
+
+    def grid(x0, nx, ny, h):
+        x, y = np.meshgrid(x0 + h * np.arange(nx + 1.0), h * np.arange(ny + 1.0))
+        pts = np.stack([x.ravel(), y.ravel(), np.zeros(x.size)], axis=1)
+        i, j = np.meshgrid(np.arange(nx), np.arange(ny))
+        n0 = (j * (nx + 1) + i).ravel()
+        return pts, np.stack([n0, n0 + 1, n0 + nx + 2, n0 + nx + 1], axis=1)
+
+    pa, qa = grid(0.0, 2, 3, 2.0)
+    pb, qb = grid(4.0, 4, 6, 1.0)
+    pts = np.concatenate([pa, pb])
+    cells = [qa, qb + len(pa)]
+    # merge the fine part's cut nodes with the coarse part's at the same place
+    key = np.round(pts[:, :2] * 2).astype(np.int64) @ np.array([1, 1000])
+    _, first, ident = np.unique(key, return_index=True, return_inverse=True)
+    gid = np.argsort(np.argsort(first))[ident]  # merged index, in order of first use
+    points = np.zeros((int(gid.max()) + 1, 3))
+    points[gid] = pts
+    files = []
+    for k, c in enumerate(cells):
+        used = np.unique(c)
+        path = folder / f"cut_{k}.vtu"
+        mesh = meshio.Mesh(
+            pts[used], [("quad", np.searchsorted(used, c))], point_data={"GlobalNodeId": gid[used]}
+        )
+        meshio.write(path, mesh)
+        files.append(str(path))
+    merged = folder / "cut_merged.vtu"
+    meshio.write(merged, meshio.Mesh(points, [("quad", np.concatenate([gid[c] for c in cells]))]))
+    return files, merged
+
+
+def test_hanging_nodes_across_a_cut(tmp_path, client):
+    """A coarse part beside a fine one: by construction the 3 fine nodes in the middle of
+    the coarse sides on the cut hang, as in the merged file."""
+    from meshaudit.mesh.parts import PartSet
+
+    files, merged = _coarse_beside_fine(tmp_path)
+    one = meshaudit.audit(str(merged))
+    many = audit_parts(PartSet("cut", tuple(files)), cluster=client)
+    assert _findings(many) == _findings(one)
+    assert {f.kind: f.count for f in many.findings} == {"hanging_nodes": 3}
+    assert many.passed is one.passed is False
+    assert _loops(many) == _loops(one)

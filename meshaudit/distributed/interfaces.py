@@ -27,12 +27,14 @@ arrays alone, sorted and grouped as a whole, never element by element.
    free edge joining the same two places as another is a crack edge, whether the two
    edges come from one part or two (with global ids, two parts whose nodes along the cut
    have different ids are cracked there). The free edges are chained into loops with the
-   rules of :func:`meshaudit.mesh_checks.edges.free_edges`.
+   rules of :func:`meshaudit.mesh_checks.edges.free_edges`, and the single-file
+   hanging-node check runs over them (hosts the free edges, candidates their ends: the
+   planar rule), so a coarse part beside a finer one is a non-conforming interface.
 5. **Unmerged nodes across parts** (global ids): a place holding ends of two or more
    parts with different ids is a ``coincident_nodes`` place.
 
-Not matched across parts (each part's own checks still run): hanging nodes of one part
-on another part's edges, overlaps between elements of different parts, orientation
+Not matched across parts (each part's own checks still run): overlaps between elements
+of different parts, orientation
 patches that continue across a cut (shells and planes containing z: each part's
 smaller group is flagged within the part; edges run the same way by the elements on
 both sides of a cut are counted in a note), and for solids anything but the nodes on
@@ -47,9 +49,12 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from ..judge.finding_kinds import FindingSettings
+from ..mesh.elements import ElementBlock, ElementMesh
 from ..mesh.frames import Frame
+from ..mesh.topology import EdgeTable
 from ..mesh_checks.edges import FreeEdges, chained, crack_flags, with_winding
 from ..mesh_checks.findings import MESSAGE_IDS, Finding
+from ..mesh_checks.hanging import HangingNodes, hanging_nodes
 from ..mesh_checks.nodes import NodeClusters, coincident_clusters
 from .work import Boundary
 
@@ -155,9 +160,16 @@ def match_parts(
     used[fa] = used[fb] = True
     places = _places(node_xyz, node_tol, np.flatnonzero(used), settings)
     crack = crack_flags(places.rep[fa], places.rep[fb], max(n_nodes, 1))
-    free = _loops(
-        fa, fb, element[free_mask], sign[free_mask], crack, on_interface[free_mask], node_xyz, frame
-    )
+    interface = on_interface[free_mask]
+    if settings.enabled("hanging_nodes"):
+        hang = _hanging(fa, fb, node_xyz, places, settings, frame)
+        if hang.node.size:
+            interface = np.zeros(fa.size, dtype=bool)
+            interface[hang.interface_uses] = True
+            findings.append(
+                _hanging_finding(hang, element[free_mask], ids[free_mask], node_number, settings)
+            )
+    free = _loops(fa, fb, element[free_mask], sign[free_mask], crack, interface, node_xyz, frame)
     if crack.any() and settings.enabled("crack_edges"):
         rows = np.flatnonzero(crack)
         loops = np.unique(free.loop[rows])
@@ -224,6 +236,69 @@ def _joined_by_place(xyz: np.ndarray, tol: np.ndarray, part_of: np.ndarray) -> n
     joined[alone] = alone
     _, number = np.unique(joined, return_inverse=True)
     return number.ravel()
+
+
+def _hanging(
+    a: np.ndarray,
+    b: np.ndarray,
+    xyz: np.ndarray,
+    places: NodeClusters,
+    settings: FindingSettings,
+    frame: Frame,
+) -> HangingNodes:
+    """The single-file hanging-node check (:func:`meshaudit.mesh_checks.hanging.hanging_nodes`)
+    over the free edges ``a`` -> ``b`` of the whole mesh: hosts are the free edges and
+    the candidates their ends, the planar rule (on a shell the parts' own checks add the
+    other corner nodes). Each free edge stands as an element of its own, a triangle
+    (a, b, b) with no midside node, so hosts are straight: a curved quadratic side is
+    taken as its chord here."""
+    m = a.size
+    order = np.sort(np.stack([a, b], axis=1), axis=1)
+    table = EdgeTable(
+        start=a,
+        end=b,
+        element=np.arange(m),
+        local=np.zeros(m, dtype=np.int8),
+        edge=np.arange(m),
+        nodes=order,
+        uses=np.ones(m, dtype=np.int64),
+    )
+    edges_as_elements = ElementMesh(
+        points=xyz,
+        blocks=[ElementBlock("triangle", np.stack([a, b, b], axis=1), np.arange(m), np.arange(m))],
+    )
+    return hanging_nodes(
+        edges_as_elements, table, places.rep, settings.coincident_tolerance, False, np.arange(m)
+    )
+
+
+def _hanging_finding(
+    hang: HangingNodes,
+    element: np.ndarray,
+    ids: np.ndarray,
+    number: np.ndarray,
+    settings: FindingSettings,
+) -> Finding:
+    """The ``hanging_nodes`` finding of :func:`_hanging` (rows of free edges mapped to
+    their elements), worded as the single-file check words it."""
+    hosts = np.unique(ids[hang.host_element[:, 1]])
+    users = np.unique(ids[hang.users])
+    nodes = hang.nodes
+    involved = np.unique(element[hang.elements])
+    return Finding(
+        kind="hanging_nodes",
+        severity=settings.severity["hanging_nodes"],
+        count=int(nodes.size),
+        element_ids=np.unique(ids[hang.elements]),
+        node_ids=number[nodes],
+        message=f"{nodes.size} node(s) inside free edges of elements {_some(hosts)} without "
+        "being their nodes: a non-conforming interface, not connected unless the solver "
+        f"ties it; the nodes are used by elements {_some(users)}",
+        element_index=involved,
+        pairs=np.stack([number[hang.host_element[:, 0]], ids[hang.host_element[:, 1]]], axis=1),
+        edges=number[hang.edges],
+        node_xyz=np.zeros((0, 3)),
+    )
 
 
 def _span(

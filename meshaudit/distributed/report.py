@@ -150,7 +150,11 @@ def assemble(
         region_names=tuple(regions),
         region_profiles=tuple(regions.values()),
         region_codes=region_codes,
-        findings=merged_findings([f for r in results for f in r.findings], cross.findings),
+        findings=merged_findings(
+            [f for r in results for f in r.findings],
+            cross.findings,
+            frame_summary["frame"] == "planar",
+        ),
         free_edges=cross.free,
         precomputed_statistics=stats,
         global_index=column(lambda r: r["index"], np.int64),
@@ -181,13 +185,18 @@ CHECK_ORDER = (
 )
 
 
-def merged_findings(from_parts: list[Finding], across: list[Finding]) -> list[Finding]:
-    """One finding per kind: the parts' own (their crack edges left out: the free edges
-    of the whole mesh are worked out across parts) and those across parts, in the order
-    in which the checks of one file report them."""
+def merged_findings(
+    from_parts: list[Finding], across: list[Finding], planar: bool = True
+) -> list[Finding]:
+    """One finding per kind: the parts' own and those across parts, in the order in
+    which the checks of one file report them. The parts' crack edges are left out, and
+    on a planar mesh their hanging nodes: both are worked out again over the free edges
+    of the whole mesh (on a shell the parts' hanging nodes stay, for the corner nodes
+    away from free edges, and a node found both ways counts once)."""
+    redone = ("crack_edges", "hanging_nodes") if planar else ("crack_edges",)
     by_kind: dict[str, list[Finding]] = {}
     for f in from_parts:
-        if f.kind != "crack_edges":
+        if f.kind not in redone:
             by_kind.setdefault(f.kind, []).append(f)
     for f in across:
         by_kind.setdefault(f.kind, []).append(f)
@@ -201,6 +210,8 @@ def merged_findings(from_parts: list[Finding], across: list[Finding]) -> list[Fi
         ids = np.concatenate([f.element_ids for f in group])
         index, first = np.unique(index, return_index=True)
         count = sum(f.count for f in group)
+        if kind == "hanging_nodes":  # counted by node: once, however found
+            count = int(np.unique(np.concatenate([f.node_ids for f in group])).size)
         out.append(
             replace(
                 group[0],
