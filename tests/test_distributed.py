@@ -334,3 +334,49 @@ def test_hanging_nodes_across_a_cut(tmp_path, client):
     assert {f.kind: f.count for f in many.findings} == {"hanging_nodes": 3}
     assert many.passed is one.passed is False
     assert _loops(many) == _loops(one)
+
+
+def test_no_element_report_is_left_when_a_part_fails(tmp_path, client):
+    """The element report of one part cannot be written: the audit stops with that
+    error (exit status 2 on the command line) and the element reports the other parts
+    wrote are removed: no half-written set of files."""
+    from meshaudit.errors import OutputError
+
+    pvtu, _ = write_partitioned(tmp_path, NX, NY, PARTS, crack=False, halo=False)
+    out = tmp_path / "elements"
+    out.mkdir()
+    with pytest.raises(OutputError, match="disk full"):
+        audit_parts(pvtu, cluster=client, element_writer=_FailsOnLastPart(str(out), "plate"))
+    assert list(out.iterdir()) == []
+
+
+def _fails_on_last(writer, report, offset, index):
+    from meshaudit.errors import OutputError
+
+    if index == PARTS - 1:
+        raise OutputError("plate.part00002.csv: cannot write: disk full")
+    return writer.write(report, offset, index)
+
+
+class _FailsOnLastPart:
+    """A part writer whose last part fails, the others writing as usual."""
+
+    def __init__(self, directory: str, stem: str) -> None:
+        from meshaudit.outputs.part_elements import PartWriter
+
+        self.inner = PartWriter(directory, stem)
+
+    def check(self) -> None:
+        self.inner.check()
+
+    def write(self, report, offset, index):
+        return self.inner(report, offset, index)
+
+    def __call__(self, report, offset, index):
+        return _fails_on_last(self, report, offset, index)
+
+    def finish(self, *args) -> None:
+        self.inner.finish(*args)
+
+    def discard(self, n: int) -> None:
+        self.inner.discard(n)

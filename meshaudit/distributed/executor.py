@@ -34,8 +34,13 @@ class OnDask:
         self.client = client
 
     def map(self, fn: Callable[..., Any], *iterables: list[Any]) -> list[Any]:
+        from distributed import wait
+
         futures = self.client.map(fn, *iterables, pure=False)
         try:
+            # every task ends before an error is raised, so that nothing a task writes
+            # comes after the caller has cleaned up
+            wait(futures)
             return self.client.gather(futures)
         except BaseException:
             self.client.cancel(futures)
@@ -49,7 +54,11 @@ class InPool:
         self.pool = pool
 
     def map(self, fn: Callable[..., Any], *iterables: list[Any]) -> list[Any]:
-        return list(self.pool.map(fn, *iterables))
+        from concurrent.futures import wait
+
+        futures = [self.pool.submit(fn, *args) for args in zip(*iterables)]
+        wait(futures)  # every task ends before an error is raised (see OnDask.map)
+        return [f.result() for f in futures]
 
 
 def _dask() -> Any:

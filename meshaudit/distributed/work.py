@@ -22,7 +22,7 @@ A part is read where it is measured; only the summaries below travel back:
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, replace
 from typing import Any
 
 import numpy as np
@@ -168,7 +168,6 @@ class PartResult:
     boundary: Boundary | None
     numbering: tuple[str, str]
     element_file: str | None = None
-    extra: dict[str, Any] = field(default_factory=dict)
 
 
 @dataclass(frozen=True)
