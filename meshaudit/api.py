@@ -13,7 +13,9 @@ from collections.abc import Mapping
 from typing import Any
 
 from .engine.run import ProgressCallback, audit_elements
+from .errors import InputError
 from .judge.profiles import Profile
+from .mesh.parts import is_partitioned
 from .mesh.reading import load, load_with_mesh
 from .results.inspection import AuditedMesh
 from .results.report import Report
@@ -32,6 +34,8 @@ def audit(
 
     ``progress`` (optional) is called as the stages go: see :data:`ProgressCallback`.
     ``workers``: threads, as in :func:`audit_elements`.
+    A ``.pvtu`` path is a partitioned mesh: its pieces are audited as one mesh by
+    :func:`meshaudit.distributed.audit_parts` on a local cluster.
 
     >>> import meshio, numpy as np
     >>> points = np.array([[0.0, 0.0], [2.0, 0.0], [2.0, 1.0], [0.0, 1.0]])
@@ -42,6 +46,10 @@ def audit(
     >>> report.passed
     True
     """
+    if is_partitioned(source):  # a .pvtu: its pieces audited as one mesh
+        from .distributed import audit_parts
+
+        return audit_parts(source, profile, fail_on, regions, file_format=file_format)
     if progress is not None:
         progress("read", 0, 0)
     mesh = load(source, file_format)
@@ -56,7 +64,13 @@ def audit_mesh(
     regions: Mapping[str, Profile | str | os.PathLike[str]] | None = None,
     progress: ProgressCallback | None = None,
 ) -> AuditedMesh:
-    """Like :func:`audit`, but keeps the mesh for plots, annotation and explain."""
+    """Like :func:`audit`, but keeps the mesh for plots, annotation and explain (not for
+    a partitioned mesh, which is never in one process whole)."""
+    if is_partitioned(source):
+        raise InputError(
+            f"{source}: a partitioned mesh is not read whole; audit it with meshaudit.audit "
+            "or meshaudit.distributed.audit_parts"
+        )
     if progress is not None:
         progress("read", 0, 0)
     raw, elements = load_with_mesh(source, file_format)

@@ -54,9 +54,9 @@ class PartSet:
         return re.sub(r"[*?\[\]]+", "", Path(name).stem) or "parts"
 
 
-def is_partitioned(path: str | os.PathLike[str]) -> bool:
+def is_partitioned(path: Any) -> bool:
     """Whether ``path`` names a partitioned mesh by itself (a ``.pvtu`` file)."""
-    return str(path).lower().endswith(".pvtu")
+    return isinstance(path, (str, os.PathLike)) and str(path).lower().endswith(".pvtu")
 
 
 def _natural(text: str) -> list[Any]:
