@@ -380,3 +380,14 @@ class _FailsOnLastPart:
 
     def discard(self, n: int) -> None:
         self.inner.discard(n)
+
+
+def test_cluster_from_the_configuration_file(tmp_path, run_cli):
+    """``cluster`` in meshaudit.toml is the scheduler the parts go to: an address no
+    scheduler can have is refused in one line (exit status 2), as --cluster is."""
+    pvtu, _ = write_partitioned(tmp_path, 6, 2, 2, crack=False, halo=False)
+    (tmp_path / "meshaudit.toml").write_text('cluster = "nowhere://scheduler"\n')
+    res = run_cli("check", pvtu)
+    assert res.returncode == 2
+    assert "meshaudit: error: cannot reach the Dask scheduler at nowhere://scheduler" in res.stderr
+    assert len(res.stderr.strip().splitlines()) == 1

@@ -86,7 +86,7 @@ def executor_for(cluster: Any, workers: int | None, n_parts: int) -> Iterator[Ex
             raise MeshAuditError("--cluster needs Dask: pip install 'meshaudit[distributed]'")
         try:
             client = distributed.Client(str(cluster), timeout="10s")
-        except (OSError, TimeoutError) as exc:
+        except (OSError, TimeoutError, ValueError) as exc:  # unreachable, or a bad address
             raise MeshAuditError(f"cannot reach the Dask scheduler at {cluster}: {exc}") from None
         with client:
             yield OnDask(client)
