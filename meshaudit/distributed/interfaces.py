@@ -45,6 +45,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass, replace
+from typing import Any
 
 import numpy as np
 
@@ -141,10 +142,10 @@ def match_parts(
     if crowded.any() and settings.enabled("non_manifold_edges"):
         edges_nm = np.unique(key[crowded])
         findings.append(
-            Finding(
-                kind="non_manifold_edges",
-                severity=settings.severity["non_manifold_edges"],
-                count=int(edges_nm.size),
+            _found(
+                settings,
+                "non_manifold_edges",
+                int(edges_nm.size),
                 element_ids=np.unique(ids[crowded]),
                 node_ids=np.unique(node_number[np.concatenate([a[crowded], b[crowded]])]),
                 message=f"{edges_nm.size} edge(s) between parts shared by more than two "
@@ -175,10 +176,10 @@ def match_parts(
         loops = np.unique(free.loop[rows])
         pairs = np.stack([fa[rows], fb[rows]], axis=1)
         findings.append(
-            Finding(
-                kind="crack_edges",
-                severity=settings.severity["crack_edges"],
-                count=int(rows.size),
+            _found(
+                settings,
+                "crack_edges",
+                int(rows.size),
                 element_ids=np.unique(ids[free_mask][rows]),
                 node_ids=np.unique(node_number[pairs]),
                 message=f"{rows.size} free edge(s) lie on other free edges (unmerged nodes "
@@ -202,10 +203,10 @@ def match_parts(
             others = held[reps != held]
             pairs = np.stack([node_number[places.rep[others]], node_number[others]], axis=1)
             findings.append(
-                Finding(
-                    kind="coincident_nodes",
-                    severity=settings.severity["coincident_nodes"],
-                    count=count_places,
+                _found(
+                    settings,
+                    "coincident_nodes",
+                    count_places,
                     element_ids=np.zeros(0, dtype=np.int64),
                     node_ids=np.unique(node_number[held]),
                     message=f"{held.size} distinct nodes of different parts at "
@@ -285,10 +286,10 @@ def _hanging_finding(
     users = np.unique(ids[hang.users])
     nodes = hang.nodes
     involved = np.unique(element[hang.elements])
-    return Finding(
-        kind="hanging_nodes",
-        severity=settings.severity["hanging_nodes"],
-        count=int(nodes.size),
+    return _found(
+        settings,
+        "hanging_nodes",
+        int(nodes.size),
         element_ids=np.unique(ids[hang.elements]),
         node_ids=number[nodes],
         message=f"{nodes.size} node(s) inside free edges of elements {_some(hosts)} without "
@@ -299,6 +300,11 @@ def _hanging_finding(
         edges=number[hang.edges],
         node_xyz=np.zeros((0, 3)),
     )
+
+
+def _found(settings: FindingSettings, kind: str, count: int, **fields: Any) -> Finding:
+    """A finding of ``kind`` at its severity under ``settings``."""
+    return Finding(kind=kind, severity=settings.severity[kind], count=int(count), **fields)
 
 
 def _span(
@@ -386,10 +392,10 @@ def _repeated(
         pairs = np.stack([ids[originals], ids[copies]], axis=1)
         text = ", ".join(f"{c} repeats {o}" for o, c in pairs[:MESSAGE_IDS])
         findings.append(
-            Finding(
-                kind="duplicate_elements",
-                severity=settings.severity["duplicate_elements"],
-                count=int(copies.size),
+            _found(
+                settings,
+                "duplicate_elements",
+                int(copies.size),
                 element_ids=np.sort(ids[copies]),
                 node_ids=np.zeros(0, dtype=np.int64),
                 message=f"element {text}",
