@@ -391,3 +391,54 @@ def test_cluster_from_the_configuration_file(tmp_path, run_cli):
     assert res.returncode == 2
     assert "meshaudit: error: cannot reach the Dask scheduler at nowhere://scheduler" in res.stderr
     assert len(res.stderr.strip().splitlines()) == 1
+
+
+def _half_cylinder(folder, flip_second: bool):
+    """A shell: 8 x 4 quads on a half cylinder of radius 3 (nodes leave every plane),
+    cut in two parts across its arc; ``flip_second``: the second part's quads are written
+    the other way round (numpy and meshio; ids = merged point index)."""
+    import meshio
+
+    angle, height = np.meshgrid(np.linspace(0.0, np.pi, 9), np.linspace(0.0, 4.0, 5))
+    pts = np.stack([3 * np.cos(angle), 3 * np.sin(angle), height], axis=-1).reshape(-1, 3)
+    i, j = np.meshgrid(np.arange(8), np.arange(4))
+    n0 = (j * 9 + i).ravel()
+    quads = np.stack([n0, n0 + 1, n0 + 10, n0 + 9], axis=1)
+    owner = i.ravel() // 4
+    cells = [quads[owner == 0], quads[owner == 1]]
+    if flip_second:
+        cells[1] = cells[1][:, ::-1]
+    files = []
+    for k, c in enumerate(cells):
+        used = np.unique(c)
+        path = folder / f"shell_{k}.vtu"
+        mesh = meshio.Mesh(
+            pts[used], [("quad", np.searchsorted(used, c))], point_data={"GlobalNodeId": used}
+        )
+        meshio.write(path, mesh)
+        files.append(str(path))
+    merged = folder / "shell_merged.vtu"
+    meshio.write(merged, meshio.Mesh(pts, [("quad", np.concatenate(cells))]))
+    return files, merged
+
+
+def test_normals_disagreeing_across_a_cut_are_reported(tmp_path, client):
+    """A shell whose second part is wound the other way: one file reports
+    opposite_normals (a warning), and so does the partitioned audit, naming the elements
+    on both sides of the cut (by construction the 4 quads of column 3 and the 4 of
+    column 4); with --fail-on warn both fail, with the default gate both pass."""
+    from meshaudit.mesh.parts import PartSet
+
+    files, merged = _half_cylinder(tmp_path, flip_second=True)
+    for gate, passed in (("fail", True), ("warn", False)):
+        one = meshaudit.audit(str(merged), fail_on=gate)
+        many = audit_parts(PartSet("shell", tuple(files)), fail_on=gate, cluster=client)
+        assert one.summary.frame == many.summary.frame == "shell"
+        assert one.passed is many.passed is passed
+        found = {f.kind: f for f in many.findings}
+        assert set(found) == {f.kind for f in one.findings} == {"opposite_normals"}
+        seam = sorted(found["opposite_normals"].element_ids.tolist())
+        assert seam == [3, 7, 11, 15, 16, 20, 24, 28]  # column 3 of part 0, column 0 of part 1
+    files, merged = _half_cylinder(tmp_path, flip_second=False)
+    many = audit_parts(PartSet("shell", tuple(files)), cluster=client)
+    assert many.findings == [] and _findings(meshaudit.audit(str(merged))) == {}

@@ -130,14 +130,29 @@ def match_parts(
         lo, hi = _span(inverse.ravel(), edge_part[keep], edge_part[keep], uses.size)
         spans[keep] = (lo != hi)[inverse.ravel()]
     notes = []
-    matched = keep & (count == 2) & spans
-    same_way = _same_way(a[matched], b[matched], key[matched])
-    if same_way and frame.orientation == "relative":
+    matched = np.flatnonzero(keep & (count == 2) & spans)
+    seam = matched[_same_way(a[matched], key[matched])]
+    if seam.size and frame.orientation == "relative":
         notes.append(
-            f"{same_way} edge(s) between parts are run the same way by the elements on both "
-            "sides: their normals disagree across the cut (flipped_normal is decided "
-            "within each part)"
+            f"{seam.size // 2} edge(s) between parts are run the same way by the elements on "
+            "both sides: their normals disagree across the cut (which side is flipped_normal "
+            "is decided within each part)"
         )
+        if settings.enabled("opposite_normals"):
+            findings.append(
+                _found(
+                    settings,
+                    "opposite_normals",
+                    np.unique(element[seam]).size,
+                    element_ids=np.unique(ids[seam]),
+                    node_ids=np.unique(node_number[np.concatenate([a[seam], b[seam]])]),
+                    message=f"{seam.size // 2} edge(s) between parts are run the same way by "
+                    f"the elements on both sides: elements {_some(np.unique(ids[seam]))} face "
+                    "against their neighbours across the cut",
+                    element_index=np.unique(element[seam]),
+                    edges=node_number[np.stack([a[seam], b[seam]], axis=1)],
+                )
+            )
     crowded = keep & (count > 2) & spans
     if crowded.any() and settings.enabled("non_manifold_edges"):
         edges_nm = np.unique(key[crowded])
@@ -332,13 +347,15 @@ def _places(
     )
 
 
-def _same_way(a: np.ndarray, b: np.ndarray, key: np.ndarray) -> int:
-    """How many matched edges both their elements run from the same node."""
+def _same_way(a: np.ndarray, key: np.ndarray) -> np.ndarray:
+    """Positions of the uses of matched edges (each ``key`` twice) whose two elements
+    run them from the same node ``a``: both uses of each such edge."""
     if key.size == 0:
-        return 0
+        return np.zeros(0, dtype=np.int64)
     order = np.argsort(key, kind="stable")
     first, second = order[0::2], order[1::2]
-    return int(np.count_nonzero(a[first] == a[second]))
+    same = a[first] == a[second]
+    return np.sort(np.concatenate([first[same], second[same]]))
 
 
 def _repeated(

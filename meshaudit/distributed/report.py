@@ -212,6 +212,8 @@ def merged_findings(
         count = sum(f.count for f in group)
         if kind == "hanging_nodes":  # counted by node: once, however found
             count = int(np.unique(np.concatenate([f.node_ids for f in group])).size)
+        elif kind == "opposite_normals":  # by element: once, in a part or on a cut
+            count = int(index.size)
         out.append(
             replace(
                 group[0],
