@@ -34,12 +34,12 @@ arrays alone, sorted and grouped as a whole, never element by element.
    parts with different ids is a ``coincident_nodes`` place.
 
 Not matched across parts (each part's own checks still run): overlaps between elements
-of different parts, orientation
-patches that continue across a cut (shells and planes containing z: each part's
-smaller group is flagged within the part; edges run the same way by the elements on
-both sides of a cut are counted in a note), and for solids anything but the nodes on
-their parts' surface elements.
-"""
+of different parts, orientation patches that continue across a cut (shells and planes
+containing z: each part's smaller group is flagged within the part; edges run the same
+way by the elements on both sides of a cut make an ``opposite_normals`` finding naming
+those elements, and a note), and for solids anything but the nodes of their parts' free
+faces.
+
 
 from __future__ import annotations
 
