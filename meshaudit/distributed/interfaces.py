@@ -39,7 +39,7 @@ containing z: each part's smaller group is flagged within the part; edges run th
 way by the elements on both sides of a cut make an ``opposite_normals`` finding naming
 those elements, and a note), and for solids anything but the nodes of their parts' free
 faces.
-
+"""
 
 from __future__ import annotations
 
