@@ -442,3 +442,35 @@ def test_normals_disagreeing_across_a_cut_are_reported(tmp_path, client):
     files, merged = _half_cylinder(tmp_path, flip_second=False)
     many = audit_parts(PartSet("shell", tuple(files)), cluster=client)
     assert many.findings == [] and _findings(meshaudit.audit(str(merged))) == {}
+
+
+def test_benchmark_runs_and_agrees_with_one_process(tmp_path):
+    """Smoke test of benchmarks/bench_distributed.py at 2,000 quads in 2 parts (no
+    timing asserted): it writes the pieces, audits them on a local cluster and in one
+    process, and finds the two JSON reports in agreement."""
+    import os
+
+    from conftest import REPO
+
+    env = dict(os.environ, PYTHONPATH=str(REPO))
+    done = subprocess.run(
+        [
+            sys.executable,
+            "-m",
+            "benchmarks.bench_distributed",
+            "--elements",
+            "2000",
+            "--parts",
+            "2",
+            "--out",
+            str(tmp_path),
+        ],
+        cwd=REPO,
+        env=env,
+        capture_output=True,
+        text=True,
+        timeout=600,
+    )
+    assert done.returncode == 0, done.stderr[-2000:]
+    assert "same verdict, counts and findings: True" in done.stdout
+    assert "| partitioned | 2,000 | 2 | 2 |" in done.stdout
