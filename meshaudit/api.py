@@ -14,7 +14,9 @@ from typing import Any
 
 from .engine.materials import MaterialSpec
 from .engine.run import ProgressCallback, audit_elements
+from .errors import InputError
 from .judge.profiles import Profile
+from .mesh.parts import is_partitioned
 from .mesh.reading import load, load_with_mesh
 from .results.inspection import AuditedMesh
 from .results.report import Report
@@ -37,6 +39,8 @@ def audit(
     :class:`meshaudit.Material` (or region name -> material, ``"default"`` for the rest)
     to measure the stable time step and the bending error with (see
     :mod:`meshaudit.metrics.stiffness`); without it they are not defined.
+    A ``.pvtu`` path is a partitioned mesh: its pieces are audited as one mesh by
+    :func:`meshaudit.distributed.audit_parts` on a local cluster (without a material).
 
     >>> import meshio, numpy as np
     >>> points = np.array([[0.0, 0.0], [2.0, 0.0], [2.0, 1.0], [0.0, 1.0]])
@@ -47,6 +51,13 @@ def audit(
     >>> report.passed
     True
     """
+    if is_partitioned(source):  # a .pvtu: its pieces audited as one mesh
+        from .distributed import audit_parts
+
+        if material is not None:
+            raise InputError(f"{source}: a partitioned mesh is audited without a material")
+
+        return audit_parts(source, profile, fail_on, regions, file_format=file_format)
     if progress is not None:
         progress("read", 0, 0)
     mesh = load(source, file_format)
@@ -62,7 +73,13 @@ def audit_mesh(
     progress: ProgressCallback | None = None,
     material: MaterialSpec = None,
 ) -> AuditedMesh:
-    """Like :func:`audit`, but keeps the mesh for plots, annotation and explain."""
+    """Like :func:`audit`, but keeps the mesh for plots, annotation and explain (not for
+    a partitioned mesh, which is never in one process whole)."""
+    if is_partitioned(source):
+        raise InputError(
+            f"{source}: a partitioned mesh is not read whole; audit it with meshaudit.audit "
+            "or meshaudit.distributed.audit_parts"
+        )
     if progress is not None:
         progress("read", 0, 0)
     raw, elements = load_with_mesh(source, file_format)

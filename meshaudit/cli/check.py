@@ -81,6 +81,9 @@ def add(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
     check.add_argument(
         "--html", type=Path, metavar="FILE", help="write a self-contained HTML report"
     )
+    from . import parts
+
+    parts.add_options(check)
     return check
 
 
@@ -90,7 +93,11 @@ def run(args: argparse.Namespace) -> int:
     from . import batch
 
     return_large_blocks()  # resident memory close to the live arrays (glibc)
+    from . import parts
+
     inputs = batch.expand_inputs(args.mesh)
+    if parts.wanted(args, inputs):  # one partitioned mesh: .pvtu or --parts
+        return parts.run(args)
     if len(inputs) > 1:
         return _check_many(args, inputs)
     path, error = inputs[0]

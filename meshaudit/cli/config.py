@@ -11,6 +11,7 @@ Layout (``meshaudit.toml``; in ``pyproject.toml`` the same keys sit under
 
     fail_on = "fail"                 # or "warn"
     top = 10                         # worst elements listed
+    cluster = "tcp://host:8786"      # Dask scheduler for partitioned meshes (--cluster)
     json = "reports/{stem}.json"     # report paths, relative to this file; {stem} = mesh name
     profile = "standard"             # a built-in or a profile TOML file, or instead:
     [limits]                         # a profile in the layout of meshaudit.judge.profiles
@@ -47,7 +48,7 @@ from ..results.compare import Tolerances
 
 CONFIG_NAME = "meshaudit.toml"
 REPORT_KINDS = ("json", "csv", "junit")
-OPTION_KEYS = ("fail_on", "top", "profile", *REPORT_KINDS)
+OPTION_KEYS = ("fail_on", "top", "profile", "cluster", *REPORT_KINDS)
 TABLE_KEYS = ("limits", "regions", "compare", "materials")
 
 
@@ -68,6 +69,8 @@ class Settings:
     tolerances: Tolerances = field(default_factory=Tolerances)
     #: region name (``default``: every other element) -> material (see meshaudit.material)
     materials: dict[str, Material] = field(default_factory=dict)
+    #: Dask scheduler address partitioned meshes are audited on (``cluster = "tcp://..."``)
+    cluster: str | None = None
 
     @property
     def base_dir(self) -> Path:
@@ -144,6 +147,9 @@ def settings_from_dict(data: dict[str, Any], path: Path) -> Settings:
             if not isinstance(data[kind], str) or not data[kind]:
                 raise ConfigError(f"{where}: {kind} must be a file path (text)")
             reports[kind] = data[kind]
+    cluster = data.get("cluster")
+    if cluster is not None and (not isinstance(cluster, str) or not cluster):
+        raise ConfigError(f"{where}: cluster must be a scheduler address (text)")
     profile = _base_profile(data, path)
     regions = _regions(data.get("regions", {}), profile, where)
     return Settings(
@@ -155,6 +161,7 @@ def settings_from_dict(data: dict[str, Any], path: Path) -> Settings:
         reports=reports,
         tolerances=_tolerances(data.get("compare", {}), where),
         materials=_materials(data.get("materials", {}), where),
+        cluster=cluster,
     )
 
 

@@ -71,6 +71,7 @@ def audit_elements(
     progress: ProgressCallback | None = None,
     workers: int | None = None,
     material: MaterialSpec = None,
+    frame: Frame | None = None,
 ) -> Report:
     """Audit element arrays already built (see :func:`meshaudit.mesh.reading.load`).
 
@@ -79,6 +80,9 @@ def audit_elements(
     ``progress`` (see :data:`ProgressCallback`) hears about every chunk measured.
     ``workers``: threads to use (default :func:`meshaudit.engine.pool.default_workers`;
     1 runs everything in the calling thread). The result does not depend on it.
+    ``frame``: the measuring frame to use instead of the one the mesh's own nodes give
+    (a part of a partitioned mesh is measured in the frame of the whole mesh, see
+    :mod:`meshaudit.distributed`).
 
     Elements are measured in chunks of :data:`CHUNK_SIZE` by
     :func:`~meshaudit.engine.measure.measure_chunk`, a pure function of its arguments (no
@@ -97,7 +101,7 @@ def audit_elements(
     """
     if fail_on not in ("fail", "warn"):
         raise InputError(f"fail_on must be 'fail' or 'warn', not {fail_on!r}")
-    run = _Run.prepare(mesh, profile, regions, material)
+    run = _Run.prepare(mesh, profile, regions, material, frame)
     n = run.mesh.n_elements
     if progress is not None:
         progress("measure", 0, n)
@@ -150,6 +154,7 @@ class _Run:
         profile: Profile | str | os.PathLike[str] | None,
         regions: Mapping[str, Profile | str | os.PathLike[str]] | None,
         material: MaterialSpec = None,
+        frame: Frame | None = None,
     ) -> _Run:
         prof = load_profile(profile)
         materials = MaterialMap.prepare(material, mesh.n_elements, mesh.cell_sets)
@@ -165,7 +170,8 @@ class _Run:
             surface_row = np.full(mesh.n_elements, -1, dtype=np.int64)
             surface_row[positions] = np.arange(positions.size)
         # the surface elements decide: solids have no plane
-        frame = choose_frame(surface, beside_solids=mesh.has_solids)
+        if frame is None:
+            frame = choose_frame(surface, beside_solids=mesh.has_solids)
         n = mesh.n_elements
         cell_types = tuple(dict.fromkeys(b.cell_type for b in mesh.blocks))
         families = tuple(dict.fromkeys(b.family for b in mesh.blocks))

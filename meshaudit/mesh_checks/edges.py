@@ -110,12 +110,37 @@ def free_edges(
         ra, rb = a, b
     else:
         ra, rb = clusters.rep[a], clusters.rep[b]
-    key = np.minimum(ra, rb) * np.int64(n_points) + np.maximum(ra, rb)
-    _, inverse, counts = np.unique(key, return_inverse=True, return_counts=True)
-    crack = (counts[inverse.ravel()] > 1) & (ra != rb)
+    crack = crack_flags(ra, rb, n_points)
     on_interface = np.zeros(uses.size, dtype=bool)
     if interface is not None and interface.size:
         on_interface[np.searchsorted(uses, interface)] = True
+    free = chained(a, b, element, crack, on_interface, points)
+    if normal is not None and sign is not None:
+        free = with_winding(free, points, sign, normal)
+    return free
+
+
+def crack_flags(ra: np.ndarray, rb: np.ndarray, n_points: int) -> np.ndarray:
+    """(m,) bool: which free edges, their ends at places ``ra``, ``rb`` (m,) (node
+    numbers below ``n_points``), join the same two places as another free edge (a crack
+    edge; an edge whose two ends are at one place is none)."""
+    key = np.minimum(ra, rb) * np.int64(n_points) + np.maximum(ra, rb)
+    _, inverse, counts = np.unique(key, return_inverse=True, return_counts=True)
+    return (counts[inverse.ravel()] > 1) & (ra != rb)
+
+
+def chained(
+    a: np.ndarray,
+    b: np.ndarray,
+    element: np.ndarray,
+    crack: np.ndarray,
+    on_interface: np.ndarray,
+    points: np.ndarray,
+) -> FreeEdges:
+    """Free edges ``a`` -> ``b`` (node indices into ``points``) of ``element``, chained
+    into loops (the rules of :func:`free_edges`, without the winding): interface edges
+    chained only with one another; a loop of crack edges alone is a ``crack``."""
+    n_points = points.shape[0]
     # interface edges are chained on their own: their nodes get numbers n..2n-1
     shift = on_interface * np.int64(n_points)
     size = 2 * n_points if on_interface.any() else n_points
@@ -130,7 +155,7 @@ def free_edges(
     kind = np.full(n_loops, "boundary", dtype=object)
     kind[(cracks == n_edges) & (n_edges > 0)] = "crack"
     kind[np.bincount(loop, weights=on_interface, minlength=n_loops) > 0] = "interface"
-    free = FreeEdges(
+    return FreeEdges(
         nodes=np.stack([a, b], axis=1),
         element=element,
         loop=loop,
@@ -143,9 +168,6 @@ def free_edges(
         loop_area=np.full(n_loops, np.nan),
         loop_cracks=cracks,
     )
-    if normal is not None and sign is not None:
-        free = with_winding(free, points, sign, normal)
-    return free
 
 
 def with_winding(

@@ -48,7 +48,7 @@ def element_lines(report: Report, rows: np.ndarray) -> list[str]:
         else _pick((None, *report.region_names), region_codes[rows])
     )
     columns = [
-        list(map(str, rows.tolist())),
+        list(map(str, report.positions(rows).tolist())),
         list(map(str, report.ids[rows].tolist())),
         _pick(report.cell_types, report.type_codes[rows]),
         _pick(VERDICT_NAMES, report.verdict[rows]),

@@ -32,7 +32,7 @@ def _fmt(x: float | None) -> str:
 
 def verdict_line(report: Report) -> Text:
     counts = report.verdict_counts()
-    n = len(report)
+    n = report.summary.n_elements
     word = "PASS" if report.passed else "FAIL"
     gate = "warn" if report.fail_on == "warn" else "fail"
     text = Text()

@@ -193,6 +193,12 @@ class Report:
     def verdict_names(self) -> np.ndarray:
         return np.asarray(VERDICT_NAMES, dtype=object)[self.verdict]
 
+    def positions(self, rows: np.ndarray) -> np.ndarray:
+        """The 0-based positions in the whole mesh of report ``rows`` (the rows
+        themselves, except in a report that keeps only some elements of a partitioned
+        mesh, see :mod:`meshaudit.distributed.report`)."""
+        return rows
+
     def flag(self, name: str) -> np.ndarray:
         """Boolean array: which elements carry flag ``name``."""
         return (self.flag_bits >> np.uint32(FLAG_BIT[name])) & np.uint32(1) == 1
@@ -342,7 +348,7 @@ class Report:
             self.region_codes[rows].tolist() if self.region_codes is not None else [0] * rows.size
         )
         columns = zip(
-            rows.tolist(),
+            self.positions(rows).tolist(),
             self.ids[rows].tolist(),
             [self.cell_types[c] for c in self.type_codes[rows].tolist()],
             [VERDICT_NAMES[v] for v in self.verdict[rows].tolist()],

@@ -1,0 +1,389 @@
+"""What a worker does with one part: read it, measure it, send back small results.
+
+Every task first sets the process's allocator as ``meshaudit check`` does
+(:func:`meshaudit.engine.memory.return_large_blocks`: a Dask worker starts with glibc
+told to hand freed memory back at once, which made each part's chunk temporaries fault
+in anew: 10^6 quads in 4 parts on 2 workers took 13 s that way, 7.5 s this way).
+
+Every function here is a pure function of its arguments (a part's path and what the
+driver decided), so a Dask worker, a local process or the calling thread can run it.
+A part is read where it is measured; only the summaries below travel back:
+
+- :func:`survey_part`: sizes and the moments of the nodes, for the measuring frame;
+- :func:`plane_check`: how far the nodes lie from a plane the driver proposes;
+- :func:`audit_part`: the part audited in the whole mesh's frame by the existing engine
+  (:func:`meshaudit.engine.run.audit_elements`, which measures chunks with the pure
+  chunk kernel), summarised as verdict and flag counts, a :class:`~.sketch.Sketch` per
+  metric, the not-ok elements (worst first, at most ``keep``), the part's own
+  mesh-level findings and its :class:`Boundary` (free edges and the elements at them),
+  which the driver matches across parts (:mod:`meshaudit.distributed.interfaces`).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass, replace
+from typing import Any
+
+import numpy as np
+
+from ..engine.memory import return_large_blocks
+from ..judge.profiles import Profile
+from ..mesh import labels
+from ..mesh.elements import ElementMesh
+from ..mesh.frames import Frame, area_vectors
+from ..mesh.parts import cell_count, global_node_ids
+from ..mesh.reading import build_elements, read_meshio_said
+from ..mesh_checks.findings import Finding
+from ..mesh_checks.nodes import shortest_edge_at
+from ..paths import display_name
+from ..results.report import Report
+from .sketch import Sketch
+
+
+def read_part(path: str, file_format: str | None, cell_offset: int = 0, point_offset: int = 0):
+    """(meshio mesh, element arrays, global node ids or None) of one part, its elements
+    numbered as the whole mesh numbers them (see :mod:`meshaudit.mesh.parts`)."""
+    raw, said = read_meshio_said(path, file_format)
+    numbering = labels.for_file(path, file_format, raw, said)
+    gids = global_node_ids(raw)
+    if numbering.cell_labels is None:
+        numbering = replace(numbering, cell_base=numbering.cell_base + cell_offset)
+    if gids is not None:
+        numbering = replace(numbering, nodes="global node id", node_labels=gids)
+    elif numbering.node_labels is None:
+        numbering = replace(numbering, node_base=numbering.node_base + point_offset)
+    return raw, build_elements(raw, display_name(path), numbering), gids
+
+
+@dataclass
+class Survey:
+    """Sizes of one part and the moments of the nodes its surface elements use."""
+
+    cells: int  # every cell, lines too: what positions count
+    points: int
+    elements: int  # audited elements
+    global_ids: bool
+    has_solids: bool
+    count: int  # used surface nodes
+    centre: np.ndarray  # (3,) their mean
+    scatter: np.ndarray  # (3, 3) sum of (p - centre)(p - centre)^T
+    low: np.ndarray  # (3,) per-axis minimum
+    high: np.ndarray
+    magnitude: float  # largest |coordinate|
+
+
+def survey_part(path: str, file_format: str | None) -> Survey:
+    """Read a part and summarise it (see :class:`Survey`)."""
+    return_large_blocks()
+    raw, mesh, gids = read_part(path, file_format)
+    surface, _ = mesh.surface_part()
+    pts = surface.points[surface.used_nodes()] if surface.n_elements else np.zeros((0, 3))
+    centre = pts.mean(axis=0) if len(pts) else np.zeros(3)
+    d = pts - centre
+    return Survey(
+        cell_count(raw),
+        mesh.n_points,
+        mesh.n_elements,
+        gids is not None,
+        mesh.has_solids,
+        len(pts),
+        centre,
+        d.T @ d,
+        pts.min(axis=0) if len(pts) else np.full(3, np.inf),
+        pts.max(axis=0) if len(pts) else np.full(3, -np.inf),
+        float(np.abs(pts).max()) if len(pts) else 0.0,
+    )
+
+
+def plane_check(
+    path: str, file_format: str | None, centre: np.ndarray, normal: np.ndarray
+) -> tuple[float, float, float]:
+    """(largest distance of a used surface node from the plane through ``centre`` with
+    unit ``normal``; least and greatest position of those nodes across the plane's trace
+    on x-y), for :func:`meshaudit.distributed.frame.whole_frame`."""
+    _, mesh, _ = read_part(path, file_format)
+    surface, _ = mesh.surface_part()
+    if surface.n_elements == 0:
+        return 0.0, np.inf, -np.inf
+    pts = surface.points[surface.used_nodes()]
+    deviation = float(np.abs((pts - centre) @ normal).max())
+    across = float(np.hypot(normal[0], normal[1]))
+    if across == 0.0:
+        return deviation, 0.0, 0.0
+    trace = pts[:, :2] @ (normal[:2] / across)
+    return deviation, float(trace.min()), float(trace.max())
+
+
+@dataclass
+class Boundary:
+    """What the driver needs of a part to match it with the others (see
+    :mod:`meshaudit.distributed.interfaces`).
+
+    Nodes are the ends of the part's free edges (edges one of its surface elements
+    uses) and the corners of its solids' free faces (faces one solid uses: the part's
+    skin, its cut included), so that nodes of solid parts are matched too: ``key``
+    their global node id (or -1 where the parts have none), ``number`` their reported
+    number, ``xyz`` coordinates, ``tolerance`` the coincident-node
+    tolerance (relative tolerance x shortest edge at the node in this part). ``edges``
+    are the uses, by the part's surface elements, of every edge whose two ends are such
+    nodes (free edges and the edges along them), as rows of these nodes in the
+    direction the element runs; elements repeating another of the part are left out.
+    """
+
+    key: np.ndarray
+    number: np.ndarray
+    xyz: np.ndarray
+    tolerance: np.ndarray
+    edges: np.ndarray  # (m, 2)
+    edge_element: np.ndarray  # (m,) element position in the whole mesh
+    edge_ids: np.ndarray  # (m,) that element's number
+    edge_interface: np.ndarray  # (m,) on a non-conforming interface inside the part
+    edge_sign: np.ndarray  # (m,) winding of the element about the plane normal (+1/-1), or 0
+    rim_index: np.ndarray  # (r,) elements with a corner on a free edge: whole-mesh positions
+    rim_ids: np.ndarray
+    #: (r, 8) the corners, -1 padded: columns 0-3 rows of the free-edge nodes above (-2 -
+    #: node index for a corner on none), columns 4-7 their global node ids (when the
+    #: part has them)
+    rim_corners: np.ndarray
+
+
+@dataclass
+class PartResult:
+    """What one part sends back (see the module docstring)."""
+
+    index: int
+    elements: int
+    element_counts: dict[str, int]
+    skipped: dict[str, int]
+    points: int
+    notes: list[str]
+    verdicts: np.ndarray  # (3,) ok, warn, fail
+    patterns: dict[int, int]  # flag bit pattern -> elements (flagged ones)
+    sketches: dict[str, Sketch]
+    regions: dict[str, np.ndarray]  # region name -> (3,) verdict counts
+    not_ok: int
+    rows: dict[str, Any]  # the kept not-ok elements, column by column
+    findings: list[Finding]
+    boundary: Boundary | None
+    numbering: tuple[str, str]
+    element_file: str | None = None
+
+
+@dataclass(frozen=True)
+class PartTask:
+    """Everything :func:`audit_part` needs besides the part's path (small, picklable)."""
+
+    file_format: str | None
+    frame: Frame
+    profile: Profile
+    fail_on: str
+    regions: dict[str, Profile]
+    keep: int  # not-ok elements sent back at most
+    #: writes the part's element report, ``writer(report, first position, part number)``
+    #: -> its file name (e.g. :class:`meshaudit.outputs.part_elements.PartWriter`); None:
+    #: no element reports
+    writer: Callable[[Report, int, int], str] | None = None
+
+
+def audit_part(
+    path: str, index: int, cell_offset: int, point_offset: int, element_offset: int, task: PartTask
+) -> PartResult:
+    """Audit one part in the whole mesh's frame and summarise it (module docstring)."""
+    from ..engine.run import audit_elements
+
+    return_large_blocks()
+
+    _, mesh, gids = read_part(path, task.file_format, cell_offset, point_offset)
+    frame = task.frame
+    surface, positions = mesh.surface_part()
+    if surface.n_elements == 0 and frame.kind != "solid":
+        frame = Frame("solid")
+    report = audit_elements(mesh, task.profile, task.fail_on, task.regions, workers=1, frame=frame)
+    counts = report.verdict_counts()
+    flagged = report.flag_bits[report.flag_bits != 0]
+    patterns, pcounts = np.unique(flagged, return_counts=True)
+    sketches = {
+        name: Sketch.of(values, report.levels.get(name))
+        for name, values in report.metrics.items()
+        if not _shared_nan(values)
+    }
+    regions = {}
+    for k, name in enumerate(report.region_names, start=1):
+        mask = report.region_codes == k
+        regions[name] = np.bincount(report.verdict[mask], minlength=3)
+    worst = report.worst(only_flagged=True)
+    result = PartResult(
+        index=index,
+        elements=len(report),
+        element_counts=dict(report.summary.element_counts),
+        skipped=dict(report.summary.skipped),
+        points=mesh.n_points,
+        notes=list(report.notes),
+        verdicts=np.array([counts["ok"], counts["warn"], counts["fail"]]),
+        patterns=dict(zip(map(int, patterns), map(int, pcounts))),
+        sketches=sketches,
+        regions=regions,
+        not_ok=int(worst.size),
+        rows=_rows(report, worst[: task.keep], element_offset),
+        findings=[_shifted(f, element_offset) for f in report.findings],
+        boundary=_boundary(report, mesh, surface, positions, frame, task, element_offset, gids),
+        numbering=(mesh.numbering.elements, mesh.numbering.nodes),
+    )
+    if task.writer is not None:
+        result.element_file = task.writer(report, element_offset, index)
+    return result
+
+
+def _shared_nan(values: np.ndarray) -> bool:
+    """A column the engine shares as one NaN (a metric no element of the part has)."""
+    return values.strides == (0,)
+
+
+def _rows(report: Report, rows: np.ndarray, offset: int) -> dict[str, Any]:
+    return {
+        "index": rows + offset,
+        "ids": report.ids[rows],
+        "types": [report.cell_types[c] for c in report.type_codes[rows].tolist()],
+        "families": [report.cell_families[c] for c in report.families[rows].tolist()],
+        "centroids": report.centroids[rows],
+        "metrics": {m: np.asarray(v[rows]) for m, v in report.metrics.items()},
+        "bits": report.flag_bits[rows],
+        "levels": {m: v[rows] for m, v in report.levels.items()},
+        "verdict": report.verdict[rows],
+        "regions": None if report.region_codes is None else report.region_codes[rows],
+    }
+
+
+def _shifted(finding: Finding, offset: int) -> Finding:
+    return replace(finding, element_index=finding.element_index + offset)
+
+
+def _boundary(
+    report: Report,
+    mesh: ElementMesh,
+    surface: ElementMesh,
+    positions: np.ndarray | None,
+    frame: Frame,
+    task: PartTask,
+    offset: int,
+    gids: np.ndarray | None,
+) -> Boundary | None:
+    free = report.free_edges
+    skin = skin_nodes(mesh)
+    if free is None and skin.size == 0:
+        return None
+    free_nodes = free.nodes if free is not None else np.zeros((0, 2), dtype=np.int64)
+    # nodes of free edges and of the solids' free faces, renumbered 0..b-1
+    ends = np.unique(np.concatenate([free_nodes.ravel(), skin]))
+    local = np.full(mesh.n_points, -1, dtype=np.int64)
+    local[ends] = np.arange(ends.size)
+    on_edge = local >= 0
+    corners_of = [(b, b.connectivity[:, : b.cell.n_corners]) for b in surface.blocks]
+    edge_rows = [  # every element's edges, solids' too: the tolerance at each node
+        b.connectivity[:, [i, j]] for b in mesh.blocks for i, j in b.cell.edges.tolist()
+    ]
+    every_edge = np.concatenate(edge_rows) if edge_rows else np.zeros((0, 2), dtype=np.int64)
+    tolerance = (
+        task.profile.findings.coincident_tolerance * shortest_edge_at(mesh.points, every_edge)[ends]
+    )
+    tolerance[~np.isfinite(tolerance)] = 0.0
+    # duplicates within the part are left out, as the part's own checks leave them out
+    copies = np.zeros(0, dtype=np.int64)
+    for f in report.findings:
+        if f.kind == "duplicate_elements":
+            copies = f.element_index
+    uses, use_element = [], []
+    rim_index, rim_ids, rim_corners = [], [], []
+    for block, corners in corners_of:
+        rows = block.index if positions is None else positions[block.index]
+        for i, j in block.cell.edges.tolist():
+            both = on_edge[corners[:, i]] & on_edge[corners[:, j]]
+            uses.append(corners[both][:, [i, j]])
+            use_element.append(rows[both])
+        touch = on_edge[corners].any(axis=1)
+        if not touch.any():
+            continue
+        near = corners[touch]
+        k = near.shape[1]
+        pad = np.full((near.shape[0], 8), -1, dtype=np.int64)
+        rows_of_ends = local[near]
+        pad[:, :k] = np.where(rows_of_ends < 0, -2 - near, rows_of_ends)
+        if gids is not None:  # global ids name every corner, on a free edge or not
+            pad[:, 4 : 4 + k] = gids[near]
+        rim_index.append(rows[touch] + offset)
+        rim_ids.append(report.ids[rows[touch]])
+        rim_corners.append(pad)
+    none = np.zeros(0, dtype=np.int64)
+    use_nodes = np.concatenate(uses) if uses else none.reshape(0, 2)
+    element = np.concatenate(use_element) if use_element else none
+    kept = ~np.isin(element, copies)
+    use_nodes, element = use_nodes[kept], element[kept]
+    sign = np.zeros(element.size, dtype=np.int8)
+    if frame.kind == "planar" and frame.normal is not None and element.size:
+        sign = _winding(mesh, element, frame.normal)
+    return Boundary(
+        key=gids[ends] if gids is not None else np.full(ends.size, -1, dtype=np.int64),
+        number=mesh.numbering.node_numbers(ends),
+        xyz=mesh.points[ends],
+        tolerance=tolerance,
+        edges=local[use_nodes],
+        edge_element=element + offset,
+        edge_ids=report.ids[element],
+        edge_interface=np.zeros(element.size, dtype=bool)
+        if free is None
+        else _among(element, use_nodes, free.element[free.interface], free.nodes[free.interface]),
+        edge_sign=sign,
+        rim_index=np.concatenate(rim_index) if rim_index else none,
+        rim_ids=np.concatenate(rim_ids) if rim_ids else none,
+        rim_corners=np.concatenate(rim_corners) if rim_corners else none.reshape(0, 8),
+    )
+
+
+def skin_nodes(mesh: ElementMesh) -> np.ndarray:
+    """Corner nodes of the faces one solid of ``mesh`` uses (its skin; a part's cut
+    faces among them), ascending; empty without solids. Faces are compared by their
+    sorted corners, all solid blocks at once."""
+    rows = []
+    for block in mesh.blocks:
+        if block.cell.dimension != 3:
+            continue
+        for face in block.cell.faces:
+            corners = np.sort(block.connectivity[:, list(face)], axis=1)
+            pad = np.full((corners.shape[0], 4), -1, dtype=np.int64)
+            pad[:, : corners.shape[1]] = corners
+            rows.append(pad)
+    if not rows:
+        return np.zeros(0, dtype=np.int64)
+    faces, counts = np.unique(np.concatenate(rows), axis=0, return_counts=True)
+    nodes = np.unique(faces[counts == 1])
+    return nodes[nodes >= 0]
+
+
+def _among(element: np.ndarray, nodes: np.ndarray, of_element: np.ndarray, of_nodes: np.ndarray):
+    """(k,) bool: which uses (``element``, ``nodes`` (k, 2)) are among the uses
+    (``of_element``, ``of_nodes``), compared as whole rows."""
+    if element.size == 0 or of_element.size == 0:
+        return np.zeros(element.size, dtype=bool)
+    rows = np.concatenate(
+        [np.column_stack([of_element, of_nodes]), np.column_stack([element, nodes])]
+    ).astype(np.int64)
+    _, inverse = np.unique(rows, axis=0, return_inverse=True)
+    inverse = inverse.ravel()
+    return np.isin(inverse[of_element.size :], inverse[: of_element.size])
+
+
+def _winding(mesh: ElementMesh, rows: np.ndarray, normal: np.ndarray) -> np.ndarray:
+    """+1 / -1: the corner polygon of each element ``rows`` winds counter-clockwise /
+    clockwise about ``normal``."""
+    sign = np.zeros(rows.size, dtype=np.int8)
+    for block in mesh.blocks:
+        if block.cell.dimension != 2:
+            continue
+        at = np.searchsorted(block.index, rows)
+        inside = (at < len(block)) & (block.index[np.minimum(at, len(block) - 1)] == rows)
+        if not inside.any():
+            continue
+        corners = mesh.points[block.connectivity[at[inside], : block.cell.n_corners]]
+        sign[inside] = np.where(area_vectors(corners) @ normal < 0.0, -1, 1)
+    return sign
