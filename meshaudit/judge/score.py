@@ -55,6 +55,7 @@ _COMMON_IDEAL = {
     "edge_ratio": 1.0,
     "mean_ratio": 1.0,
     "radius_ratio": 1.0,
+    "size_ratio": 1.0,
 }
 #: The regular tetrahedron's dihedral angle, arccos(1/3) = 70.53 deg.
 REGULAR_DIHEDRAL = math.degrees(math.acos(1.0 / 3.0))

@@ -100,7 +100,17 @@ METRICS: tuple[MetricInfo, ...] = (
     MetricInfo(
         "max_dihedral", "high", "deg", "tetrahedra, hexahedra: largest angle between two faces"
     ),
+    MetricInfo(
+        "size_ratio",
+        "high",
+        "1",
+        "size jump to a neighbour: largest ratio of characteristic lengths (sqrt area, "
+        "cbrt volume) to an element sharing an edge (solids: a face); 1 uniform or alone",
+    ),
 )
+#: Metrics worked out from the neighbours, after every element is measured (the kernels
+#: leave them NaN): see :mod:`meshaudit.mesh.neighbours`.
+NEIGHBOUR_METRICS: tuple[str, ...] = ("size_ratio",)
 METRIC_NAMES: tuple[str, ...] = tuple(m.name for m in METRICS)
 METRIC_INFO: dict[str, MetricInfo] = {m.name: m for m in METRICS}
 #: The metrics a profile can limit, in report order.
@@ -160,6 +170,7 @@ __all__ = [
     "METRICS",
     "METRIC_INFO",
     "METRIC_NAMES",
+    "NEIGHBOUR_METRICS",
     "SOLID_METRICS",
     "VALIDITY_FLAGS",
     "WARNING_FLAGS",
