@@ -318,6 +318,8 @@ class _Run:
             region_names=self.region_names,
             region_profiles=self.region_profiles,
             region_codes=self.codes,
+            file_region_names=() if mesh.file_regions is None else mesh.file_regions[0],
+            file_region_codes=None if mesh.file_regions is None else mesh.file_regions[1],
             findings=findings,
             free_edges=mesh_findings.free_edges if mesh_findings is not None else None,
             precomputed_statistics=stats,

@@ -22,7 +22,7 @@ from . import labels
 from .elements import ElementBlock, ElementMesh
 from .file_ends import check_file_end
 from .labels import Numbering
-from .regions import element_sets
+from .regions import FileRegions, element_sets, file_regions
 
 if TYPE_CHECKING:
     import meshio
@@ -118,6 +118,10 @@ def _referenced_nodes(data: np.ndarray, n_points: int) -> np.ndarray:
     return flat[(flat >= 0) & (flat < n_points)]
 
 
+def _breakdown(regions: FileRegions) -> tuple[tuple[str, ...], np.ndarray] | None:
+    return (regions.names, regions.codes) if regions.names else None
+
+
 def build_elements(
     mesh: meshio.Mesh, source: str = "<memory>", numbering: Numbering | None = None
 ) -> ElementMesh:
@@ -194,6 +198,7 @@ def build_elements(
         skipped=skipped,
         source=source,
         cell_sets=element_sets(mesh, block_rows),
+        file_regions=_breakdown(file_regions(mesh, block_rows)),
         other_nodes=np.concatenate(other_nodes),
         numbering=numbering,
     )

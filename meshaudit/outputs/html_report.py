@@ -300,6 +300,25 @@ def _summary(report: Report) -> str:
     return f'<dl class="facts" id="summary">{items}</dl>'
 
 
+def _regions(report: Report) -> str:
+    """The summary broken down by the regions the file carries (none: nothing)."""
+    breakdown = report.region_breakdown()
+    if not breakdown:
+        return ""
+    rows = "".join(
+        f'<tr><td>{escape(e["region"])}</td><td class="n">{e["elements"]}</td>'
+        f'<td class="n">{e["counts"]["fail"]}</td><td class="n">{e["counts"]["warn"]}</td>'
+        f'<td class="n">{e["counts"]["ok"]}</td><td class="n">{_fmt(e["worst_score"])}</td>'
+        f"<td>{escape(', '.join(e['profiles']))}</td></tr>"
+        for e in breakdown
+    )
+    return (
+        '<h2>Regions</h2><table class="elements" id="regions"><thead><tr><th>region</th>'
+        "<th>elements</th><th>fail</th><th>warn</th><th>ok</th><th>lowest score</th>"
+        f"<th>judged under</th></tr></thead><tbody>{rows}</tbody></table>"
+    )
+
+
 def _findings(report: Report) -> str:
     """Mesh-level findings (when the report carries them): kind, severity, count, message."""
     findings = getattr(report, "findings", None) or []
@@ -366,7 +385,7 @@ def render(report: Report, elements: ElementMesh, color_by: str = "score") -> st
         f"<title>meshaudit: {name}: {word}</title><style>{_CSS}</style></head><body>"
         f'<h1><span class="verdict {word.lower()}" id="verdict">{word}</span> {name}</h1>'
         f"<p>{escape(plot.title(report))}</p>"
-        f"<h2>Summary</h2>{_summary(report)}"
+        f"<h2>Summary</h2>{_summary(report)}{_regions(report)}"
         f'<h2>Mesh coloured by {escape(color_by)}</h2><img class="plot" id="plot" '
         f'alt="mesh coloured by {escape(color_by)}, failing elements outlined" '
         f'src="data:image/png;base64,{png}">'

@@ -64,7 +64,10 @@ def summary_table(report: Report) -> Table:
     t.add_row("geometry", s.geometry_text())
     t.add_row("profile", f"{report.profile.name} ({report.profile.origin})")
     if report.region_names:
-        t.add_row("regions", _regions_text(report))
+        t.add_row("region limits", _regions_text(report))
+    breakdown = report.region_breakdown()
+    if breakdown:
+        t.add_row("regions", breakdown_text(breakdown))
     flags = report.flag_counts()
     t.add_row("flags", ", ".join(f"{k} {v}" for k, v in flags.items()) or "none")
     t.add_row("free-edge loops", loops_line(report))
@@ -82,6 +85,20 @@ def _regions_text(report: Report) -> str:
         else:
             parts.append(f"{name}: not in this mesh")
     return "\n".join(parts)
+
+
+def breakdown_text(breakdown: list[dict]) -> str:
+    """One line per region of the file: its elements, verdict counts and the profiles that
+    judged it (names from the file shown as they are: see :func:`summary_table`)."""
+    lines = []
+    for entry in breakdown:
+        c = entry["counts"]
+        judged = ", ".join(entry["profiles"])
+        lines.append(
+            f"{entry['region']}: {entry['elements']:,} elements, {c['fail']} fail, "
+            f"{c['warn']} warn ({judged})"
+        )
+    return "\n".join(lines)
 
 
 def distribution_table(report: Report) -> Table:
