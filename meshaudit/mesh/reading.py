@@ -66,6 +66,7 @@ def read_meshio_said(
     except SystemExit:  # meshio.read exits after its last reader gives up
         raise InputError(
             f"{p}: cannot read mesh (corrupt or not a mesh file: {_reader_said(sink)})"
+            + _hint(p, file_format)
         ) from None
     except meshio.ReadError as exc:
         detail = _one_line(exc, with_kind=False).rstrip(".")
@@ -90,8 +91,16 @@ def read_meshio_said(
     except Exception as exc:  # corrupt files make format readers fail in many ways
         raise InputError(
             f"{p}: cannot read mesh (corrupt or not a mesh file: {_one_line(exc)})"
+            + _hint(p, file_format)
         ) from None
     return mesh, sink.getvalue()
+
+
+def _hint(path: Path, file_format: str | None) -> str:
+    """The --format hint of a read chosen by extension (none when --format was given)."""
+    from .sniff import format_hint
+
+    return "" if file_format is not None else format_hint(path)
 
 
 def _one_line(exc: BaseException, with_kind: bool = True) -> str:
