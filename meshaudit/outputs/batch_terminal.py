@@ -31,40 +31,52 @@ def shown_path(path: str, common: str) -> str:
     return os.path.relpath(path, common) if common else path
 
 
-def summary_table(outcomes: Sequence[Outcome]) -> Table:
-    """One row per mesh. Paths are shown below their common directory (see
-    :func:`heading`) and never cut: a long one wraps onto more lines. The profile gets a
-    column only when the meshes were judged under different ones (else the heading names
-    it). The verdict says why a mesh fails."""
+def summary_table(outcomes: Sequence[Outcome], width: int = 120) -> Table:
+    """One row per mesh, fitted to ``width`` columns. Paths are shown below their common
+    directory (see :func:`heading`) and never cut: a long one wraps onto more lines. The
+    profile gets a column only when the meshes were judged under different ones (else the
+    heading names it). The verdict, beside the name, says why a mesh fails (ok = elements
+    - fail - warn)."""
     from rich import box
 
     common = common_directory([o.path for o in outcomes])
     profiles = {o.profile for o in outcomes if o.error is None}
-    t = Table(box=box.SIMPLE_HEAD, pad_edge=False, show_edge=False)
-    t.add_column("file", overflow="fold", ratio=3)
-    for col in ("elements", "fail", "warn", "ok"):
-        t.add_column(col, justify="right", no_wrap=True)
-    t.add_column("worst", justify="right", no_wrap=True)
-    if len(profiles) > 1:
-        t.add_column("profile", overflow="fold")
-    t.add_column("verdict", overflow="fold", ratio=2)
+    several = len(profiles) > 1
+    rows = []
     for o in outcomes:
         path = shown_path(o.path, common)
         if o.error is not None:
-            cells = [path, "-", "-", "-", "-", "-"] + (["-"] if len(profiles) > 1 else [])
-            t.add_row(*cells, "cannot audit")
+            rows.append([path, "cannot audit", "-", "-", "-", "-"] + (["-"] if several else []))
             continue
         counts = o.counts or {}
         worst = "-" if o.worst_score is None else f"{o.worst_score:.4g}"
         why = f": {o.why}" if o.why else ""
-        t.add_row(
-            path,
-            f"{o.elements:,}",
-            *(f"{counts.get(k, 0):,}" for k in ("fail", "warn", "ok")),
-            worst,
-            *([o.profile] if len(profiles) > 1 else []),
-            STATUS_WORD[o.status] + why + _not_audited(o),
+        rows.append(
+            [
+                path,
+                STATUS_WORD[o.status] + why + _not_audited(o),
+                f"{o.elements:,}",
+                *(f"{counts.get(k, 0):,}" for k in ("fail", "warn")),
+                worst,
+                *([o.profile] if several else []),
+            ]
         )
+    heads = ["file", "verdict", "elements", "fail", "warn", "worst"] + (
+        ["profile"] if several else []
+    )
+    # the number columns (and profile) take what they need; file and verdict share the
+    # rest (3 characters between columns: the padding and the rule)
+    need = [max(len(h), *(len(r[k]) for r in rows)) for k, h in enumerate(heads)]
+    rest = width - sum(need[2:]) - 3 * (len(heads) - 1)
+    file_width = max(min(need[0], int(rest * 0.55)), 8)
+    verdict_width = max(min(need[1], rest - file_width), 8)
+    t = Table(box=box.SIMPLE_HEAD, pad_edge=False, show_edge=False)
+    t.add_column("file", overflow="fold", width=file_width)
+    t.add_column("verdict", overflow="fold", width=verdict_width)
+    for col in heads[2:]:
+        t.add_column(col, justify="left" if col == "profile" else "right", no_wrap=True)
+    for r in rows:
+        t.add_row(*r)
     return t
 
 
@@ -109,5 +121,5 @@ def render(outcomes: Sequence[Outcome], console: Console, quiet: bool = False) -
             console.print(line, soft_wrap=True, markup=False)
     else:
         console.print(heading(outcomes), overflow="fold")
-        console.print(summary_table(outcomes))
+        console.print(summary_table(outcomes, console.width))
     console.print(overall_line(outcomes), soft_wrap=True)
