@@ -189,3 +189,17 @@ def test_every_report_carries_it(tmp_path):
     assert "size_ratio" in header
     xml = junit_report.render(report)
     assert "size_ratio" in xml
+
+
+def test_three_elements_on_one_edge_compare_with_each_other():
+    # a stiffener T-joint: two unit squares in the plane z = 0 and a 1 x 4 web standing on
+    # their shared edge (x = 1): each reads its largest ratio to the others on that edge,
+    # sqrt(4 / 1) = 2 (closed form)
+    pts = np.array(
+        [[0, 0, 0], [1, 0, 0], [1, 1, 0], [0, 1, 0], [2, 0, 0], [2, 1, 0], [1, 0, 4], [1, 1, 4]],
+        float,
+    )
+    quads = np.array([[0, 1, 2, 3], [1, 4, 5, 2], [1, 2, 7, 6]])
+    report = meshaudit.audit(meshio.Mesh(pts, [("quad", quads)]))
+    assert report.metrics["area"] == pytest.approx([1.0, 1.0, 4.0])
+    assert report.metrics["size_ratio"] == pytest.approx([2.0, 2.0, 2.0])

@@ -21,6 +21,10 @@ import numpy as np
 from .elements import ElementMesh
 from .topology import EdgeTable, index_dtype
 
+#: Sides with this many uses or more are worked out by their extremes: position sums of
+#: squares stay exact in float64 (2^53) only below 2^26 uses.
+EXACT_USES = 1 << 26
+
 
 @dataclass(frozen=True)
 class SideGroups:
@@ -52,11 +56,12 @@ def face_groups(mesh: ElementMesh) -> SideGroups:
         cell = block.cell
         if cell.dimension != 3 or len(block) == 0:
             continue
-        for face in cell.faces:
-            nodes = np.full((len(block), 4), -1, dtype=np.int64)
-            nodes[:, : len(face)] = block.connectivity[:, list(face)]
-            rows.append(nodes)
-            elems.append(block.index)
+        n_faces = len(cell.faces)
+        nodes = np.full((len(block), n_faces, 4), -1, dtype=np.int64)
+        for k, face in enumerate(cell.faces):
+            nodes[:, k, : len(face)] = block.connectivity[:, list(face)]
+        rows.append(nodes.reshape(-1, 4))  # element by element, as the edge table
+        elems.append(np.repeat(block.index, n_faces))
     if not rows:
         return SideGroups.empty()
     faces = np.concatenate(rows)
@@ -89,31 +94,92 @@ def size_ratio(
 
     ``counted`` (n,) bool: elements whose size counts as a neighbour's (an invalid element,
     folded or collapsed, fails on its own and does not make its neighbours fail); None:
-    all. How: for each side the largest and smallest h of the elements on it, then for each
-    element the worst over its sides of (largest / h_e, h_e / smallest): the element itself
-    is on each of its sides, so a side alone reads 1.
+    all. How, with no per-element loop and no sort: a side with two uses (nearly all) finds
+    its two elements from ``bincount`` sums of the use positions (see
+    :func:`_worst_per_use`); a side with three or more uses (non-manifold) takes the largest
+    and smallest h on it; each element then takes the worst over its uses, which lie
+    together (element by element) in the side groups.
     """
     n = h.size
     ratio = np.ones(n)
-    seen = h.copy()
+    seen = h.astype(float, copy=True)
     if counted is not None:
         seen[~counted] = np.nan
     for side in sides:
         if side.group.size == 0:
             continue
-        k = int(side.group.max()) + 1
-        values = seen[side.element]
-        high = np.full(k, -np.inf)
-        low = np.full(k, np.inf)
-        np.fmax.at(high, side.group, values)
-        np.fmin.at(low, side.group, values)
-        own = h[side.element]
-        with np.errstate(divide="ignore", invalid="ignore"):
-            up = high[side.group] / own
-            down = own / low[side.group]
-        worst = np.fmax(up, down)
-        # a side whose other elements are all left out reads -inf/h or h/inf: no neighbour
-        worst[worst < 1.0] = 1.0
-        np.fmax.at(ratio, side.element, worst)
+        worst = _worst_per_use(h, seen, side)
+        _worst_per_element(ratio, side.element, worst)
     ratio[np.isnan(h)] = np.nan
     return ratio
+
+
+def _worst_per_use(h: np.ndarray, seen: np.ndarray, side: SideGroups) -> np.ndarray:
+    """For every use of a side: the largest ratio between its element's h and the h of
+    another element on that side (NaN: none counted).
+
+    A side with two uses at positions p < q: the sums s = p + q and t = p^2 + q^2 (two
+    ``bincount``, exact in float64 below 2^26 uses) give q - p = sqrt(2t - s^2), so both
+    positions, with no sort and one gather per side rather than several per use."""
+    group, element = side.group, side.element
+    m = group.size
+    k = int(group.max()) + 1
+    uses = np.bincount(group, minlength=k)
+    if m >= EXACT_USES:  # beyond exact float64 sums: every side by its extremes
+        return _by_extremes(h, seen, side, np.arange(m), k)
+    position = np.arange(m, dtype=np.float64)
+    s = np.bincount(group, weights=position, minlength=k)
+    t = np.bincount(group, weights=position * position, minlength=k)
+    two = np.flatnonzero(uses == 2)
+    s, t = s[two], t[two]
+    d = np.sqrt(2.0 * t - s * s)
+    p = ((s - d) * 0.5).astype(np.int64)
+    q = ((s + d) * 0.5).astype(np.int64)
+    a, b = seen[element[p]], seen[element[q]]
+    side_ratio = np.full(k, np.nan)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        side_ratio[two] = np.fmax(a / b, b / a)
+        worst = side_ratio[group]
+        # an element left out (invalid) still reads its neighbour's size against its own
+        out = np.zeros(0, dtype=np.int64)
+        if np.isnan(seen).any():
+            out = np.flatnonzero(np.isnan(seen[element]) & (uses[group] == 2))
+        if out.size:
+            pair_sum = np.zeros(k, dtype=np.int64)
+            pair_sum[two] = p + q
+            other = seen[element[pair_sum[group[out]] - out]]
+            mine = h[element[out]]
+            worst[out] = np.fmax(other / mine, mine / other)
+    if (uses > 2).any():  # non-manifold sides: the extremes of every h on them
+        many = np.flatnonzero(uses[group] > 2)
+        worst[many] = _by_extremes(h, seen, side, many, k)
+    worst[worst < 1.0] = 1.0  # -inf/h or h/inf: no other element counted
+    return worst
+
+
+def _by_extremes(
+    h: np.ndarray, seen: np.ndarray, side: SideGroups, uses: np.ndarray, k: int
+) -> np.ndarray:
+    """The worst ratio of each of the ``uses`` against the largest and smallest counted h
+    on its side (``ufunc.at`` over those uses only)."""
+    g, e = side.group[uses], side.element[uses]
+    high = np.full(k, -np.inf)
+    low = np.full(k, np.inf)
+    np.fmax.at(high, g, seen[e])
+    np.fmin.at(low, g, seen[e])
+    mine = h[e]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        worst = np.fmax(high[g] / mine, mine / low[g])
+    worst[worst < 1.0] = 1.0
+    return worst
+
+
+def _worst_per_element(ratio: np.ndarray, element: np.ndarray, worst: np.ndarray) -> None:
+    """ratio[e] = max(ratio[e], worst over e's uses), in place; NaN uses are ignored."""
+    if element.size > 1 and bool((element[1:] >= element[:-1]).all()):
+        starts = np.flatnonzero(np.concatenate([[True], element[1:] != element[:-1]]))
+        best = np.fmax.reduceat(worst, starts)
+        rows = element[starts]
+        ratio[rows] = np.fmax(ratio[rows], best)
+    else:
+        np.fmax.at(ratio, element, worst)
