@@ -128,5 +128,6 @@ def zero_tolerances(metrics: dict[str, np.ndarray], dimensions: set[int]) -> dic
             out[name] = RATIO_ZERO
         else:
             power = max(length_power(name, d) for d in dimensions)
-            out[name] = LENGTH_ZERO * h**power
+            with np.errstate(over="ignore", under="ignore"):  # extreme sizes: inf or 0
+                out[name] = float(LENGTH_ZERO * np.power(np.float64(h), power))
     return out
