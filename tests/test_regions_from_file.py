@@ -77,9 +77,10 @@ def test_region_of_the_file_takes_its_limits_and_is_broken_down(case, tmp_path):
     # JSON
     doc = json.loads(json_report.render(report, every_element=True))
     assert {e["region"]: e["counts"]["fail"] for e in doc["region_breakdown"]}[label] == 1
+    assert [e["file_region"] for e in doc["elements"]][1] == label
     # CSV: a region column, the file's region of each element
     rows = list(csv.DictReader(io.StringIO(csv_report.render(report))))
-    assert rows[1]["region"] == label and rows[0]["region"] not in ("", label)
+    assert rows[1]["file_region"] == label and rows[0]["file_region"] not in ("", label)
     # JUnit: one property per region
     suite = ET.fromstring(junit_report.render(report)).find("testsuite")
     props = {p.get("name"): p.get("value") for p in suite.iter("property")}

@@ -23,8 +23,9 @@ LEADING = (
 )
 #: Metric columns after the leading ones ("score" already leads).
 TRAILING = tuple(m for m in METRIC_NAMES if m != "score")
-#: The region of the file each element is in (see :mod:`meshaudit.mesh.regions`), last.
-COLUMNS = LEADING + TRAILING + ("region",)
+#: The region of the file each element is in (see :mod:`meshaudit.mesh.regions`), last;
+#: the JSON records' ``file_region`` (their ``region`` is the region whose limits judged it).
+COLUMNS = LEADING + TRAILING + ("file_region",)
 
 
 #: Rows formatted at a time by :func:`pieces` (bounds the text held in memory).

@@ -230,6 +230,12 @@ class Report:
             }
         return out
 
+    def file_region_codes_of(self, rows: np.ndarray) -> list[int]:
+        """The file region code (0 none, j: ``file_region_names[j - 1]``) of ``rows``."""
+        if self.file_region_codes is None:
+            return [0] * len(rows)
+        return self.file_region_codes[rows].tolist()
+
     def file_region_labels(self, rows: np.ndarray | slice) -> np.ndarray:
         """The file region name of elements ``rows`` (object array, "" for none)."""
         names = np.asarray(("", *self.file_region_names), dtype=object)
@@ -389,7 +395,9 @@ class Report:
             zip(*(metrics[m] for m in METRIC_NAMES)),
             breaches,
             region_codes,
+            self.file_region_codes_of(rows),
         )
+        file_region_of = [None, *self.file_region_names]
         return [
             {
                 "index": i,
@@ -402,8 +410,11 @@ class Report:
                 "metrics": dict(zip(METRIC_NAMES, values)),
                 "breaches": breach,
                 "region": region_of[region],
+                "file_region": file_region_of[in_file],
             }
-            for i, label, cell_type, verdict, f, centroid, values, breach, region in columns
+            for i, label, cell_type, verdict, f, centroid, values, breach, region, in_file in (
+                columns
+            )
         ]
 
     def breached_limits(
