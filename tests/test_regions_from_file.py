@@ -125,3 +125,30 @@ def test_config_regions_select_numbers_from_the_command_line(tmp_path, run_cli):
     assert result.returncode == 1  # the rectangle in region 7 fails under strict
     doc = json.loads((tmp_path / "r.json").read_text())
     assert doc["counts"] == {"ok": 1, "warn": 0, "fail": 1}
+
+
+def test_many_regions_are_summarised_and_per_element_numbers_are_no_regions(tmp_path):
+    # a strip of 30 unit squares, one material each: the terminal lists at most
+    # SHOWN_REGIONS of them and says how many more there are
+    n = 30
+    xs = np.arange(n + 1.0)
+    pts = np.array([(x, y, 0.0) for y in (0.0, 1.0) for x in xs])
+    quads = np.array([[i, i + 1, n + 2 + i, n + 1 + i] for i in range(n)])
+    materials = np.arange(n)
+    mesh = meshio.Mesh(pts, [("quad", quads)], cell_data={"mat_id": [materials]})
+    report = meshaudit.audit(mesh)
+    assert len(report.region_breakdown()) == n
+    console = PlainConsole(width=80, record=True, file=io.StringIO())
+    terminal.render(report, console)
+    text = console.export_text()
+    assert f"and {n - terminal.SHOWN_REGIONS} more regions" in text
+    # an integer array with a distinct number per element beyond MAX_NUMBERS is ids, not
+    # groups: no regions from it
+    from meshaudit.mesh.regions import MAX_NUMBERS
+
+    m = MAX_NUMBERS + 5
+    xs = np.arange(m + 1.0)
+    pts = np.array([(x, y, 0.0) for y in (0.0, 1.0) for x in xs])
+    quads = np.array([[i, i + 1, m + 2 + i, m + 1 + i] for i in range(m)])
+    mesh = meshio.Mesh(pts, [("quad", quads)], cell_data={"region": [np.arange(m)]})
+    assert meshaudit.audit(mesh).region_breakdown() == []

@@ -36,6 +36,10 @@ from typing import Any
 
 import numpy as np
 
+#: An array with more distinct numbers than this is taken for per-element data (ids, not
+#: groups) and gives no regions: work and memory stay bounded by the mesh size.
+MAX_NUMBERS = 1000
+
 #: Dimensions of the physical groups that can hold audited elements (surfaces, solids).
 AUDITED_DIMS = (2, 3)
 
@@ -123,7 +127,8 @@ def _number_arrays(
                 break
             values[index] = arr.astype(np.int64)
         if usable and (values >= 0).any():
-            found.append((str(key), values))
+            if np.unique(values).size <= MAX_NUMBERS + 1:  # + the -1 of blocks without it
+                found.append((str(key), values))
     return found
 
 
@@ -153,11 +158,9 @@ def element_sets(mesh: Any, blocks: Sequence[tuple[int, np.ndarray]]) -> dict[st
         found.setdefault(name, []).append(rows)
     out = {}
     for name, parts in found.items():
-        member = np.zeros(n, dtype=bool)  # a mask: sorted and unique in O(n)
-        for part in parts:
-            member[part] = True
-        if member.any():
-            out[name] = np.flatnonzero(member).astype(np.int64)
+        rows = parts[0] if len(parts) == 1 else np.unique(np.concatenate(parts))
+        if rows.size:  # each part is sorted and unique: a number's rows, a set's
+            out[name] = np.sort(rows).astype(np.int64)
     return out
 
 

@@ -82,16 +82,33 @@ def _regions_text(report: Report) -> str:
     return "\n".join(parts)
 
 
+#: Regions the terminal summary lists one by one (the worst first); the JSON lists all.
+SHOWN_REGIONS = 12
+
+
 def breakdown_text(breakdown: list[dict]) -> str:
     """One line per region of the file: its elements, verdict counts and the profiles that
-    judged it (names from the file shown as they are: see :func:`summary_table`)."""
+    judged it; at most :data:`SHOWN_REGIONS`, those with the most failing (then warning)
+    elements first, in file order otherwise."""
     lines = []
-    for entry in breakdown:
+    shown = breakdown
+    if len(breakdown) > SHOWN_REGIONS:
+        ranked = sorted(
+            range(len(breakdown)),
+            key=lambda k: (-breakdown[k]["counts"]["fail"], -breakdown[k]["counts"]["warn"], k),
+        )
+        shown = [breakdown[k] for k in sorted(ranked[:SHOWN_REGIONS])]
+    for entry in shown:
         c = entry["counts"]
         judged = ", ".join(entry["profiles"])
         lines.append(
             f"{entry['region']}: {entry['elements']:,} elements, {c['fail']} fail, "
             f"{c['warn']} warn ({judged})"
+        )
+    if len(shown) < len(breakdown):
+        lines.append(
+            f"and {len(breakdown) - len(shown)} more regions (the JSON report's "
+            "region_breakdown lists every one)"
         )
     return "\n".join(lines)
 
