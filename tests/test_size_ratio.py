@@ -203,3 +203,15 @@ def test_three_elements_on_one_edge_compare_with_each_other():
     report = meshaudit.audit(meshio.Mesh(pts, [("quad", quads)]))
     assert report.metrics["area"] == pytest.approx([1.0, 1.0, 4.0])
     assert report.metrics["size_ratio"] == pytest.approx([2.0, 2.0, 2.0])
+
+
+def test_explain_names_the_neighbour_behind_the_jump():
+    # the 2:1 refinement step under strict: the square warns against the triangle on its
+    # edge (sqrt 4 = 2 here, sqrt 1 = 1 there), not against the triangles sharing a node
+    audited = meshaudit.audit_mesh(refinement_step(), profile="strict")
+    ex = meshaudit.explain(audited, 0)
+    line = next(m for m in ex.metrics if m.name == "size_ratio")
+    assert line.level == "warn"
+    assert line.reason.endswith("against element 1 (sqrt area 2 here, 1 there)")
+    ok = meshaudit.explain(audited, 3)  # a triangle among its equals: within the limits
+    assert next(m for m in ok.metrics if m.name == "size_ratio").reason == ""
