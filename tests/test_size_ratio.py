@@ -11,6 +11,7 @@ warn 2, fail 4; strict warn 1.5, fail 2.5; lenient warn 3, fail 6) are common pr
 
 from __future__ import annotations
 
+import io
 import json
 import math
 
@@ -20,7 +21,8 @@ import pytest
 from shapely.geometry import Polygon
 
 import meshaudit
-from meshaudit.outputs import csv_report, json_report, junit_report
+from meshaudit.outputs import annotate, csv_report, html_report, json_report, junit_report, terminal
+from meshaudit.outputs.console import PlainConsole
 
 
 def strip(widths: list[float], height: float = 1.0) -> meshio.Mesh:
@@ -180,7 +182,18 @@ def test_solids_compare_across_shared_faces():
 
 
 def test_every_report_carries_it(tmp_path):
-    report = meshaudit.audit(strip([1.0, 1.0, 20.0], height=5.0))
+    audited = meshaudit.audit_mesh(strip([1.0, 1.0, 20.0], height=5.0))
+    report = audited.report
+    # annotated mesh, read back by meshio (the outside reader)
+    annotate.render(tmp_path / "a.vtu", audited.raw, report)
+    back = meshio.read(tmp_path / "a.vtu")
+    assert back.cell_data["size_ratio"][0] == pytest.approx([1.0, math.sqrt(20), math.sqrt(20)])
+    # HTML: a histogram and the breach in the table; terminal: the distribution row
+    page = html_report.render(report, audited.elements)
+    assert '<figure data-metric="size_ratio">' in page and "size_ratio 4.472 / 4 (fail)" in page
+    console = PlainConsole(width=160, record=True, file=io.StringIO())
+    terminal.render(report, console)
+    assert "size_ratio 4.472 > 4 (fail)" in console.export_text()
     doc = json.loads(json_report.render(report, every_element=True))
     assert doc["statistics"]["size_ratio"]["max"] == pytest.approx(math.sqrt(20))
     assert doc["elements"][1]["metrics"]["size_ratio"] == pytest.approx(math.sqrt(20))
