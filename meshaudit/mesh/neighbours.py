@@ -8,8 +8,9 @@ that has it: ``group`` (m,) numbers the side of each use, ``element`` (m,) the e
 corner nodes, sorted (a triangle face and a quadrilateral face never match). Surface
 elements and solids are never neighbours of one another.
 
-The face grouping is a small local helper (sorted corner rows, one lexicographic sort);
-the mesh-level checks of solids may build a face table of their own.
+The face grouping is a small local helper (sorted corner rows, three corners packed in one
+key and sorted as the edge table's keys are); the mesh-level checks of solids may build a
+face table of their own.
 """
 
 from __future__ import annotations
@@ -19,7 +20,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .elements import ElementMesh
-from .topology import EdgeTable, index_dtype
+from .topology import EdgeTable, unique_keys
 
 #: Sides with this many uses or more are worked out by their extremes: position sums of
 #: squares stay exact in float64 (2^53) only below 2^26 uses.
@@ -50,7 +51,8 @@ def edge_groups(table: EdgeTable, positions: np.ndarray | None) -> SideGroups:
 
 def face_groups(mesh: ElementMesh) -> SideGroups:
     """Side groups of the solids of ``mesh``: one group per distinct face (its corner
-    nodes as a set). Sorted rows and one ``np.lexsort``, no per-element loop."""
+    nodes as a set), element by element. Sorted rows and one sort of packed keys
+    (:func:`_packed_groups`), no per-element loop."""
     rows, elems = [], []
     for block in mesh.blocks:
         cell = block.cell
@@ -66,15 +68,52 @@ def face_groups(mesh: ElementMesh) -> SideGroups:
         return SideGroups.empty()
     faces = np.concatenate(rows)
     element = np.concatenate(elems).astype(np.int64)
+    del rows, elems
     faces.sort(axis=1)  # the -1 of a triangle face comes first: triangles never match quads
+    faces += 1  # 0 for a triangle's missing fourth corner: every entry non-negative
+    bits = max(int(mesh.n_points).bit_length(), 1)
+    if 3 * bits <= 62:
+        group = _packed_groups(faces, bits)
+    else:  # too many nodes to pack three in a key: one lexicographic sort of the rows
+        group = _sorted_groups(faces)
+    return SideGroups(group, element)
+
+
+def _packed_groups(faces: np.ndarray, bits: int) -> np.ndarray:
+    """Face group numbers from the sorted rows ``faces`` (m, 4), every entry below 2^bits:
+    the three largest corners packed in one int64 key (a face is known by any three of its
+    corners; a triangle's first column is 0), grouped with the edge table's packed sort;
+    then uses whose first column differs from the rest of their group (a triangle and a
+    quadrilateral on the same three nodes, or two quadrilaterals on three shared nodes: a
+    mesh that does not conform) are taken apart by the full rows."""
+    key = faces[:, 1] << np.int64(2 * bits)
+    key |= faces[:, 2] << np.int64(bits)
+    key |= faces[:, 3]
+    _, group, _ = unique_keys(key, 1 << (3 * bits))
+    del key
+    group = group.astype(np.int64)
+    first = faces[:, 0]
+    k = int(group.max()) + 1 if group.size else 0
+    representative = np.zeros(k, dtype=np.int64)
+    representative[group] = first  # one use's first column per group (the last written)
+    mixed = np.unique(group[first != representative[group]])
+    if mixed.size == 0:
+        return group
+    odd = np.flatnonzero(np.isin(group, mixed))
+    group[odd] = k + _sorted_groups(faces[odd])
+    return group
+
+
+def _sorted_groups(faces: np.ndarray) -> np.ndarray:
+    """Group numbers of equal rows of ``faces`` (m, 4), by one lexicographic sort."""
     order = np.lexsort(faces.T[::-1])
     ordered = faces[order]
     new = np.empty(len(order), dtype=bool)
     new[0] = True
     np.any(ordered[1:] != ordered[:-1], axis=1, out=new[1:])
-    group = np.empty(len(order), dtype=index_dtype(len(order)))
+    group = np.empty(len(order), dtype=np.int64)
     group[order] = np.cumsum(new) - 1
-    return SideGroups(group.astype(np.int64), element)
+    return group
 
 
 def characteristic_length(size: np.ndarray, dimension: np.ndarray) -> np.ndarray:
