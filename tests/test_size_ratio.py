@@ -228,3 +228,25 @@ def test_explain_names_the_neighbour_behind_the_jump():
     assert line.reason.endswith("against element 1 (sqrt area 2 here, 1 there)")
     ok = meshaudit.explain(audited, 3)  # a triangle among its equals: within the limits
     assert next(m for m in ok.metrics if m.name == "size_ratio").reason == ""
+
+
+def test_a_triangle_face_is_no_neighbour_of_a_quadrilateral_on_three_of_its_nodes():
+    # a pyramid over the unit square (apex 4 at height 1) and two tetrahedra: tetra A on
+    # the pyramid's side triangle (0, 1, 4) shares that face; tetra B on (1, 2, 3), three
+    # corners of the pyramid's square base, shares no face with it (a mesh that does not
+    # conform there), though the three largest nodes of the base are its own
+    from meshaudit.mesh.neighbours import face_groups
+    from meshaudit.mesh.reading import load
+
+    pts = np.array(
+        [[0, 0, 0], [1, 0, 0], [1, 1, 0], [0, 1, 0], [0.5, 0.5, 1], [0.5, -1, 0.5], [1, 1, -1]],
+        float,
+    )
+    tets = np.array([[0, 1, 4, 5], [1, 3, 2, 6]])
+    mesh = meshio.Mesh(pts, [("pyramid", np.array([[0, 1, 2, 3, 4]])), ("tetra", tets)])
+    sides = face_groups(load(mesh))
+    shared = {}
+    for g, e in zip(sides.group.tolist(), sides.element.tolist()):
+        shared.setdefault(g, set()).add(e)
+    pairs = {frozenset(s) for s in shared.values() if len(s) > 1}
+    assert pairs == {frozenset({0, 1})}  # the pyramid and tetra A, not tetra B
