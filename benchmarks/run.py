@@ -47,6 +47,7 @@ STAGES = (
     "metrics",
     "verdicts",
     "mesh checks",
+    "size ratio",
     "engine other",
     "reports",
     "plot",

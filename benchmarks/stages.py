@@ -11,7 +11,8 @@ The engine runs here in one thread (``workers=1``) so that its stages add up; th
 kernels and the verdicts run interleaved, chunk by chunk, inside
 ``meshaudit.engine.run.audit_elements``; their shares are told apart by timing the functions
 that do the work (``measure_elements``, ``judge_by_region``, and for "mesh checks" the
-edge table and the two parts of the mesh-level findings) through thin wrappers
+edge table and the two parts of the mesh-level findings; "size ratio" the pass after the
+chunks, :func:`meshaudit.engine.size_pass.apply_size_ratio`) through thin wrappers
 installed for this run only. "engine other" is the rest of ``audit_elements``: choosing
 the frame, gathering node coordinates per chunk, the planar shapes the overlap check
 uses and copying chunk results into the per-element arrays.
@@ -51,6 +52,7 @@ def _instrument(totals: dict[str, float]) -> None:
             ("edge_table", "mesh checks"),
             ("find_topology", "mesh checks"),
             ("finish", "mesh checks"),
+            ("apply_size_ratio", "size ratio"),
         ):
             if hasattr(engine, attr):
                 totals.setdefault(key, 0.0)
@@ -98,7 +100,9 @@ def run(mesh: Path, outdir: Path, plot: bool) -> dict[str, Any]:
     times["metrics"] = inner.get("metrics", 0.0)
     times["verdicts"] = inner.get("verdicts", 0.0)
     times["mesh checks"] = inner.get("mesh checks", 0.0)
-    times["engine other"] = engine - times["metrics"] - times["verdicts"] - times["mesh checks"]
+    times["size ratio"] = inner.get("size ratio", 0.0)
+    measured = times["metrics"] + times["verdicts"] + times["mesh checks"] + times["size ratio"]
+    times["engine other"] = engine - measured
 
     t = time.perf_counter()
     dest = outdir / f"{mesh.stem}.{mesh.suffix.lstrip('.')}.stages.json"

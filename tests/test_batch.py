@@ -41,7 +41,9 @@ def test_glob_patterns_are_expanded_for_shells_that_do_not(tmp_path, run_cli):
     res = run_cli("check", "meshes/*.*", "--quiet", cwd=tmp_path)
     assert res.returncode == 1
     lines = res.stdout.splitlines()
-    assert lines[:2] == ["FAIL  meshes/bad.vtu", "PASS  meshes/good.msh"]
+    # a failing mesh says why: its failing elements and the finding that fails it
+    why = "1 element fail; inconsistent_winding (fail, 1)"
+    assert lines[:2] == [f"FAIL  meshes/bad.vtu ({why})", "PASS  meshes/good.msh"]
     res = run_cli("check", "meshes/*.inp", cwd=tmp_path)
     assert res.returncode == 2
     assert "meshes/*.inp: no file matches this pattern" in res.stderr
@@ -86,7 +88,10 @@ def test_each_mesh_uses_its_own_configuration(tmp_path, run_cli):
     (tmp_path / "strict" / "meshaudit.toml").write_text('fail_on = "warn"\n')
     res = run_cli("check", "strict/plate.msh", "relaxed/plate2.msh", "--quiet", cwd=tmp_path)
     assert res.returncode == 1
-    assert res.stdout.splitlines()[:2] == ["FAIL  strict/plate.msh", "PASS  relaxed/plate2.msh"]
+    assert res.stdout.splitlines()[:2] == [
+        "FAIL  strict/plate.msh (1 element warn or fail)",
+        "PASS  relaxed/plate2.msh",
+    ]
 
 
 def test_a_single_file_given_by_pattern_gets_the_full_report(tmp_path, run_cli):

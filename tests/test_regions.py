@@ -44,9 +44,18 @@ def test_gmsh_physical_groups_become_named_element_sets(tmp_path):
     mesh = load(path)
     # "edge" is a curve group (dimension 1) sharing tag 2 with the surface group "fillet":
     # only surface groups can hold audited elements.
-    assert set(mesh.cell_sets) == {"web", "fillet"}
-    assert mesh.cell_sets["web"].tolist() == [0]
-    assert mesh.cell_sets["fillet"].tolist() == [1]
+    # Each group is also selected by its number, bare or qualified by the array.
+    assert set(mesh.cell_sets) == {
+        "web",
+        "fillet",
+        "1",
+        "2",
+        "gmsh:physical=1",
+        "gmsh:physical=2",
+    }
+    assert "edge" not in mesh.cell_sets
+    assert mesh.cell_sets["web"].tolist() == [0] == mesh.cell_sets["1"].tolist()
+    assert mesh.cell_sets["fillet"].tolist() == [1] == mesh.cell_sets["gmsh:physical=2"].tolist()
 
 
 def test_region_elements_are_judged_under_the_region_profile(tmp_path):
@@ -96,7 +105,8 @@ def test_element_sets_of_a_mesh_in_memory_span_blocks():
     )
     # audited blocks: meshio block 0 -> element 0, meshio block 2 -> element 1
     sets = element_sets(mesh, [(0, np.array([0])), (2, np.array([1]))])
-    assert {k: v.tolist() for k, v in sets.items()} == {"plate": [0, 1]}
+    expected = {"plate": [0, 1], "7": [0, 1], "gmsh:physical=7": [0, 1]}
+    assert {k: v.tolist() for k, v in sets.items()} == expected
 
 
 def test_regions_from_the_configuration_file(tmp_path, run_cli):

@@ -171,7 +171,7 @@ def _check_csv_report(full_run) -> None:
     text = out["csv"].read_text()
     header = text.splitlines()[0]
     names = [m for m in METRIC_NAMES if m != "score"]
-    assert header == CSV_HEADER + "," + ",".join(names)
+    assert header == CSV_HEADER + "," + ",".join(names) + ",file_region"  # the file's region, last
     rows = list(csv.DictReader(io.StringIO(text)))
     assert len(rows) == 6
     assert [r["index"] for r in rows] == [str(i) for i in range(6)]

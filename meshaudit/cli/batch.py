@@ -18,7 +18,7 @@ import numpy as np
 
 from ..errors import MeshAuditError, OutputError
 from ..paths import reason
-from ..results.status import EXIT_UNUSABLE, Outcome, exit_status
+from ..results.status import EXIT_UNUSABLE, Outcome, exit_status, failure_reason
 from .options import materials_of, resolve
 
 #: File extension of each report kind, used when a directory is given.
@@ -163,6 +163,7 @@ def check_many(
                 worst_score=float(finite.min()) if finite.size else None,
                 profile=report.profile.name,
                 not_audited=report.summary.skipped_text(),
+                why=failure_reason(report),
             )
         )
     return outcomes

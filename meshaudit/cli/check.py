@@ -39,14 +39,15 @@ def add(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
     add_common_options(check)
     add_material_option(check)
     check.add_argument(
+        "-n",
         "--top",
         type=positive_int,
         metavar="N",
         help="how many of the worst elements to list (default 10)",
     )
-    check.add_argument("--quiet", action="store_true", help="print only the verdict line")
+    check.add_argument("-q", "--quiet", action="store_true", help="print only the verdict line")
     # str, not Path: a trailing "/" marks a directory (see meshaudit.cli.batch)
-    check.add_argument("--json", metavar="FILE", help="write the JSON report")
+    check.add_argument("-j", "--json", metavar="FILE", help="write the JSON report")
     check.add_argument("--csv", metavar="FILE", help="write one CSV row per element")
     check.add_argument("--junit", metavar="FILE", help="write JUnit XML for CI")
     check.epilog = (
@@ -68,9 +69,9 @@ def add(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
     )
     check.add_argument(
         "--color-by",
-        default="score",
         metavar="METRIC",
-        help="metric that colours the elements in --plot and --html (default: score)",
+        help="metric that colours the elements in --plot and --html (default: score); "
+        "an error without one of them",
     )
     check.add_argument(
         "--annotate",
@@ -92,6 +93,7 @@ def run(args: argparse.Namespace) -> int:
     from ..engine.memory import return_large_blocks
     from . import batch
 
+    check_color_by(args)  # before anything is read
     return_large_blocks()  # resident memory close to the live arrays (glibc)
     from . import parts
 
@@ -182,15 +184,32 @@ def audit_and_write(args: argparse.Namespace) -> Report:
     return report
 
 
-def inspection_outputs(args: argparse.Namespace) -> list[tuple[Path, str]]:
-    """(destination, kind) of the inspection outputs asked for, after validating them."""
+def check_color_by(args: argparse.Namespace) -> None:
+    """``--color-by`` needs a picture (``--plot`` or ``--html``) and a metric; unset, it is
+    the score. MeshAuditError (one line, exit status 2) otherwise."""
     from ..metrics import METRIC_NAMES
 
+    pictures = [k for k in ("plot", "html") if getattr(args, k, None) is not None]
+    if getattr(args, "color_by_checked", False):
+        return
+    args.color_by_checked = True
+    if args.color_by is not None and not pictures:
+        raise MeshAuditError(
+            "--color-by colours the pictures of --plot and --html: give one of them, or "
+            "leave --color-by out"
+        )
+    if args.color_by is None:
+        args.color_by = "score"
     if args.color_by not in METRIC_NAMES:
         raise MeshAuditError(
             f"--color-by {args.color_by!r} is not a metric; choose one of "
             + ", ".join(METRIC_NAMES)
         )
+
+
+def inspection_outputs(args: argparse.Namespace) -> list[tuple[Path, str]]:
+    """(destination, kind) of the inspection outputs asked for, after validating them."""
+    check_color_by(args)
     out = [(getattr(args, k), k) for k in INSPECTION_KINDS if getattr(args, k, None) is not None]
     for dest, kind in out:
         if kind == "plot":

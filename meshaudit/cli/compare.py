@@ -25,10 +25,15 @@ def add(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
     cmd.add_argument("new", metavar="NEW", help="the new mesh; its configuration applies")
     add_common_options(cmd)
     cmd.add_argument(
-        "--top", type=int, default=10, metavar="N", help="changed elements to list (default 10)"
+        "-n",
+        "--top",
+        type=int,
+        default=10,
+        metavar="N",
+        help="changed elements to list (default 10)",
     )
-    cmd.add_argument("--quiet", action="store_true", help="print only the verdict line")
-    cmd.add_argument("--json", type=Path, metavar="FILE", help="write the comparison as JSON")
+    cmd.add_argument("-q", "--quiet", action="store_true", help="print only the verdict line")
+    cmd.add_argument("-j", "--json", type=Path, metavar="FILE", help="write the comparison as JSON")
     return cmd
 
 

@@ -26,6 +26,7 @@ def add(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
     explain.add_argument("element_id", type=int, metavar="ID", help="element id as reported")
     explain.add_argument("--format", dest="file_format", metavar="NAME", help="meshio format")
     explain.add_argument(
+        "-p",
         "--profile",
         metavar="NAME|FILE",
         help="built-in profile (standard, strict, lenient) or a TOML file (default: as "
@@ -36,7 +37,9 @@ def add(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
     explain.add_argument(
         "--plot", type=Path, metavar="FILE", help="draw the element (.png, .svg or .pdf)"
     )
-    explain.add_argument("--json", type=Path, metavar="FILE", help="write the explanation as JSON")
+    explain.add_argument(
+        "-j", "--json", type=Path, metavar="FILE", help="write the explanation as JSON"
+    )
     return explain
 
 

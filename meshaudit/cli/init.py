@@ -9,7 +9,7 @@ import argparse
 import os
 from pathlib import Path
 
-STARTER = """\
+_TEMPLATE = """\
 # meshaudit configuration.
 # `meshaudit check` and `meshaudit compare` use the first meshaudit.toml (or pyproject.toml
 # with a [tool.meshaudit] table) found upward from the mesh file, then from the working
@@ -21,10 +21,10 @@ fail_on = "fail"
 # How many of the worst elements the terminal report lists.
 top = 10
 
-# Report files, relative to this file. {stem} is the mesh file name without extension.
-# json = "mesh-reports/{stem}.json"
-# csv = "mesh-reports/{stem}.csv"
-# junit = "mesh-reports/{stem}.xml"
+# Report files, relative to this file. {{stem}} is the mesh file name without extension.
+# json = "mesh-reports/{{stem}}.json"
+# csv = "mesh-reports/{{stem}}.csv"
+# junit = "mesh-reports/{{stem}}.xml"
 
 # Limits for every element: a built-in profile (standard, strict, lenient) to start from,
 # then per-metric overrides. `meshaudit profiles` lists every limit and its source.
@@ -32,18 +32,29 @@ top = 10
 extends = "standard"
 
 # [limits.quad]
-# aspect_ratio = { warn = 4, fail = 8, source = "our own practice" }
-# skew = {}                       # an empty table switches a limit off
+# aspect_ratio = {{ warn = 4, fail = 8, source = "our own practice" }}
+# skew = {{}}                       # an empty table switches a limit off
 
 # [limits.triangle]
-# min_angle = { warn = 25, fail = 15 }
+# min_angle = {{ warn = 25, fail = 15 }}
 
-# Stricter limits where the mesh file names a region: a gmsh physical group or an
-# element set. Without `extends`, a region starts from [limits] above.
+# [limits.hexahedron]              # solid families: tetra, hexahedron, wedge, pyramid
+# size_ratio = {{ warn = 1.5, fail = 3 }}
+
+# Mesh-level findings: "off", "info" (reported, never fails), "warn" or "fail".
+# Every kind with its default severity:
+{findings}
+# coincident_tolerance = {coincident:g}   # relative to the shortest adjacent edge
+# overlap_fraction = {overlap:g}       # of the smaller element's area
+
+# Stricter limits where the mesh file names a region: a gmsh physical group (by name or
+# number), an element set, a medit reference or a material number of VTK cell data
+# (mat_id, MaterialIds, ...; by number, "7", or as "mat_id=7"). Without `extends`, a
+# region starts from [limits] above.
 # [regions.fillet]
 # extends = "strict"
 # [regions.fillet.quad]
-# skew = { warn = 15, fail = 25 }
+# skew = {{ warn = 15, fail = 25 }}
 
 # How much worse NEW may be than OLD before `meshaudit compare OLD NEW` fails.
 # Defaults shown (meshaudit defaults, no published source).
@@ -53,6 +64,25 @@ median_score_drop = 0.02     # drop of the median element score (score 0..1)
 worst_score_drop = 0.05      # drop of the worst element score
 element_score_change = 0.05  # a shared element changing more is listed as worse/better
 """
+
+
+def starter_text() -> str:
+    """The starter file: every section, [limits.findings] listing every finding kind with
+    its default severity (commented, so the defaults stay in force until edited)."""
+    from ..judge.finding_kinds import COINCIDENT_TOLERANCE, KINDS, OVERLAP_FRACTION
+
+    width = max(len(k.name) for k in KINDS)
+    lines = ["# [limits.findings]"]
+    lines += [f'# {k.name:<{width}} = "{k.severity}"' for k in KINDS]
+    return _TEMPLATE.format(
+        findings="\n".join(lines),
+        coincident=COINCIDENT_TOLERANCE,
+        overlap=OVERLAP_FRACTION,
+    )
+
+
+#: The starter file's text.
+STARTER = starter_text()
 
 
 def add(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
@@ -65,8 +95,14 @@ def add(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
         "target",
         nargs="?",
         default=".",
-        type=Path,
-        help="directory to write meshaudit.toml in, or a file name (default: .)",
+        help="directory to write meshaudit.toml in (created when it ends with / and is "
+        "missing), or a file name (default: .)",
+    )
+    cmd.add_argument(
+        "-f",
+        "--force",
+        action="store_true",
+        help="replace an existing file (without it, an existing file is never touched)",
     )
     return cmd
 
@@ -76,21 +112,30 @@ def run(args: argparse.Namespace) -> int:
     from ..outputs.process import terminal_output
     from ..results.status import EXIT_PASS
 
-    dest = write_starter(args.target)
+    dest = write_starter(args.target, force=args.force)
     with terminal_output():
         print(f"wrote {dest}")
     return EXIT_PASS
 
 
-def write_starter(target: Path) -> Path:
-    """Write the starter file to ``target`` (a directory or a file path); never overwrite."""
+def write_starter(target: str | os.PathLike[str], force: bool = False) -> Path:
+    """Write the starter file to ``target``: into it when it is a directory (one ending
+    with a path separator is created, parents too, when missing), else to that file name.
+    An existing file is replaced only with ``force``."""
     from ..errors import OutputError
     from ..outputs import atomic
     from .config import CONFIG_NAME
 
-    dest = target / CONFIG_NAME if os.path.isdir(target) else target
-    if os.path.lexists(dest):
-        raise OutputError(f"{dest}: already exists; not overwriting it")
+    text = os.fspath(target)
+    as_dir = text.endswith(("/", os.sep)) or os.path.isdir(text)
+    dest = Path(text) / CONFIG_NAME if as_dir else Path(text)
+    if as_dir and not os.path.isdir(text):
+        try:
+            os.makedirs(text, exist_ok=True)
+        except OSError as exc:
+            raise OutputError(f"{text}: cannot create directory: {exc.strerror}") from None
+    if os.path.lexists(dest) and not force:
+        raise OutputError(f"{dest}: already exists; not overwriting it (--force replaces it)")
     atomic.check_destination(dest)
     atomic.write_all([(dest, lambda p: atomic.write_text(p, STARTER))])
     return dest

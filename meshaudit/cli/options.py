@@ -49,6 +49,7 @@ def add_common_options(cmd: argparse.ArgumentParser) -> None:
         help="meshio format name, when the extension does not tell it",
     )
     cmd.add_argument(
+        "-p",
         "--profile",
         metavar="NAME|FILE",
         help="built-in profile (standard, strict, lenient) or a TOML file (default: the "

@@ -29,6 +29,7 @@ from ..judge.verdicts import WARN
 from ..mesh.elements import ElementBlock, ElementMesh
 from ..mesh.faces import SolidEdges
 from ..mesh.frames import Frame, anchor, centroids, choose_frame, frame_notes
+from ..mesh.neighbours import SideGroups, edge_groups, face_groups
 from ..mesh.regions import region_codes
 from ..mesh.scale import normalised, rescaled_findings, scaled_lengths
 from ..mesh.topology import EdgeTable, edge_table
@@ -50,6 +51,7 @@ from .materials import MaterialMap, MaterialSpec
 from .measure import measure_chunk
 from .pool import Pending, SerialRunner, ThreadRunner, runner
 from .sink import ChunkSink, rows_of
+from .size_pass import apply_size_ratio
 
 #: Elements measured per kernel call. Chunking bounds the kernels' temporaries (a few
 #: dozen (n,) float64 arrays) whatever the mesh size, so peak memory is the mesh plus the
@@ -241,16 +243,18 @@ class _Run:
             self.shapes.fill(rows, coords3[:, : block.cell.n_corners])
         return sl.stop - sl.start
 
-    def topology(self) -> tuple[EdgeTable | None, TopologyPart | None]:
-        """The edge table and the mesh-level checks that need only the connectivity (of
-        the surface elements, and of the solids' faces when there are solids:
-        ``part.solid``)."""
-        if not self.checks and self.frame.orientation == "+z":  # every finding kind is off
-            return None, None
+    def topology(self) -> tuple[EdgeTable, TopologyPart | None, list[SideGroups]]:
+        """The edge table, the mesh-level checks that need only the connectivity (of the
+        surface elements, and of the solids' faces when there are solids: ``part.solid``)
+        and the side groups the size ratio compares neighbours across (edges, solids'
+        faces)."""
         surface = self.surface  # the surface checks look at the surface elements only
-        table = edge_table(surface)  # shared by the orientation flags and the findings
+        table = edge_table(surface)  # shared by orientation, findings and the size ratio
+        sides = [edge_groups(table, self.positions)]
+        if self.mesh.has_solids:
+            sides.append(face_groups(self.mesh))
         if not self.checks:
-            return table, None
+            return table, None, sides
         ids = self.ids if self.positions is None else self.ids[self.positions]
         settings = self.profile.findings
         solids = SolidEdges.of(self.mesh) if self.mesh.has_solids else None
@@ -260,7 +264,7 @@ class _Run:
             part.solid = find_solid_topology(
                 self.mesh, self.ids, settings, rep, surface, self.positions
             )
-        return table, part
+        return table, part, sides
 
     def finish(
         self, pool: SerialRunner | ThreadRunner, pending: Pending
@@ -274,12 +278,20 @@ class _Run:
         # to warn)
         relative = frame.orientation == "relative"
         summing = grid = None
-        if pool.parallel:
-            if not relative:
-                summing = pool.later(metric_statistics, sink.metrics, sink.ordered_levels())
-            if self.shapes is not None and self.profile.findings.enabled("overlapping_elements"):
+        if pool.parallel and self.shapes is not None:
+            if self.profile.findings.enabled("overlapping_elements"):
                 grid = pool.later(BoxGrid.build, self.shapes.boxes)
-        table, part = pending.result()
+        table, part, sides = pending.result()
+        apply_size_ratio(
+            sink,
+            sides,
+            self.families,
+            self.family_codes,
+            self.codes,
+            (self.profile, *self.region_profiles),
+        )
+        if pool.parallel and not relative:
+            summing = pool.later(metric_statistics, sink.metrics, sink.ordered_levels())
         reversed_ = (sink.bits >> np.uint32(FLAG_BIT["reversed"])) & np.uint32(1) == 1
         if self.positions is not None:
             reversed_ = reversed_[self.positions]
@@ -353,6 +365,8 @@ class _Run:
             region_names=self.region_names,
             region_profiles=self.region_profiles,
             region_codes=self.codes,
+            file_region_names=() if mesh.file_regions is None else mesh.file_regions[0],
+            file_region_codes=None if mesh.file_regions is None else mesh.file_regions[1],
             findings=findings,
             free_edges=mesh_findings.free_edges if mesh_findings is not None else None,
             boundary_surfaces=mesh_findings.surfaces if mesh_findings is not None else None,

@@ -325,6 +325,7 @@ def _builtin(
     dihedral: tuple[float, float],
     along: tuple[float, float],
     across: tuple[float, float],
+    grading: tuple[float, float],
     anchor: str,
     own: str,
 ) -> Profile:
@@ -333,36 +334,47 @@ def _builtin(
     midside offsets. The solid families carry the surface anchors over to their faces and
     axes (:mod:`meshaudit.judge.solid_limits`)."""
     mid = {"along": along, "across": across}
-    return Profile(
-        name,
-        description,
-        {
-            "quad": _quad(**quad, **mid, anchor=anchor, own=own),
-            "triangle": _triangle(triangle_angle, **mid, anchor=anchor, own=own),
-            "tetra": _limits(
-                solid_limits.tetra(triangle_angle, dihedral, **mid, anchor=anchor, own=own)
-            ),
-            "hexahedron": _limits(
-                solid_limits.hexahedron(
-                    quad["min_angle"],
-                    quad["aspect"],
-                    quad["taper"],
-                    quad["warp"],
-                    **mid,
-                    anchor=anchor,
-                    own=own,
-                )
-            ),
-            "wedge": _limits(
-                solid_limits.wedge(
-                    triangle_angle, quad["aspect"], quad["taper"], quad["warp"], anchor
-                )
-            ),
-            "pyramid": _limits(
-                solid_limits.pyramid(triangle_angle, dihedral, quad["taper"], quad["warp"], anchor)
-            ),
-        },
-    )
+    limits = {
+        "quad": _quad(**quad, **mid, anchor=anchor, own=own),
+        "triangle": _triangle(triangle_angle, **mid, anchor=anchor, own=own),
+        "tetra": _limits(
+            solid_limits.tetra(triangle_angle, dihedral, **mid, anchor=anchor, own=own)
+        ),
+        "hexahedron": _limits(
+            solid_limits.hexahedron(
+                quad["min_angle"],
+                quad["aspect"],
+                quad["taper"],
+                quad["warp"],
+                **mid,
+                anchor=anchor,
+                own=own,
+            )
+        ),
+        "wedge": _limits(
+            solid_limits.wedge(triangle_angle, quad["aspect"], quad["taper"], quad["warp"], anchor)
+        ),
+        "pyramid": _limits(
+            solid_limits.pyramid(triangle_angle, dihedral, quad["taper"], quad["warp"], anchor)
+        ),
+    }
+    source = grading_source(grading, anchor)
+    for family_limits in limits.values():
+        family_limits["size_ratio"] = Limit(*grading, source)
+    return Profile(name, description, limits)
+
+
+_GRADING = (
+    "length ratio (sqrt area, cbrt volume) between neighbours, the same for every family: "
+    "gradual grading; a 2:1 refinement step reads 2 and {verdict}"
+)
+
+
+def grading_source(grading: tuple[float, float], anchor: str) -> str:
+    """Source of the size_ratio limits: the same for every family (a length ratio)."""
+    warn, fail = grading
+    verdict = "passes" if warn >= 2.0 else ("warns" if fail >= 2.0 else "fails")
+    return f"{anchor}; " + _GRADING.format(verdict=verdict)
 
 
 STANDARD = _builtin(
@@ -378,6 +390,7 @@ STANDARD = _builtin(
     dihedral=(15.0, 10.0),
     along=(0.1, 0.2),
     across=(0.15, 0.3),
+    grading=(2.0, 4.0),
     anchor=COMMON,
     own=OWN,
 )
@@ -395,6 +408,7 @@ STRICT = _builtin(
     dihedral=(20.0, 15.0),
     along=(0.05, 0.1),
     across=(0.1, 0.2),
+    grading=(1.5, 2.5),
     anchor=_TIGHT,
     own=_TIGHT,
 )
@@ -412,6 +426,7 @@ LENIENT = _builtin(
     dihedral=(10.0, 5.0),
     along=(0.15, 0.22),
     across=(0.2, 0.4),
+    grading=(3.0, 6.0),
     anchor=_LOOSE,
     own=_LOOSE,
 )

@@ -56,6 +56,7 @@ _COMMON_IDEAL = {
     "mean_ratio": 1.0,
     "radius_ratio": 1.0,
     "bending_error_distortion": 0.0,
+    "size_ratio": 1.0,
 }
 #: The regular tetrahedron's dihedral angle, arccos(1/3) = 70.53 deg.
 REGULAR_DIHEDRAL = math.degrees(math.acos(1.0 / 3.0))

@@ -66,7 +66,9 @@ def judge(
     levels: dict[str, np.ndarray] = {}
     for metric, limit in profile.limits.get(family, {}).items():
         worse = METRIC_INFO[metric].worse
-        values = metrics[metric]
+        values = metrics.get(metric)
+        if values is None:  # a metric measured later (size_ratio, from the neighbours)
+            continue
         lvl = breach_level(values, limit, worse)
         t = distance(family, metric, values, limit, worse, lvl)
         if t is not None:

@@ -68,6 +68,9 @@ class ElementMesh:
     skipped: dict[str, int] = field(default_factory=dict)  # cell type -> count not audited
     source: str = "<memory>"
     cell_sets: dict[str, np.ndarray] = field(default_factory=dict)  # name -> element indices
+    #: The region of each element for the breakdown (see :mod:`meshaudit.mesh.regions`):
+    #: names and per-element codes (0 none), or None when the mesh carries no regions.
+    file_regions: tuple[tuple[str, ...], np.ndarray] | None = None
     #: Nodes that cells not audited (lines, vertices, polygons...) refer to: not orphans.
     other_nodes: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.int64))
     #: How elements and nodes are numbered in reports (the file's labels or positions).

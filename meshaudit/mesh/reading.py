@@ -22,7 +22,7 @@ from . import labels
 from .elements import ElementBlock, ElementMesh
 from .file_ends import check_file_end
 from .labels import Numbering
-from .regions import element_sets
+from .regions import FileRegions, element_sets, file_regions
 
 if TYPE_CHECKING:
     import meshio
@@ -66,6 +66,7 @@ def read_meshio_said(
     except SystemExit:  # meshio.read exits after its last reader gives up
         raise InputError(
             f"{p}: cannot read mesh (corrupt or not a mesh file: {_reader_said(sink)})"
+            + _hint(p, file_format)
         ) from None
     except meshio.ReadError as exc:
         detail = _one_line(exc, with_kind=False).rstrip(".")
@@ -90,8 +91,16 @@ def read_meshio_said(
     except Exception as exc:  # corrupt files make format readers fail in many ways
         raise InputError(
             f"{p}: cannot read mesh (corrupt or not a mesh file: {_one_line(exc)})"
+            + _hint(p, file_format)
         ) from None
     return mesh, sink.getvalue()
+
+
+def _hint(path: Path, file_format: str | None) -> str:
+    """The --format hint of a read chosen by extension (none when --format was given)."""
+    from .sniff import format_hint
+
+    return "" if file_format is not None else format_hint(path)
 
 
 def _one_line(exc: BaseException, with_kind: bool = True) -> str:
@@ -116,6 +125,10 @@ def _referenced_nodes(data: np.ndarray, n_points: int) -> np.ndarray:
         return np.zeros(0, dtype=np.int64)
     flat = data.ravel().astype(np.int64, copy=False)
     return flat[(flat >= 0) & (flat < n_points)]
+
+
+def _breakdown(regions: FileRegions) -> tuple[tuple[str, ...], np.ndarray] | None:
+    return (regions.names, regions.codes) if regions.names else None
 
 
 def build_elements(
@@ -194,6 +207,7 @@ def build_elements(
         skipped=skipped,
         source=source,
         cell_sets=element_sets(mesh, block_rows),
+        file_regions=_breakdown(file_regions(mesh, block_rows)),
         other_nodes=np.concatenate(other_nodes),
         numbering=numbering,
     )

@@ -122,7 +122,17 @@ METRICS: tuple[MetricInfo, ...] = (
         "1",
         "bending_error minus the same element type's undistorted (rectangle, isosceles) value",
     ),
+    MetricInfo(
+        "size_ratio",
+        "high",
+        "1",
+        "size jump to a neighbour: largest ratio of characteristic lengths (sqrt area, "
+        "cbrt volume) to an element sharing an edge (solids: a face); 1 uniform or alone",
+    ),
 )
+#: Metrics worked out from the neighbours, after every element is measured (the kernels
+#: leave them NaN): see :mod:`meshaudit.mesh.neighbours`.
+NEIGHBOUR_METRICS: tuple[str, ...] = ("size_ratio",)
 METRIC_NAMES: tuple[str, ...] = tuple(m.name for m in METRICS)
 METRIC_INFO: dict[str, MetricInfo] = {m.name: m for m in METRICS}
 #: The metrics a profile can limit, in report order.
@@ -189,6 +199,7 @@ __all__ = [
     "METRICS",
     "METRIC_INFO",
     "METRIC_NAMES",
+    "NEIGHBOUR_METRICS",
     "SOLID_METRICS",
     "STIFFNESS_METRICS",
     "VALIDITY_FLAGS",

@@ -8,39 +8,52 @@ from rich.console import Console, Group
 from rich.table import Table
 from rich.text import Text
 
-from ..metrics import METRIC_INFO, METRIC_NAMES
+from ..metrics import METRIC_INFO, METRIC_NAMES, unit_of
 from ..results.compare import Comparison
 from ..results.report import PERCENTILES
+from .display import fmt, legend, narrow, with_unit, zero_tolerances
 from .terminal import _fmt
 
 
-def distributions(cmp: Comparison) -> Table:
-    """Two rows per metric, OLD above NEW: min, p5, median, p95, max, count past fail."""
+def distributions(cmp: Comparison, short: bool = False) -> Table:
+    """Two rows per metric, OLD above NEW: min, p5, median, p95, max, count past fail.
+    ``short``: short names and units (see :mod:`meshaudit.outputs.display`), numbers fold
+    before a name is cut. Round-off prints as 0 (tolerances from OLD's and NEW's sizes)."""
+    from rich import box
+
     stats = {"OLD": cmp.old.statistics(), "NEW": cmp.new.statistics()}
+    zero = {
+        "OLD": zero_tolerances(cmp.old.metrics, cmp.old.dimensions),
+        "NEW": zero_tolerances(cmp.new.metrics, cmp.new.dimensions),
+    }
+    dims = cmp.old.dimensions | cmp.new.dimensions
+    names = [
+        n for n in METRIC_NAMES if any(s[n]["count"] + s[n]["infinite"] for s in stats.values())
+    ]
     t = Table(title="Metric distribution, OLD and NEW", title_justify="left")
-    t.add_column("metric")
-    t.add_column("unit")
-    t.add_column("mesh")
+    if short:
+        t.box, t.pad_edge, t.show_edge = box.SIMPLE_HEAD, False, False
+        cells = [with_unit(n, unit_of(n, dims)) for n in names]
+        t.add_column("metric", no_wrap=True, min_width=max(map(len, cells), default=6))
+    else:
+        t.add_column("metric", no_wrap=True)
+        t.add_column("unit", no_wrap=True)
+    t.add_column("mesh", no_wrap=True)
     for key, _ in PERCENTILES:
-        t.add_column(key, justify="right")
-    t.add_column("past fail", justify="right")
-    for name in METRIC_NAMES:
-        if all(s[name]["count"] + s[name]["infinite"] == 0 for s in stats.values()):
-            continue
+        t.add_column(key, justify="right", overflow="fold")
+    t.add_column("past fail" if not short else "fail", justify="right", overflow="fold")
+    for name in names:
         for rev, s in stats.items():
             st = s[name]
-            cells = [_fmt(st[k]) for k, _ in PERCENTILES]
+            cells = [fmt(st[k], zero[rev][name]) for k, _ in PERCENTILES]
             if st["infinite"]:
                 cells[-1] = f"inf ({st['infinite']})"
             first = rev == "OLD"
-            t.add_row(
-                name if first else "",
-                METRIC_INFO[name].unit if first else "",
-                rev,
-                *cells,
-                str(st["past_fail"]),
-                end_section=not first,
-            )
+            unit = unit_of(name, dims)
+            head = [with_unit(name, unit) if first else ""] if short else []
+            if not short:
+                head = [name if first else "", METRIC_INFO[name].unit if first else ""]
+            t.add_row(*head, rev, *cells, str(st["past_fail"]), end_section=not first)
     return t
 
 
@@ -101,7 +114,11 @@ def render(cmp: Comparison, console: Console, top: int = 10, quiet: bool = False
         head = Text("elements not compared one by one (the meshes do not correspond)")
     else:
         head = Text(f"{cmp.shared:,} elements compared one by one; verdict changes: {changes}")
-    parts: list = [distributions(cmp), Text(), head]
+    short = narrow(console.width)
+    parts: list = [distributions(cmp, short), Text(), head]
+    if short:
+        names = [n for n in METRIC_NAMES if n in cmp.new.metrics]
+        parts[1:1] = [Text(legend(names, ["length^2"]))]
     for note in cmp.notes:
         parts.append(Text(f"note: {note}"))
     found = findings(cmp)

@@ -23,7 +23,9 @@ LEADING = (
 )
 #: Metric columns after the leading ones ("score" already leads).
 TRAILING = tuple(m for m in METRIC_NAMES if m != "score")
-COLUMNS = LEADING + TRAILING
+#: The region of the file each element is in (see :mod:`meshaudit.mesh.regions`), last;
+#: the JSON records' ``file_region`` (their ``region`` is the region whose limits judged it).
+COLUMNS = LEADING + TRAILING + ("file_region",)
 
 
 #: Rows formatted at a time by :func:`pieces` (bounds the text held in memory).
@@ -45,6 +47,18 @@ def _numbers(values: np.ndarray) -> list[str]:
     for k in nan.tolist():
         out[k] = ""
     return out
+
+
+def _texts(values: np.ndarray) -> list[str]:
+    """Text cells, quoted (doubled quotes inside) when they hold a comma, a quote or a line
+    break; the distinct values are formatted once."""
+    uniq, inverse = np.unique(values.astype(str), return_inverse=True)
+    cells = []
+    for text in uniq.tolist():
+        if any(c in text for c in ',"\r\n'):
+            text = '"' + text.replace('"', '""') + '"'
+        cells.append(text)
+    return np.asarray(cells, dtype=object)[inverse.ravel()].tolist()
 
 
 def render(report: Report) -> str:
@@ -75,5 +89,6 @@ def pieces(report: Report) -> Iterator[str]:
             flags[rows].tolist(),
             *(_numbers(report.centroids[rows, k]) for k in range(3)),
             *(_numbers(report.metrics[m][rows]) for m in TRAILING),
+            _texts(report.file_region_labels(rows)),
         ]
         yield "\n".join(map(",".join, zip(*cols))) + "\n"

@@ -2,8 +2,18 @@
 elements that are not ok, and a histogram per metric.
 
 Nothing is loaded from the network: CSS and JavaScript are inline, the plot is an embedded
-base64 PNG and the histograms are inline SVG. The table's script is plain JavaScript written
-here; without JavaScript the table still shows, worst first.
+base64 PNG (reduced to a palette of 256 colours) and the histograms are inline SVG. The
+table's script is plain JavaScript written here; without JavaScript the table still shows,
+worst first.
+
+Size: the table lists the not-ok elements, worst first, at most :data:`MAX_ROWS`; the
+histograms are a fixed size; so the page grows with the mesh only through the plot
+picture (fixed pixels) and is bounded whatever the mesh (see tests/test_html_size.py).
+
+Histograms count on a logarithmic scale (bar height proportional to log(1 + count)), so a
+single element is a visible bar (at least :data:`MIN_BAR` pixels) beside thousands; values
+outside the drawn range are never dropped: an overflow bar at each end holds them (infinite
+values included), labelled with its count and range.
 """
 
 from __future__ import annotations
@@ -28,8 +38,10 @@ from .safe_text import html_safe
 from .terminal import _fmt
 
 #: The table lists at most this many elements (worst first); JSON and CSV list all.
-MAX_ROWS = 2000
+MAX_ROWS = 500
 HIST_BINS = 30
+#: Smallest height in pixels of the bar of a non-empty bin.
+MIN_BAR = 2.0
 BAR = "#21918c"  # viridis mid-point
 
 _CSS = """
@@ -118,10 +130,22 @@ _JS = """
 
 
 def plot_png(report: Report, elements: ElementMesh, color_by: str) -> str:
-    """The plot as a base64 PNG string."""
+    """The plot as a base64 PNG string, reduced to an adaptive palette of 256 colours
+    (a plot of flat colours and lines loses nothing visible, and takes a third or less)."""
     buf = io.BytesIO()
     plot.draw(report, elements, color_by).savefig(buf, format="png", dpi=100)
-    return base64.b64encode(buf.getvalue()).decode("ascii")
+    return base64.b64encode(compressed_png(buf.getvalue())).decode("ascii")
+
+
+def compressed_png(data: bytes) -> bytes:
+    """PNG ``data`` as a 256-colour palette PNG (Pillow, which matplotlib uses), or as it is
+    when that is not smaller."""
+    from PIL import Image
+
+    image = Image.open(io.BytesIO(data)).convert("RGB")
+    small = io.BytesIO()
+    image.quantize(colors=256).save(small, format="PNG", optimize=True)
+    return small.getvalue() if small.tell() < len(data) else data
 
 
 def _number_cell(x: float, digits: str = ".4g") -> str:
@@ -135,7 +159,7 @@ def _number_cell(x: float, digits: str = ".4g") -> str:
 def table_columns() -> list[tuple[str, str]]:
     """(header, type) of every table column; type is 'number' or 'text'."""
     cols = [("id", "number"), ("type", "text"), ("verdict", "text"), ("score", "number")]
-    cols += [("invalid", "text"), ("breached (value / limit)", "text")]
+    cols += [("invalid", "text"), ("breached (value / limit (level))", "text")]
     cols += [(m, "number") for m in METRIC_NAMES if m != "score"]
     return cols
 
@@ -149,7 +173,7 @@ def table_rows(report: Report) -> tuple[np.ndarray, list[str]]:
         i = int(i)
         breached = report.breached(i)
         breach_html = "<br>".join(
-            escape(f"{m} {_fmt(v)} / {_fmt(lim)}") for m, (v, _lvl, lim) in breached.items()
+            escape(f"{m} {_fmt(v)} / {_fmt(lim)} ({lvl})") for m, (v, lvl, lim) in breached.items()
         )
         verdict = str(report.verdict_names[i])
         kind = report.cell_types[int(report.type_codes[i])]
@@ -191,8 +215,31 @@ def histogram_range(report: Report, metric: str) -> tuple[float, float] | None:
     return drawable_range(lo, hi, HIST_BINS)
 
 
+def overflow(report: Report, metric: str) -> tuple[int, int, float, float]:
+    """(count below the drawn range, count above it, smallest, largest value) of a
+    metric's values outside :func:`histogram_range`, infinities included."""
+    values = np.asarray(report.metrics[metric], dtype=float)
+    values = values[~np.isnan(values)]
+    lo, hi = histogram_range(report, metric) or (0.0, 0.0)
+    below, above = values[values < lo], values[values > hi]
+    low = float(below.min()) if below.size else lo
+    high = float(above.max()) if above.size else hi
+    return int(below.size), int(above.size), low, high
+
+
+def bar_height(count: int, peak: int, plot_height: float) -> float:
+    """Bar height on the log count scale: log(1 + count) / log(1 + peak) of the plot,
+    at least :data:`MIN_BAR` for a non-empty bin, 0 for an empty one."""
+    if count <= 0:
+        return 0.0
+    return max(plot_height * np.log1p(count) / np.log1p(max(peak, 1)), MIN_BAR)
+
+
 def histogram_svg(report: Report, metric: str) -> str | None:
-    """Inline SVG histogram of one metric with its warn/fail limits; None if no values."""
+    """Inline SVG histogram of one metric with its warn/fail limits; None if no values.
+
+    Counts are on a log scale (:func:`bar_height`); an overflow bar at each end holds the
+    values outside the drawn range (:func:`overflow`), labelled with count and range."""
     values = np.asarray(report.metrics[metric], dtype=float)
     finite = values[np.isfinite(values)]
     drawn = histogram_range(report, metric)
@@ -201,12 +248,14 @@ def histogram_svg(report: Report, metric: str) -> str | None:
     lo, hi = drawn
     finite = finite[(finite >= lo) & (finite <= hi)]
     counts, edges = np.histogram(finite, bins=HIST_BINS, range=(lo, hi))
-    w, h, left, bottom, top = 320.0, 150.0, 36.0, 24.0, 8.0
-    pw, ph = w - left - 8.0, h - bottom - top
-    peak = max(int(counts.max()), 1)
+    n_below, n_above, low, high = overflow(report, metric)
+    w, h, left, bottom, top = 340.0, 150.0, 46.0, 24.0, 14.0
+    gap = 14.0  # width of each overflow bar's slot
+    pw, ph = w - left - 8.0 - 2 * gap, h - bottom - top
+    peak = max(int(counts.max()), n_below, n_above, 1)
 
     def sx(x: float) -> float:
-        return left + (x - lo) / (hi - lo) * pw
+        return left + gap + (x - lo) / (hi - lo) * pw
 
     parts = [
         f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {w:g} {h:g}" width="{w:g}" '
@@ -214,21 +263,37 @@ def histogram_svg(report: Report, metric: str) -> str | None:
     ]
     for c, a, b in zip(counts, edges[:-1], edges[1:]):
         if c:
-            bh = c / peak * ph
+            bh = bar_height(int(c), peak, ph)
             bw = max(sx(b) - sx(a) - 0.5, 0.5)
             parts.append(
                 f'<rect x="{sx(a):.2f}" y="{top + ph - bh:.2f}" width="{bw:.2f}" '
                 f'height="{bh:.2f}" fill="{BAR}"><title>{a:.4g} to {b:.4g}: {int(c)}</title></rect>'
             )
+    for n, x, span, side in (
+        (n_below, left, f"{_fmt(low)} to {_fmt(lo)}", "below"),
+        (n_above, left + gap + pw + 1.0, f"{_fmt(hi)} to {_fmt(high)}", "above"),
+    ):
+        if n:
+            bh = bar_height(n, peak, ph)
+            parts.append(
+                f'<rect x="{x:.2f}" y="{top + ph - bh:.2f}" width="{gap - 2:.2f}" '
+                f'height="{bh:.2f}" fill="#222" data-overflow="{side}">'
+                f"<title>{side} the range, {escape(span)}: {n}</title></rect>"
+                f'<text x="{x + gap / 2 - 1:.2f}" y="{top + ph - bh - 2:.2f}" font-size="9" '
+                f'text-anchor="middle">{n}</text>'
+            )
     parts.append(_limit_marks(report, metric, lo, hi, sx, top, ph))
     y0 = top + ph
-    parts.append(f'<line x1="{left}" y1="{y0}" x2="{left + pw}" y2="{y0}" stroke="#222"/>')
     parts.append(
-        f'<text x="{left}" y="{h - 6}" font-size="10">{escape(_fmt(lo))}</text>'
-        f'<text x="{left + pw}" y="{h - 6}" font-size="10" text-anchor="end">'
+        f'<line x1="{left}" y1="{y0}" x2="{left + pw + 2 * gap}" y2="{y0}" stroke="#222"/>'
+    )
+    parts.append(
+        f'<text x="{left + gap}" y="{h - 6}" font-size="10">{escape(_fmt(lo))}</text>'
+        f'<text x="{left + gap + pw}" y="{h - 6}" font-size="10" text-anchor="end">'
         f"{escape(_fmt(hi))}</text>"
         f'<text x="{left - 4}" y="{top + 8}" font-size="10" text-anchor="end">{peak}</text>'
-        f'<text x="{left - 4}" y="{y0}" font-size="10" text-anchor="end">0</text>'
+        f'<text x="{left - 4}" y="{y0}" font-size="10" text-anchor="end">1</text>'
+        f'<text x="{left - 4}" y="{top + ph / 2}" font-size="9" text-anchor="end">log</text>'
     )
     parts.append("</svg>")
     return "".join(parts)
@@ -255,17 +320,16 @@ def _caption(report: Report, name: str) -> str:
     unit = "" if info.unit == "1" else f" [{unit_of(name, report.dimensions)}]"
     notes = []
     inf = int(np.isinf(values).sum())
-    if inf:
-        notes.append(f"{inf} infinite")
+    n_below, n_above, low, high = overflow(report, name)
     lo, hi = histogram_range(report, name) or (0.0, 0.0)
-    below, above = int((values < lo).sum()), int((values > hi).sum())
-    below -= int(np.isneginf(values).sum())
-    above -= int(np.isposinf(values).sum())
-    if below:
-        notes.append(f"{below} below {lo:.4g}")
-    if above:
-        notes.append(f"{above} above {hi:.4g}")
-    extra = f" Not drawn: {', '.join(notes)}." if notes else ""
+    if n_below:
+        notes.append(f"{n_below} below {lo:.4g} (down to {low:.4g})")
+    if n_above:
+        notes.append(f"{n_above} above {hi:.4g} (up to {high:.4g})")
+    if inf:
+        notes.append(f"{inf} of them infinite")
+    extra = f" Dark end bars: {', '.join(notes)}." if notes else ""
+    extra += " Counts on a log scale; one element is a visible bar."
     per_family: dict[str, list[str]] = {}
     for family, kind, v in metric_limits(report, name):
         per_family.setdefault(family, []).append(f"{kind} {v:g}")
@@ -298,6 +362,25 @@ def _summary(report: Report) -> str:
     ]
     items = "".join(f"<dt>{escape(k)}</dt><dd>{escape(v)}</dd>" for k, v in facts)
     return f'<dl class="facts" id="summary">{items}</dl>'
+
+
+def _regions(report: Report) -> str:
+    """The summary broken down by the regions the file carries (none: nothing)."""
+    breakdown = report.region_breakdown()
+    if not breakdown:
+        return ""
+    rows = "".join(
+        f'<tr><td>{escape(e["region"])}</td><td class="n">{e["elements"]}</td>'
+        f'<td class="n">{e["counts"]["fail"]}</td><td class="n">{e["counts"]["warn"]}</td>'
+        f'<td class="n">{e["counts"]["ok"]}</td><td class="n">{_fmt(e["worst_score"])}</td>'
+        f"<td>{escape(', '.join(e['profiles']))}</td></tr>"
+        for e in breakdown
+    )
+    return (
+        '<h2>Regions</h2><table class="elements" id="regions"><thead><tr><th>region</th>'
+        "<th>elements</th><th>fail</th><th>warn</th><th>ok</th><th>lowest score</th>"
+        f"<th>judged under</th></tr></thead><tbody>{rows}</tbody></table>"
+    )
 
 
 def _findings(report: Report) -> str:
@@ -373,7 +456,7 @@ def render(report: Report, elements: ElementMesh, color_by: str = "score") -> st
         f"<title>meshaudit: {name}: {word}</title><style>{_CSS}</style></head><body>"
         f'<h1><span class="verdict {word.lower()}" id="verdict">{word}</span> {name}</h1>'
         f"<p>{escape(plot.title(report))}</p>"
-        f"<h2>Summary</h2>{_summary(report)}"
+        f"<h2>Summary</h2>{_summary(report)}{_regions(report)}"
         f'<h2>Mesh coloured by {escape(color_by)}</h2><img class="plot" id="plot" '
         f'alt="mesh coloured by {escape(color_by)}, {_plot_shows(elements)}" '
         f'src="data:image/png;base64,{png}">'

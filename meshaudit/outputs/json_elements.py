@@ -25,7 +25,7 @@ _TEMPLATE = (
     '{"index": %s, "id": %s, "type": %s, "verdict": %s, "score": %s, "flags": %s, '
     '"centroid": [%s, %s, %s], "metrics": {'
     + ", ".join(f"{_text(m)}: %s" for m in METRIC_NAMES)
-    + '}, "breaches": %s, "region": %s}'
+    + '}, "breaches": %s, "region": %s, "file_region": %s}'
 )
 
 
@@ -58,6 +58,7 @@ def element_lines(report: Report, rows: np.ndarray) -> list[str]:
         *(metrics[m] for m in METRIC_NAMES),
         _breaches(report, rows, metrics),
         regions,
+        _pick((None, *report.file_region_names), np.asarray(report.file_region_codes_of(rows))),
     ]
     return [_TEMPLATE % values for values in zip(*columns)]
 

@@ -39,6 +39,7 @@ def _document(report: Report, every_element: bool) -> tuple[dict[str, Any], np.n
         "summary": report.summary.to_dict(),
         "profile": report.profile.to_dict(),
         "regions": report.region_summary(),
+        "region_breakdown": report.region_breakdown(),
         "fail_on": report.fail_on,
         "verdict": "pass" if report.passed else "fail",
         "not_audited": dict(report.summary.skipped),

@@ -91,12 +91,25 @@ def finding_cases(suite: ET.Element, report: Report) -> None:
         _case(suite, "meshaudit.findings", name, kind in failing, msg)
 
 
+def region_text(entry: dict) -> str:
+    """One region of the breakdown in words: elements, verdict counts, lowest score."""
+    c = entry["counts"]
+    return (
+        f"{entry['elements']} elements: {c['fail']} fail, {c['warn']} warn, {c['ok']} ok; "
+        f"lowest score {entry['worst_score']:.3f}; judged under {', '.join(entry['profiles'])}"
+    )
+
+
 def render(report: Report) -> str:
     source = report.summary.source
     suite = ET.Element("testsuite", name=f"meshaudit {source}")
     properties = ET.SubElement(suite, "properties")
     skipped = report.summary.skipped_text() or "none"
     ET.SubElement(properties, "property", name="cells not audited", value=skipped)
+    for entry in report.region_breakdown():
+        ET.SubElement(
+            properties, "property", name=f"region {entry['region']}", value=region_text(entry)
+        )
     for flag in INVALID_FLAGS:
         mask = report.flag(flag)
         n = int(mask.sum())

@@ -6,7 +6,6 @@ run (the verdict line only) does not load it.
 
 from __future__ import annotations
 
-import math
 from typing import TYPE_CHECKING
 
 from rich.console import Console, Group
@@ -14,6 +13,7 @@ from rich.text import Text
 
 from ..metrics import METRIC_INFO, METRIC_NAMES, unit_of
 from ..results.report import PERCENTILES, Report
+from .display import fmt, label, legend, narrow, with_unit, zero_tolerances
 from .terminal_findings import findings_table, loops_line, surfaces_line, verdict_suffix
 
 if TYPE_CHECKING:
@@ -21,13 +21,8 @@ if TYPE_CHECKING:
 
 
 def _fmt(x: float | None) -> str:
-    if x is None:
-        return "-"
-    if math.isinf(x):
-        return "inf" if x > 0 else "-inf"
-    if math.isnan(x):
-        return "-"
-    return f"{x:.4g}"
+    """A number in 4 significant figures (no round-off rule: see :func:`display.fmt`)."""
+    return fmt(x)
 
 
 def verdict_line(report: Report) -> Text:
@@ -64,7 +59,10 @@ def summary_table(report: Report) -> Table:
     t.add_row("geometry", s.geometry_text())
     t.add_row("profile", f"{report.profile.name} ({report.profile.origin})")
     if report.region_names:
-        t.add_row("regions", _regions_text(report))
+        t.add_row("region limits", _regions_text(report))
+    breakdown = report.region_breakdown()
+    if breakdown:
+        t.add_row("regions", breakdown_text(breakdown))
     if report.materials is not None:
         from ..results.time_step import time_step_summary, time_step_text
 
@@ -98,35 +96,85 @@ def _regions_text(report: Report) -> str:
     return "\n".join(parts)
 
 
-def distribution_table(report: Report) -> Table:
+#: Regions the terminal summary lists one by one (the worst first); the JSON lists all.
+SHOWN_REGIONS = 12
+
+
+def breakdown_text(breakdown: list[dict]) -> str:
+    """One line per region of the file: its elements, verdict counts and the profiles that
+    judged it; at most :data:`SHOWN_REGIONS`, those with the most failing (then warning)
+    elements first, in file order otherwise."""
+    lines = []
+    shown = breakdown
+    if len(breakdown) > SHOWN_REGIONS:
+        ranked = sorted(
+            range(len(breakdown)),
+            key=lambda k: (-breakdown[k]["counts"]["fail"], -breakdown[k]["counts"]["warn"], k),
+        )
+        shown = [breakdown[k] for k in sorted(ranked[:SHOWN_REGIONS])]
+    for entry in shown:
+        c = entry["counts"]
+        judged = ", ".join(entry["profiles"])
+        lines.append(
+            f"{entry['region']}: {entry['elements']:,} elements, {c['fail']} fail, "
+            f"{c['warn']} warn ({judged})"
+        )
+    if len(shown) < len(breakdown):
+        lines.append(
+            f"and {len(breakdown) - len(shown)} more regions (the JSON report's "
+            "region_breakdown lists every one)"
+        )
+    return "\n".join(lines)
+
+
+def distribution_table(report: Report, short: bool = False) -> Table:
+    """Each metric's min, p5, median, p95, max and counts past its limits; ``short``: the
+    short names of :mod:`meshaudit.outputs.display` (a legend follows the table)."""
+    from rich import box
     from rich.table import Table
 
     stats = report.statistics()
+    zero = zero_tolerances(report.metrics, report.dimensions)
     t = Table(title="Metric distribution", title_justify="left")
-    t.add_column("metric")
-    t.add_column("unit")
+    names = shown_metrics(report)
+    if short:  # names never cut: the numbers fold first, then the units join the names
+        t.box, t.pad_edge, t.show_edge = box.SIMPLE_HEAD, False, False
+        cells = [with_unit(n, unit_of(n, report.dimensions)) for n in names]
+        t.add_column("metric", no_wrap=True, min_width=max(map(len, cells), default=6))
+    else:
+        t.add_column("metric", no_wrap=True)
+        t.add_column("unit", no_wrap=True)
     for key, _ in PERCENTILES:
-        t.add_column(key, justify="right")
-    t.add_column("past warn", justify="right")
-    t.add_column("past fail", justify="right")
-    for name in METRIC_NAMES:
+        t.add_column(key, justify="right", overflow="fold")
+    t.add_column("past warn" if not short else "warn", justify="right", overflow="fold")
+    t.add_column("past fail" if not short else "fail", justify="right", overflow="fold")
+    for name in names:
         st = stats[name]
-        if st["count"] == 0 and st["infinite"] == 0:
-            continue
-        cells = [_fmt(st[key]) for key, _ in PERCENTILES]
+        values = [fmt(st[key], zero[name]) for key, _ in PERCENTILES]
         if st["infinite"]:
-            cells[-1] = f"inf ({st['infinite']})"
+            values[-1] = f"inf ({st['infinite']})"
         unit = unit_of(name, report.dimensions)
-        t.add_row(name, unit, *cells, str(st["past_warn"]), str(st["past_fail"]))
+        head = [with_unit(name, unit)] if short else [name, unit]
+        t.add_row(*head, *values, str(st["past_warn"]), str(st["past_fail"]))
+    if short:
+        t.caption = "warn, fail: elements past each limit; inf (n): n infinite values"
+        t.caption_justify = "left"
     return t
 
 
-def worst_table(report: Report, top: int) -> Table | None:
+def shown_metrics(report: Report) -> list[str]:
+    """The metrics the distribution table lists: those with a value somewhere."""
+    stats = report.statistics()
+    return [n for n in METRIC_NAMES if stats[n]["count"] or stats[n]["infinite"]]
+
+
+def worst_table(report: Report, top: int, short: bool = False) -> Table | None:
     rows = report.worst(top)
     if rows.size == 0:
         return None
     from rich.table import Table
 
+    zero = zero_tolerances(report.metrics, report.dimensions)
     t = Table(
         title=f"Worst elements (top {rows.size} of {int((report.verdict > 0).sum())} not ok)",
         title_justify="left",
@@ -136,7 +184,8 @@ def worst_table(report: Report, top: int) -> Table | None:
     for i in rows:
         rec = report.breached(int(i))
         breached = ", ".join(
-            f"{m} {_fmt(v)} {'>' if METRIC_INFO[m].worse == 'high' else '<'} {_fmt(lim)} ({lvl})"
+            f"{label(m, short)} {fmt(v, zero[m])} {'>' if METRIC_INFO[m].worse == 'high' else '<'}"
+            f" {fmt(lim)} ({lvl})"
             for m, (v, lvl, lim) in rec.items()
         )
         validity = [f for f in report.flags_of(int(i)) if f not in rec]
@@ -144,7 +193,7 @@ def worst_table(report: Report, top: int) -> Table | None:
             str(int(report.ids[i])),
             report.cell_types[int(report.type_codes[i])],
             report.verdict_names[i],
-            _fmt(float(report.score[i])),
+            fmt(float(report.score[i])),
             ", ".join(validity) or "-",
             breached or "-",
         )
@@ -157,12 +206,17 @@ def render(report: Report, console: Console, top: int = 10, quiet: bool = False)
     The verdict line is never wrapped, so a CI log can grep it whatever the path length.
     """
     if not quiet:
-        parts = [summary_table(report), Text(), distribution_table(report)]
+        short = narrow(console.width)
+        parts = [summary_table(report), Text(), distribution_table(report, short)]
         findings = findings_table(report)
         if findings is not None:
             parts += [Text(), findings]
-        worst = worst_table(report, top) if top > 0 else None
+        worst = worst_table(report, top, short) if top > 0 else None
         if worst is not None:
             parts += [Text(), worst]
+        if short:
+            names = shown_metrics(report)
+            units = [unit_of(n, report.dimensions) for n in names]
+            parts += [Text(), Text(legend(names, units))]
         console.print(Group(*parts, Text()))
     console.print(verdict_line(report), soft_wrap=True)

@@ -42,7 +42,10 @@ def findings_table(report: Report) -> Table | None:
     from rich.table import Table  # on use: a --quiet run draws no table
 
     t = Table(title="Mesh-level findings", title_justify="left")
-    for col in ("kind", "severity", "count", "involved", "what"):
+    kinds = max(len(f.kind) for f in report.findings)
+    t.add_column("kind", no_wrap=True, min_width=kinds)  # a kind is never cut
+    t.add_column("severity", no_wrap=True)
+    for col in ("count", "involved", "what"):
         t.add_column(col, justify="right" if col == "count" else "left")
     order = {"fail": 0, "warn": 1, "info": 2}
     for f in sorted(report.findings, key=lambda f: order.get(f.severity, 3)):

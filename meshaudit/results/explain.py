@@ -326,6 +326,37 @@ def _score_reason(score: float, verdict: int, invalid: bool) -> str:
     )
 
 
+def size_jump(audited: AuditedMesh, i: int) -> str:
+    """The neighbour behind element ``i``'s size ratio, in words ('' when it has none):
+    among the elements sharing an edge with it (solids: a face, three corners or more) and
+    counted as sizes (valid), the one whose characteristic length differs most."""
+    report = audited.report
+    table = corner_table(audited.elements)
+    solid = CELL_TYPES[report.cell_types[int(report.type_codes[i])]].dimension == 3
+    mine = np.unique(table[i])
+    near = neighbours(table, i)
+    rows = np.sort(table[near], axis=1)  # a triangle repeats its last corner: count once
+    distinct = np.ones(rows.shape, dtype=bool)
+    distinct[:, 1:] = rows[:, 1:] != rows[:, :-1]
+    shared = (np.isin(rows, mine) & distinct).sum(axis=1)
+    by_type = np.array([CELL_TYPES[t].dimension for t in report.cell_types])
+    dims = by_type[report.type_codes[near]]
+    near = near[(shared >= (3 if solid else 2)) & (dims == (3 if solid else 2))]
+    invalid = np.zeros(near.size, dtype=bool)
+    for flag in INVALID_FLAGS:
+        invalid |= report.flag(flag)[near]
+    near = near[~invalid]
+    if near.size == 0:
+        return ""
+    size = report.metrics["volume" if solid else "area"]
+    h = np.cbrt(np.abs(size)) if solid else np.sqrt(np.abs(size))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ratio = np.fmax(h[near] / h[i], h[i] / h[near])
+    j = int(near[np.nanargmax(ratio)]) if not np.isnan(ratio).all() else int(near[0])
+    word = "cbrt |volume|" if solid else "sqrt area"
+    return f"against element {int(report.ids[j])} ({word} {h[i]:.4g} here, {h[j]:.4g} there)"
+
+
 def metric_lines(audited: AuditedMesh, i: int) -> list[MetricLine]:
     report = audited.report
     family = report.cell_families[int(report.families[i])]
@@ -347,6 +378,8 @@ def metric_lines(audited: AuditedMesh, i: int) -> list[MetricLine]:
         if name in STIFFNESS_METRICS:
             solid = CELL_TYPES[report.cell_types[int(report.type_codes[i])]].dimension == 3
             reason = stiffness_reason(name, value, reason, report.materials, solid)
+        if name == "size_ratio" and reason:
+            reason += ": " + size_jump(audited, i)
         unit = unit_of(name, [CELL_TYPES[report.cell_types[int(report.type_codes[i])]].dimension])
         lines.append(MetricLine(name, value, unit, info.worse, warn, fail, level, reason))
     return lines

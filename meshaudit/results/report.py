@@ -152,6 +152,10 @@ class Report:
     region_names: tuple[str, ...] = ()
     region_profiles: tuple[Profile, ...] = ()
     region_codes: np.ndarray | None = None
+    #: The regions the file carries (see :mod:`meshaudit.mesh.regions`), for the breakdown:
+    #: names, and per element 0 (no region) or j (``file_region_names[j - 1]``).
+    file_region_names: tuple[str, ...] = ()
+    file_region_codes: np.ndarray | None = None
     #: Mesh-level findings (only kinds that occur; a clean mesh has none).
     findings: list[Finding] = field(default_factory=list)
     #: Free edges chained into loops (None when the checks did not run).
@@ -237,6 +241,53 @@ class Report:
                 "elements": n,
                 "counts": {v: int(counts[j]) for j, v in enumerate(VERDICT_NAMES)},
             }
+        return out
+
+    def file_region_codes_of(self, rows: np.ndarray) -> list[int]:
+        """The file region code (0 none, j: ``file_region_names[j - 1]``) of ``rows``."""
+        if self.file_region_codes is None:
+            return [0] * len(rows)
+        return self.file_region_codes[rows].tolist()
+
+    def file_region_labels(self, rows: np.ndarray | slice) -> np.ndarray:
+        """The file region name of elements ``rows`` (object array, "" for none)."""
+        names = np.asarray(("", *self.file_region_names), dtype=object)
+        if self.file_region_codes is None:
+            return names[np.zeros(len(self), dtype=np.int64)[rows]]
+        return names[self.file_region_codes[rows]]
+
+    def region_breakdown(self) -> list[dict[str, Any]]:
+        """The summary per region of the file: one entry per region that has elements
+        (plus "(no region)" for elements in none, when the file has regions), with its
+        element count, verdict counts, lowest score and the profiles that judged it."""
+        if self.file_region_codes is None or not self.file_region_names:
+            return []
+        k = len(self.file_region_names) + 1
+        codes = self.file_region_codes.astype(np.int64)
+        counts = np.bincount(codes * 3 + self.verdict, minlength=3 * k).reshape(k, 3)
+        worst = np.full(k, np.inf)
+        np.minimum.at(worst, codes, self.score)
+        judged = self.region_codes if self.region_codes is not None else np.zeros_like(codes)
+        pairs = np.unique(codes * (len(self.region_names) + 1) + judged)
+        profiles: dict[int, list[str]] = {}
+        for pair in pairs.tolist():
+            code, by = divmod(pair, len(self.region_names) + 1)
+            name = self.region_profiles[by - 1].name if by else self.profile.name
+            profiles.setdefault(code, []).append(name)
+        out = []
+        for j in (*range(1, k), 0):
+            n = int(counts[j].sum())
+            if n == 0:
+                continue
+            out.append(
+                {
+                    "region": self.file_region_names[j - 1] if j else "(no region)",
+                    "elements": n,
+                    "counts": {v: int(counts[j, m]) for m, v in enumerate(VERDICT_NAMES)},
+                    "worst_score": float(worst[j]),
+                    "profiles": profiles.get(j, []),
+                }
+            )
         return out
 
     # -- verdicts -----------------------------------------------------------------
@@ -357,7 +408,9 @@ class Report:
             zip(*(metrics[m] for m in METRIC_NAMES)),
             breaches,
             region_codes,
+            self.file_region_codes_of(rows),
         )
+        file_region_of = [None, *self.file_region_names]
         return [
             {
                 "index": i,
@@ -370,8 +423,11 @@ class Report:
                 "metrics": dict(zip(METRIC_NAMES, values)),
                 "breaches": breach,
                 "region": region_of[region],
+                "file_region": file_region_of[in_file],
             }
-            for i, label, cell_type, verdict, f, centroid, values, breach, region in columns
+            for i, label, cell_type, verdict, f, centroid, values, breach, region, in_file in (
+                columns
+            )
         ]
 
     def breached_limits(

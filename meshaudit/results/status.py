@@ -10,6 +10,10 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from .report import Report
 
 EXIT_PASS, EXIT_FAIL, EXIT_UNUSABLE = 0, 1, 2
 
@@ -31,6 +35,22 @@ class Outcome:
     profile: str = ""
     error: str | None = None
     not_audited: str = ""  # cells not audited, e.g. '120 tetra, 40 line'
+    why: str = ""  # why it fails: '3 elements fail; finding coincident_nodes (fail)'
+
+
+def failure_reason(report: Report) -> str:
+    """Why a report fails its gate, in words ('' when it passes): the count of elements
+    past the gate and the mesh-level findings that fail it."""
+    if report.passed:
+        return ""
+    parts = []
+    failing = int(report.failing.sum())
+    if failing:
+        word = "fail" if report.fail_on == "fail" else "warn or fail"
+        parts.append(f"{failing:,} element{'s' if failing != 1 else ''} {word}")
+    for f in report.failing_findings:
+        parts.append(f"{f.kind} ({f.severity}, {f.count:,})")
+    return "; ".join(parts)
 
 
 def overall_status(outcomes: Sequence[Outcome]) -> int:
