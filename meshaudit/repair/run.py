@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import os
 from collections.abc import Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
@@ -145,6 +145,7 @@ def repair(
     held = _fixed_nodes(work, mesh, options.keep)
     if options.move:
         after = _move(work, result, after, mesh, held, options, starts, progress)
+    after.summary = replace(after.summary, source=f"{before.summary.source} repaired")
     result.after = after
     result.mesh = work.to_meshio()
     result.worsened = _worsened(work, before, after, starts)
