@@ -22,6 +22,8 @@ if TYPE_CHECKING:
     from .judge.profiles import BUILTIN as BUILTIN_PROFILES
     from .judge.profiles import Limit, Profile, load_profile, with_limit
     from .mesh_checks.findings import Finding
+    from .repair.run import Repair, RepairOptions
+    from .repair.run import repair as fix
     from .results.compare import compare
     from .results.explain import explain
     from .results.inspection import AuditedMesh
@@ -43,6 +45,9 @@ _LAZY = {
     "Report": ("results.report", "Report"),
     "compare": ("results.compare", "compare"),
     "explain": ("results.explain", "explain"),
+    "fix": ("repair.run", "repair"),
+    "Repair": ("repair.run", "Repair"),
+    "RepairOptions": ("repair.run", "RepairOptions"),
     "load_profile": ("judge.profiles", "load_profile"),
     "return_large_blocks": ("engine.memory", "return_large_blocks"),
     "with_limit": ("judge.profiles", "with_limit"),
@@ -72,6 +77,8 @@ __all__ = [
     "OutputError",
     "Profile",
     "ProfileError",
+    "Repair",
+    "RepairOptions",
     "Report",
     "__version__",
     "audit",
@@ -79,6 +86,7 @@ __all__ = [
     "audit_mesh",
     "compare",
     "explain",
+    "fix",
     "load_profile",
     "return_large_blocks",
     "with_limit",

@@ -94,12 +94,13 @@ def _scatter(c: Corners, grads: list[np.ndarray], n: int) -> np.ndarray:
     return out
 
 
-def untangle(c: Corners, x: np.ndarray, beta: float) -> tuple[float, np.ndarray]:
-    """Knupp's untangling function and its gradient with respect to x (n, 3)."""
+def untangle(c: Corners, x: np.ndarray, beta: float | np.ndarray) -> tuple[float, np.ndarray]:
+    """Knupp's untangling function and its gradient with respect to x (n, 3); ``beta``
+    one threshold or one per corner (m,)."""
     cols = edge_columns(c, x)
     sigma, cof = _det_and_cofactors(cols, c.normal)
     short = sigma < beta
-    value = float(2.0 * np.sum(beta - sigma[short]))
+    value = float(2.0 * np.sum((beta - sigma)[short]))
     weight = np.where(short, -2.0, 0.0)[:, None]
     return value, _scatter(c, [weight * g for g in cof], x.shape[0])
 

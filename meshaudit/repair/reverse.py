@@ -1,11 +1,19 @@
 """Reversed elements and bow-tie quads: repairs of a row's node order.
 
-- :func:`reversed_rows`: the elements to reverse are those the audit flags ``reversed``
-  (wound clockwise about +z on a planar mesh, every corner Jacobian negative on a solid)
-  or ``flipped_normal`` (facing against the rest of their patch on a shell): a whole
-  mesh wound the wrong way is then every element. They are reversed with the cell
-  type's own mirror permutation (:func:`meshaudit.repair.cells.reversal`), which keeps
-  the first node and maps midside nodes with their edges.
+- :func:`reversed_rows`: which elements have their nodes listed the wrong way round.
+  A folded element (a node pulled across its neighbour) also reads clockwise, but its
+  node order agrees with its neighbours': it is untangled by moving nodes, not reversed.
+  So surface elements are grouped by the direction they run along their shared edges
+  (elements of one group agree with each other, see
+  :func:`meshaudit.mesh.topology.flipped_elements`). On a planar mesh judged against
+  +z, a group whose signed area in x-y adds up negative is wound clockwise and all its
+  elements are reversed (a whole mesh wound the wrong way is one such group); a lone
+  reversed element is a group of its own. Without an absolute reference (shells, a
+  plane containing z) the smaller group of each patch is reversed, as the audit's
+  ``flipped_normal`` flag says. Solids: the audit's ``reversed`` flag (every corner
+  Jacobian negative). They are reversed with the cell type's own mirror permutation
+  (:func:`meshaudit.repair.cells.reversal`), which keeps the first node and maps midside
+  nodes with their edges.
 - :func:`bowtie_orders`: a linear quad whose corners are all in place but listed in the
   wrong order crosses itself (a bow-tie). Swapping its nodes 2 and 3 (or 3 and 4) gives a
   convex quad on the same four nodes; the swap is taken only when the new quad is strictly
@@ -17,17 +25,39 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..cells.registry import CELL_TYPES
+from ..mesh.elements import ElementBlock, ElementMesh
+from ..mesh.topology import flipped_elements
+from ..results.report import Report
+
 #: The two reorderings of a quad's nodes that can untwist a bow-tie (0-based positions).
 BOWTIE_ORDERS = np.array([[0, 2, 1, 3], [0, 1, 3, 2]])
 
 
-def reversed_rows(flags: dict[str, np.ndarray]) -> np.ndarray:
+def reversed_rows(mesh: ElementMesh, report: Report) -> np.ndarray:
     """(n,) bool over report rows: the elements whose node order is to be reversed."""
-    out = np.zeros_like(next(iter(flags.values())), dtype=bool)
-    for name in ("reversed", "flipped_normal"):
-        if name in flags:
-            out |= flags[name]
+    dims = np.array([CELL_TYPES[t].dimension for t in report.cell_types], dtype=np.int8)
+    out = report.flag("reversed") & (dims[report.type_codes] == 3)
+    part, positions = mesh.surface_part()
+    if not part.blocks:
+        return out
+    rows = positions if positions is not None else np.arange(part.n_elements)
+    groups = flipped_elements(part)
+    if report.summary.orientation != "+z":
+        out[rows] |= report.flag("flipped_normal")[rows]
+        return out
+    area = np.concatenate([_signed_area(part.points, b) for b in part.blocks])
+    group = groups.patch.astype(np.int64) * 2 + (groups.sign > 0)
+    total = np.bincount(group, weights=area, minlength=2 * part.n_elements)
+    out[rows] |= (total[group] < 0) & ~groups.twisted
     return out
+
+
+def _signed_area(points: np.ndarray, block: ElementBlock) -> np.ndarray:
+    """Shoelace area in x-y of each element's corner polygon (positive counter-clockwise)."""
+    xy = points[block.connectivity[:, : block.cell.n_corners], :2]
+    nxt = np.roll(xy, -1, axis=1)
+    return 0.5 * (xy[..., 0] * nxt[..., 1] - nxt[..., 0] * xy[..., 1]).sum(axis=1)
 
 
 def _corner_turns(xyz: np.ndarray) -> np.ndarray:

@@ -132,8 +132,8 @@ def repair(
             if not m.all():
                 work.keep_rows(k, m)
     if options.reverse:
-        mid, _ = audit_now_of(work, before)
-        done["reversed"] = _reverse(work, reverse.reversed_rows(_flags(mid)))
+        mid, mesh = audit_now_of(work, before)
+        done["reversed"] = _reverse(work, reverse.reversed_rows(mesh, mid))
     if options.orphans:
         orphan = duplicates.orphan_nodes(work.used_nodes(), list(work.point_sets.values()))
         done["orphans"] = work.node_ids[orphan]
@@ -155,10 +155,6 @@ def repair(
 
 def _none() -> np.ndarray:
     return np.zeros(0, dtype=np.int64)
-
-
-def _flags(report: Report) -> dict[str, np.ndarray]:
-    return {name: report.flag(name) for name in ("reversed", "flipped_normal")}
 
 
 def _locate(work: Working, rows: np.ndarray) -> list[tuple[int, np.ndarray]]:
