@@ -26,11 +26,12 @@ respect to its nodes, scattered onto the nodes with :func:`numpy.bincount`.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class Corners:
     """All corners of the elements that take part, as flat arrays.
 
@@ -46,6 +47,14 @@ class Corners:
 
     def __len__(self) -> int:
         return int(self.nodes.shape[0])
+
+    @cached_property
+    def weights(self) -> list[list[np.ndarray]]:
+        """``weights[i][j]``: W^-1[i, j] of every corner as a contiguous (m, 1) column."""
+        d = self.dim
+        return [
+            [np.ascontiguousarray(self.winv[:, i, j, None]) for j in range(d)] for i in range(d)
+        ]
 
 
 def _cross(a: np.ndarray, b: np.ndarray) -> np.ndarray:
@@ -120,7 +129,8 @@ def shape(c: Corners, x: np.ndarray, delta: float) -> tuple[float, np.ndarray]:
     d = c.dim
     cols = edge_columns(c, x)
     # T = A W^-1: column j of T is sum_i A[:, i] W^-1[i, j]
-    t = [sum(cols[i] * c.winv[:, i, j, None] for i in range(d)) for j in range(d)]
+    w = c.weights
+    t = [sum(cols[i] * w[i][j] for i in range(d)) for j in range(d)]
     sigma, cof = _det_and_cofactors(t, c.normal)
     norm2 = sum(np.einsum("ij,ij->i", tj, tj) for tj in t)
     scale = (norm2 / d) ** (d / 2.0)
@@ -133,5 +143,5 @@ def shape(c: Corners, x: np.ndarray, delta: float) -> tuple[float, np.ndarray]:
     d_sigma = d_h * dh_sigma
     grad_t = [2.0 * d_norm2[:, None] * tj + d_sigma[:, None] * cj for tj, cj in zip(t, cof)]
     # back to A: dF/dA[:, i] = sum_j dF/dT[:, j] W^-1[i, j]
-    grad_a = [sum(grad_t[j] * c.winv[:, i, j, None] for j in range(d)) for i in range(d)]
+    grad_a = [sum(grad_t[j] * w[i][j] for j in range(d)) for i in range(d)]
     return float(eta.sum()), _scatter(c, grad_a, x.shape[0])

@@ -212,14 +212,15 @@ def move_nodes(
             if progress is not None:
                 progress(stage, count[0], limit)
 
-        res = minimize(
-            value,
-            u0,
-            jac=True,
-            method="L-BFGS-B",
-            callback=tick,
-            options={"maxiter": limit, "gtol": 1e-9, "ftol": 1e-12},
-        )
+        with _one_blas_thread():
+            res = minimize(
+                value,
+                u0,
+                jac=True,
+                method="L-BFGS-B",
+                callback=tick,
+                options={"maxiter": limit, "gtol": 1e-9, "ftol": 1e-11},
+            )
         return res.x, count[0]
 
     u = np.zeros(n2 + 3 * len(free_v))
@@ -234,6 +235,19 @@ def move_nodes(
     x = place(u)
     _follow(x, x0, blocks, free, fixed)
     return Moved(x, free, before, inverted(x), steps)
+
+
+def _one_blas_thread():
+    """A context holding the BLAS to one thread (threadpoolctl), or nothing without it:
+    L-BFGS-B's vector operations are small, and threads spinning on a busy machine made
+    them about ten times slower."""
+    try:
+        from threadpoolctl import threadpool_limits
+    except ImportError:  # pragma: no cover - a dependency, but not a required one
+        from contextlib import nullcontext
+
+        return nullcontext()
+    return threadpool_limits(limits=1, user_api="blas")
 
 
 def _follow(x: np.ndarray, x0: np.ndarray, blocks, free: np.ndarray, fixed: np.ndarray) -> None:
