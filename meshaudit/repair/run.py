@@ -8,7 +8,9 @@ dropped, reversed elements reversed, orphan nodes dropped (each can be switched 
 move that raises the verdict of any element above its verdict in the input is not kept:
 the corners of the elements it made worse are fixed and the moves are worked out again
 (up to :data:`RETRIES` times), and if some element still got worse the moves are dropped
-and only the topology repairs remain. Nothing is written here: the caller writes
+and only the topology repairs remain. Moves around failing elements that brought no
+element to a better verdict are undone too (see :func:`meshaudit.repair.smooth.useful_nodes`;
+not with ``everywhere``, which smooths on purpose). Nothing is written here: the caller writes
 ``Repair.mesh`` (see ``meshaudit fix``).
 """
 
@@ -270,7 +272,19 @@ def _move(
         rows = _row_map(work, starts)
         worse = trial.verdict > result.before.verdict[rows]
         if not worse.any():
-            _record_move(result, start, moved.points, blocks, work.node_ids)
+            useful = smooth.useful_nodes(blocks, free, trial.verdict < after.verdict)
+            if not options.everywhere and useful.sum() < free.sum():
+                # undo the moves that brought no element to a better verdict
+                if useful.any():
+                    moved = smooth.move_nodes(start, blocks, useful, normal, held, progress)
+                    work.points = moved.points
+                    trial, _ = audit_now_of(work, after)
+                    if (trial.verdict > result.before.verdict[rows]).any():
+                        break
+                else:
+                    work.points = start.copy()
+                    return after
+            _record_move(result, start, work.points, blocks, work.node_ids)
             return trial
         # fix every node of the elements made worse, then work the moves out again
         worse_rows = np.flatnonzero(worse)
@@ -331,8 +345,8 @@ def _remaining(after: Report, mesh: ElementMesh, held: np.ndarray, moved: bool) 
                 why = "node moves were switched off"
             else:
                 why = (
-                    f"{h} of its {c} corners are fixed (boundary, interface or named); "
-                    "moving the others did not bring it within the limits"
+                    f"{h} of its {c} corners are fixed (boundary, interface or named): "
+                    "moving the others cannot bring it within the limits"
                 )
             out[int(after.ids[row])] = why
     return out

@@ -28,6 +28,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..cells.registry import CELL_TYPES
+from ..mesh.topology import connected_labels
 from . import cells as C
 from .objective import Corners, corner_jacobians, shape, untangle
 
@@ -135,6 +136,36 @@ def free_nodes(
             grown[c[region[c].any(axis=1)]] = True
         region = grown
     return region & corner & ~fixed
+
+
+def useful_nodes(
+    blocks: list[tuple[str, np.ndarray]], free: np.ndarray, better: np.ndarray
+) -> np.ndarray:
+    """(n_points,) bool: the free nodes whose moves are worth keeping.
+
+    Free nodes are grouped into clusters: two free nodes are in one cluster when an
+    element has both as corners. A cluster is worth its moves when some element with a
+    corner in it has a better verdict for them (``better``, over report rows); moves
+    that brought no element to a better verdict only reshuffle the mesh and are undone.
+    """
+    n = len(free)
+    starts = np.cumsum([0] + [len(d) for _, d in blocks])
+    firsts, others, kept = [], [], np.zeros(n, dtype=bool)
+    for k, (t, d) in enumerate(blocks):
+        c = d[:, : CELL_TYPES[t].n_corners]
+        rows = free[c].any(axis=1)
+        corners = c[rows]
+        # one edge per corner to the element's first free corner links its free corners
+        anchor = corners[np.arange(len(corners)), free[corners].argmax(axis=1)]
+        both = free[corners]
+        firsts.append(np.repeat(anchor, c.shape[1])[both.ravel()])
+        others.append(corners.ravel()[both.ravel()])
+        good = better[starts[k] : starts[k + 1]][rows]
+        kept[anchor[good]] = True
+    label = connected_labels(n, np.concatenate(firsts), np.concatenate(others))
+    worth = np.zeros(n, dtype=bool)
+    worth[label[kept]] = True
+    return free & worth[label]
 
 
 def move_nodes(
