@@ -40,8 +40,8 @@ BETA = 0.05
 #: metric on a valid mesh).
 DELTA = 1e-3
 #: Iteration limits of the two passes.
-UNTANGLE_ITERATIONS = 1000
-SHAPE_ITERATIONS = 400
+UNTANGLE_ITERATIONS = 500
+SHAPE_ITERATIONS = 200
 
 Progress = Callable[[str, int, int], None]
 
