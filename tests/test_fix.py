@@ -249,6 +249,36 @@ def test_inverted_hexahedra_are_untangled():
     assert result.passed
 
 
+def test_inverted_tetrahedra_are_untangled_not_reversed():
+    # The 2 x 2 x 2 block cut into six tetrahedra per cube (along each cube's diagonal, a
+    # conforming cut, common practice); the centre node pushed out through the top face
+    # inverts six tetrahedra whose node order still agrees with their neighbours'. The
+    # fix must move the node back (closed form: every tetrahedron's triple product
+    # positive), not reverse them, and leave the block's outer nodes alone.
+    points, hexes = hex_block(2)
+    by_corner = hexes[:, [0, 1, 3, 2, 4, 5, 7, 6]]  # corner i + 2j + 4k
+    cut = np.array(
+        [[0, 1, 3, 7], [0, 1, 5, 7], [0, 2, 3, 7], [0, 2, 6, 7], [0, 4, 5, 7], [0, 4, 6, 7]]
+    )
+    tets = by_corner[:, cut].reshape(-1, 4)
+
+    def volumes(p):
+        a, b, c, d = (p[tets[:, k]] for k in range(4))
+        return np.einsum("ij,ij->i", b - a, np.cross(c - a, d - a))
+
+    left = volumes(points) < 0
+    tets[left] = tets[left][:, [0, 2, 1, 3]]
+    moved = points.copy()
+    moved[13] = [1.0, 1.0, 2.6]
+    assert (volumes(moved) < 0).sum() == 6
+    result = meshaudit.fix(meshio.Mesh(moved, [("tetra", tets)]))
+    assert not len(result.done["reversed"])
+    assert (volumes(result.mesh.points) > 0).all()
+    outer = np.arange(len(points)) != 13
+    assert np.array_equal(result.mesh.points[outer], moved[outer])
+    assert result.passed
+
+
 def test_reversed_tetra_and_quadratic_solid_are_reversed():
     tet = np.array([[0.0, 0, 0], [1, 0, 0], [0, 1, 0], [0, 0, 1]])
     backwards = meshio.Mesh(tet, [("tetra", np.array([[0, 2, 1, 3]]))])

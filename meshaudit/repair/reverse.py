@@ -10,8 +10,10 @@
   elements are reversed (a whole mesh wound the wrong way is one such group); a lone
   reversed element is a group of its own. Without an absolute reference (shells, a
   plane containing z) the smaller group of each patch is reversed, as the audit's
-  ``flipped_normal`` flag says. Solids: the audit's ``reversed`` flag (every corner
-  Jacobian negative). They are reversed with the cell type's own mirror permutation
+  ``flipped_normal`` flag says. Solids the same way, grouped by the direction they run
+  around their shared faces, a group whose mean corner Jacobians add up negative is
+  reversed: an inverted tetrahedron whose node order agrees with its neighbours' is
+  untangled, not reversed. They are reversed with the cell type's own mirror permutation
   (:func:`meshaudit.repair.cells.reversal`), which keeps the first node and maps midside
   nodes with their edges.
 - :func:`bowtie_orders`: a linear quad whose corners are all in place but listed in the
@@ -25,10 +27,10 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..cells.registry import CELL_TYPES
 from ..mesh.elements import ElementBlock, ElementMesh
-from ..mesh.topology import flipped_elements
+from ..mesh.topology import flipped_elements, orientation_groups
 from ..results.report import Report
+from . import cells as C
 
 #: The two reorderings of a quad's nodes that can untwist a bow-tie (0-based positions).
 BOWTIE_ORDERS = np.array([[0, 2, 1, 3], [0, 1, 3, 2]])
@@ -36,8 +38,7 @@ BOWTIE_ORDERS = np.array([[0, 2, 1, 3], [0, 1, 3, 2]])
 
 def reversed_rows(mesh: ElementMesh, report: Report) -> np.ndarray:
     """(n,) bool over report rows: the elements whose node order is to be reversed."""
-    dims = np.array([CELL_TYPES[t].dimension for t in report.cell_types], dtype=np.int8)
-    out = report.flag("reversed") & (dims[report.type_codes] == 3)
+    out = _solid_rows(mesh)
     part, positions = mesh.surface_part()
     if not part.blocks:
         return out
@@ -51,6 +52,57 @@ def reversed_rows(mesh: ElementMesh, report: Report) -> np.ndarray:
     total = np.bincount(group, weights=area, minlength=2 * part.n_elements)
     out[rows] |= (total[group] < 0) & ~groups.twisted
     return out
+
+
+def _solid_rows(mesh: ElementMesh) -> np.ndarray:
+    """(n,) bool: solids of an orientation group whose mean corner Jacobians add up
+    negative. Two solids sharing a face agree when they run its loop in opposite
+    directions (each lists its faces counter-clockwise seen from outside)."""
+    n = mesh.n_elements
+    out = np.zeros(n, dtype=bool)
+    solids = [b for b in mesh.blocks if b.cell.dimension == 3]
+    if not solids:
+        return out
+    by_size: dict[int, list[tuple[np.ndarray, np.ndarray, np.ndarray]]] = {}
+    volume = np.zeros(n)
+    for b in solids:
+        conn = b.connectivity
+        for face in b.cell.faces:
+            loop = conn[:, list(face)]
+            start = loop.argmin(axis=1)
+            rows = np.arange(len(loop))
+            after = loop[rows, (start + 1) % loop.shape[1]]
+            before = loop[rows, (start - 1) % loop.shape[1]]
+            by_size.setdefault(len(face), []).append(
+                (np.sort(loop, axis=1), b.index, after < before)
+            )
+        table = C.corner_table(b.cell_type)
+        x = mesh.points[conn[:, table]]  # (n, c, 4, 3)
+        e = x[:, :, 1:] - x[:, :, :1]
+        triple = np.einsum("ncj,ncj->nc", e[:, :, 0], np.cross(e[:, :, 1], e[:, :, 2]))
+        volume[b.index] = triple.mean(axis=1)
+    firsts, seconds, sames = [], [], []
+    for parts in by_size.values():
+        keys = np.concatenate([k for k, _, _ in parts])
+        owner = np.concatenate([o for _, o, _ in parts])
+        turn = np.concatenate([t for _, _, t in parts])
+        _, inverse, counts = np.unique(keys, axis=0, return_inverse=True, return_counts=True)
+        inverse = inverse.ravel()
+        shared = np.flatnonzero(counts[inverse] == 2)
+        shared = shared[np.argsort(inverse[shared], kind="stable")]
+        a, b2 = shared[0::2], shared[1::2]
+        firsts.append(owner[a])
+        seconds.append(owner[b2])
+        sames.append(turn[a] == turn[b2])
+    groups = orientation_groups(
+        n, np.concatenate(firsts), np.concatenate(seconds), np.concatenate(sames)
+    )
+    solid = np.zeros(n, dtype=bool)
+    for b in solids:
+        solid[b.index] = True
+    group = groups.patch.astype(np.int64) * 2 + (groups.sign > 0)
+    total = np.bincount(group, weights=volume, minlength=2 * n)
+    return solid & (total[group] < 0) & ~groups.twisted
 
 
 def _signed_area(points: np.ndarray, block: ElementBlock) -> np.ndarray:
