@@ -355,3 +355,27 @@ def test_refused_result_is_not_written(run_cli, tmp_path, monkeypatch):
     out = tmp_path / "out.vtu"
     assert main(["fix", str(src), "-o", str(out), "--no-config"]) == 1
     assert not out.exists()
+
+
+def test_tangled_quad8_patch_returns_to_its_grid_with_midside_nodes():
+    # The 3 x 3 grid of quad8 with straight sides (midside nodes at the middle of each
+    # side, common practice for a mesher's output); one interior corner pulled past its
+    # neighbour with its sides kept straight. The fix moves the corner and its midside
+    # nodes follow: the grid comes back (closed form: the unique minimiser, as for
+    # linear quads), and the outline's corners and midside nodes stay to the bit.
+    points, quads = grid(3, 3)
+    points = points.astype(float)
+    edges = np.sort(quads[:, [[0, 1], [1, 2], [2, 3], [3, 0]]].reshape(-1, 2), axis=1)
+    unique, inverse = np.unique(edges, axis=0, return_inverse=True)
+    mids = len(points) + inverse.reshape(-1, 4)
+    quad8 = np.hstack([quads, mids])
+    home = np.vstack([points, points[unique].mean(axis=1)])
+    tangled = home.copy()
+    tangled[5] = [2.6, 2.4]
+    tangled[len(points) :] = tangled[unique].mean(axis=1)
+    result = meshaudit.fix(meshio.Mesh(tangled, [("quad8", quad8)]))
+    assert not result.before.passed and result.passed
+    np.testing.assert_allclose(result.mesh.points, home, atol=1e-5)
+    ring = outline(points)
+    on_ring = np.flatnonzero(np.concatenate([ring, ring[unique].all(axis=1)]))
+    assert np.array_equal(result.mesh.points[on_ring], tangled[on_ring])
