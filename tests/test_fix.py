@@ -379,3 +379,29 @@ def test_tangled_quad8_patch_returns_to_its_grid_with_midside_nodes():
     ring = outline(points)
     on_ring = np.flatnonzero(np.concatenate([ring, ring[unique].all(axis=1)]))
     assert np.array_equal(result.mesh.points[on_ring], tangled[on_ring])
+
+
+def test_benchmark_of_fix_writes_its_rows():
+    # Smoke test of benchmarks/bench_fix.py (speed is measured there, not tested here):
+    # six rows, and no repair leaves more elements failing than it found.
+    import os
+    import subprocess
+    import sys
+
+    from conftest import REPO
+
+    env = dict(os.environ, PYTHONPATH=str(REPO))
+    res = subprocess.run(
+        [sys.executable, "-m", "benchmarks.bench_fix", "1000"],
+        capture_output=True,
+        text=True,
+        cwd=REPO,
+        env=env,
+        timeout=600,
+    )
+    assert res.returncode == 0, res.stderr
+    rows = [line.split("|")[1:-1] for line in res.stdout.splitlines()[2:]]
+    assert len(rows) == 6
+    for row in rows:
+        before, after = int(row[2].replace(",", "")), int(row[3].replace(",", ""))
+        assert after <= before
