@@ -6,9 +6,9 @@ dropped, reversed elements reversed, orphan nodes dropped (each can be switched 
 :class:`RepairOptions`), then node moves around the elements that still fail
 (:mod:`meshaudit.repair.smooth`). The result is audited under the same profile. A node
 move that raises the verdict of any element above its verdict in the input is not kept:
-the corners of the elements it made worse are fixed and the moves are worked out again
-(up to :data:`RETRIES` times), and if some element still got worse the moves are dropped
-and only the topology repairs remain. Moves around failing elements that brought no
+the corners of the elements it made worse go back where they were, and again while some
+element is worse (up to :data:`SETTLE_ROUNDS` rounds); if that does not settle, every
+move is dropped and only the topology repairs remain. Moves around failing elements that brought no
 element to a better verdict are undone too (see :func:`meshaudit.repair.smooth.useful_nodes`;
 not with ``everywhere``, which smooths on purpose). Nothing is written here: the caller writes
 ``Repair.mesh`` (see ``meshaudit fix``).
@@ -32,8 +32,8 @@ from ..results.report import Report
 from . import duplicates, fixed, merge, reverse, smooth
 from .working import Working
 
-#: How many times node moves are worked out again with more nodes fixed.
-RETRIES = 3
+#: How many rounds of putting back the corners of elements a move made worse.
+SETTLE_ROUNDS = 8
 
 
 @dataclass(frozen=True)
@@ -145,13 +145,14 @@ def repair(
     result = Repair(work.to_meshio(), before, before, done)
     after, mesh = audit_now_of(work, before)
     held = _fixed_nodes(work, mesh, options.keep)
+    fixed_nodes = held.copy()
     if options.move:
         after = _move(work, result, after, mesh, held, options, starts, progress)
     after.summary = replace(after.summary, source=f"{before.summary.source} repaired")
     result.after = after
     result.mesh = work.to_meshio()
     result.worsened = _worsened(work, before, after, starts)
-    result.remaining = _remaining(after, mesh, held, options.move)
+    result.remaining = _remaining(after, mesh, fixed_nodes, held, options.move)
     return result
 
 
@@ -262,42 +263,62 @@ def _move(
     blocks = [(b.cell_type, b.connectivity) for b in mesh.blocks]
     start = work.points.copy()
     normal = _plane_normal(after, start, blocks)
-    for _attempt in range(RETRIES + 1):
-        free = smooth.free_nodes(
-            work.n_points, blocks, held, targets, options.rings, options.everywhere
-        )
-        moved = smooth.move_nodes(start, blocks, free, normal, held, progress)
-        work.points = moved.points
-        trial, _ = audit_now_of(work, after)
-        rows = _row_map(work, starts)
-        worse = trial.verdict > result.before.verdict[rows]
-        if not worse.any():
-            useful = smooth.useful_nodes(blocks, free, trial.verdict < after.verdict)
-            if not options.everywhere and useful.sum() < free.sum():
-                # undo the moves that brought no element to a better verdict
-                if useful.any():
-                    moved = smooth.move_nodes(start, blocks, useful, normal, held, progress)
-                    work.points = moved.points
-                    trial, _ = audit_now_of(work, after)
-                    if (trial.verdict > result.before.verdict[rows]).any():
-                        break
-                else:
-                    work.points = start.copy()
-                    return after
-            _record_move(result, start, work.points, blocks, work.node_ids)
-            return trial
-        # fix every node of the elements made worse, then work the moves out again
-        worse_rows = np.flatnonzero(worse)
-        for k, (_t, d) in enumerate(blocks):
-            lo = sum(len(b) for _, b in blocks[:k])
-            inside = worse_rows[(worse_rows >= lo) & (worse_rows < lo + len(d))] - lo
-            held[d[inside]] = True
-        work.points = start.copy()
-    result.notes.append(
-        "node moves dropped: every attempt made some element worse than in the input"
+    free = smooth.free_nodes(
+        work.n_points, blocks, held, targets, options.rings, options.everywhere
     )
-    work.points = start
-    return after
+    moved = smooth.move_nodes(start, blocks, free, normal, held, progress)
+    work.points = moved.points
+    rows = _row_map(work, starts)
+    trial = _settle(work, start, blocks, free, held, result.before.verdict[rows], after)
+    if trial is not None and not options.everywhere:
+        useful = smooth.useful_nodes(blocks, free, trial.verdict < after.verdict)
+        if useful.sum() < free.sum():  # undo the moves that brought no element further
+            _keep_moves(work, start, blocks, useful, held)
+            free &= useful
+            trial = _settle(work, start, blocks, free, held, result.before.verdict[rows], after)
+    if trial is None:
+        result.notes.append("node moves dropped: they made some element worse than in the input")
+        work.points = start
+        return after
+    _record_move(result, start, work.points, blocks, work.node_ids)
+    return trial
+
+
+def _keep_moves(work: Working, start: np.ndarray, blocks, keep: np.ndarray, held) -> None:
+    """Put every corner but ``keep`` back where it started; other nodes follow."""
+    x = start.copy()
+    x[keep] = work.points[keep]
+    smooth.follow(x, start, blocks, keep, held)
+    work.points = x
+
+
+def _settle(
+    work: Working,
+    start: np.ndarray,
+    blocks,
+    free: np.ndarray,
+    held: np.ndarray,
+    limit: np.ndarray,
+    like: Report,
+) -> Report | None:
+    """Audit the moved mesh; while some element's verdict is above ``limit`` (its verdict
+    in the input), put the corners of those elements back where they started (they join
+    ``held``, and leave ``free``, in place). Returns the audit, or None when that does not
+    settle within :data:`SETTLE_ROUNDS` rounds."""
+    for _ in range(SETTLE_ROUNDS):
+        trial, _ = audit_now_of(work, like)
+        worse = np.flatnonzero(trial.verdict > limit)
+        if worse.size == 0:
+            return trial
+        offset = 0
+        for t, d in blocks:
+            inside = worse[(worse >= offset) & (worse < offset + len(d))] - offset
+            corners = d[inside, : CELL_TYPES[t].n_corners]
+            held[corners] = True
+            free[corners] = False
+            offset += len(d)
+        _keep_moves(work, start, blocks, free, held)
+    return None
 
 
 def audit_now_of(work: Working, like: Report) -> tuple[Report, ElementMesh]:
@@ -328,8 +349,11 @@ def _record_move(result: Repair, x0: np.ndarray, x1: np.ndarray, blocks, node_id
     result.worst_node = int(node_ids[worst])
 
 
-def _remaining(after: Report, mesh: ElementMesh, held: np.ndarray, moved: bool) -> dict[int, str]:
-    """Element number -> why it still fails, from how many of its corners could move."""
+def _remaining(
+    after: Report, mesh: ElementMesh, fixed_nodes: np.ndarray, held: np.ndarray, moved: bool
+) -> dict[int, str]:
+    """Element number -> why it still fails, from how many of its corners could move
+    (``fixed_nodes``: never move; ``held``: those and the corners put back)."""
     out: dict[int, str] = {}
     failing = after.failing
     for b in mesh.blocks:
@@ -337,15 +361,22 @@ def _remaining(after: Report, mesh: ElementMesh, held: np.ndarray, moved: bool) 
         if rows.size == 0:
             continue
         c = b.cell.n_corners
-        held_count = held[b.connectivity[rows - b.index[0], :c]].sum(axis=1)
-        for row, h in zip(rows, held_count):
-            if h == c:
+        corners = b.connectivity[rows - b.index[0], :c]
+        n_fixed = fixed_nodes[corners].sum(axis=1)
+        n_held = held[corners].sum(axis=1)
+        for row, f, h in zip(rows, n_fixed, n_held):
+            if f == c:
                 why = "every corner is fixed (boundary, interface or named nodes)"
             elif not moved:
                 why = "node moves were switched off"
+            elif h == c:
+                why = (
+                    f"{f} of its {c} corners are fixed (boundary, interface or named), the "
+                    "others were put back: moving them made another element worse"
+                )
             else:
                 why = (
-                    f"{h} of its {c} corners are fixed (boundary, interface or named): "
+                    f"{f} of its {c} corners are fixed (boundary, interface or named): "
                     "moving the others cannot bring it within the limits"
                 )
             out[int(after.ids[row])] = why

@@ -264,7 +264,7 @@ def move_nodes(
     if inverted(place(shaped)) <= mid:
         u, steps = shaped, steps + more
     x = place(u)
-    _follow(x, x0, blocks, free, fixed)
+    follow(x, x0, blocks, free, fixed)
     return Moved(x, free, before, inverted(x), steps)
 
 
@@ -281,8 +281,9 @@ def _one_blas_thread():
     return threadpool_limits(limits=1, user_api="blas")
 
 
-def _follow(x: np.ndarray, x0: np.ndarray, blocks, free: np.ndarray, fixed: np.ndarray) -> None:
-    """Move midside, face and centre nodes with their corners (in place)."""
+def follow(x: np.ndarray, x0: np.ndarray, blocks, free: np.ndarray, fixed: np.ndarray) -> None:
+    """Move midside, face and centre nodes of the elements with a ``free`` corner with
+    their corners (in place; nodes ``fixed`` stay)."""
     disp = x - x0
     for t, d in blocks:
         cell = CELL_TYPES[t]
