@@ -45,7 +45,7 @@ def add(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
     add_config_options(fix, "configuration file (as for 'check')")
     for name, what in (
         ("bowties", "reorder the nodes of bow-tie quads"),
-        ("merge", "merge coincident nodes (kept anyway when the profile says intended)"),
+        ("merge", "merge coincident nodes (never done where the profile says a crack is intended)"),
         ("duplicates", "drop exact duplicate elements"),
         ("reverse", "reverse reversed elements"),
         ("orphans", "drop nodes no cell uses"),

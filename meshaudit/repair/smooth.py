@@ -250,7 +250,7 @@ def move_nodes(
                 jac=True,
                 method="L-BFGS-B",
                 callback=tick,
-                options={"maxiter": limit, "gtol": 1e-9, "ftol": 1e-11},
+                options={"maxiter": limit, "gtol": 1e-9, "ftol": 1e-9},
             )
         return res.x, count[0]
 
