@@ -405,3 +405,13 @@ def test_benchmark_of_fix_writes_its_rows():
     for row in rows:
         before, after = int(row[2].replace(",", "")), int(row[3].replace(",", ""))
         assert after <= before
+
+
+def test_collapsed_element_is_explained():
+    # A quad whose third node is its second (common practice: a collapsed element, a
+    # topology error no node move can undo) stays failing, and the reason says so.
+    points, quads = grid(3, 3)
+    quads = quads.copy()
+    quads[4, 2] = quads[4, 1]
+    result = meshaudit.fix(quad_mesh(points.astype(float), quads))
+    assert 4 in result.remaining and "collapsed" in result.remaining[4]

@@ -364,8 +364,12 @@ def _remaining(
         corners = b.connectivity[rows - b.index[0], :c]
         n_fixed = fixed_nodes[corners].sum(axis=1)
         n_held = held[corners].sum(axis=1)
-        for row, f, h in zip(rows, n_fixed, n_held):
-            if f == c:
+        ordered = np.sort(corners, axis=1)
+        collapsed = (ordered[:, 1:] == ordered[:, :-1]).any(axis=1)
+        for row, f, h, one in zip(rows, n_fixed, n_held, collapsed):
+            if one:
+                why = "two of its corners are one node (collapsed): no node move can open it"
+            elif f == c:
                 why = "every corner is fixed (boundary, interface or named nodes)"
             elif not moved:
                 why = "node moves were switched off"
