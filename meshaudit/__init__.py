@@ -23,6 +23,8 @@ if TYPE_CHECKING:
     from .judge.profiles import Limit, Profile, load_profile, with_limit
     from .material import Material
     from .mesh_checks.findings import Finding
+    from .repair.run import Repair, RepairOptions
+    from .repair.run import repair as fix
     from .results.compare import compare
     from .results.explain import explain
     from .results.inspection import AuditedMesh
@@ -45,6 +47,9 @@ _LAZY = {
     "Report": ("results.report", "Report"),
     "compare": ("results.compare", "compare"),
     "explain": ("results.explain", "explain"),
+    "fix": ("repair.run", "repair"),
+    "Repair": ("repair.run", "Repair"),
+    "RepairOptions": ("repair.run", "RepairOptions"),
     "load_profile": ("judge.profiles", "load_profile"),
     "return_large_blocks": ("engine.memory", "return_large_blocks"),
     "with_limit": ("judge.profiles", "with_limit"),
@@ -75,6 +80,8 @@ __all__ = [
     "OutputError",
     "Profile",
     "ProfileError",
+    "Repair",
+    "RepairOptions",
     "Report",
     "__version__",
     "audit",
@@ -82,6 +89,7 @@ __all__ = [
     "audit_mesh",
     "compare",
     "explain",
+    "fix",
     "load_profile",
     "return_large_blocks",
     "with_limit",

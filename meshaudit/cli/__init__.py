@@ -17,11 +17,11 @@ from collections.abc import Sequence
 from .. import __version__
 from ..errors import MeshAuditError
 from ..results.status import EXIT_UNUSABLE
-from . import check, compare, explain, init, profiles
+from . import check, compare, explain, fix, init, profiles
 from .options import Parser
 
 #: The commands, in the order ``--help`` lists them.
-COMMANDS = (check, explain, profiles, compare, init)
+COMMANDS = (check, fix, explain, profiles, compare, init)
 
 
 def build_parser() -> argparse.ArgumentParser:
