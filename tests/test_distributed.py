@@ -21,6 +21,7 @@ from partitioned_meshes import write_partitioned
 import meshaudit
 from meshaudit.distributed import audit_parts
 from meshaudit.distributed.sketch import KEPT_BITS, Sketch
+from meshaudit.metrics import NEIGHBOUR_METRICS
 from meshaudit.results.report import PERCENTILES
 
 distributed = pytest.importorskip("distributed")
@@ -122,7 +123,9 @@ def test_statistics_exact_counts_and_ends_percentiles_within_the_sketch_bound(tm
         for key in ("count", "infinite", "min", "max", "past_warn", "past_fail"):
             assert entry[key] == ref[key], (name, key)
         values = one.metrics[name][np.isfinite(one.metrics[name])]
-        if values.size == 0:
+        if values.size == 0 or name in NEIGHBOUR_METRICS:
+            # the size ratio of an element on a cut is measured within its part (a stated
+            # gap, see the README's partitioned meshes): its distribution differs there
             continue
         expected = np.percentile(values, [q for _, q in PERCENTILES])  # numpy's linear
         got = np.array([entry[k] for k, _ in PERCENTILES])
