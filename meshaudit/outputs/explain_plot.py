@@ -123,13 +123,26 @@ def draw(audited: AuditedMesh, ex: Explanation) -> Figure:
 
 
 def _title(ex: Explanation) -> str:
-    breached = [m.name for m in ex.breaches]
-    validity = [f for f in ex.flags if f not in breached]
+    """Verdict, the rule the element breaks, then its flags and breached limits, each
+    under its own level: validity flags are "invalid", warning flags "warn"."""
+    from ..metrics import VALIDITY_FLAGS, WARNING_FLAGS
+    from .solid_explain import breaches_at_worst
+    from .volume_plot import rule_text
+
     lines = [f"element {ex.id} ({ex.cell_type}, profile {ex.profile}): {ex.verdict}"]
-    if validity:
-        lines.append("invalid: " + ", ".join(validity))
-    if breached:
-        lines.append(textwrap.fill("limits breached: " + ", ".join(breached), 90))
+    if ex.verdict != "ok":
+        worst = "fail" if any(m.level == "fail" for m in ex.breaches) else "warn"
+        lines.append(textwrap.fill(rule_text(ex.flags, breaches_at_worst(ex), worst), 90))
+    invalid = [f for f in ex.flags if f in VALIDITY_FLAGS]
+    warned = [f for f in ex.flags if f in WARNING_FLAGS]
+    if invalid:
+        lines.append("invalid (fails): " + ", ".join(invalid))
+    if warned:
+        lines.append("warning flags (warn): " + ", ".join(warned))
+    for level in ("fail", "warn"):
+        names = [m.name for m in ex.breaches if m.level == level]
+        if names:
+            lines.append(textwrap.fill(f"{level} limits breached: " + ", ".join(names), 90))
     lines.append(
         "reference grid lines mapped onto the element; hatched: det J <= 0; grey: neighbours (ids)"
     )

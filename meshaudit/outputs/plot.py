@@ -18,6 +18,7 @@ large meshes are drawn with a handful of collections whatever their size.
 
 from __future__ import annotations
 
+import textwrap
 from collections.abc import Sequence
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
@@ -533,10 +534,16 @@ def _inset(
     ax.set_aspect("equal")
     ax.set_xticks([])
     ax.set_yticks([])
+    from .volume_plot import report_rule
+
     value = float(report.metrics[color_by][i])
+    rule = textwrap.fill(report_rule(report, i, level=True), 40)
     ax.set_title(
-        f"id {int(report.ids[i])}: {report.verdict_names[i]}\n{color_by} {value:.3g}",
-        fontsize=8.5,
+        drawable(
+            f"id {int(report.ids[i])}: {report.verdict_names[i]}\n{rule}\n{color_by} {value:.3g}"
+        ),
+        fontsize=8,
+        gid=f"close-up-{int(report.ids[i])}",
     )
 
 

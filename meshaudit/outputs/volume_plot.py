@@ -67,11 +67,14 @@ def _degrees(unit: str) -> str:
     return "°" if unit == "deg" else ""
 
 
-def rule_text(flags: list[str], breaches: list[tuple[str, float, float | None]]) -> str:
+def rule_text(
+    flags: list[str], breaches: list[tuple[str, float, float | None]], level: str = ""
+) -> str:
     """The rule an element breaks, in one line: its first validity or warning flag with
     what it means ("inverted: det J < 0"), else the breached metric furthest past its
-    limit relative to the limit ("min_dihedral 4.1° < 10°"); "+k more" when there are
-    other breaches. ``breaches``: (metric, value, limit) at the element's worst level."""
+    limit relative to the limit ("min_dihedral 4.1° < 10°", followed by " (warn)" or
+    " (fail)" when ``level`` is given); "+k more" when there are other breaches.
+    ``breaches``: (metric, value, limit) at the element's worst level."""
     named = [f for f in flags if f in FLAG_RULES and f in (*VALIDITY_FLAGS, *WARNING_FLAGS)]
     if named:
         rest = len(named) - 1 + len(breaches)
@@ -92,15 +95,16 @@ def rule_text(flags: list[str], breaches: list[tuple[str, float, float | None]])
     deg = _degrees(info.unit)
     more = f" (+{len(breaches) - 1} more)" if len(breaches) > 1 else ""
     bound = "" if limit is None else f" {sign} {limit:g}{deg}"
-    return f"{name} {value:.3g}{deg}{bound}{more}"
+    tag = f" ({level})" if level else ""
+    return f"{name} {value:.3g}{deg}{bound}{tag}{more}"
 
 
-def report_rule(report: Report, i: int) -> str:
-    """:func:`rule_text` of report row ``i``."""
+def report_rule(report: Report, i: int, level: bool = False) -> str:
+    """:func:`rule_text` of report row ``i`` (with its breach's level when ``level``)."""
     breached = report.breached(i)
     worst = max((lvl for _, lvl, _ in breached.values()), default="", key=["warn", "fail"].index)
     items = [(m, v, lim) for m, (v, lvl, lim) in breached.items() if lvl == worst]
-    return rule_text(report.flags_of(i), items)
+    return rule_text(report.flags_of(i), items, worst if level else "")
 
 
 # -- geometry of the drawn faces -----------------------------------------------------------
@@ -433,7 +437,7 @@ def _close_up(
     value = float(report.metrics[color_by][i])
     unit = unit_of(color_by, report.dimensions)
     unit = {"1": "", "deg": "°"}.get(unit, f" {unit}")
-    rule = textwrap.fill(report_rule(report, i), 34)
+    rule = textwrap.fill(report_rule(report, i, level=True), 34)
     ax.set_title(
         drawable(
             f"id {int(report.ids[i])} ({cell.name}): {report.verdict_names[i]}\n"
