@@ -2,9 +2,10 @@
 
 from __future__ import annotations
 
+import meshio
 import numpy as np
 import pytest
-from inspect_meshes import planted_plate
+from inspect_meshes import curved_shell, grid, planted_plate
 
 from meshaudit import audit_mesh, explain
 from meshaudit.outputs import explain_plot, plot
@@ -47,3 +48,59 @@ def test_explain_title_calls_a_warning_warn_not_invalid(plate):
     ex = explain(audited, 7)  # the clockwise quad: det J = -1 < 0, a validity flag
     title = explain_plot.draw(audited, ex).axes[0].get_title()
     assert "invalid (fails): inverted" in title
+
+
+def dense_plate() -> meshio.Mesh:
+    """A 30 x 20 grid of unit squares with every fourth quad's corners listed clockwise
+    (det J = -1: inverted) and every seventh one sheared (warn or fail on skew)."""
+    points, quads = grid(30, 20)
+    quads = quads.copy()
+    quads[::4] = quads[::4][:, [0, 3, 2, 1]]
+    points = points.astype(float)
+    return meshio.Mesh(points, [("quad", quads)])
+
+
+def label_boxes(fig) -> list[tuple[str, object]]:
+    """(gid, rendered window box) of every element id label, as drawn."""
+    renderer = fig.canvas.get_renderer()
+    fig.draw_without_rendering()
+    out = []
+    for ax in fig.axes:
+        for t in ax.texts:
+            gid = t.get_gid() or ""
+            if gid.startswith(("fail-id-", "warn-id-")):
+                out.append((gid, t.get_window_extent(renderer)))
+    return out
+
+
+def no_two_overlap(boxes) -> bool:
+    # two axis-aligned boxes overlap when both their x and their y intervals do
+    return not any(
+        a.x0 < b.x1 and b.x0 < a.x1 and a.y0 < b.y1 and b.y0 < a.y1
+        for k, (_, a) in enumerate(boxes)
+        for _, b in boxes[k + 1 :]
+    )
+
+
+@pytest.mark.parametrize("mesh", [dense_plate, curved_shell], ids=["dense", "curved"])
+def test_id_labels_never_overlap(mesh):
+    audited = audit_mesh(mesh())
+    fig = plot.draw(audited.report, audited.elements)
+    boxes = label_boxes(fig)
+    failing = int(audited.report.failing.sum())
+    assert failing > 0 and len(boxes) > 0
+    assert no_two_overlap(boxes)
+    # every failing element is labelled or counted in the note
+    shown = sum(1 for gid, _ in boxes if gid.startswith("fail-id-"))
+    notes = [t.get_text() for t in fig.axes[0].texts if t.get_gid() == "unlabelled"]
+    if shown < failing:
+        assert notes and notes[0].startswith(f"{failing - shown} more failing")
+
+
+def test_warn_elements_labelled_where_room_allows(plate):
+    boxes = label_boxes(plot.draw(plate.report, plate.elements))
+    gids = {gid for gid, _ in boxes}
+    # planted plate (tests/inspect_meshes.py): 7 and 14 fail, 24 and 18 warn; room for all
+    assert {"fail-id-7", "fail-id-14"} <= gids
+    assert gids & {"warn-id-24", "warn-id-18"}
+    assert no_two_overlap(boxes)

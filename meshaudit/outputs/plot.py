@@ -35,6 +35,7 @@ from ..metrics import METRIC_INFO, METRIC_NAMES, unit_of
 from ..results.inspection import corner_table, has_curved_cells, outline_points
 from ..results.report import Report
 from . import raster
+from .label_layout import freeze_layout, label_elements, unlabelled_failing
 from .mpl import drawable, new_figure, prepare
 from .projection import (
     View,
@@ -211,15 +212,21 @@ def draw(
 
     fig = new_figure(figsize=(14.0, 9.0), layout="constrained")
     ax, inset_axes = _layout(fig, len(worst))
-    faces = _faces(ax, verts, values, cmap, norm, order)
+    ax.set_gid("mesh")
     _outlines(ax, report, verts)
     if len(verts) > LARGE_MESH:  # elements of a pixel or two: ring the flagged ones too
         _rings(ax, report, verts)
-    _label_failing(ax, report, verts)
     has_findings = draw_findings(ax, report, view, elements.points, verts)
     _frame(ax, verts)
+    from matplotlib.cm import ScalarMappable
+
     bar = fig.colorbar(
-        faces, ax=ax, orientation="horizontal", fraction=0.045, pad=0.02, extend=extend
+        ScalarMappable(norm=norm, cmap=cmap),
+        ax=ax,
+        orientation="horizontal",
+        fraction=0.045,
+        pad=0.02,
+        extend=extend,
     )
     bar.ax.set_gid("colourbar")
     bar.set_label(label)
@@ -235,6 +242,12 @@ def draw(
     unit = unit_text(view)
     ax.set_xlabel(("x" if flat_xy else "u (along the first view axis)") + unit, fontsize=8)
     ax.set_ylabel(("y" if flat_xy else "v (along the second view axis)") + unit, fontsize=8)
+    # the layout does not depend on the faces (limits are set, autolim off): laid out
+    # before they are added, so the many faces are drawn once, when saved; labels are
+    # measured against that final layout
+    renderer = freeze_layout(fig)
+    _faces(ax, verts, values, cmap, norm, order)
+    _label_elements(ax, report, verts, renderer)
     return fig
 
 
@@ -413,49 +426,13 @@ def _rings(ax: Axes, report: Report, verts: np.ndarray) -> None:
             )
 
 
-#: Label offsets in points, cycled so neighbouring labels do not sit on each other.
-_OFFSETS = ((14, 14), (-14, 14), (14, -14), (-14, -14), (0, 20), (0, -20), (20, 0), (-20, 0))
-
-
-#: Labels closer than this fraction of the drawing's size are dropped (worst one kept).
-LABEL_SPACING = 0.035
-
-
-def labelled_rows(report: Report, verts: np.ndarray) -> np.ndarray:
-    """Report indices whose ids the plot labels: the failing ones, worst first, at most
-    MAX_LABELS and none crowding a worse one already labelled."""
-    rows = report.worst(only_flagged=True)
-    rows = rows[report.failing[rows]][: 50 * MAX_LABELS]
-    centres = verts[rows].mean(axis=1)
-    flat = verts.reshape(-1, 2)
-    spacing = LABEL_SPACING * float(np.ptp(flat, axis=0).max() or 1.0)
-    kept: list[int] = []
-    for k in range(len(rows)):
-        if len(kept) == MAX_LABELS:
-            break
-        if not kept or np.hypot(*(centres[kept] - centres[k]).T).min() >= spacing:
-            kept.append(k)
-    return rows[kept]
-
-
-def _label_failing(ax: Axes, report: Report, verts: np.ndarray) -> None:
-    rows = labelled_rows(report, verts)
-    centres = verts[rows].mean(axis=1)
-    for k, (i, c) in enumerate(zip(rows, centres)):
-        ax.annotate(
-            str(int(report.ids[i])),
-            xy=(float(c[0]), float(c[1])),
-            xytext=_OFFSETS[k % len(_OFFSETS)],
-            textcoords="offset points",
-            ha="center",
-            va="center",
-            fontsize=7.5,
-            gid=f"fail-id-{int(report.ids[i])}",
-            zorder=6,
-            bbox={"boxstyle": "round,pad=0.2", "fc": "white", "ec": OUTLINE, "lw": 0.6},
-            arrowprops={"arrowstyle": "-", "color": OUTLINE, "lw": 0.6},
-        )
-    hidden = int(report.failing.sum()) - len(rows)
+def _label_elements(ax: Axes, report: Report, verts: np.ndarray, renderer: Any) -> None:
+    """Ids of the failing elements, worst first, then of warn elements, where room allows
+    (at most MAX_LABELS, none covering another: :mod:`.label_layout`)."""
+    rows = report.worst(only_flagged=True)[: 4 * MAX_LABELS]
+    anchors = verts[rows].mean(axis=1)
+    placed = label_elements(ax, report, rows, anchors, renderer, MAX_LABELS)
+    hidden = unlabelled_failing(report, rows, placed)
     if hidden > 0:
         ax.text(
             0.01,
@@ -463,6 +440,7 @@ def _label_failing(ax: Axes, report: Report, verts: np.ndarray) -> None:
             f"{hidden} more failing elements outlined, not labelled (see the reports)",
             transform=ax.transAxes,
             fontsize=8,
+            gid="unlabelled",
         )
 
 

@@ -30,7 +30,7 @@ from ..mesh.elements import ElementMesh
 from ..mesh.faces import boundary_faces
 from ..metrics import METRIC_INFO, VALIDITY_FLAGS, WARNING_FLAGS, unit_of
 from ..results.report import Report
-from .label_layout import freeze_layout, place_labels
+from .label_layout import freeze_layout, label_elements, unlabelled_failing
 from .mpl import drawable, new_figure
 from .projection import View, unit_text
 from .solid_views import element_view, face_outlines, volume_view
@@ -334,37 +334,15 @@ def _legend(ax: Axes, values: np.ndarray) -> None:
 def _labels(ax: Axes, report: Report, view: View, flagged: np.ndarray, renderer: Any) -> None:
     """Ids of the failing elements, worst first, then of warn elements, where room
     allows; at most MAX_LABELS; none covering another."""
-    from .plot import OUTLINE
-
     rows = flagged[: 4 * MAX_LABELS]
     anchors = view.project(report.centroids[rows])
-    styles, texts = [], []
-    for i in rows:
-        element = int(report.ids[i])
-        if report.failing[i]:
-            frame = {"boxstyle": "round,pad=0.2", "fc": "white", "ec": OUTLINE, "lw": 0.6}
-            styles.append({"fontsize": 7.5, "gid": f"fail-id-{element}", "bbox": frame})
-        else:
-            frame = {"boxstyle": "round,pad=0.2", "fc": "white", "ec": "#8c8c8c", "lw": 0.5}
-            styles.append({"fontsize": 6.5, "gid": f"warn-id-{element}", "bbox": frame})
-        styles[-1]["zorder"] = 6
-        texts.append(str(element))
-    placed: list[bool] = []
-    taken: list[Any] = []
-    for k in range(len(rows)):
-        if sum(placed) == MAX_LABELS:
-            break
-        one = slice(k, k + 1)
-        placed += place_labels(
-            ax, anchors[one], texts[one], styles[one], renderer, taken, keep_clear=anchors
-        )
-    failing = int(report.failing.sum())
-    shown = sum(1 for k, ok in enumerate(placed) if ok and report.failing[rows[k]])
-    if failing > shown:
+    placed = label_elements(ax, report, rows, anchors, renderer, MAX_LABELS)
+    hidden = unlabelled_failing(report, rows, placed)
+    if hidden > 0:
         ax.text(
             0.01,
             0.01,
-            f"{failing - shown} more failing elements not labelled (see the reports)",
+            f"{hidden} more failing elements not labelled (see the reports)",
             transform=ax.transAxes,
             fontsize=8,
             gid="unlabelled",
