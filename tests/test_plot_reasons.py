@@ -104,3 +104,30 @@ def test_warn_elements_labelled_where_room_allows(plate):
     assert {"fail-id-7", "fail-id-14"} <= gids
     assert gids & {"warn-id-24", "warn-id-18"}
     assert no_two_overlap(boxes)
+
+
+def slot_and_part(fig, xy_box):
+    """(slot, part): the display box the layout gave the main view, and the display box
+    of the part's bounding box (data corners xy_box (2, 2))."""
+    fig.draw_without_rendering()
+    ax = next(a for a in fig.axes if a.get_gid() == "mesh")
+    slot = ax.get_position(original=True).transformed(fig.transFigure)
+    corners = ax.transData.transform(np.asarray(xy_box, dtype=float))
+    return slot, np.abs(corners[1] - corners[0])
+
+
+@pytest.mark.parametrize("shape", [(30, 4), (12, 10), (4, 24)], ids=["wide", "square", "tall"])
+def test_main_view_fills_its_area(shape):
+    nx, ny = shape
+    points, quads = grid(nx, ny)
+    quads = quads.copy()
+    quads[0] = quads[0][[0, 3, 2, 1]]  # one inverted quad: close-ups are drawn
+    audited = audit_mesh(meshio.Mesh(points.astype(float), [("quad", quads)]))
+    fig = plot.draw(audited.report, audited.elements)
+    slot, (w, h) = slot_and_part(fig, [[0.0, 0.0], [nx, ny]])
+    # the grid's bounding box is nx by ny (closed form); drawn at equal scale it covers
+    # most of the slot in one direction (the view keeps a margin of 4 % of the part's
+    # larger side on each edge: 1/1.08 = 0.93) and at least half of its area (no empty
+    # quarter; a 30 x 4 strip with that margin covers 30/32.4 * 4/6.4 = 0.58 of it)
+    assert max(w / slot.width, h / slot.height) > 0.88
+    assert w * h > 0.5 * slot.width * slot.height

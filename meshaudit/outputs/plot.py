@@ -69,6 +69,8 @@ FAIL_WIDTH, WARN_WIDTH = 1.6, 0.9
 WARN_DASH = (0, (3.0, 2.0))
 FINDING_DASH = (0, (6.0, 2.0, 1.5, 2.0))
 NOT_DEFINED = "#d9d9d9"
+#: Legend text size (points): readable at the printed size of the figure.
+LEGEND_SIZE = 10.0
 
 
 def plot_format(path: Path) -> str:
@@ -210,12 +212,8 @@ def draw(
     order = _draw_order(report, elements, table, view)
     worst = report.worst(insets) if insets > 0 else np.empty(0, dtype=np.int64)
 
-    fig = new_figure(figsize=(14.0, 9.0), layout="constrained")
-    ax, inset_axes = _layout(fig, len(worst))
+    fig, ax, inset_axes = content_figure(part_aspect(verts.reshape(-1, 2)), len(worst))
     ax.set_gid("mesh")
-    _outlines(ax, report, verts)
-    if len(verts) > LARGE_MESH:  # elements of a pixel or two: ring the flagged ones too
-        _rings(ax, report, verts)
     has_findings = draw_findings(ax, report, view, elements.points, verts)
     _frame(ax, verts)
     from matplotlib.cm import ScalarMappable
@@ -245,8 +243,12 @@ def draw(
     # the layout does not depend on the faces (limits are set, autolim off): laid out
     # before they are added, so the many faces are drawn once, when saved; labels are
     # measured against that final layout
+    fit_to_part(fig, ax, part_aspect(verts.reshape(-1, 2)))
     renderer = freeze_layout(fig)
     _faces(ax, verts, values, cmap, norm, order)
+    _outlines(ax, report, verts)
+    if len(verts) > LARGE_MESH:  # elements of a pixel or two: ring the flagged ones too
+        _rings(ax, report, verts)
     _label_elements(ax, report, verts, renderer)
     return fig
 
@@ -291,13 +293,85 @@ def _subtitle(report: Report, color_by: str, view: View) -> str:
     return f"coloured by {color_by}; {where}"
 
 
-def _layout(fig: Figure, n_insets: int) -> tuple[Axes, list[Axes]]:
-    if n_insets == 0:
-        return fig.add_subplot(1, 1, 1), []
-    grid = fig.add_gridspec(3, 3, width_ratios=(3.6, 1.0, 1.0))
+#: Figure width (inches) of a wide part; height of the main view of a tall one.
+PAGE_WIDTH, TALL_HEIGHT = 14.0, 7.0
+#: Side of one close-up (inches) and the room kept for titles, colourbar and legend.
+CLOSE_UP, FURNITURE = 2.7, 2.1
+#: Largest figure height (inches): bounds the picture's size (and an HTML page's).
+MAX_HEIGHT = 10.0
+#: A part wider than this (width / height of its drawn box) gets its close-ups in a row
+#: below it; a narrower one in columns beside it.
+WIDE = 1.3
+
+
+def part_aspect(xy: np.ndarray, pad: float = 0.04) -> float:
+    """Width / height of the drawn box of points ``xy`` (n, 2), padded by ``pad`` of
+    its larger side on every edge as the main view is."""
+    finite = xy[np.isfinite(xy).all(axis=1)]
+    if not len(finite):
+        return 1.0
+    w, h = np.ptp(finite, axis=0)
+    margin = 2.0 * pad * (float(max(w, h)) or 1.0)
+    return float((w + margin) / (h + margin))
+
+
+def _wide(aspect: float, n_insets: int) -> bool:
+    """Whether the close-ups go in a row below the main view (else beside it): for a wide
+    part, unless it is only moderately wide and has three close-ups or fewer (one column
+    beside it then leaves no empty row)."""
+    return aspect >= WIDE and not (0 < n_insets <= 3 and aspect < 2 * WIDE)
+
+
+def content_figure(aspect: float, n_insets: int) -> tuple[Figure, Axes, list[Axes]]:
+    """The figure laid out from its content: the main view sized to the part's
+    ``aspect`` (width / height), the close-ups in a row below a wide part, in two columns
+    beside a tall or square one; returns (figure, main axes, close-up axes)."""
+    aspect = float(np.clip(aspect, 0.2, 8.0))
+    if _wide(aspect, n_insets):
+        main_h = float(np.clip((PAGE_WIDTH - 0.8) / aspect, 1.5, 8.0))
+        rows = CLOSE_UP + 0.6 if n_insets else 0.0
+        fig = new_figure(figsize=(PAGE_WIDTH, main_h + rows + FURNITURE), layout="constrained")
+        if not n_insets:
+            return fig, fig.add_subplot(1, 1, 1), []
+        cols = max(n_insets, 4)
+        grid = fig.add_gridspec(2, cols, height_ratios=(main_h, rows))
+        ax = fig.add_subplot(grid[0, :])
+        return fig, ax, [fig.add_subplot(grid[1, c]) for c in range(n_insets)]
+    main_w = float(np.clip(TALL_HEIGHT * aspect, 1.5, PAGE_WIDTH))
+    cols = -(-n_insets // 3) if n_insets else 0
+    side = cols * (CLOSE_UP + 0.3)
+    fig = new_figure(figsize=(main_w + side + 0.9, TALL_HEIGHT + FURNITURE), layout="constrained")
+    if not n_insets:
+        return fig, fig.add_subplot(1, 1, 1), []
+    grid = fig.add_gridspec(3, 1 + cols, width_ratios=(main_w, *[CLOSE_UP + 0.3] * cols))
     ax = fig.add_subplot(grid[:, 0])
-    cells = [grid[r, c] for r in range(3) for c in (1, 2)]
-    return ax, [fig.add_subplot(cell) for cell in cells[:n_insets]]
+    cells = [grid[r, 1 + c] for r in range(3) for c in range(cols)]
+    return fig, ax, [fig.add_subplot(cell) for cell in cells[:n_insets]]
+
+
+def fit_to_part(fig: Figure, ax: Axes, aspect: float, rounds: int = 2) -> None:
+    """Resize the figure so that the main view's slot has the part's ``aspect``: its
+    height (a wide part) or width (a tall one) set from the other side, once titles,
+    colourbar and legend have taken their room. Call once everything but the mesh's
+    own artists is drawn (each round lays the figure out)."""
+    aspect = float(np.clip(aspect, 0.2, 8.0))
+    grid = ax.get_subplotspec().get_gridspec()
+    for _ in range(rounds):
+        fig.draw_without_rendering()
+        w, h = fig.get_size_inches()
+        pos = ax.get_position(original=True)
+        slot_w, slot_h = pos.width * w, pos.height * h
+        if grid.nrows == 2 or (grid.ncols == 1 and aspect >= WIDE):
+            room = max(MAX_HEIGHT - (h - slot_h), 1.5)  # the figure stays at most this tall
+            want = float(np.clip(slot_w / aspect, 1.5, min(8.0, room)))
+            if grid.nrows == 2:
+                grid.set_height_ratios((want, grid.get_height_ratios()[1]))
+            fig.set_size_inches(w, max(h + want - slot_h, 2.0))
+        else:
+            want = float(np.clip(slot_h * aspect, 1.5, PAGE_WIDTH))
+            if grid.ncols > 1:
+                grid.set_width_ratios((want, *grid.get_width_ratios()[1:]))
+            fig.set_size_inches(max(w + want - slot_w, 2.0), h)
 
 
 def _draw_order(
@@ -478,7 +552,12 @@ def _legend(ax: Axes, values: np.ndarray, findings: bool = False) -> None:
     if np.ma.count_masked(values):
         handles.append(Patch(fc=NOT_DEFINED, label="metric not defined"))
     ax.figure.legend(
-        handles=handles, loc="outside lower left", ncol=len(handles), fontsize=8, frameon=False
+        handles=handles,
+        loc="outside lower center",
+        ncol=len(handles),
+        fontsize=LEGEND_SIZE,
+        frameon=False,
+        handlelength=3.0,
     )
 
 

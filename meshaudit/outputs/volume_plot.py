@@ -31,7 +31,7 @@ from ..mesh.faces import boundary_faces
 from ..metrics import METRIC_INFO, VALIDITY_FLAGS, WARNING_FLAGS, unit_of
 from ..results.report import Report
 from .label_layout import freeze_layout, label_elements, unlabelled_failing
-from .mpl import drawable, new_figure
+from .mpl import drawable
 from .projection import View, unit_text
 from .solid_views import element_view, face_outlines, volume_view
 
@@ -179,21 +179,21 @@ def draw_volume(report: Report, elements: ElementMesh, color_by: str, insets: in
     colours = _rgba(values, cmap, norm)
     used = elements.points[elements.used_nodes()]
     view = volume_view(used)
-    fig = new_figure(figsize=(14.0, 9.0), layout="constrained")
     flagged = report.worst()  # flagged rows, worst first
     worst = flagged[: max(insets, 0)]
-    ax, inset_axes = plot._layout(fig, len(worst))
-    ax.set_gid("mesh")
-
     faces, owner = skin(elements)
     page = view.project(elements.points)
     skin_xy = page[faces]
+    drawn = skin_xy.reshape(-1, 2) if len(skin_xy) else page
+    fig, ax, inset_axes = plot.content_figure(plot.part_aspect(drawn, 0.06), len(worst))
+    ax.set_gid("mesh")
+
     depth = view.depth(elements.points)[faces].mean(axis=1)
 
     opaque, dotted = flagged[:MAX_OPAQUE], flagged[MAX_OPAQUE : MAX_OPAQUE + MAX_DOTS]
     wanted = np.zeros(len(report), dtype=bool)
     wanted[opaque] = True
-    _frame(ax, skin_xy.reshape(-1, 2) if len(skin_xy) else page)
+    _frame(ax, drawn)
 
     bar = fig.colorbar(
         _mappable(cmap, norm),
@@ -221,6 +221,7 @@ def draw_volume(report: Report, elements: ElementMesh, color_by: str, insets: in
     ax.set_ylabel("v (along the second view axis)" + unit, fontsize=8)
     # the layout does not depend on the faces (limits are set, autolim off): laid out
     # before they are added, so that the many faces are drawn once, when saved
+    plot.fit_to_part(fig, ax, plot.part_aspect(drawn, 0.06))
     renderer = freeze_layout(fig)
     _skin(ax, skin_xy, colours[owner], np.argsort(depth, kind="stable"))
     polys, poly_owner = element_faces(elements, wanted)
@@ -317,7 +318,7 @@ def _legend(ax: Axes, values: np.ndarray) -> None:
     from matplotlib.lines import Line2D
     from matplotlib.patches import Patch
 
-    from .plot import FAIL_WIDTH, NOT_DEFINED, OUTLINE, WARN_DASH, WARN_WIDTH
+    from .plot import FAIL_WIDTH, LEGEND_SIZE, NOT_DEFINED, OUTLINE, WARN_DASH, WARN_WIDTH
 
     handles = [
         Line2D([], [], color=OUTLINE, lw=FAIL_WIDTH, label="fails (opaque, id labelled)"),
@@ -327,7 +328,12 @@ def _legend(ax: Axes, values: np.ndarray) -> None:
     if np.ma.count_masked(values):
         handles.append(Patch(fc=NOT_DEFINED, label="metric not defined"))
     ax.figure.legend(
-        handles=handles, loc="outside lower left", ncol=len(handles), fontsize=8, frameon=False
+        handles=handles,
+        loc="outside lower center",
+        ncol=len(handles),
+        fontsize=LEGEND_SIZE,
+        frameon=False,
+        handlelength=3.0,
     )
 
 
