@@ -551,7 +551,12 @@ def _legend(ax: Axes, values: np.ndarray, findings: bool = False) -> None:
         )
     if np.ma.count_masked(values):
         handles.append(Patch(fc=NOT_DEFINED, label="metric not defined"))
-    ax.figure.legend(
+    figure_legend(ax.figure, handles)
+
+
+def figure_legend(fig: Figure, handles: list[Any]) -> None:
+    """The legend in one row below everything, at a readable size."""
+    fig.legend(
         handles=handles,
         loc="outside lower center",
         ncol=len(handles),

@@ -318,7 +318,7 @@ def _legend(ax: Axes, values: np.ndarray) -> None:
     from matplotlib.lines import Line2D
     from matplotlib.patches import Patch
 
-    from .plot import FAIL_WIDTH, LEGEND_SIZE, NOT_DEFINED, OUTLINE, WARN_DASH, WARN_WIDTH
+    from .plot import FAIL_WIDTH, NOT_DEFINED, OUTLINE, WARN_DASH, WARN_WIDTH, figure_legend
 
     handles = [
         Line2D([], [], color=OUTLINE, lw=FAIL_WIDTH, label="fails (opaque, id labelled)"),
@@ -327,14 +327,7 @@ def _legend(ax: Axes, values: np.ndarray) -> None:
     ]
     if np.ma.count_masked(values):
         handles.append(Patch(fc=NOT_DEFINED, label="metric not defined"))
-    ax.figure.legend(
-        handles=handles,
-        loc="outside lower center",
-        ncol=len(handles),
-        fontsize=LEGEND_SIZE,
-        frameon=False,
-        handlelength=3.0,
-    )
+    figure_legend(ax.figure, handles)
 
 
 def _labels(ax: Axes, report: Report, view: View, flagged: np.ndarray, renderer: Any) -> None:
