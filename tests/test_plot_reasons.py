@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import meshio
 import numpy as np
 import pytest
@@ -9,6 +11,8 @@ from inspect_meshes import curved_shell, grid, planted_plate
 
 from meshaudit import audit_mesh, explain
 from meshaudit.outputs import explain_plot, plot
+
+SAMPLES = Path(__file__).resolve().parent.parent / "samples"
 
 
 @pytest.fixture(scope="module")
@@ -131,3 +135,29 @@ def test_main_view_fills_its_area(shape):
     # quarter; a 30 x 4 strip with that margin covers 30/32.4 * 4/6.4 = 0.58 of it)
     assert max(w / slot.width, h / slot.height) > 0.88
     assert w * h > 0.5 * slot.width * slot.height
+
+
+def test_colourbar_marks_name_their_family():
+    # the sample bracket plate has quads and triangles; aspect_ratio limits differ per
+    # family (an equilateral triangle and a square both have aspect ratio 1 but the
+    # triangle measure grows faster: common practice to give each family its own limits)
+    audited = audit_mesh(SAMPLES / "bracket_plate_defects.msh")
+    report = audited.report
+    fig = plot.draw(report, audited.elements, color_by="aspect_ratio")
+    bar = next(a for a in fig.axes if a.get_gid() == "colourbar")
+    named = {t.get_gid(): t for t in bar.texts if (t.get_gid() or "").startswith("limit-")}
+    lo, hi = bar.get_xlim()
+    for family in ("quad", "triangle"):
+        lim = report.profile.limit(family, "aspect_ratio")
+        for kind, value in (("warn", lim.warn), ("fail", lim.fail)):
+            if value is None or not lo <= value <= hi:
+                continue
+            hits = [
+                t
+                for gid, t in named.items()
+                if gid.startswith(f"limit-{kind}-") and family in gid.split("-")[2:]
+            ]
+            assert len(hits) == 1 and hits[0].xy[0] == pytest.approx(value)
+            assert family in hits[0].get_text() and kind in hits[0].get_text()
+    boxes = [(gid, t.get_window_extent(fig.canvas.get_renderer())) for gid, t in named.items()]
+    assert len(boxes) == 4 and no_two_overlap(boxes)  # quad and triangle, warn and fail

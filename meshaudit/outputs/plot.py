@@ -266,10 +266,39 @@ def render(
 
 
 def _limit_marks(bar: Any, report: Report, color_by: str, norm: Any) -> None:
-    """Warn (dashed) and fail (solid) limits as lines across the colourbar."""
-    for _family, kind, value in metric_limits(report, color_by):
+    """Warn (dashed) and fail (solid) limits as lines across the colourbar, each named
+    with the element families it holds for ("quad warn", "triangle fail"): families'
+    limits differ, and one unnamed set of marks would mix them. Labels of marks close
+    together are stacked above the bar."""
+    marks: dict[tuple[float, str], list[str]] = {}
+    for family, kind, value in metric_limits(report, color_by):
         if norm.vmin <= value <= norm.vmax:
-            bar.ax.axvline(value, color=OUTLINE, lw=1.2, ls="--" if kind == "warn" else "-")
+            marks.setdefault((value, kind), []).append(family)
+    stacked: list[tuple[float, int]] = []  # (position 0..1 along the bar, level)
+    span = float(norm.vmax - norm.vmin) or 1.0
+    for (value, kind), families in sorted(marks.items()):
+        bar.ax.axvline(value, color=OUTLINE, lw=1.2, ls="--" if kind == "warn" else "-")
+        if families == ["all"]:  # the score's bands: the bar's label says what they are
+            continue
+        at = (value - norm.vmin) / span
+        busy = {lvl for x, lvl in stacked if abs(x - at) < LABEL_GAP}
+        level = min(k for k in range(len(stacked) + 1) if k not in busy)
+        stacked.append((at, level))
+        bar.ax.annotate(
+            f"{'/'.join(families)} {kind}",
+            xy=(value, 1.0),
+            xycoords=("data", "axes fraction"),
+            xytext=(0.0, 2.0 + 10.0 * level),
+            textcoords="offset points",
+            ha="center",
+            va="bottom",
+            fontsize=7.5,
+            gid=f"limit-{kind}-{'-'.join(families)}",
+        )
+
+
+#: Marks closer than this fraction of the colourbar have their labels stacked.
+LABEL_GAP = 0.22
 
 
 def title(report: Report) -> str:
