@@ -161,3 +161,43 @@ def test_colourbar_marks_name_their_family():
             assert family in hits[0].get_text() and kind in hits[0].get_text()
     boxes = [(gid, t.get_window_extent(fig.canvas.get_renderer())) for gid, t in named.items()]
     assert len(boxes) == 4 and no_two_overlap(boxes)  # quad and triangle, warn and fail
+
+
+def luminance(rgba) -> float:
+    """Relative luminance of an sRGB colour (ITU-R BT.709 weights on linearised sRGB)."""
+    c = np.asarray(rgba[:3], dtype=float)
+    lin = np.where(c <= 0.04045, c / 12.92, ((c + 0.055) / 1.055) ** 2.4)
+    return float(lin @ [0.2126, 0.7152, 0.0722])
+
+
+def test_colour_by_verdict_three_levels_darker_is_worse(plate):
+    report = plate.report
+    fig = plot.draw(report, plate.elements, color_by="verdict")
+    faces = next(c for c in fig.axes[0].collections if c.get_gid() == "faces")
+    assert np.array_equal(np.asarray(faces.get_array()), report.verdict)
+    faces.update_scalarmappable()  # colours are mapped from the values when drawn
+    rgba = faces.get_facecolors()
+    by_verdict = {v: {tuple(c) for c in rgba[report.verdict == v]} for v in (0, 1, 2)}
+    assert all(len(colours) == 1 for colours in by_verdict.values())  # one colour each
+    ok, warn, fail = (next(iter(by_verdict[v])) for v in (0, 1, 2))
+    assert luminance(ok) > luminance(warn) > luminance(fail)  # darker is worse
+    for c in (ok, warn, fail):  # no red or red-dominated colour: not a traffic light
+        assert not (c[0] > c[1] and c[0] > c[2])
+    bar = next(a for a in fig.axes if a.get_gid() == "colourbar")
+    assert [t.get_text() for t in bar.get_xticklabels()] == ["ok", "warn", "fail"]
+
+
+def test_cli_accepts_colour_by_verdict(run_cli, tmp_path):
+    out = tmp_path / "v.png"
+    result = run_cli(
+        "check",
+        SAMPLES / "bracket_plate_defects.msh",
+        "--plot",
+        out,
+        "--color-by",
+        "verdict",
+        "--quiet",
+    )
+    assert result.returncode == 1 and out.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    bad = run_cli("check", SAMPLES / "bracket_plate.msh", "--plot", out, "--color-by", "verdicts")
+    assert bad.returncode == 2 and "verdict" in bad.stderr

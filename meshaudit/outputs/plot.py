@@ -109,13 +109,16 @@ def mesh_view(report: Report, elements: ElementMesh) -> View:
 
 
 def metric_limits(report: Report, metric: str) -> list[tuple[str, str, float]]:
-    """(family, 'warn'|'fail', value) of every limit on ``metric`` for the families present.
+    """(family, 'warn'|'fail', value) of every limit on ``metric`` for the families present
+    (none for the verdict, which is not a metric).
 
     The score has no limits but its verdict bands: its marks are their edges (family
     "all"), below 2/3 warn and below 1/3 fail (see :mod:`meshaudit.judge.score`).
     """
     if metric == "score":
         return [("all", kind, edge) for kind, edge in BAND_EDGES]
+    if metric == VERDICT:
+        return []
     out = []
     for family in report.cell_families:
         lim = report.profile.limit(family, metric)
@@ -159,11 +162,32 @@ def colour_range(report: Report, color_by: str) -> tuple[float, float, str]:
     return lo, hi, extend
 
 
+#: ``--color-by verdict``: the three verdicts as three levels of viridis (ok light, fail
+#: darkest, as "darker is worse" everywhere else), never a traffic-light set of colours.
+VERDICT = "verdict"
+VERDICT_LEVELS = (0.95, 0.5, 0.0)  # ok, warn, fail: positions on viridis
+
+
+def verdict_scale() -> tuple[Any, Any]:
+    """(colormap, norm) of the verdict: three colours, for the values 0, 1 and 2."""
+    from matplotlib import colormaps
+    from matplotlib.colors import BoundaryNorm, ListedColormap
+
+    colours = colormaps["viridis"](np.asarray(VERDICT_LEVELS))
+    return ListedColormap(colours, name="viridis-verdict"), BoundaryNorm([-0.5, 0.5, 1.5, 2.5], 3)
+
+
 def colour_scale(report: Report, color_by: str) -> tuple[np.ndarray, Any, Any, str, str]:
-    """(values to draw, colormap, norm, colourbar label, extend) for metric ``color_by``."""
+    """(values to draw, colormap, norm, colourbar label, extend) for metric ``color_by``
+    (or the verdict: 0 ok, 1 warn, 2 fail)."""
     prepare()
     from matplotlib import colormaps
     from matplotlib.colors import Normalize
+
+    if color_by == VERDICT:
+        cmap, norm = verdict_scale()
+        label = "verdict under the profile: ok, warn or fail (darker is worse)"
+        return np.ma.masked_invalid(report.verdict.astype(float)), cmap, norm, label, "neither"
 
     info = METRIC_INFO[color_by]
     values = np.asarray(report.metrics[color_by], dtype=float)
@@ -198,8 +222,8 @@ def draw(
     Each id label is a text artist with gid ``fail-id-<id>`` (kept as the element id in
     SVG output), so callers and tests can read back which elements were labelled.
     """
-    if color_by not in METRIC_NAMES:
-        raise OutputError(f"cannot colour by {color_by!r}: not a metric")
+    if color_by not in METRIC_NAMES and color_by != VERDICT:
+        raise OutputError(f"cannot colour by {color_by!r}: not a metric nor verdict")
     if elements.has_solids:
         from .volume_plot import draw_volume
 
@@ -228,6 +252,7 @@ def draw(
     )
     bar.ax.set_gid("colourbar")
     bar.set_label(label)
+    verdict_ticks(bar, color_by)
     _limit_marks(bar, report, color_by, norm)
     _legend(ax, values, has_findings)
     boxes = (verts.min(axis=1), verts.max(axis=1)) if len(worst) else None
@@ -263,6 +288,22 @@ def render(
     """Draw and save to ``path`` in ``fmt`` (default: from ``path``'s extension)."""
     fig = draw(report, elements, color_by)
     fig.savefig(path, format=fmt or plot_format(path), dpi=150)
+
+
+def verdict_ticks(bar: Any, color_by: str) -> None:
+    """The verdict's colourbar: one tick per verdict, named."""
+    if color_by == VERDICT:
+        bar.set_ticks([0, 1, 2], labels=["ok", "warn", "fail"])
+
+
+def colour_value(report: Report, color_by: str, i: int) -> str:
+    """The colouring value of report row ``i``, as a close-up shows it ("skew 52.4°")."""
+    if color_by == VERDICT:
+        return f"verdict {report.verdict_names[i]}"
+    value = float(report.metrics[color_by][i])
+    unit = unit_of(color_by, report.dimensions)
+    unit = {"1": "", "deg": "°"}.get(unit, f" {unit}")
+    return f"{color_by} {value:.3g}{unit}"
 
 
 def _limit_marks(bar: Any, report: Report, color_by: str, norm: Any) -> None:
@@ -627,11 +668,11 @@ def _inset(
     ax.set_yticks([])
     from .volume_plot import report_rule
 
-    value = float(report.metrics[color_by][i])
     rule = textwrap.fill(report_rule(report, i, level=True), 40)
     ax.set_title(
         drawable(
-            f"id {int(report.ids[i])}: {report.verdict_names[i]}\n{rule}\n{color_by} {value:.3g}"
+            f"id {int(report.ids[i])}: {report.verdict_names[i]}\n{rule}\n"
+            + colour_value(report, color_by, i)
         ),
         fontsize=8,
         gid=f"close-up-{int(report.ids[i])}",

@@ -28,7 +28,7 @@ import numpy as np
 from ..cells.registry import CELL_TYPES
 from ..mesh.elements import ElementMesh
 from ..mesh.faces import boundary_faces
-from ..metrics import METRIC_INFO, VALIDITY_FLAGS, WARNING_FLAGS, unit_of
+from ..metrics import METRIC_INFO, VALIDITY_FLAGS, WARNING_FLAGS
 from ..results.report import Report
 from .label_layout import freeze_layout, label_elements, unlabelled_failing
 from .mpl import drawable
@@ -205,6 +205,7 @@ def draw_volume(report: Report, elements: ElementMesh, color_by: str, insets: in
     )
     bar.ax.set_gid("colourbar")
     bar.set_label(label)
+    plot.verdict_ticks(bar, color_by)
     plot._limit_marks(bar, report, color_by, norm)
     _legend(ax, values)
     for sub, i in zip(inset_axes, worst):
@@ -411,14 +412,13 @@ def _close_up(
     ax.set_aspect("equal")
     ax.set_xticks([])
     ax.set_yticks([])
-    value = float(report.metrics[color_by][i])
-    unit = unit_of(color_by, report.dimensions)
-    unit = {"1": "", "deg": "°"}.get(unit, f" {unit}")
+    from .plot import colour_value
+
     rule = textwrap.fill(report_rule(report, i, level=True), 34)
     ax.set_title(
         drawable(
             f"id {int(report.ids[i])} ({cell.name}): {report.verdict_names[i]}\n"
-            f"{rule}\n{color_by} {value:.3g}{unit}"
+            f"{rule}\n" + colour_value(report, color_by, i)
         ),
         fontsize=8,
         gid=f"close-up-{int(report.ids[i])}",
