@@ -201,3 +201,24 @@ def test_cli_accepts_colour_by_verdict(run_cli, tmp_path):
     assert result.returncode == 1 and out.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
     bad = run_cli("check", SAMPLES / "bracket_plate.msh", "--plot", out, "--color-by", "verdicts")
     assert bad.returncode == 2 and "verdict" in bad.stderr
+
+
+def test_explain_node_and_gauss_labels_do_not_overlap():
+    # a 4 x 0.4 rectangle: its 2x2 Gauss points sit at xi, eta = +-1/sqrt(3)
+    # (Gauss-Legendre, closed form), 0.085 from the long sides: node and Gauss labels
+    # crowd each other unless placed
+    corners = np.array([[0.0, 0.0], [4.0, 0.0], [4.0, 0.4], [0.0, 0.4]])
+    audited = audit_mesh(meshio.Mesh(corners, [("quad", np.arange(4)[None])]))
+    ex = explain(audited, 0)
+    fig = explain_plot.draw(audited, ex)
+    renderer = fig.canvas.get_renderer()
+    fig.draw_without_rendering()
+    texts = [t for t in fig.axes[0].texts if (t.get_gid() or "").startswith(("node-", "gauss-"))]
+    boxes = [(t.get_gid(), t.get_window_extent(renderer)) for t in texts]
+    assert no_two_overlap(boxes)
+    left_out = [t.get_text() for t in fig.axes[0].texts if t.get_gid() == "unlabelled"]
+    dropped = int(left_out[0].split()[0]) if left_out else 0
+    assert len(texts) + dropped == 4 + 4  # four nodes, four Gauss points
+    gauss = [t for t in texts if t.get_gid().startswith("gauss-")]
+    # det J of a 4 x 0.4 rectangle on [-1, 1]^2 is (4/2)(0.4/2) = 0.4 everywhere
+    assert all(float(t.get_text()) == pytest.approx(0.4) for t in gauss)
