@@ -222,3 +222,29 @@ def test_explain_node_and_gauss_labels_do_not_overlap():
     gauss = [t for t in texts if t.get_gid().startswith("gauss-")]
     # det J of a 4 x 0.4 rectangle on [-1, 1]^2 is (4/2)(0.4/2) = 0.4 everywhere
     assert all(float(t.get_text()) == pytest.approx(0.4) for t in gauss)
+
+
+def shoelace(xy) -> float:
+    x, y = np.asarray(xy, dtype=float).T
+    return 0.5 * abs(float(x @ np.roll(y, -1) - np.roll(x, -1) @ y))
+
+
+def test_shell_close_up_along_its_normal_and_back_face_hatched():
+    mesh = curved_shell()
+    quads = mesh.cells[0].data.copy()
+    quads[5] = quads[5][[0, 2, 1, 3]]  # undo the bow-tie (tests/inspect_meshes.py)
+    quads[20] = quads[20][::-1]  # one normal flipped against its neighbours
+    audited = audit_mesh(meshio.Mesh(mesh.points, [("quad", quads)]))
+    report = audited.report
+    assert "flipped_normal" in report.flags_of(20)
+    fig = plot.draw(report, audited.elements)
+    main = fig.axes[0]
+    back = next(c for c in main.collections if c.get_gid() == "back-faces")
+    assert len(back.get_paths()) == 1  # only the flipped quad is seen from behind
+    # quad 20 spans 7.5 degrees of a radius-10 cylinder and 2 along its axis: a flat
+    # rectangle 2*10*sin(3.75 deg) by 2 (closed form); seen along its own normal its
+    # drawn area is that, whatever the overall view direction
+    title = next(a for a in fig.axes if (a.title.get_gid() or "") == "close-up-20")
+    outline = next(c for c in title.collections if c.get_gid() == "inset-outline")
+    area = shoelace(outline.get_paths()[0].vertices[:4])
+    assert area == pytest.approx(2 * 10 * np.sin(np.radians(3.75)) * 2.0, rel=1e-9)

@@ -254,11 +254,20 @@ def draw(
     bar.set_label(label)
     verdict_ticks(bar, color_by)
     _limit_marks(bar, report, color_by, norm)
-    _legend(ax, values, has_findings)
+    back = back_faces(report, elements, table, view)
+    _legend(ax, values, has_findings, back.any())
     boxes = (verts.min(axis=1), verts.max(axis=1)) if len(worst) else None
     for sub, i in zip(inset_axes, worst):
-        _inset(sub, report, verts, boxes, values, cmap, norm, int(i), color_by)
-        sub.plot(*xy[table[int(i)]].T, "o", ms=2.5, color=OUTLINE, zorder=5)
+        if report.summary.frame == "planar":
+            _inset(sub, report, verts, boxes, values, cmap, norm, int(i), color_by)
+            sub.plot(*xy[table[int(i)]].T, "o", ms=2.5, color=OUTLINE, zorder=5)
+            continue
+        # a shell: the close-up looks along the element's own normal, never edge-on
+        near, local, corners = shell_close_up(report, elements, table, int(i))
+        mine = (local.min(axis=1), local.max(axis=1))
+        at = len(near) - 1
+        _inset(sub, report, local, mine, values[near], cmap, norm, int(i), color_by, at=at)
+        sub.plot(*corners.T, "o", ms=2.5, color=OUTLINE, zorder=5)
     fig.suptitle(drawable(title(report)), fontsize=12, fontweight="bold")
     ax.set_title(_subtitle(report, color_by, view), fontsize=9)
     flat_xy = report.summary.frame == "planar" and np.allclose(view.axes, np.eye(3)[:2])
@@ -271,6 +280,7 @@ def draw(
     fit_to_part(fig, ax, part_aspect(verts.reshape(-1, 2)))
     renderer = freeze_layout(fig)
     _faces(ax, verts, values, cmap, norm, order)
+    _hatch_back_faces(ax, verts, back)
     _outlines(ax, report, verts)
     if len(verts) > LARGE_MESH:  # elements of a pixel or two: ring the flagged ones too
         _rings(ax, report, verts)
@@ -444,6 +454,41 @@ def fit_to_part(fig: Figure, ax: Axes, aspect: float, rounds: int = 2) -> None:
             fig.set_size_inches(max(w + want - slot_w, 2.0), h)
 
 
+def back_faces(report: Report, elements: ElementMesh, table: np.ndarray, view: View) -> np.ndarray:
+    """Shell elements seen from behind: their area vector (node order) points away from
+    the viewer (a flipped normal among its neighbours shows as one); none when planar."""
+    if report.summary.frame == "planar":
+        return np.zeros(len(table), dtype=bool)
+    corners = elements.points[table]
+    k = length_exponent(corners)  # only the signs count: at a scale with no overflow
+    if k:
+        corners = scaled_lengths(corners, -k, 1)
+    return area_vectors(corners) @ view.normal < 0.0
+
+
+#: At most this many back faces are hatched (the rest keep their colour only).
+MAX_HATCHED = 20_000
+BACK_HATCH = "////"
+
+
+def _hatch_back_faces(ax: Axes, verts: np.ndarray, back: np.ndarray) -> None:
+    from matplotlib.collections import PolyCollection
+
+    if back.any():
+        ax.add_collection(
+            PolyCollection(
+                verts[np.flatnonzero(back)[:MAX_HATCHED]],
+                facecolors="none",
+                edgecolors=(0.15, 0.15, 0.15, 0.8),
+                linewidths=0.0,
+                hatch=BACK_HATCH,
+                gid="back-faces",
+                zorder=2,
+            ),
+            autolim=False,
+        )
+
+
 def _draw_order(
     report: Report, elements: ElementMesh, table: np.ndarray, view: View
 ) -> np.ndarray | None:
@@ -598,7 +643,7 @@ def _frame(ax: Axes, verts: np.ndarray) -> None:
     ax.tick_params(labelsize=8)
 
 
-def _legend(ax: Axes, values: np.ndarray, findings: bool = False) -> None:
+def _legend(ax: Axes, values: np.ndarray, findings: bool = False, back: bool = False) -> None:
     from matplotlib.lines import Line2D
     from matplotlib.patches import Patch
 
@@ -618,6 +663,10 @@ def _legend(ax: Axes, values: np.ndarray, findings: bool = False) -> None:
                 marker="x",
                 label="mesh-level finding (edges, nodes)",
             )
+        )
+    if back:
+        handles.append(
+            Patch(fc="white", ec="0.3", hatch=BACK_HATCH, label="seen from behind (normal away)")
         )
     if np.ma.count_masked(values):
         handles.append(Patch(fc=NOT_DEFINED, label="metric not defined"))
@@ -646,12 +695,44 @@ def _window(verts: np.ndarray, i: int) -> tuple[np.ndarray, np.ndarray]:
     return centre - half, centre + half
 
 
+def shell_close_up(
+    report: Report, elements: ElementMesh, table: np.ndarray, i: int
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Shell element ``i`` and the elements around it seen along its own normal (the
+    normal of its node order, :func:`~.projection.plane_view`), so it is never drawn
+    edge-on: (report rows, element ``i`` last; their corner polygons on that page
+    (m, k, 2); element ``i``'s corners on it (k, 2)). Around it: elements whose centres
+    lie within three times its size of its centre."""
+    from .projection import plane_view
+
+    corners = elements.points[table[i]]
+    view = plane_view(corners)
+    size = float(np.ptp(corners, axis=0).max()) or 1.0
+    gap = np.linalg.norm(report.centroids - report.centroids[i], axis=1)
+    near = np.flatnonzero(gap <= 3.0 * size)
+    near = np.concatenate([near[near != i], [i]])  # drawn last, over its neighbours
+    local = view.project(elements.points[table[near]].reshape(-1, 3))
+    local = local.reshape(len(near), table.shape[1], 2)
+    return near, local, local[-1]
+
+
 def _inset(
-    ax: Axes, report: Report, verts, boxes, values, cmap, norm, i: int, color_by: str
+    ax: Axes,
+    report: Report,
+    verts,
+    boxes,
+    values,
+    cmap,
+    norm,
+    i: int,
+    color_by: str,
+    at: int | None = None,
 ) -> None:
+    """Close-up of report row ``i``, drawn at position ``at`` of ``verts`` (default i)."""
     from matplotlib.collections import PolyCollection
 
-    lo, hi = _window(verts, i)
+    at = i if at is None else at
+    lo, hi = _window(verts, at)
     near = (boxes[1] >= lo).all(axis=1) & (boxes[0] <= hi).all(axis=1)
     rows = np.flatnonzero(near)
     ax.add_collection(
@@ -660,7 +741,7 @@ def _inset(
         )
     )
     verdict = FAIL if report.failing[i] else WARN
-    _outline(ax, verts[i : i + 1], verdict, "inset-outline")
+    _outline(ax, verts[at : at + 1], verdict, "inset-outline")
     ax.set_xlim(lo[0], hi[0])
     ax.set_ylim(lo[1], hi[1])
     ax.set_aspect("equal")
