@@ -248,3 +248,22 @@ def test_shell_close_up_along_its_normal_and_back_face_hatched():
     outline = next(c for c in title.collections if c.get_gid() == "inset-outline")
     area = shoelace(outline.get_paths()[0].vertices[:4])
     assert area == pytest.approx(2 * 10 * np.sin(np.radians(3.75)) * 2.0, rel=1e-9)
+
+
+def test_orphan_nodes_drawn_small_where_they_are():
+    # the planted plate plus two nodes no element uses (by construction: orphans)
+    mesh = planted_plate()
+    extra = np.array([[2.5, 1.5, 0.0], [7.0, 5.0, 0.0]])[:, : mesh.points.shape[1]]
+    mesh = meshio.Mesh(np.vstack([mesh.points, extra]), mesh.cells)
+    audited = audit_mesh(mesh)
+    fig = plot.draw(audited.report, audited.elements)
+    main = fig.axes[0]
+    (rings,) = [ln for ln in main.lines if ln.get_gid() == "orphan-nodes"]
+    np.testing.assert_allclose(rings.get_xydata(), extra[:, :2])
+    assert rings.get_marker() == "o" and rings.get_markerfacecolor() == "none"
+    assert rings.get_markersize() <= 4  # small: the face under it stays visible
+    crosses = [ln for ln in main.lines if ln.get_gid() == "finding-nodes"]
+    assert all(
+        len(c.get_xydata()) == 0 or not np.isin(c.get_xydata(), extra[:, :2]).all() for c in crosses
+    )
+    assert any("orphan" in t.get_text() for t in fig.legends[0].get_texts())

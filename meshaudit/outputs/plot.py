@@ -255,7 +255,7 @@ def draw(
     verdict_ticks(bar, color_by)
     _limit_marks(bar, report, color_by, norm)
     back = back_faces(report, elements, table, view)
-    _legend(ax, values, has_findings, back.any())
+    _legend(ax, values, has_findings, back.any(), has_orphans(report))
     boxes = (verts.min(axis=1), verts.max(axis=1)) if len(worst) else None
     for sub, i in zip(inset_axes, worst):
         if report.summary.frame == "planar":
@@ -643,7 +643,9 @@ def _frame(ax: Axes, verts: np.ndarray) -> None:
     ax.tick_params(labelsize=8)
 
 
-def _legend(ax: Axes, values: np.ndarray, findings: bool = False, back: bool = False) -> None:
+def _legend(
+    ax: Axes, values: np.ndarray, findings: bool = False, back: bool = False, orphans: bool = False
+) -> None:
     from matplotlib.lines import Line2D
     from matplotlib.patches import Patch
 
@@ -662,6 +664,19 @@ def _legend(ax: Axes, values: np.ndarray, findings: bool = False, back: bool = F
                 ls=FINDING_DASH,
                 marker="x",
                 label="mesh-level finding (edges, nodes)",
+            )
+        )
+    if orphans:
+        handles.append(
+            Line2D(
+                [],
+                [],
+                marker="o",
+                ms=ORPHAN_SIZE,
+                mfc="none",
+                mec=OUTLINE,
+                ls="none",
+                label="orphan node (no element uses it)",
             )
         )
     if back:
@@ -815,6 +830,10 @@ def draw_findings(
     findings = getattr(report, "findings", None)
     if not findings:
         return False
+    orphans = [f for f in findings if _field(f, "kind") == ORPHANS]
+    if orphans:
+        _orphan_nodes(ax, view, finding_geometry(orphans, points)[1])
+    findings = [f for f in findings if _field(f, "kind") != ORPHANS]
     lines, nodes, rows = finding_geometry(findings, points)
     if lines:
         segs = [view.project(np.asarray(line, dtype=float)[:, :3]) for line in lines]
@@ -855,4 +874,36 @@ def draw_findings(
             ),
             autolim=False,
         )
-    return bool(lines or len(nodes) or len(rows))
+    return bool(orphans or lines or len(nodes) or len(rows))
+
+
+#: Orphan nodes (no element uses them) are drawn as small rings with a white halo, on
+#: top of the faces but small enough not to hide them, apart from other findings' crosses.
+ORPHANS = "orphan_nodes"
+ORPHAN_SIZE = 3.5
+
+
+def _orphan_nodes(ax: Axes, view: View, nodes: np.ndarray) -> None:
+    from matplotlib import patheffects
+
+    if not len(nodes):
+        return
+    xy = view.project(nodes)
+    ax.plot(
+        xy[:, 0],
+        xy[:, 1],
+        "o",
+        ms=ORPHAN_SIZE,
+        mfc="none",
+        mec=OUTLINE,
+        mew=0.9,
+        ls="none",
+        gid="orphan-nodes",
+        zorder=5,
+        path_effects=[patheffects.withStroke(linewidth=2.2, foreground=HALO)],
+    )
+
+
+def has_orphans(report: Report) -> bool:
+    """Whether the report's findings include orphan nodes."""
+    return any(_field(f, "kind") == ORPHANS for f in getattr(report, "findings", None) or [])
