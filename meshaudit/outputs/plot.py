@@ -162,6 +162,9 @@ def colour_range(report: Report, color_by: str) -> tuple[float, float, str]:
     return lo, hi, extend
 
 
+#: The colourbar's label is wrapped at this many characters (it fits under a narrow view).
+LABEL_WIDTH = 72
+
 #: ``--color-by verdict``: the three verdicts as three levels of viridis (ok light, fail
 #: darkest, as "darker is worse" everywhere else), never a traffic-light set of colours.
 VERDICT = "verdict"
@@ -208,6 +211,7 @@ def colour_scale(report: Report, color_by: str) -> tuple[np.ndarray, Any, Any, s
             per_family.setdefault(family, []).append(f"{v:g}")
         listed = ", ".join(f"{f} {' / '.join(v)}" for f, v in per_family.items())
         label += f"\nmarks on the bar: warn limit dashed, fail limit solid ({listed})"
+    label = "\n".join(textwrap.fill(line, LABEL_WIDTH) for line in label.split("\n"))
     return np.ma.masked_invalid(drawn), cmap, Normalize(lo, hi), label, extend
 
 
@@ -377,6 +381,8 @@ def _subtitle(report: Report, color_by: str, view: View) -> str:
 PAGE_WIDTH, TALL_HEIGHT = 14.0, 7.0
 #: Side of one close-up (inches) and the room kept for titles, colourbar and legend.
 CLOSE_UP, FURNITURE = 2.7, 2.1
+#: Narrowest main view (inches) of a tall part: room for the colourbar's label.
+MIN_WIDTH = 4.5
 #: Largest figure height (inches): bounds the picture's size (and an HTML page's).
 MAX_HEIGHT = 10.0
 #: A part wider than this (width / height of its drawn box) gets its close-ups in a row
@@ -417,7 +423,7 @@ def content_figure(aspect: float, n_insets: int) -> tuple[Figure, Axes, list[Axe
         grid = fig.add_gridspec(2, cols, height_ratios=(main_h, rows))
         ax = fig.add_subplot(grid[0, :])
         return fig, ax, [fig.add_subplot(grid[1, c]) for c in range(n_insets)]
-    main_w = float(np.clip(TALL_HEIGHT * aspect, 1.5, PAGE_WIDTH))
+    main_w = float(np.clip(TALL_HEIGHT * aspect, MIN_WIDTH, PAGE_WIDTH))
     cols = -(-n_insets // 3) if n_insets else 0
     side = cols * (CLOSE_UP + 0.3)
     fig = new_figure(figsize=(main_w + side + 0.9, TALL_HEIGHT + FURNITURE), layout="constrained")
@@ -448,7 +454,7 @@ def fit_to_part(fig: Figure, ax: Axes, aspect: float, rounds: int = 2) -> None:
                 grid.set_height_ratios((want, grid.get_height_ratios()[1]))
             fig.set_size_inches(w, max(h + want - slot_h, 2.0))
         else:
-            want = float(np.clip(slot_h * aspect, 1.5, PAGE_WIDTH))
+            want = float(np.clip(slot_h * aspect, MIN_WIDTH, PAGE_WIDTH))
             if grid.ncols > 1:
                 grid.set_width_ratios((want, *grid.get_width_ratios()[1:]))
             fig.set_size_inches(max(w + want - slot_w, 2.0), h)
