@@ -70,8 +70,8 @@ def add(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
     check.add_argument(
         "--color-by",
         metavar="METRIC",
-        help="metric that colours the elements in --plot and --html (default: score); "
-        "an error without one of them",
+        help="metric that colours the elements in --plot and --html (default: score), or "
+        "verdict (ok / warn / fail); an error without one of them",
     )
     check.add_argument(
         "--annotate",
@@ -185,7 +185,8 @@ def audit_and_write(args: argparse.Namespace) -> Report:
 
 
 def check_color_by(args: argparse.Namespace) -> None:
-    """``--color-by`` needs a picture (``--plot`` or ``--html``) and a metric; unset, it is
+    """``--color-by`` needs a picture (``--plot`` or ``--html``) and a metric or
+    ``verdict``; unset, it is
     the score. MeshAuditError (one line, exit status 2) otherwise."""
     from ..metrics import METRIC_NAMES
 
@@ -200,10 +201,10 @@ def check_color_by(args: argparse.Namespace) -> None:
         )
     if args.color_by is None:
         args.color_by = "score"
-    if args.color_by not in METRIC_NAMES:
+    if args.color_by not in (*METRIC_NAMES, "verdict"):
         raise MeshAuditError(
-            f"--color-by {args.color_by!r} is not a metric; choose one of "
-            + ", ".join(METRIC_NAMES)
+            f"--color-by {args.color_by!r} is not a metric nor verdict; choose one of "
+            + ", ".join((*METRIC_NAMES, "verdict"))
         )
 
 

@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import textwrap
 from pathlib import Path
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
@@ -22,6 +22,7 @@ from ..cells.registry import CELL_TYPES, CellType
 from ..mesh.scale import length_exponent
 from ..results.explain import Explanation
 from ..results.inspection import AuditedMesh, corner_table
+from .label_layout import freeze_layout, place_labels
 from .mpl import drawable, new_figure
 from .plot import HALO, OUTLINE, mesh_view, plot_format
 from .projection import View, drawing_unit, plane_view, unit_text, with_unit
@@ -114,22 +115,35 @@ def draw(audited: AuditedMesh, ex: Explanation) -> Figure:
     ax = fig.add_subplot(1, 1, 1)
     _neighbours(ax, audited, ex, view, _window(nodes))
     _grid(ax, ex, nodes)
-    _nodes_and_gauss(ax, ex, nodes)
     _frame(ax, nodes)
     ax.set_title(drawable(_title(ex)), fontsize=9)
     if view.unit != 1.0:
         ax.set_xlabel("coordinates" + unit_text(view), fontsize=8)
+    _nodes_and_gauss(ax, ex, nodes, freeze_layout(fig))
     return fig
 
 
 def _title(ex: Explanation) -> str:
-    breached = [m.name for m in ex.breaches]
-    validity = [f for f in ex.flags if f not in breached]
+    """Verdict, the rule the element breaks, then its flags and breached limits, each
+    under its own level: validity flags are "invalid", warning flags "warn"."""
+    from ..metrics import VALIDITY_FLAGS, WARNING_FLAGS
+    from .solid_explain import breaches_at_worst
+    from .volume_plot import rule_text
+
     lines = [f"element {ex.id} ({ex.cell_type}, profile {ex.profile}): {ex.verdict}"]
-    if validity:
-        lines.append("invalid: " + ", ".join(validity))
-    if breached:
-        lines.append(textwrap.fill("limits breached: " + ", ".join(breached), 90))
+    if ex.verdict != "ok":
+        worst = "fail" if any(m.level == "fail" for m in ex.breaches) else "warn"
+        lines.append(textwrap.fill(rule_text(ex.flags, breaches_at_worst(ex), worst), 90))
+    invalid = [f for f in ex.flags if f in VALIDITY_FLAGS]
+    warned = [f for f in ex.flags if f in WARNING_FLAGS]
+    if invalid:
+        lines.append("invalid (fails): " + ", ".join(invalid))
+    if warned:
+        lines.append("warning flags (warn): " + ", ".join(warned))
+    for level in ("fail", "warn"):
+        names = [m.name for m in ex.breaches if m.level == level]
+        if names:
+            lines.append(textwrap.fill(f"{level} limits breached: " + ", ".join(names), 90))
     lines.append(
         "reference grid lines mapped onto the element; hatched: det J <= 0; grey: neighbours (ids)"
     )
@@ -186,41 +200,38 @@ def _grid(ax: Axes, ex: Explanation, nodes: np.ndarray) -> None:
     ax.plot(edge[:, 0], edge[:, 1], color=OUTLINE, lw=1.8, zorder=4, gid="outline")
 
 
-def _nodes_and_gauss(ax: Axes, ex: Explanation, nodes: np.ndarray) -> None:
+def _nodes_and_gauss(ax: Axes, ex: Explanation, nodes: np.ndarray, renderer: Any) -> None:
+    """Nodes and Gauss points marked; their labels (node number and det J; det J) placed
+    by :func:`~meshaudit.outputs.label_layout.place_labels`, so none covers another nor
+    any marker; a label with no free place is left out and the corner says how many."""
     from matplotlib import patheffects
 
     halo = [patheffects.withStroke(linewidth=3, foreground=HALO)]
     cell = CELL_TYPES[ex.cell_type]
-    centre = nodes[: cell.n_corners].mean(axis=0)
     for k, p in enumerate(nodes):
         ax.plot(*p, "o", color=OUTLINE, ms=5 if k < cell.n_corners else 3.5, zorder=5)
+    g = map_points(cell, nodes, ex.gauss_points)
+    ax.plot(g[:, 0], g[:, 1], "P", color="#fde725", mec=OUTLINE, ms=8, zorder=5, gid="gauss")
+    texts, styles = [], []
+    for k in range(len(nodes)):
         label = f"{k + 1}: node {int(ex.node_numbers[k])}"
         if k < len(ex.det_j_nodes):
             label += f"\ndet J {ex.det_j_nodes[k]:.4g}"
-        away = p - centre
-        away = away / (np.hypot(*away) or 1.0)
-        ax.annotate(
-            label,
-            xy=p,
-            xytext=tuple(26.0 * away),
-            textcoords="offset points",
-            ha="center",
-            va="center",
+        texts.append(label)
+        styles.append({"fontsize": 8, "path_effects": halo, "zorder": 6, "gid": f"node-{k + 1}"})
+    for k, d in enumerate(ex.det_j_gauss):
+        texts.append(f"{d:.4g}")
+        styles.append({"fontsize": 8, "path_effects": halo, "zorder": 6, "gid": f"gauss-{k + 1}"})
+    anchors = np.vstack([nodes, g])
+    placed = place_labels(ax, anchors, texts, styles, renderer, keep_clear=anchors)
+    if not all(placed):
+        ax.text(
+            0.01,
+            0.01,
+            f"{placed.count(False)} labels with no free place left out (see the text form)",
+            transform=ax.transAxes,
             fontsize=8,
-            path_effects=halo,
-            zorder=6,
-        )
-    g = map_points(cell, nodes, ex.gauss_points)
-    ax.plot(g[:, 0], g[:, 1], "P", color="#fde725", mec=OUTLINE, ms=8, zorder=5, gid="gauss")
-    for p, d in zip(g, ex.det_j_gauss):
-        ax.annotate(
-            f"{d:.4g}",
-            xy=p,
-            xytext=(6, 6),
-            textcoords="offset points",
-            fontsize=8,
-            path_effects=halo,
-            zorder=6,
+            gid="unlabelled",
         )
 
 

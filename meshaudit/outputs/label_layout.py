@@ -103,3 +103,45 @@ def place_labels(
                 label.remove()
         placed.append(ok)
     return placed
+
+
+def label_elements(
+    ax: Axes,
+    report: Any,
+    rows: np.ndarray,
+    anchors: np.ndarray,
+    renderer: Any,
+    limit: int,
+) -> list[bool]:
+    """Ids of report rows ``rows`` (worst first: failing ones, then warn ones) at data
+    points ``anchors`` (n, 2), where room allows, at most ``limit``; none covering
+    another nor any anchor. A failing label is a text with gid ``fail-id-<id>`` in a black
+    frame, a warn label ``warn-id-<id>``, smaller, in a grey frame. Returns which were
+    placed; the caller writes an "n more not labelled" line."""
+    styles, texts = [], []
+    for i in rows:
+        element = int(report.ids[i])
+        if report.failing[i]:
+            frame = {"boxstyle": "round,pad=0.2", "fc": "white", "ec": "black", "lw": 0.6}
+            styles.append({"fontsize": 7.5, "gid": f"fail-id-{element}", "bbox": frame})
+        else:
+            frame = {"boxstyle": "round,pad=0.2", "fc": "white", "ec": "#8c8c8c", "lw": 0.5}
+            styles.append({"fontsize": 6.5, "gid": f"warn-id-{element}", "bbox": frame})
+        styles[-1]["zorder"] = 6
+        texts.append(str(element))
+    placed: list[bool] = []
+    taken: list[Any] = []
+    for k in range(len(rows)):
+        if sum(placed) == limit:
+            break
+        one = slice(k, k + 1)
+        placed += place_labels(
+            ax, anchors[one], texts[one], styles[one], renderer, taken, keep_clear=anchors
+        )
+    return placed
+
+
+def unlabelled_failing(report: Any, rows: np.ndarray, placed: list[bool]) -> int:
+    """How many failing elements did not get a label."""
+    shown = sum(1 for k, ok in enumerate(placed) if ok and report.failing[rows[k]])
+    return int(report.failing.sum()) - shown

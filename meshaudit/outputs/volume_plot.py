@@ -28,10 +28,10 @@ import numpy as np
 from ..cells.registry import CELL_TYPES
 from ..mesh.elements import ElementMesh
 from ..mesh.faces import boundary_faces
-from ..metrics import METRIC_INFO, VALIDITY_FLAGS, WARNING_FLAGS, unit_of
+from ..metrics import METRIC_INFO, VALIDITY_FLAGS, WARNING_FLAGS
 from ..results.report import Report
-from .label_layout import freeze_layout, place_labels
-from .mpl import drawable, new_figure
+from .label_layout import freeze_layout, label_elements, unlabelled_failing
+from .mpl import drawable
 from .projection import View, unit_text
 from .solid_views import element_view, face_outlines, volume_view
 
@@ -67,11 +67,14 @@ def _degrees(unit: str) -> str:
     return "°" if unit == "deg" else ""
 
 
-def rule_text(flags: list[str], breaches: list[tuple[str, float, float | None]]) -> str:
+def rule_text(
+    flags: list[str], breaches: list[tuple[str, float, float | None]], level: str = ""
+) -> str:
     """The rule an element breaks, in one line: its first validity or warning flag with
     what it means ("inverted: det J < 0"), else the breached metric furthest past its
-    limit relative to the limit ("min_dihedral 4.1° < 10°"); "+k more" when there are
-    other breaches. ``breaches``: (metric, value, limit) at the element's worst level."""
+    limit relative to the limit ("min_dihedral 4.1° < 10°", followed by " (warn)" or
+    " (fail)" when ``level`` is given); "+k more" when there are other breaches.
+    ``breaches``: (metric, value, limit) at the element's worst level."""
     named = [f for f in flags if f in FLAG_RULES and f in (*VALIDITY_FLAGS, *WARNING_FLAGS)]
     if named:
         rest = len(named) - 1 + len(breaches)
@@ -92,15 +95,16 @@ def rule_text(flags: list[str], breaches: list[tuple[str, float, float | None]])
     deg = _degrees(info.unit)
     more = f" (+{len(breaches) - 1} more)" if len(breaches) > 1 else ""
     bound = "" if limit is None else f" {sign} {limit:g}{deg}"
-    return f"{name} {value:.3g}{deg}{bound}{more}"
+    tag = f" ({level})" if level else ""
+    return f"{name} {value:.3g}{deg}{bound}{tag}{more}"
 
 
-def report_rule(report: Report, i: int) -> str:
-    """:func:`rule_text` of report row ``i``."""
+def report_rule(report: Report, i: int, level: bool = False) -> str:
+    """:func:`rule_text` of report row ``i`` (with its breach's level when ``level``)."""
     breached = report.breached(i)
     worst = max((lvl for _, lvl, _ in breached.values()), default="", key=["warn", "fail"].index)
     items = [(m, v, lim) for m, (v, lvl, lim) in breached.items() if lvl == worst]
-    return rule_text(report.flags_of(i), items)
+    return rule_text(report.flags_of(i), items, worst if level else "")
 
 
 # -- geometry of the drawn faces -----------------------------------------------------------
@@ -175,21 +179,21 @@ def draw_volume(report: Report, elements: ElementMesh, color_by: str, insets: in
     colours = _rgba(values, cmap, norm)
     used = elements.points[elements.used_nodes()]
     view = volume_view(used)
-    fig = new_figure(figsize=(14.0, 9.0), layout="constrained")
     flagged = report.worst()  # flagged rows, worst first
     worst = flagged[: max(insets, 0)]
-    ax, inset_axes = plot._layout(fig, len(worst))
-    ax.set_gid("mesh")
-
     faces, owner = skin(elements)
     page = view.project(elements.points)
     skin_xy = page[faces]
+    drawn = skin_xy.reshape(-1, 2) if len(skin_xy) else page
+    fig, ax, inset_axes = plot.content_figure(plot.part_aspect(drawn, 0.06), len(worst))
+    ax.set_gid("mesh")
+
     depth = view.depth(elements.points)[faces].mean(axis=1)
 
     opaque, dotted = flagged[:MAX_OPAQUE], flagged[MAX_OPAQUE : MAX_OPAQUE + MAX_DOTS]
     wanted = np.zeros(len(report), dtype=bool)
     wanted[opaque] = True
-    _frame(ax, skin_xy.reshape(-1, 2) if len(skin_xy) else page)
+    _frame(ax, drawn)
 
     bar = fig.colorbar(
         _mappable(cmap, norm),
@@ -201,6 +205,7 @@ def draw_volume(report: Report, elements: ElementMesh, color_by: str, insets: in
     )
     bar.ax.set_gid("colourbar")
     bar.set_label(label)
+    plot.verdict_ticks(bar, color_by)
     plot._limit_marks(bar, report, color_by, norm)
     _legend(ax, values)
     for sub, i in zip(inset_axes, worst):
@@ -217,6 +222,7 @@ def draw_volume(report: Report, elements: ElementMesh, color_by: str, insets: in
     ax.set_ylabel("v (along the second view axis)" + unit, fontsize=8)
     # the layout does not depend on the faces (limits are set, autolim off): laid out
     # before they are added, so that the many faces are drawn once, when saved
+    plot.fit_to_part(fig, ax, plot.part_aspect(drawn, 0.06))
     renderer = freeze_layout(fig)
     _skin(ax, skin_xy, colours[owner], np.argsort(depth, kind="stable"))
     polys, poly_owner = element_faces(elements, wanted)
@@ -313,7 +319,7 @@ def _legend(ax: Axes, values: np.ndarray) -> None:
     from matplotlib.lines import Line2D
     from matplotlib.patches import Patch
 
-    from .plot import FAIL_WIDTH, NOT_DEFINED, OUTLINE, WARN_DASH, WARN_WIDTH
+    from .plot import FAIL_WIDTH, NOT_DEFINED, OUTLINE, WARN_DASH, WARN_WIDTH, figure_legend
 
     handles = [
         Line2D([], [], color=OUTLINE, lw=FAIL_WIDTH, label="fails (opaque, id labelled)"),
@@ -322,45 +328,21 @@ def _legend(ax: Axes, values: np.ndarray) -> None:
     ]
     if np.ma.count_masked(values):
         handles.append(Patch(fc=NOT_DEFINED, label="metric not defined"))
-    ax.figure.legend(
-        handles=handles, loc="outside lower left", ncol=len(handles), fontsize=8, frameon=False
-    )
+    figure_legend(ax.figure, handles)
 
 
 def _labels(ax: Axes, report: Report, view: View, flagged: np.ndarray, renderer: Any) -> None:
     """Ids of the failing elements, worst first, then of warn elements, where room
     allows; at most MAX_LABELS; none covering another."""
-    from .plot import OUTLINE
-
     rows = flagged[: 4 * MAX_LABELS]
     anchors = view.project(report.centroids[rows])
-    styles, texts = [], []
-    for i in rows:
-        element = int(report.ids[i])
-        if report.failing[i]:
-            frame = {"boxstyle": "round,pad=0.2", "fc": "white", "ec": OUTLINE, "lw": 0.6}
-            styles.append({"fontsize": 7.5, "gid": f"fail-id-{element}", "bbox": frame})
-        else:
-            frame = {"boxstyle": "round,pad=0.2", "fc": "white", "ec": "#8c8c8c", "lw": 0.5}
-            styles.append({"fontsize": 6.5, "gid": f"warn-id-{element}", "bbox": frame})
-        styles[-1]["zorder"] = 6
-        texts.append(str(element))
-    placed: list[bool] = []
-    taken: list[Any] = []
-    for k in range(len(rows)):
-        if sum(placed) == MAX_LABELS:
-            break
-        one = slice(k, k + 1)
-        placed += place_labels(
-            ax, anchors[one], texts[one], styles[one], renderer, taken, keep_clear=anchors
-        )
-    failing = int(report.failing.sum())
-    shown = sum(1 for k, ok in enumerate(placed) if ok and report.failing[rows[k]])
-    if failing > shown:
+    placed = label_elements(ax, report, rows, anchors, renderer, MAX_LABELS)
+    hidden = unlabelled_failing(report, rows, placed)
+    if hidden > 0:
         ax.text(
             0.01,
             0.01,
-            f"{failing - shown} more failing elements not labelled (see the reports)",
+            f"{hidden} more failing elements not labelled (see the reports)",
             transform=ax.transAxes,
             fontsize=8,
             gid="unlabelled",
@@ -430,14 +412,13 @@ def _close_up(
     ax.set_aspect("equal")
     ax.set_xticks([])
     ax.set_yticks([])
-    value = float(report.metrics[color_by][i])
-    unit = unit_of(color_by, report.dimensions)
-    unit = {"1": "", "deg": "°"}.get(unit, f" {unit}")
-    rule = textwrap.fill(report_rule(report, i), 34)
+    from .plot import colour_value
+
+    rule = textwrap.fill(report_rule(report, i, level=True), 34)
     ax.set_title(
         drawable(
             f"id {int(report.ids[i])} ({cell.name}): {report.verdict_names[i]}\n"
-            f"{rule}\n{color_by} {value:.3g}{unit}"
+            f"{rule}\n" + colour_value(report, color_by, i)
         ),
         fontsize=8,
         gid=f"close-up-{int(report.ids[i])}",
