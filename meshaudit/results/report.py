@@ -27,6 +27,11 @@ from .percentiles import linear_percentiles
 #: ``Report.flag_bits`` is ``FLAG_NAMES[i]``.
 FLAG_NAMES: tuple[str, ...] = VALIDITY_FLAGS + WARNING_FLAGS + LIMITED_METRICS
 FLAG_BIT: dict[str, int] = {name: i for i, name in enumerate(FLAG_NAMES)}
+#: The flags are held in one uint32 per element: every bit is in use. A new limited
+#: metric or flag needs a wider word here and in the engine's sink.
+FLAG_WORD_BITS = 32
+if len(FLAG_NAMES) > FLAG_WORD_BITS:  # a silent overflow would drop flags: refuse to load
+    raise ImportError(f"{len(FLAG_NAMES)} flags do not fit a {FLAG_WORD_BITS}-bit flag word")
 
 PERCENTILES = (("min", 0.0), ("p5", 5.0), ("median", 50.0), ("p95", 95.0), ("max", 100.0))
 
