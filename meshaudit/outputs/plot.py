@@ -642,7 +642,11 @@ def _label_elements(ax: Axes, report: Report, verts: np.ndarray, renderer: Any) 
 def _frame(ax: Axes, verts: np.ndarray) -> None:
     flat = verts.reshape(-1, 2)
     lo, hi = flat.min(axis=0), flat.max(axis=0)
-    pad = 0.04 * float(max(hi - lo)) or 1.0
+    # at least a few units in the last place of the coordinates, so that a tiny part far
+    # from the origin still gets limits apart (matplotlib warns on equal limits)
+    floor = 8.0 * float(np.spacing(np.max(np.abs(np.concatenate([lo, hi])))))
+    extent = float(max(hi - lo))
+    pad = max(0.04 * extent if extent > 0.0 else 1.0, floor)
     ax.set_xlim(lo[0] - pad, hi[0] + pad)
     ax.set_ylim(lo[1] - pad, hi[1] + pad)
     ax.set_aspect("equal")
