@@ -24,7 +24,7 @@ from ..results.explain import Explanation
 from ..results.inspection import AuditedMesh, corner_table
 from .label_layout import freeze_layout, place_labels
 from .mpl import drawable, new_figure
-from .plot import HALO, OUTLINE, mesh_view, plot_format
+from .plot import HALO, OUTLINE, limits_apart, mesh_view, plot_format
 from .projection import View, drawing_unit, plane_view, unit_text, with_unit
 
 if TYPE_CHECKING:
@@ -239,7 +239,7 @@ def _window(nodes: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Drawn area: the element's box padded for its neighbours and labels."""
     lo, hi = nodes.min(axis=0), nodes.max(axis=0)
     pad = 0.45 * (float(max(hi - lo)) or 1.0)
-    return lo - pad, hi + pad
+    return limits_apart(lo - pad, hi + pad)
 
 
 def _frame(ax: Axes, nodes: np.ndarray) -> None:

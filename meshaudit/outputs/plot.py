@@ -642,13 +642,12 @@ def _label_elements(ax: Axes, report: Report, verts: np.ndarray, renderer: Any) 
 def _frame(ax: Axes, verts: np.ndarray) -> None:
     flat = verts.reshape(-1, 2)
     lo, hi = flat.min(axis=0), flat.max(axis=0)
-    # at least a few units in the last place of the coordinates, so that a tiny part far
-    # from the origin still gets limits apart (matplotlib warns on equal limits)
-    floor = 8.0 * float(np.spacing(np.max(np.abs(np.concatenate([lo, hi])))))
     extent = float(max(hi - lo))
-    pad = max(0.04 * extent if extent > 0.0 else 1.0, floor)
-    ax.set_xlim(lo[0] - pad, hi[0] + pad)
-    ax.set_ylim(lo[1] - pad, hi[1] + pad)
+    lo, hi = limits_apart(
+        *(lo - 0.04 * extent, hi + 0.04 * extent) if extent > 0 else (lo - 1, hi + 1)
+    )
+    ax.set_xlim(lo[0], hi[0])
+    ax.set_ylim(lo[1], hi[1])
     ax.set_aspect("equal")
     ax.tick_params(labelsize=8)
 
@@ -710,6 +709,15 @@ def figure_legend(fig: Figure, handles: list[Any]) -> None:
     )
 
 
+def limits_apart(lo: np.ndarray, hi: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Axis limits ``lo`` < ``hi`` on every axis: where the two are closer than a few units
+    in the last place (a tiny element far from the origin), they are moved apart by that
+    much, so matplotlib never gets equal limits (it warns on them)."""
+    floor = 8.0 * np.spacing(np.maximum(np.abs(lo), np.abs(hi)))
+    short = ~(hi - lo > 2.0 * floor)
+    return np.where(short, lo - floor, lo), np.where(short, hi + floor, hi)
+
+
 def _window(verts: np.ndarray, i: int) -> tuple[np.ndarray, np.ndarray]:
     """Square close-up window around element ``i``: (lower-left, upper-right)."""
     mine = verts[i]
@@ -717,7 +725,7 @@ def _window(verts: np.ndarray, i: int) -> tuple[np.ndarray, np.ndarray]:
     size = float(max(hi - lo)) or 1.0
     centre = (lo + hi) / 2.0
     half = 1.1 * size
-    return centre - half, centre + half
+    return limits_apart(centre - half, centre + half)
 
 
 def shell_close_up(
