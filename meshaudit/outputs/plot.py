@@ -244,20 +244,7 @@ def draw(
     ax.set_gid("mesh")
     has_findings = draw_findings(ax, report, view, elements.points, verts)
     _frame(ax, verts)
-    from matplotlib.cm import ScalarMappable
-
-    bar = fig.colorbar(
-        ScalarMappable(norm=norm, cmap=cmap),
-        ax=ax,
-        orientation="horizontal",
-        fraction=0.045,
-        pad=0.02,
-        extend=extend,
-    )
-    bar.ax.set_gid("colourbar")
-    bar.set_label(label)
-    verdict_ticks(bar, color_by)
-    _limit_marks(bar, report, color_by, norm)
+    colour_bar(fig, ax, report, (cmap, norm, extend), label, color_by)
     back = back_faces(report, elements, table, view)
     _legend(ax, values, has_findings, back.any(), has_orphans(report))
     boxes = (verts.min(axis=1), verts.max(axis=1)) if len(worst) else None
@@ -637,6 +624,28 @@ def _label_elements(ax: Axes, report: Report, verts: np.ndarray, renderer: Any) 
             fontsize=8,
             gid="unlabelled",
         )
+
+
+def colour_bar(
+    fig: Figure, ax: Axes, report: Report, scale: tuple, label: str, color_by: str
+) -> None:
+    """The horizontal colour bar under ``ax``: ``scale`` (cmap, norm, extend) of the
+    colouring, its label, verdict ticks and the profile's limit marks per family."""
+    from matplotlib.cm import ScalarMappable
+
+    cmap, norm, extend = scale
+    bar = fig.colorbar(
+        ScalarMappable(norm=norm, cmap=cmap),
+        ax=ax,
+        orientation="horizontal",
+        fraction=0.045,
+        pad=0.02,
+        extend=extend,
+    )
+    bar.ax.set_gid("colourbar")
+    bar.set_label(label)
+    verdict_ticks(bar, color_by)
+    _limit_marks(bar, report, color_by, norm)
 
 
 def _frame(ax: Axes, verts: np.ndarray) -> None:

@@ -195,18 +195,7 @@ def draw_volume(report: Report, elements: ElementMesh, color_by: str, insets: in
     wanted[opaque] = True
     _frame(ax, drawn)
 
-    bar = fig.colorbar(
-        _mappable(cmap, norm),
-        ax=ax,
-        orientation="horizontal",
-        fraction=0.045,
-        pad=0.02,
-        extend=extend,
-    )
-    bar.ax.set_gid("colourbar")
-    bar.set_label(label)
-    plot.verdict_ticks(bar, color_by)
-    plot._limit_marks(bar, report, color_by, norm)
+    plot.colour_bar(fig, ax, report, (cmap, norm, extend), label, color_by)
     _legend(ax, values)
     for sub, i in zip(inset_axes, worst):
         _close_up(sub, report, elements, colours, int(i), color_by)
@@ -233,12 +222,6 @@ def draw_volume(report: Report, elements: ElementMesh, color_by: str, insets: in
         ax.plot(*dots.T, ".", ms=2.0, color=plot.OUTLINE, ls="none", gid="flagged-dots", zorder=2)
     _labels(ax, report, view, flagged, renderer)
     return fig
-
-
-def _mappable(cmap: Any, norm: Any) -> Any:
-    from matplotlib.cm import ScalarMappable
-
-    return ScalarMappable(norm=norm, cmap=cmap)
 
 
 def _skin(ax: Axes, xy: np.ndarray, rgba: np.ndarray, order: np.ndarray) -> None:
