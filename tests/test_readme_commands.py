@@ -83,14 +83,33 @@ def _every_source(folder: Path, res: subprocess.CompletedProcess) -> None:
 
 
 def _fixed_file_reads_the_same(folder: Path, res: subprocess.CompletedProcess) -> None:
-    # "The repaired file reads the same in meshaudit check (exit status 1, the same three
-    # elements)"; the elements the README names as still failing are listed
+    # "so they stay, the command says why (exit status 1) and names the outline nodes that
+    # lie off the outline": the repaired file fails on the same three elements, and the
+    # nodes named are the three plate corners samples/make_samples.py moved
     import meshaudit
 
     report = meshaudit.audit(folder / "bracket_plate_fixed.msh")
     assert sorted(report.ids[report.failing].tolist()) == [210, 227, 354]
     for element in ("210", "227", "354"):
         assert element in res.stdout
+    text = re.sub(r"[\s│]+", " ", res.stdout)  # table cells wrap: read them as one line
+    for node in ("33", "45", "92"):
+        assert f"--restore-outline {node} puts it back" in text
+
+
+def _restored_plate_passes(folder: Path, res: subprocess.CompletedProcess) -> None:
+    # "The three plate corners go back exactly to (0, 0), (0, 60) and (120, 0) ... and
+    # meshaudit check bracket_plate_fixed.msh passes"
+    import meshio
+    import numpy as np
+
+    import meshaudit
+
+    path = folder / "bracket_plate_fixed.msh"
+    assert meshaudit.audit(path).passed
+    points = meshio.read(path).points[:, :2]
+    for corner in [(0.0, 0.0), (0.0, 60.0), (120.0, 0.0)]:
+        assert np.min(np.linalg.norm(points - corner, axis=1)) == 0.0
 
 
 def _junit_and_json_per_mesh(folder: Path, res: subprocess.CompletedProcess) -> None:
@@ -152,11 +171,19 @@ PROMISES: dict[str, Promise] = {
         ["bracket_plate_fixed.msh"],
         check=_fixed_file_reads_the_same,
     ),
+    "meshaudit fix samples/bracket_plate_defects.msh -o bracket_plate_fixed.msh "
+    "--restore-outline 33,45,92": Promise(
+        0,
+        ["outline nodes restored", "33, 45, 92", "PASS", "0 of 374 elements fail"],
+        ["bracket_plate_fixed.msh"],
+        check=_restored_plate_passes,
+    ),
     "meshaudit check samples/bracket_plate_defects.msh --plot fix-before.png": Promise(
         1, ["5 of 374 elements fail"], ["fix-before.png"]
     ),
+    "meshaudit check bracket_plate_fixed.msh": Promise(0, ["PASS", "0 of 374 elements fail"]),
     "meshaudit check bracket_plate_fixed.msh --plot fix-after.png": Promise(
-        1, ["3 of 374 elements fail"], ["fix-after.png"]
+        0, ["PASS", "0 of 374 elements fail"], ["fix-after.png"]
     ),
 }
 
@@ -188,8 +215,10 @@ def _write_fixed_plate(path: Path) -> None:
 @functools.cache
 def _fixed_plate():
     import meshaudit
+    from meshaudit.repair import RepairOptions
 
-    return meshaudit.fix(SAMPLES / "bracket_plate_defects.msh").mesh
+    options = RepairOptions(restore=(33, 45, 92))
+    return meshaudit.fix(SAMPLES / "bracket_plate_defects.msh", options=options).mesh
 
 
 def _run(cmd: str, folder: Path) -> subprocess.CompletedProcess:

@@ -20,7 +20,8 @@ def add(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
         "fix",
         help="repair reversed, duplicate, unmerged and tangled elements; audit the result",
         description="Write a repaired copy of a mesh and audit it. Boundary, hole, crack, "
-        "region-interface and named nodes never move. Exit status 0: the result passes; "
+        "region-interface and named nodes never move (outline nodes named with "
+        "--restore-outline go back onto the outline). Exit status 0: the result passes; "
         "1: failures remain (listed) or the result was refused; 2: cannot repair.",
     )
     fix.add_argument("mesh", help="mesh file (any format meshio reads)")
@@ -69,8 +70,28 @@ def add(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
         metavar="NAME",
         help="a node set or element region whose nodes must not move (repeatable)",
     )
-    fix.add_argument("--quiet", action="store_true", help="print only the verdict line")
+    fix.add_argument(
+        "--restore-outline",
+        action="append",
+        default=[],
+        type=node_numbers,
+        metavar="N[,N...]",
+        help="put these outline nodes (node numbers as the reports show them) back on the "
+        "outline their neighbours continue; the fix names the ones that lie off it",
+    )
+    fix.add_argument("-q", "--quiet", action="store_true", help="print only the verdict line")
     return fix
+
+
+def node_numbers(text: str) -> tuple[int, ...]:
+    """``12,57`` -> (12, 57): node numbers, comma-separated."""
+    try:
+        numbers = tuple(int(part) for part in text.split(","))
+    except ValueError:
+        raise argparse.ArgumentTypeError(
+            f"{text!r}: node numbers separated by commas, such as 12,57"
+        ) from None
+    return numbers
 
 
 def output_format(path: Path, given: str | None) -> str:
@@ -119,6 +140,7 @@ def run(args: argparse.Namespace) -> int:
         rings=args.rings,
         everywhere=args.all,
         keep=tuple(args.keep),
+        restore=tuple(n for group in args.restore_outline for n in group),
     )
     with stage_bar(wanted(args.quiet)) as progress:
         result = repair(

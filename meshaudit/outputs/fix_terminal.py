@@ -21,6 +21,7 @@ DONE = {
     "duplicates": ("duplicate elements dropped", False),
     "reversed": ("elements reversed", False),
     "orphans": ("orphan nodes dropped", True),
+    "restored": ("outline nodes restored", True),
 }
 #: At most this many numbers listed per line.
 LISTED = 12
@@ -81,7 +82,7 @@ def _repairs_table(result: Repair, written: str | None):
     t.add_column()
     for key, (label, nodes) in DONE.items():
         if key not in result.done:
-            t.add_row(label, "off", "")
+            t.add_row(label, "0" if key == "restored" else "off", "")
             continue
         ids = result.done[key]
         kind = "nodes" if nodes else "elements"

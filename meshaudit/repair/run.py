@@ -29,7 +29,7 @@ from ..judge.profiles import Profile
 from ..mesh.elements import ElementMesh
 from ..mesh.reading import load, load_with_mesh
 from ..results.report import Report
-from . import duplicates, fixed, merge, reverse, smooth
+from . import duplicates, fixed, merge, outline, reverse, smooth
 from .working import Working
 
 #: How many rounds of putting back the corners of elements a move made worse.
@@ -49,6 +49,7 @@ class RepairOptions:
     rings: int = 2  # how far around the failing elements nodes may move
     everywhere: bool = False  # move every node that is not fixed
     keep: tuple[str, ...] = ()  # node sets or element regions whose nodes stay
+    restore: tuple[int, ...] = ()  # outline nodes (file numbers) to put back on the outline
 
 
 @dataclass
@@ -141,6 +142,9 @@ def repair(
         done["orphans"] = work.node_ids[orphan]
         if orphan.any():
             work.keep_nodes(~orphan)
+    initial = work.points.copy()
+    if options.restore:
+        done["restored"] = _restore_outline(work, options.restore)
 
     result = Repair(work.to_meshio(), before, before, done)
     after, mesh = audit_now_of(work, before)
@@ -151,9 +155,30 @@ def repair(
     after.summary = replace(after.summary, source=f"{before.summary.source} repaired")
     result.after = after
     result.mesh = work.to_meshio()
+    _record_move(result, initial, work.points, blocks_of(mesh), work.node_ids)
     result.worsened = _worsened(work, before, after, starts)
+    astray = outline.astray(work.points, blocks_of(mesh))
     result.remaining = _remaining(after, mesh, fixed_nodes, held, options.move)
+    _suggest_restoring(result.remaining, after, mesh, astray, work.node_ids)
     return result
+
+
+def blocks_of(mesh: ElementMesh) -> list[tuple[str, np.ndarray]]:
+    """(cell type, connectivity) of every audited block."""
+    return [(b.cell_type, b.connectivity) for b in mesh.blocks]
+
+
+def _restore_outline(work: Working, numbers: tuple[int, ...]) -> np.ndarray:
+    """Put the outline nodes numbered ``numbers`` back on the outline (see
+    :mod:`meshaudit.repair.outline`); midside nodes of their elements follow."""
+    blocks = [work.cells[k] for k in work.audited_blocks()]
+    nodes = outline.node_indices(work.node_ids, numbers)
+    x = outline.restore(work.points, blocks, nodes, work.node_ids)
+    moved = np.zeros(work.n_points, dtype=bool)
+    moved[nodes] = True
+    smooth.follow(x, work.points, blocks, moved, np.zeros(work.n_points, dtype=bool))
+    work.points = x
+    return np.sort(work.node_ids[nodes])
 
 
 def _none() -> np.ndarray:
@@ -227,7 +252,7 @@ def _worsened(work: Working, before: Report, after: Report, starts: dict[int, in
 
 
 def _fixed_nodes(work: Working, mesh: ElementMesh, keep: tuple[str, ...]) -> np.ndarray:
-    blocks = [(b.cell_type, b.connectivity) for b in mesh.blocks]
+    blocks = blocks_of(mesh)
     out = fixed.boundary_nodes(work.n_points, blocks)
     out |= fixed.interface_nodes(work.n_points, blocks, mesh.cell_sets)
     out |= fixed.named_nodes(work.n_points, keep, work.point_sets, mesh.cell_sets, blocks)
@@ -260,7 +285,7 @@ def _move(
     targets = (after.verdict >= gate) | after.flag("inverted")
     if not targets.any() and not options.everywhere:
         return after
-    blocks = [(b.cell_type, b.connectivity) for b in mesh.blocks]
+    blocks = blocks_of(mesh)
     start = work.points.copy()
     normal = _plane_normal(after, start, blocks)
     free = smooth.free_nodes(
@@ -280,7 +305,6 @@ def _move(
         result.notes.append("node moves dropped: they made some element worse than in the input")
         work.points = start
         return after
-    _record_move(result, start, work.points, blocks, work.node_ids)
     return trial
 
 
@@ -385,3 +409,31 @@ def _remaining(
                 )
             out[int(after.ids[row])] = why
     return out
+
+
+def _suggest_restoring(
+    remaining: dict[int, str],
+    after: Report,
+    mesh: ElementMesh,
+    astray: np.ndarray,
+    node_ids: np.ndarray,
+) -> None:
+    """Add to the reason of each still-failing element the outline nodes among its corners
+    that lie off the outline their neighbours continue (``astray``: see
+    :func:`meshaudit.repair.outline.astray`), with the option that puts them back."""
+    if not remaining:
+        return
+    for b in mesh.blocks:
+        corners = b.connectivity[:, : b.cell.n_corners]
+        for i in np.flatnonzero(astray[corners].any(axis=1)):
+            element = int(after.ids[b.index[i]])
+            if element not in remaining:
+                continue
+            nodes = corners[i][astray[corners[i]]]
+            numbers = ",".join(str(int(n)) for n in node_ids[nodes])
+            word = "node" if len(nodes) == 1 else "nodes"
+            remaining[element] += (
+                f"; outline {word} {numbers} lie{'s' if len(nodes) == 1 else ''} off the "
+                f"outline {'its' if len(nodes) == 1 else 'their'} neighbours continue: "
+                f"--restore-outline {numbers} puts {'it' if len(nodes) == 1 else 'them'} back"
+            )
