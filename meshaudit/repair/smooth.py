@@ -5,12 +5,14 @@ Only free nodes move: corner nodes of audited elements that are not fixed (see
 elements (ring 1: the targets' own corners; each further ring adds the corners of every
 element touching the ring before). ``everywhere`` frees every corner that is not fixed.
 
-A surface node moves in its tangent plane, ``x = x0 + s (u t1 + v t2)``: on a planar mesh
-the mesh's plane (so the nodes stay in it; a plane facing an axis keeps that coordinate
-bit-identical), on a shell the plane normal to the node's area-weighted normal (a first-
-order move along the surface: a node of a curved shell leaves the surface by about
-d^2 / (2 R) for a move d on a radius R; no surface is known to project back onto). A
-solid node moves in space. ``s`` is the median edge length of the elements that take
+A node of a planar mesh moves in the mesh's plane, ``x = x0 + s (u t1 + v t2)`` (a plane
+facing an axis keeps that coordinate bit-identical). A node of a shell moves on the
+quadric fitted to its neighbours (:func:`surface_fits`): ``x = x0 + a t1 + b t2 +
+q(a, b) n`` with ``(a, b) = s (u, v)`` in the plane normal to the node's area-weighted
+normal ``n`` and ``q`` the least-squares height ``c1 a^2 + c2 a b + c3 b^2 + c4 a + c5 b``
+of the nodes of its elements above that plane; a node with fewer than six such nodes, or
+whose fit is ill-conditioned, moves in the plane (``q = 0``). A solid node moves in
+space. ``s`` is the median edge length of the elements that take
 part, so the unknowns are of order one.
 
 Two passes of scipy's L-BFGS-B over all free coordinates at once, the objectives and
@@ -111,6 +113,67 @@ def tangent_bases(normals: np.ndarray) -> np.ndarray:
     return out
 
 
+#: A fit whose normal matrix has a condition number above this is not trusted.
+FIT_CONDITION = 1e10
+
+
+def surface_fits(
+    points: np.ndarray,
+    blocks: list[tuple[str, np.ndarray]],
+    nodes: np.ndarray,
+    basis: np.ndarray,
+    normals: np.ndarray,
+) -> np.ndarray:
+    """(k, 5) coefficients ``c1..c5`` of the height ``w = c1 a^2 + c2 a b + c3 b^2 + c4 a +
+    c5 b + c6`` over the frame ``(basis, normals)`` at each of ``nodes``, fitted by least
+    squares to every node of the surface elements around it (itself included; ``(a, b,
+    w)`` measured from the node). Zero (the tangent plane) where fewer than six distinct
+    nodes take part or the fit's normal matrix is ill-conditioned."""
+    k = len(nodes)
+    out = np.zeros((k, 5))
+    if k == 0:
+        return out
+    slot = np.full(len(points), -1, dtype=np.int64)
+    slot[nodes] = np.arange(k)
+    pairs = []
+    for t, d in blocks:
+        cell = CELL_TYPES[t]
+        if cell.dimension != 2 or len(d) == 0:
+            continue
+        hit = (slot[d[:, : cell.n_corners]] >= 0).any(axis=1)
+        rows = d[hit]
+        centre = np.repeat(rows, rows.shape[1], axis=1).ravel()  # every (node, other) pair
+        other = np.tile(rows, (1, rows.shape[1])).ravel()
+        keep = slot[centre] >= 0
+        pairs.append(slot[centre[keep]] * len(points) + other[keep])
+    if not pairs:
+        return out
+    key = np.unique(np.concatenate(pairs))
+    who, other = key // len(points), key % len(points)
+    rel = points[other] - points[nodes[who]]
+    a = np.einsum("ij,ij->i", rel, basis[who, :, 0])
+    b = np.einsum("ij,ij->i", rel, basis[who, :, 1])
+    w = np.einsum("ij,ij->i", rel, normals[who])
+    size = np.sqrt(np.bincount(who, weights=a * a + b * b, minlength=k))
+    size = np.where(size > 0, size / np.sqrt(np.maximum(np.bincount(who, minlength=k), 1)), 1.0)
+    a, b = a / size[who], b / size[who]  # unit-free, for the condition number
+    phi = np.stack([a * a, a * b, b * b, a, b, np.ones_like(a)], axis=1)
+    mtm = np.zeros((k, 6, 6))
+    np.add.at(mtm, who, phi[:, :, None] * phi[:, None, :])
+    rhs = np.zeros((k, 6))
+    np.add.at(rhs, who, phi * w[:, None])
+    count = np.bincount(who, minlength=k)
+    good = count >= 6
+    good[good] &= np.linalg.cond(mtm[good]) < FIT_CONDITION
+    if good.any():
+        c = np.linalg.solve(mtm[good], rhs[good][..., None])[..., 0]
+        sz = size[good]
+        out[good] = np.column_stack(
+            [c[:, 0] / sz**2, c[:, 1] / sz**2, c[:, 2] / sz**2, c[:, 3] / sz, c[:, 4] / sz]
+        )
+    return out
+
+
 def free_nodes(
     n_points: int,
     blocks: list[tuple[str, np.ndarray]],
@@ -196,6 +259,11 @@ def move_nodes(
     else:
         normals = node_normals(x0, blocks)
     basis = tangent_bases(normals[free_s])
+    if plane_normal is None:
+        fit = surface_fits(x0, blocks, free_s, basis, normals[free_s])
+    else:
+        fit = np.zeros((len(free_s), 5))
+    lift = normals[free_s]
 
     groups = []
     for dim in (2, 3):
@@ -215,12 +283,25 @@ def move_nodes(
     def place(u: np.ndarray) -> np.ndarray:
         x = x0.copy()
         us = u[:n2].reshape(-1, 2) * scale
-        x[free_s] += np.einsum("nkd,nd->nk", basis, us)
+        a, b = us[:, 0], us[:, 1]
+        height = fit[:, 0] * a * a + fit[:, 1] * a * b + fit[:, 2] * b * b
+        height += fit[:, 3] * a + fit[:, 4] * b
+        x[free_s] += np.einsum("nkd,nd->nk", basis, us) + height[:, None] * lift
         x[free_v] += u[n2:].reshape(-1, 3) * scale
         return x
 
-    def pull(gx: np.ndarray) -> np.ndarray:
-        gs = np.einsum("nkd,nk->nd", basis, gx[free_s]).ravel()
+    def pull(gx: np.ndarray, u: np.ndarray) -> np.ndarray:
+        us = u[:n2].reshape(-1, 2) * scale
+        a, b = us[:, 0], us[:, 1]
+        along = np.einsum("nk,nk->n", gx[free_s], lift)
+        slope = np.stack(
+            [
+                2 * fit[:, 0] * a + fit[:, 1] * b + fit[:, 3],
+                fit[:, 1] * a + 2 * fit[:, 2] * b + fit[:, 4],
+            ],
+            axis=1,
+        )
+        gs = (np.einsum("nkd,nk->nd", basis, gx[free_s]) + along[:, None] * slope).ravel()
         return np.concatenate([gs, gx[free_v].ravel()]) * scale
 
     def inverted(x: np.ndarray) -> int:
@@ -236,7 +317,7 @@ def move_nodes(
                 v, gg = fn(g, x, beta)
                 total += v
                 gx += gg
-            return total, pull(gx)
+            return total, pull(gx, u)
 
         def tick(_u: np.ndarray) -> None:
             count[0] += 1
