@@ -159,9 +159,10 @@ def surface_fits(
     a, b = a / size[who], b / size[who]  # unit-free, for the condition number
     phi = np.stack([a * a, a * b, b * b, a, b, np.ones_like(a)], axis=1)
     mtm = np.zeros((k, 6, 6))
-    np.add.at(mtm, who, phi[:, :, None] * phi[:, None, :])
-    rhs = np.zeros((k, 6))
-    np.add.at(rhs, who, phi * w[:, None])
+    for i in range(6):  # the normal equations, summed per node
+        for j in range(i, 6):
+            mtm[:, i, j] = mtm[:, j, i] = np.bincount(who, phi[:, i] * phi[:, j], minlength=k)
+    rhs = np.stack([np.bincount(who, phi[:, i] * w, minlength=k) for i in range(6)], axis=1)
     count = np.bincount(who, minlength=k)
     good = count >= 6
     good[good] &= np.linalg.cond(mtm[good]) < FIT_CONDITION
