@@ -17,6 +17,8 @@ import meshio
 import numpy as np
 import pytest
 from conftest import REPO, SAMPLES
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from repair_meshes import grid, outline, quad_mesh
 from shapely.geometry import LineString, Point, Polygon
 
@@ -168,3 +170,34 @@ def test_solid_nodes_cannot_be_restored():
     mesh = meshio.Mesh(points, [("hexahedron", hexes)])
     with pytest.raises(InputError, match="not on an outline"):
         meshaudit.fix(mesh, options=RepairOptions(restore=(0,)))
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    nx=st.integers(3, 7),
+    ny=st.integers(3, 7),
+    pick=st.integers(0, 10_000),
+    dx=st.floats(-0.4, 0.4),
+    dy=st.floats(-0.4, 0.4),
+)
+def test_any_outline_node_of_a_rectangle_goes_back_onto_its_side(nx, ny, pick, dx, dy):
+    # Closed form: a rectangle's outline is four straight sides; a corner goes back to
+    # where its two sides meet, any other outline node onto its own side's line.
+    points, quads = grid(nx, ny)
+    points = points.astype(float)
+    ring = np.flatnonzero(outline(points))
+    node = int(ring[pick % len(ring)])
+    home = points[node].copy()
+    moved = points.copy()
+    moved[node] += [dx, dy]
+    x = ol.restore(moved, [("quad", quads)], np.array([node]), np.arange(len(points)))
+    on_x = home[0] in (0.0, nx)
+    on_y = home[1] in (0.0, ny)
+    if on_x and on_y:
+        np.testing.assert_allclose(x[node], home, atol=1e-12)
+    elif on_x:
+        assert abs(x[node, 0] - home[0]) < 1e-12
+    else:
+        assert abs(x[node, 1] - home[1]) < 1e-12
+    others = np.arange(len(points)) != node
+    assert np.array_equal(x[others], moved[others])
