@@ -419,3 +419,29 @@ def test_html_report_of_the_lug_shows_its_failing_solids(tmp_path):
     # the failing solids (scores near 0) are painted in the lowest colour of viridis
     low = np.array(colormaps["viridis"](0.0)[:3])
     assert (np.abs(image - low) < 0.02).all(axis=-1).sum() > 500
+
+
+def test_skin_of_a_quadratic_solid_is_drawn_through_its_midside_nodes():
+    # Fact of the trade: a quadratic element's map passes through each of its nodes (its
+    # shape functions are 1 at their own node, 0 at the others), so its boundary face
+    # drawn through the map passes through a bulged midside node, off the straight edge.
+    from meshaudit.outputs.volume_plot import skin, skin_polygons
+
+    cell = CELL_TYPES["hexahedron20"]
+    coords = cell.reference_nodes * 5.0
+    edge = next(i for i, p in enumerate(cell.reference_nodes) if np.allclose(p, [0, -1, -1]))
+    coords[edge] += [0.0, -1.0, -1.0]  # bulged outward from the edge (0, -5, -5)
+    audited = audit_mesh(meshio.Mesh(coords, [("hexahedron20", np.arange(20)[None])]))
+    view = volume_view(audited.elements.points)
+    faces, owner, local = skin(audited.elements)
+    polys = skin_polygons(audited.elements, view, faces, owner, local)
+    target = view.project(coords[edge])
+    straight = view.project(np.array([0.0, -5.0, -5.0]))
+    nearest = np.min(np.linalg.norm(polys.reshape(-1, 2) - target, axis=1))
+    assert nearest < 1e-9  # the drawn outline passes through the midside node
+    assert np.linalg.norm(target - straight) > 0.5  # which is off the straight edge
+    fig = plot.draw(audited.report, audited.elements, insets=0)
+    ax = next(a for a in fig.axes if a.get_gid() == "mesh")
+    (coll,) = [c for c in ax.collections if c.get_gid() == "skin"]
+    drawn = np.concatenate([p.vertices for p in coll.get_paths()])
+    assert np.min(np.linalg.norm(drawn - target, axis=1)) < 1e-9

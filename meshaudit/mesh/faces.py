@@ -335,6 +335,17 @@ def boundary_faces(elements: ElementMesh) -> tuple[np.ndarray, np.ndarray]:
     face order, outward for a positively oriented element, triangles with their last
     corner repeated; owner (B,) int64 report index of that element). A mesh without solids
     has no boundary faces."""
+    corners, owner, _ = boundary_face_uses(elements)
+    return corners, owner
+
+
+def boundary_face_uses(elements: ElementMesh) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """:func:`boundary_faces` with, third, each face's number ``local`` (B,) in its owner's
+    cell type face table (to draw a quadratic solid's face through its own map)."""
     table = face_table(elements)
     once = table.boundary()
-    return _repeat_last(table.corners[once]), table.element[once].astype(np.int64)
+    return (
+        _repeat_last(table.corners[once]),
+        table.element[once].astype(np.int64),
+        table.local[once].astype(np.int64),
+    )

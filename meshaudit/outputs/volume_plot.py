@@ -3,7 +3,8 @@
 - the outer boundary (faces of exactly one solid, :func:`meshaudit.mesh.faces.
   boundary_faces`) and any surface elements, each face coloured by the metric of the
   element behind it on the same colour scale as the surface plot, drawn see-through
-  (alpha :data:`SKIN_ALPHA`) back to front;
+  (alpha :data:`SKIN_ALPHA`) back to front; a face of a quadratic element is drawn
+  through the element's own map, so a curved boundary is drawn curved;
 - every flagged element (fail, warn) drawn opaque with all its faces, back to front,
   on top of the skin, so an element deep inside shows: failing ones with the solid black
   outline and white halo of the surface plot (the halo round the element's silhouette),
@@ -27,7 +28,7 @@ import numpy as np
 
 from ..cells.registry import CELL_TYPES
 from ..mesh.elements import ElementMesh
-from ..mesh.faces import boundary_faces
+from ..mesh.faces import boundary_face_uses
 from ..metrics import METRIC_INFO, VALIDITY_FLAGS, WARNING_FLAGS
 from ..results.report import Report
 from .label_layout import freeze_layout, label_elements, unlabelled_failing
@@ -108,19 +109,49 @@ def report_rule(report: Report, i: int, level: bool = False) -> str:
 
 
 # -- geometry of the drawn faces -----------------------------------------------------------
-def skin(elements: ElementMesh) -> tuple[np.ndarray, np.ndarray]:
+def skin(elements: ElementMesh) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """The faces the see-through skin is made of: the boundary faces of the solids and
     the surface elements: (corners (F, 4) node indices, triangles repeating their last
-    corner; owner (F,) report index)."""
-    corners, owners = boundary_faces(elements)
-    parts, rows = [corners], [owners]
+    corner; owner (F,) report index; local (F,) the face's number in its owner's cell
+    type, 0 for a surface element)."""
+    corners, owners, local = boundary_face_uses(elements)
+    parts, rows, locals_ = [corners], [owners], [local]
     for block in elements.blocks:
         if block.cell.dimension == 2 and len(block):
             k = block.cell.n_corners
             cols = list(range(k)) + [k - 1] * (4 - k)
             parts.append(block.connectivity[:, cols].astype(np.int64))
             rows.append(block.index)
-    return np.concatenate(parts), np.concatenate(rows)
+            locals_.append(np.zeros(len(block), dtype=np.int64))
+    return np.concatenate(parts), np.concatenate(rows), np.concatenate(locals_)
+
+
+#: Points per edge where a skin face of a quadratic element is drawn through its map.
+SKIN_PER_EDGE = 4
+
+
+def skin_polygons(
+    elements: ElementMesh, view: View, faces: np.ndarray, owner: np.ndarray, local: np.ndarray
+) -> np.ndarray:
+    """Page polygons (F, m, 2) of the skin faces: the corners of a linear element's face
+    (m = 4), the face of a quadratic element through its own map, its edges sampled
+    :data:`SKIN_PER_EDGE` times (m = 4 x that; linear faces repeat their last corner), so
+    a curved boundary is drawn curved."""
+    xy = view.project(elements.points)[faces]
+    curved = [b for b in elements.blocks if b.cell.is_quadratic and len(b)]
+    if not curved or not len(faces):
+        return xy
+    m = 4 * SKIN_PER_EDGE
+    out = np.concatenate([xy, np.repeat(xy[:, -1:], m - xy.shape[1], axis=1)], axis=1)
+    for block in curved:
+        hit = np.flatnonzero((owner >= block.index[0]) & (owner <= block.index[-1]))
+        if not hit.size:
+            continue
+        rows = np.searchsorted(block.index, owner[hit])
+        coords = elements.points[block.connectivity[rows]]
+        loops = face_outlines(block.cell, coords, SKIN_PER_EDGE)  # (n, f, m, 3)
+        out[hit] = view.project(loops[np.arange(len(hit)), local[hit]])
+    return out
 
 
 def element_faces(elements: ElementMesh, wanted: np.ndarray) -> tuple[list[np.ndarray], np.ndarray]:
@@ -181,10 +212,9 @@ def draw_volume(report: Report, elements: ElementMesh, color_by: str, insets: in
     view = volume_view(used)
     flagged = report.worst()  # flagged rows, worst first
     worst = flagged[: max(insets, 0)]
-    faces, owner = skin(elements)
-    page = view.project(elements.points)
-    skin_xy = page[faces]
-    drawn = skin_xy.reshape(-1, 2) if len(skin_xy) else page
+    faces, owner, local = skin(elements)
+    skin_xy = skin_polygons(elements, view, faces, owner, local)
+    drawn = skin_xy.reshape(-1, 2) if len(skin_xy) else view.project(elements.points)
     fig, ax, inset_axes = plot.content_figure(plot.part_aspect(drawn, 0.06), len(worst))
     ax.set_gid("mesh")
 
