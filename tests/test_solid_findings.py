@@ -475,3 +475,21 @@ def test_every_solid_mirrored_keeps_its_skin_and_void() -> None:
     assert report.boundary_surfaces.kind.tolist() == ["skin", "void"]
     assert report.boundary_surfaces.volume[0] == pytest.approx(-27.0)
     assert {f.kind for f in report.findings} == {"internal_voids"}  # no neighbour disagrees
+
+
+def test_hanging_nodes_on_a_strongly_warped_coarse_face() -> None:
+    # The refined block beside the coarse hexahedron, the whole mesh bent by x += 0.4 y z:
+    # the coarse face x = 1 becomes the bilinear surface x = 1 + 0.4 y z (one corner 0.4
+    # out of the plane of the others, a side of 1), and the five fine nodes on it stay on
+    # that surface (closed form: the map is bilinear in y, z on the face), four on its
+    # straight edges and one at its centre, (1.1, 0.5, 0.5), 0.19 away from either
+    # diagonal split of the face into two triangles.
+    points, hexes = refined_beside_coarse()
+    bent = points.copy()
+    bent[:, 0] += 0.4 * points[:, 1] * points[:, 2]
+    report = meshaudit.audit(mesh(bent, ("hexahedron", hexes)))
+    hang = found(report)["hanging_nodes"]
+    expected = {(1.0, 0.5, 0.0), (1.0, 0.5, 1.0), (1.0, 0.0, 0.5), (1.0, 1.0, 0.5)}
+    expected.add((1.0, 0.5, 0.5))
+    assert {tuple(points[n]) for n in hang.node_ids} == expected
+    assert "1 inside a face, 4 on an edge" in hang.message

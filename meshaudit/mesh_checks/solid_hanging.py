@@ -8,10 +8,11 @@ between), the faces on either side are free faces lying on one another in space:
 - a **hanging node**: a corner p of a free face lies on another free face f (its host:
   inside it, or inside one of its edges) without being one of f's corners. p is within
   ``coincident_tolerance`` x min(s_f, s_p) of the plane of one of f's triangles (a
-  quadrilateral is split along its 0-2 diagonal), its projection is inside that
-  triangle, and it is farther than the same distance from every corner of f (nearer is
-  the coincident case) and not at the place of one of them. s_f is f's shortest side,
-  s_p the shortest free-face side at p.
+  quadrilateral is split into four triangles from its centre, the mean of its corners, to
+  its sides: they hold the centre and the sides of its bilinear surface exactly, however
+  warped), its projection is inside that triangle, and it is farther than the same
+  distance from every corner of f (nearer is the coincident case) and not at the place
+  of one of them. s_f is f's shortest side, s_p the shortest free-face side at p.
 - a **non-conforming face**: a free face g lying on a free face f with other corners:
   every corner of g is a corner of f or hangs on f, or (a quadrilateral against two
   triangles, no hanging node at all) g is a triangle on three of a free
@@ -193,9 +194,12 @@ def _exact(
     hit = ~(host_places == node_place[:, None]).any(axis=1)
     gap = np.linalg.norm(xyz - p[:, None, :], axis=2)
     hit &= (gap > tol[:, None]).all(axis=1) & (tol > 0)
-    inside = np.zeros(p.shape[0], dtype=bool)
-    inside |= _in_triangle(p, xyz[:, 0], xyz[:, 1], xyz[:, 2], tol)
-    inside |= _in_triangle(p, xyz[:, 0], xyz[:, 2], xyz[:, 3], tol) & ~tri
+    inside = _in_triangle(p, xyz[:, 0], xyz[:, 1], xyz[:, 2], tol) & tri
+    # a quadrilateral: the four triangles from its centre to its sides, which hold the
+    # centre and the sides of its bilinear surface exactly, however warped the face
+    centre = xyz.mean(axis=1)
+    for i in range(4):
+        inside |= _in_triangle(p, xyz[:, i], xyz[:, (i + 1) % 4], centre, tol) & ~tri
     hit &= inside
     # on a side of the host: within the tolerance of one of its sides' segments
     nxt = np.roll(xyz, -1, axis=1)
