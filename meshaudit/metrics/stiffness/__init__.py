@@ -128,7 +128,9 @@ def measure_nodes(
     dist = err.copy()
     rows = np.flatnonzero(ok)
     if rows.size:
-        sub = element.Geometry(geo.nodes[..., rows], geo.det[:, rows], geo.grad[..., rows])
+        sub = geo
+        if rows.size < len(x):
+            sub = element.Geometry(geo.nodes[..., rows], geo.det[:, rows], geo.grad[..., rows])
         kmat = element.stiffness(element.geometric_part(tab, sub), lam[rows], mu[rows])
         fine = element.fine_det(tab, xn[rows])
         masses = element.lumped_masses(tab, fine)
@@ -144,19 +146,17 @@ def measure_nodes(
 
 def _bending(cell, tab, x, geo, fine, lam, mu) -> tuple[np.ndarray, np.ndarray]:
     """(bending_error, bending_error_distortion) of valid elements ``x`` (n, k, d) of
-    Gauss geometry ``geo`` and det J ``fine`` at the fine points: the element against
-    its frames, its undistorted twin against the twin's."""
+    Gauss geometry ``geo`` and det J ``fine`` at the fine points: the element in its
+    frames, its undistorted twin in the twin's."""
     if x.shape[2] == 2:
         d1, d2, lengths = bending.axes(cell, x)
         own = bending.plane_frames(d1, d2)
-        ref = bending.undistorted(cell, lengths / lengths.max(axis=1, keepdims=True))
-        twin = bending.plane_frames(*bending.axes(cell, ref)[:2])
     else:
         vectors, lengths = solid_axes.axes(cell, x)
         own = solid_axes.frames(vectors)
-        ref = solid_axes.undistorted(cell, lengths / lengths.max(axis=1, keepdims=True))
-        twin = solid_axes.frames(solid_axes.axes(cell, ref)[0])
-    error = bending.relative_errors(tab, geo, fine, lam, mu, own)
-    ref_geo = element.geometry(tab, ref)
-    base = bending.relative_errors(tab, ref_geo, element.fine_det(tab, ref), lam, mu, twin)
+    error = bending.relative_errors(tab, geo, bending.second_moments(tab, geo, fine), lam, mu, own)
+    ref_geo, ref_moments, ref_frames = bending.twin(
+        cell, lengths / lengths.max(axis=1, keepdims=True)
+    )
+    base = bending.relative_errors(tab, ref_geo, ref_moments, lam, mu, ref_frames)
     return error, error - base

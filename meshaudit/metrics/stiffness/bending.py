@@ -26,6 +26,8 @@ itself is not needed, nor formed for the undistorted twin.
 
 from __future__ import annotations
 
+from functools import cache
+
 import numpy as np
 
 from ...cells.registry import CellType
@@ -93,19 +95,60 @@ def undistorted(cell: CellType, lengths: np.ndarray) -> np.ndarray:
     return np.stack([a * (xi + eta / 2.0 - 0.5), b * eta], axis=-1)
 
 
+@cache
+def _base(cell: CellType) -> tuple[np.ndarray, Geometry, tuple[np.ndarray, np.ndarray]]:
+    """(nodes (k, d), Gauss geometry, (centroid, second moments)) of the cell type's
+    undistorted element with unit axis lengths (:func:`undistorted`,
+    :func:`meshaudit.metrics.stiffness.solid_axes.undistorted`)."""
+    from . import element, solid_axes
+    from .rules import tables
+
+    tab = tables(cell.name)
+    unit = np.ones((1, cell.dimension))
+    shape = undistorted if cell.dimension == 2 else solid_axes.undistorted
+    nodes = shape(cell, unit)
+    geo = element.geometry(tab, nodes)
+    return nodes[0], geo, second_moments(tab, geo, element.fine_det(tab, nodes))
+
+
+def twin(cell: CellType, lengths: np.ndarray):
+    """(Gauss geometry, (centroid, second moments), frames) of the undistorted elements
+    with axis ``lengths`` (n, d): the unit one stretched by the lengths along the
+    coordinate axes, its principal axes (x_b = s_b x_unit_b: det J scales by prod s,
+    dN/dx_b by 1/s_b, int x_a x_b dV by s_a s_b prod s), so nothing is integrated again."""
+    nodes, geo, (centroid, moments) = _base(cell)
+    s = lengths.T  # (d, n)
+    volume = np.prod(s, axis=0)
+    out = Geometry(nodes[:, :, None] * s[None], geo.det * volume, geo.grad / s[None, :, None, :])
+    moments = moments * s[:, None] * s[None, :] * volume
+    d, n = s.shape
+    unit = [np.repeat(np.eye(d)[:, c, None], n, axis=1) for c in range(d)]
+    if d == 2:
+        frames = [(unit[0], unit[1]), (unit[1], -unit[0])]
+    else:
+        frames = [
+            (unit[a], unit[b], unit[3 - a - b] * (1.0 if (b - a) % 3 == 1 else -1.0))
+            for a in range(3)
+            for b in range(3)
+            if a != b
+        ]
+    return out, (centroid * s, moments), frames
+
+
 def second_moments(tab: Tables, geo: Geometry, fine: np.ndarray) -> tuple[np.ndarray, ...]:
     """(centroid (d, n), second moments int r_a r_b dV about it (d, d, n)) of elements
     with nodes ``geo.nodes`` and det J ``fine`` (n, q) at the fine points."""
-    wdet = (fine * tab.fine_weights).T  # (q, n)
+    wdet = np.ascontiguousarray((fine * tab.fine_weights).T)  # (q, n)
     points = np.tensordot(tab.fine_functions, geo.nodes, axes=([1], [0]))  # (q, d, n)
     with np.errstate(divide="ignore", invalid="ignore"):
-        centroid = (wdet[:, None] * points).sum(axis=0) / wdet.sum(axis=0)
+        centroid = np.einsum("qn,qdn->dn", wdet, points) / wdet.sum(axis=0)
     rel = points - centroid
+    weighted = wdet[:, None] * rel
     d = rel.shape[1]
     moments = np.empty((d, d, rel.shape[2]))
     for a in range(d):
         for b in range(a, d):
-            moments[a, b] = moments[b, a] = (wdet * rel[:, a] * rel[:, b]).sum(axis=0)
+            moments[a, b] = moments[b, a] = np.einsum("qn,qn->n", weighted[:, a], rel[:, b])
     return centroid, moments
 
 
@@ -131,16 +174,16 @@ def strain_energy(tab: Tables, geo: Geometry, u: np.ndarray, lam, mu) -> np.ndar
 def relative_errors(
     tab: Tables,
     geo: Geometry,
-    fine: np.ndarray,
+    moments: tuple[np.ndarray, np.ndarray],
     lam: np.ndarray,
     mu: np.ndarray,
     frames: list[Frame],
 ) -> np.ndarray:
     """max over ``frames`` of |U_element - U_exact| / U_exact (n,) (see the module
-    docstring) for elements of Gauss geometry ``geo``, det J ``fine`` (n, q) at the fine
-    points (:func:`meshaudit.metrics.stiffness.element.fine_det`) and law ``lam``, ``mu``
-    (n,) (surface elements: per unit thickness, lambda* in plane stress)."""
-    centroid, moments = second_moments(tab, geo, fine)
+    docstring) for elements of Gauss geometry ``geo``, centroid and second moments
+    ``moments`` (:func:`second_moments`) and law ``lam``, ``mu`` (n,) (surface elements:
+    per unit thickness, lambda* in plane stress)."""
+    centroid, moments_ab = moments
     rel = geo.nodes - centroid  # (k, d, n)
     if rel.shape[1] == 2:
         modulus = 4.0 * mu * (lam + mu) / (lam + 2.0 * mu)  # E' = 1 / C_11
@@ -159,7 +202,7 @@ def relative_errors(
             u += (ratio * big_y * big_z)[:, None] * frame[2]
         energy = strain_energy(tab, geo, u, lam, mu)
         y = frame[1]
-        second = np.einsum("an,abn,bn->n", y, moments, y)
+        second = np.einsum("an,abn,bn->n", y, moments_ab, y)
         exact = 0.5 * modulus * second
         with np.errstate(divide="ignore", invalid="ignore"):
             worst = np.fmax(worst, np.abs(energy - exact) / exact)
