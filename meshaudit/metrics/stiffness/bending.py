@@ -111,7 +111,9 @@ def _base(cell: CellType) -> tuple[np.ndarray, Geometry, tuple[np.ndarray, np.nd
     return nodes[0], geo, second_moments(tab, geo, element.fine_det(tab, nodes))
 
 
-def twin(cell: CellType, lengths: np.ndarray):
+def twin(
+    cell: CellType, lengths: np.ndarray
+) -> tuple[Geometry, tuple[np.ndarray, np.ndarray], list[Frame]]:
     """(Gauss geometry, (centroid, second moments), frames) of the undistorted elements
     with axis ``lengths`` (n, d): the unit one stretched by the lengths along the
     coordinate axes, its principal axes (x_b = s_b x_unit_b: det J scales by prod s,
@@ -139,7 +141,7 @@ def second_moments(tab: Tables, geo: Geometry, fine: np.ndarray) -> tuple[np.nda
     """(centroid (d, n), second moments int r_a r_b dV about it (d, d, n)) of elements
     with nodes ``geo.nodes`` and det J ``fine`` (n, q) at the fine points."""
     wdet = np.ascontiguousarray((fine * tab.fine_weights).T)  # (q, n)
-    points = np.tensordot(tab.fine_functions, geo.nodes, axes=([1], [0]))  # (q, d, n)
+    points = np.einsum("qk,kdn->qdn", tab.fine_functions, geo.nodes)  # no BLAS: jacobians
     with np.errstate(divide="ignore", invalid="ignore"):
         centroid = np.einsum("qn,qdn->dn", wdet, points) / wdet.sum(axis=0)
     rel = points - centroid
