@@ -254,3 +254,36 @@ def test_solids_in_an_audit_get_a_bending_error():
     assert report.metrics["bending_error"][0] == pytest.approx(cube, rel=1e-10)
     assert report.metrics["bending_error"][1] > 0
     np.testing.assert_allclose(report.metrics["bending_error_distortion"], 0.0, atol=1e-10)
+
+
+def test_explain_says_how_a_solid_bends(run_cli, tmp_path):
+    # the cube of a one-element mesh: explain names the 3-D field and the box twin
+    path = tmp_path / "cube.vtu"
+    cube = (CELL_TYPES["hexahedron"].reference_nodes + 1.0) / 2.0
+    meshio.write(path, meshio.Mesh(cube, [("hexahedron", [list(range(8))])]))
+    res = run_cli("explain", path, "0", "--no-config", "--material", "E=210000,nu=0.3,rho=7.85e-9")
+    assert res.returncode in (0, 1), res.stderr
+    text = " ".join(res.stdout.split())
+    assert "u_Z = kappa nu Y Z" in text and "six frames" in text
+    assert "box" in text and "not defined" not in text
+
+
+def test_a_profile_limit_judges_a_solid_by_its_bending_error():
+    # the cube is its own undistorted twin (distortion 0); the cube sheared to 60 degrees
+    # adds more than the square's whole error in bending (the trend above): past a
+    # fail limit of 1 set in the profile's [hexahedron] table
+    from meshaudit.judge.profiles import profile_from_dict
+
+    cube = (CELL_TYPES["hexahedron"].reference_nodes + 1.0) / 2.0
+    sheared = (_sheared_cube(60) + 1.0) / 2.0 + 3.0
+    mesh = meshio.Mesh(
+        np.vstack([cube, sheared]), [("hexahedron", [list(range(8)), list(range(8, 16))])]
+    )
+    limits = {"bending_error_distortion": {"warn": 0.5, "fail": 1.0, "source": "test"}}
+    profile = profile_from_dict({"name": "t", "extends": "standard", "hexahedron": limits}, "t")
+    steel = meshaudit.Material(E=210000.0, nu=0.3, rho=7.85e-9)
+    report = meshaudit.audit(mesh, profile=profile, material=steel)
+    assert report.metrics["bending_error_distortion"][1] > 1.0
+    assert report.verdict.tolist() == [0, 2]  # ok, fail
+    # the built-in profile sets no such limit: both pass on their shapes
+    assert meshaudit.audit(mesh, material=steel).verdict.tolist() == [0, 0]
