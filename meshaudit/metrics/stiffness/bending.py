@@ -49,7 +49,7 @@ FIELD_SOLID = (
 )
 
 #: A frame: unit vectors (X, Y) or (X, Y, Z), each (d, n), element-last.
-Frame = tuple[np.ndarray, ...]
+BendingFrame = tuple[np.ndarray, ...]
 
 
 def axes(cell: CellType, x: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -77,7 +77,7 @@ def axes(cell: CellType, x: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndar
     return d1, d2, np.column_stack([base, height])
 
 
-def plane_frames(*directions: np.ndarray) -> list[Frame]:
+def plane_frames(*directions: np.ndarray) -> list[BendingFrame]:
     """The frames (X = d, Y = d turned +90 degrees), element-last, of unit directions
     ``d`` (n, 2)."""
     return [(d.T, np.stack([-d[:, 1], d[:, 0]])) for d in directions]
@@ -113,7 +113,7 @@ def _base(cell: CellType) -> tuple[np.ndarray, Geometry, tuple[np.ndarray, np.nd
 
 def twin(
     cell: CellType, lengths: np.ndarray
-) -> tuple[Geometry, tuple[np.ndarray, np.ndarray], list[Frame]]:
+) -> tuple[Geometry, tuple[np.ndarray, np.ndarray], list[BendingFrame]]:
     """(Gauss geometry, (centroid, second moments), frames) of the undistorted elements
     with axis ``lengths`` (n, d): the unit one stretched by the lengths along the
     coordinate axes, its principal axes (x_b = s_b x_unit_b: det J scales by prod s,
@@ -179,7 +179,7 @@ def relative_errors(
     moments: tuple[np.ndarray, np.ndarray],
     lam: np.ndarray,
     mu: np.ndarray,
-    frames: list[Frame],
+    frames: list[BendingFrame],
 ) -> np.ndarray:
     """max over ``frames`` of |U_element - U_exact| / U_exact (n,) (see the module
     docstring) for elements of Gauss geometry ``geo``, centroid and second moments

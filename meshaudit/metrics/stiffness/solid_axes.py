@@ -29,7 +29,7 @@ from __future__ import annotations
 import numpy as np
 
 from ...cells.registry import CellType
-from .bending import Frame
+from .bending import BendingFrame
 
 #: The tetrahedron on alternate corners of the box [-1, 1]^3 in the reference element's
 #: corner order, positively oriented; its bimedians of edge pairs (0, 2)-(1, 3),
@@ -69,7 +69,8 @@ def axes(cell: CellType, x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         base = edges[rows, longest]
         start = mid[rows, longest]
         apex = mid[rows, (longest + 2) % 3]
-        along = ((apex - start) * base).sum(axis=1) / (base**2).sum(axis=1)
+        with np.errstate(divide="ignore", invalid="ignore"):  # a collapsed base: NaN
+            along = ((apex - start) * base).sum(axis=1) / (base**2).sum(axis=1)
         vectors = [base, apex - start - along[:, None] * base, _mean(c, (3, 4, 5))]
         vectors[2] = vectors[2] - _mean(c, (0, 1, 2))
     else:
@@ -99,7 +100,7 @@ def undistorted(cell: CellType, lengths: np.ndarray) -> np.ndarray:
     raise KeyError(cell.name)
 
 
-def frames(vectors: np.ndarray) -> list[Frame]:
+def frames(vectors: np.ndarray) -> list[BendingFrame]:
     """The six frames (X, Y, Z), each (3, n) element-last, of axis ``vectors`` (n, 3, 3):
     X along axis a, Y along axis b != a made perpendicular to X, Z = X x Y."""
     with np.errstate(divide="ignore", invalid="ignore"):
