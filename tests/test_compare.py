@@ -161,3 +161,49 @@ def test_moved_nodes_and_reversed_order_still_correspond():
     cmp = compare(old.report, flipped.report, None, old.elements, flipped.elements)
     assert cmp.correspondence == "elements" and cmp.shared == 6  # same nodes, other order
     assert cmp.verdict_changes == {"ok->fail": 1}
+
+
+STEEL = "E=210000,nu=0.3,rho=7.85e-9,t=2"
+
+
+def test_compare_with_a_material_shows_the_time_step_and_bending_error(tmp_path, run_cli):
+    # common practice: the stable time step scales with the element size (dt ~ L / c), so
+    # NEW, the same grid at half the size, has half the step; the bending error has no
+    # unit: the unit square's nu^2/(1 - nu^2) + 1/(2 (1 + nu)) in both (the bilinear
+    # square's closed form, integrated with sympy in test_stiffness_reference.py)
+    small = grid(3, 2)
+    small.points = np.asarray(small.points) * 0.5
+    old = write(grid(3, 2), tmp_path / "rev1" / "plate.msh")
+    new = write(small, tmp_path / "rev2" / "plate.msh")
+    res = run_cli("compare", old, new, "--material", STEEL, "--json", tmp_path / "cmp.json")
+    assert res.returncode == 0, res.stderr  # same shapes: no regression
+    assert "time step OLD: smallest" in res.stdout and "time step NEW: smallest" in res.stdout
+    data = json.loads((tmp_path / "cmp.json").read_text())
+    steps = {rev: data["statistics"][rev]["stable_time_step"] for rev in ("old", "new")}
+    assert steps["old"]["count"] == steps["new"]["count"] == 6
+    assert steps["new"]["min"] == pytest.approx(steps["old"]["min"] / 2, rel=1e-9)
+    assert data["time_step"]["new"]["median"] == pytest.approx(
+        data["time_step"]["old"]["median"] / 2, rel=1e-9
+    )
+    nu = 0.3
+    square = nu**2 / (1 - nu**2) + 1 / (2 * (1 + nu))
+    for rev in ("old", "new"):
+        assert data["statistics"][rev]["bending_error"]["max"] == pytest.approx(square)
+    # the configuration's [materials] does the same without --material
+    (tmp_path / "rev2" / "meshaudit.toml").write_text(
+        "[materials.default]\nE = 210000.0\nnu = 0.3\nrho = 7.85e-9\n"
+    )
+    res = run_cli("compare", old, new, "--json", tmp_path / "cmp2.json")
+    assert res.returncode == 0, res.stderr
+    configured = json.loads((tmp_path / "cmp2.json").read_text())
+    assert configured["time_step"]["new"]["median"] == pytest.approx(
+        data["time_step"]["new"]["median"], rel=1e-12
+    )  # the thickness scales stiffness and mass alike
+    # without any material: no time step, the metrics not measured
+    res = run_cli("compare", old, new, "--no-config", "--json", tmp_path / "cmp3.json")
+    plain = json.loads((tmp_path / "cmp3.json").read_text())
+    assert "time_step" not in plain and "time step" not in res.stdout
+    assert plain["statistics"]["new"]["stable_time_step"]["count"] == 0
+    # a bad material is bad input: exit 2, one line
+    bad = run_cli("compare", old, new, "--material", "E=1,nu=0.7,rho=1")
+    assert bad.returncode == 2 and bad.stderr.count("\n") == 1 and "nu" in bad.stderr

@@ -137,6 +137,34 @@ def test_init_writes_a_valid_commented_starter_and_never_overwrites(tmp_path, ru
     assert sorted(os.listdir(tmp_path)) == ["meshaudit.toml", "other.toml"]
 
 
+def test_starter_material_example_loads_when_uncommented(tmp_path, run_cli):
+    # the starter's [materials] example is commented out (no material unless a user adds
+    # one); with its lines uncommented it is a valid configuration whose materials are the
+    # ones the comments state: steel for the default, aluminium in plane strain for "web"
+    plain = tmp_path / "plain" / "meshaudit.toml"
+    plain.parent.mkdir()
+    assert load_settings(write_starter(plain)).materials == {}
+    block = STARTER[STARTER.index("# [materials.default]") :]
+    assert block.strip(), "the starter shows a [materials] example"
+    lines = STARTER[: STARTER.index("# [materials.default]")].splitlines()
+    lines += [line[2:] if line.startswith("# ") else line for line in block.splitlines()]
+    path = tmp_path / "meshaudit.toml"
+    path.write_text("\n".join(lines) + "\n")
+    materials = load_settings(path).materials
+    assert set(materials) == {"default", "web"}
+    assert (materials["default"].E, materials["default"].nu) == (210000.0, 0.3)
+    assert (materials["default"].rho, materials["default"].t) == (7.85e-9, 2.0)
+    assert materials["web"].plane == "strain" and materials["web"].t == 1.0
+    # and an audit with it measures the time step (the default entry covers the grid)
+    write(grid(2, 1), tmp_path / "plate.vtu")
+    json_path = tmp_path / "r.json"
+    res = run_cli("check", "plate.vtu", "--json", json_path, cwd=tmp_path)
+    assert res.returncode == 0, res.stderr
+    data = json.loads(json_path.read_text())
+    assert data["materials"]["default"]["E"] == 210000.0
+    assert data["time_step"]["median"] > 0
+
+
 def test_profiles_lists_builtins_files_and_the_configured_limits(tmp_path, run_cli):
     res = run_cli("profiles")
     assert res.returncode == 0

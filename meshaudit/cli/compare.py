@@ -10,7 +10,7 @@ import argparse
 from pathlib import Path
 
 from ..errors import MeshAuditError
-from .options import add_common_options
+from .options import add_common_options, add_material_option
 
 
 def add(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
@@ -24,6 +24,7 @@ def add(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
     cmd.add_argument("old", metavar="OLD", help="the earlier mesh (baseline)")
     cmd.add_argument("new", metavar="NEW", help="the new mesh; its configuration applies")
     add_common_options(cmd)
+    add_material_option(cmd)
     cmd.add_argument(
         "-n",
         "--top",
@@ -46,7 +47,7 @@ def run(args: argparse.Namespace) -> int:
     from ..results import compare
     from ..results.report import json_text
     from ..results.status import exit_status
-    from .options import console, resolve
+    from .options import console, materials_of, resolve
 
     old_path, new_path = Path(args.old), Path(args.new)
     if args.top < 0:
@@ -56,8 +57,11 @@ def run(args: argparse.Namespace) -> int:
     protected = protected_inputs([old_path, new_path], settings.path, profile)
     if args.json is not None:
         check_destinations([args.json], protected)
+    material = materials_of(args, settings)
     old, new = (
-        audit_mesh(p, profile, args.file_format, resolved.fail_on, settings.regions)
+        audit_mesh(
+            p, profile, args.file_format, resolved.fail_on, settings.regions, material=material
+        )
         for p in (old_path, new_path)
     )
     result = compare.compare(

@@ -63,6 +63,20 @@ new_failing = 0              # more failing elements allowed
 median_score_drop = 0.02     # drop of the median element score (score 0..1)
 worst_score_drop = 0.05      # drop of the worst element score
 element_score_change = 0.05  # a shared element changing more is listed as worse/better
+
+# A material switches on the stable time step, the bending error and the constant-strain
+# check (`--material E=..,nu=..,rho=..` overrides the default entry). Linear elastic,
+# isotropic, any consistent units: N/mm^2, tonne/mm^3, mm give the time step in seconds.
+# [materials.default]            # every element no region entry covers
+# E = 210000.0                   # Young's modulus
+# nu = 0.3                       # Poisson's ratio
+# rho = 7.85e-9                  # density
+# t = 2.0                        # thickness of surface elements (default 1)
+# [materials.web]                # the elements of a region, named as in [regions]
+# E = 70000.0
+# nu = 0.33
+# rho = 2.7e-9
+# plane = "strain"               # surface elements in plane strain (default "stress")
 """
 
 

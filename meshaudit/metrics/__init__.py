@@ -113,14 +113,15 @@ METRICS: tuple[MetricInfo, ...] = (
         "bending_error",
         "high",
         "1",
-        "with a material, surface elements: relative strain-energy error under exact pure "
-        "bending, worst principal axis",
+        "with a material: relative strain-energy error under exact pure bending, worst "
+        "principal axis (solids: worst pair of principal axes)",
     ),
     MetricInfo(
         "bending_error_distortion",
         "high",
         "1",
-        "bending_error minus the same element type's undistorted (rectangle, isosceles) value",
+        "bending_error minus the same element type's undistorted value (rectangle, "
+        "isosceles triangle, box, ...)",
     ),
     MetricInfo(
         "size_ratio",

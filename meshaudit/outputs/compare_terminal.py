@@ -105,6 +105,21 @@ def verdict_line(cmp: Comparison) -> Text:
     return text
 
 
+def time_steps(cmp: Comparison) -> list[Text]:
+    """'time step OLD: smallest ...' and the same for NEW, when either was audited with a
+    material (see :func:`meshaudit.results.time_step.time_step_text`)."""
+    from ..results.time_step import time_step_summary, time_step_text
+
+    if cmp.old.materials is None and cmp.new.materials is None:
+        return []
+    lines = []
+    for rev, report in (("OLD", cmp.old), ("NEW", cmp.new)):
+        summary = time_step_summary(report)
+        text = time_step_text(summary) if summary is not None else "no material"
+        lines.append(Text(f"time step {rev}: {text}"))
+    return lines
+
+
 def render(cmp: Comparison, console: Console, top: int = 10, quiet: bool = False) -> None:
     if quiet:
         console.print(verdict_line(cmp), soft_wrap=True)
@@ -119,6 +134,7 @@ def render(cmp: Comparison, console: Console, top: int = 10, quiet: bool = False
     if short:
         names = [n for n in METRIC_NAMES if n in cmp.new.metrics]
         parts[1:1] = [Text(legend(names, ["length^2"]))]
+    parts += time_steps(cmp)
     for note in cmp.notes:
         parts.append(Text(f"note: {note}"))
     found = findings(cmp)

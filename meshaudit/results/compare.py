@@ -279,6 +279,17 @@ def _element_rows(rows: np.ndarray, limit: int | None) -> list[dict[str, Any]]:
     ]
 
 
+def _time_steps(cmp: Comparison) -> dict[str, Any]:
+    """``{"time_step": {"old": ..., "new": ...}}`` (each the summary of
+    :func:`meshaudit.results.time_step.time_step_summary`, null without a material) when
+    either revision was audited with a material, else nothing."""
+    from .time_step import time_step_summary
+
+    if cmp.old.materials is None and cmp.new.materials is None:
+        return {}
+    return {"time_step": {"old": time_step_summary(cmp.old), "new": time_step_summary(cmp.new)}}
+
+
 def to_dict(
     cmp: Comparison, limit: int | None = None, tolerance_source: str | None = None
 ) -> dict[str, Any]:
@@ -315,6 +326,7 @@ def to_dict(
             for c in cmp.checks
         ],
         "statistics": {"old": cmp.old.statistics(), "new": cmp.new.statistics()},
+        **_time_steps(cmp),
         "correspondence": cmp.correspondence,
         "notes": list(cmp.notes),
         "findings": {k: {"old": a, "new": b} for k, (a, b) in cmp.finding_counts.items()},

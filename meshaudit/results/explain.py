@@ -275,13 +275,11 @@ def stiffness_reason(
 ) -> str:
     """What a stiffness metric's value of one element means (see
     :mod:`meshaudit.metrics.stiffness`), after ``reason`` (its limit, if breached)."""
-    from ..metrics.stiffness.bending import FIELD
+    from ..metrics.stiffness.bending import FIELD, FIELD_SOLID
 
     if materials is None:
         return "not defined: no material given (--material, [materials])"
     if math.isnan(value):
-        if solid and name != "stable_time_step":
-            return "not defined for solids (the bending field is a plane one)"
         return "not defined: no material covers this element's region"
     if name == "stable_time_step":
         what = (
@@ -293,7 +291,11 @@ def stiffness_reason(
     elif math.isinf(value):
         what = "infinite: the element is not valid"
     elif name == "bending_error":
-        what = FIELD
+        what = FIELD_SOLID if solid else FIELD
+    elif solid:
+        what = "bending_error minus its undistorted twin's (the box, the tetrahedron on "
+        what += "alternate box corners, the right prism or pyramid of the same principal "
+        what += "lengths): what the distortion adds"
     else:
         what = "bending_error minus its undistorted twin's (rectangle 2|e1| x 2|e2|, or the "
         what += "isosceles triangle on the longest edge): what the distortion adds"

@@ -9,12 +9,13 @@ without one nothing here runs and the metrics are not defined (NaN).
   M (row sums; quadratic cells: the scaled diagonal), the critical step of the central
   difference method for that element alone. 0 for an element that is not valid (any
   validity flag, or det J <= 0 at a Gauss point): no explicit run can take it.
-* ``bending_error`` (1, surface elements): relative error of the element's strain energy
-  under the exact pure-bending field about its worst principal axis
-  (:mod:`.bending`); ``bending_error_distortion`` (1): that error minus the same element
-  type's error when undistorted (rectangle or isosceles triangle of the same proportions),
-  the part the distortion adds. Infinite for an element that is not valid; not defined
-  for solids.
+* ``bending_error`` (1): relative error of the element's strain energy under the exact
+  pure-bending field about its worst principal axis (:mod:`.bending`; solids: the worst
+  pair of principal axes, :mod:`.solid_axes`); ``bending_error_distortion`` (1): that
+  error minus the same element type's error when undistorted (rectangle, isosceles
+  triangle, box, tetrahedron on alternate box corners, right prism, right pyramid of the
+  same principal lengths), the part the distortion adds. Infinite for an element that is
+  not valid.
 * constant-strain check: imposed nodal displacements u = eps x must give the strain eps
   at every Gauss point (B u = eps) with det J > 0 there (:func:`constant_strain_failures`).
 """
@@ -26,7 +27,7 @@ import numpy as np
 from ...cells.registry import CellType
 from ...mesh.frames import Frame, to_local
 from .. import STIFFNESS_METRICS
-from . import bending, element
+from . import bending, element, solid_axes
 from .rules import tables
 
 #: Largest deviation of sum_i x_i (x) dN_i/dx from the identity a Gauss point may show
@@ -115,13 +116,11 @@ def measure_nodes(
 ) -> tuple[dict[str, np.ndarray], np.ndarray]:
     """:func:`measure` of elements whose nodes ``x`` (n, k, d) are already laid out (in
     their plane for a surface cell, see :func:`element_nodes`), in one block (memory
-    (n, k d, k d)): the metrics (surface cells: all three; solids: the time step) and
-    the constant-strain failures."""
+    (n, k d, k d)): the three metrics and the constant-strain failures."""
     tab = tables(cell.name)
     xn, size = _normalised(x)
     geo = element.geometry(tab, xn)
     failed = constant_strain_failures(geo)
-    d = x.shape[2]
     has = np.isfinite(lam) & np.isfinite(mu) & np.isfinite(rho)
     ok = has & ~invalid & ~failed
     step = np.where(has, 0.0, np.nan)
@@ -129,7 +128,9 @@ def measure_nodes(
     dist = err.copy()
     rows = np.flatnonzero(ok)
     if rows.size:
-        sub = element.Geometry(geo.nodes[..., rows], geo.det[:, rows], geo.grad[..., rows])
+        sub = geo
+        if rows.size < len(x):
+            sub = element.Geometry(geo.nodes[..., rows], geo.det[:, rows], geo.grad[..., rows])
         kmat = element.stiffness(element.geometric_part(tab, sub), lam[rows], mu[rows])
         fine = element.fine_det(tab, xn[rows])
         masses = element.lumped_masses(tab, fine)
@@ -138,23 +139,24 @@ def measure_nodes(
             dt = 2.0 / np.sqrt(omega2) * size[rows]
         good = (masses > 0).all(axis=1) & np.isfinite(dt) & (dt > 0)
         step[rows] = np.where(good, dt, 0.0)
-        if d == 2:
-            err[rows], dist[rows] = _bending(cell, tab, xn[rows], fine, kmat, lam[rows], mu[rows])
-    out = {"stable_time_step": step}
-    if d == 2:
-        out["bending_error"] = err
-        out["bending_error_distortion"] = dist
+        err[rows], dist[rows] = _bending(cell, tab, xn[rows], sub, fine, lam[rows], mu[rows])
+    out = {"stable_time_step": step, "bending_error": err, "bending_error_distortion": dist}
     return out, failed
 
 
-def _bending(cell, tab, x, fine, kmat, lam, mu) -> tuple[np.ndarray, np.ndarray]:
-    """(bending_error, bending_error_distortion) of valid surface elements."""
-    d1, d2, lengths = bending.axes(cell, x)
-    error = bending.relative_errors(tab, x, fine, kmat, lam, mu, (d1, d2))
-    ref = bending.undistorted(cell, lengths / lengths.max(axis=1, keepdims=True))
-    kref = element.stiffness(element.geometric_part(tab, element.geometry(tab, ref)), lam, mu)
-    ex = np.tile([1.0, 0.0], (len(x), 1))
-    ey = np.tile([0.0, 1.0], (len(x), 1))
-    fine_ref = element.fine_det(tab, ref)
-    base = bending.relative_errors(tab, ref, fine_ref, kref, lam, mu, (ex, ey))
+def _bending(cell, tab, x, geo, fine, lam, mu) -> tuple[np.ndarray, np.ndarray]:
+    """(bending_error, bending_error_distortion) of valid elements ``x`` (n, k, d) of
+    Gauss geometry ``geo`` and det J ``fine`` at the fine points: the element in its
+    frames, its undistorted twin in the twin's."""
+    if x.shape[2] == 2:
+        d1, d2, lengths = bending.axes(cell, x)
+        own = bending.plane_frames(d1, d2)
+    else:
+        vectors, lengths = solid_axes.axes(cell, x)
+        own = solid_axes.frames(vectors)
+    error = bending.relative_errors(tab, geo, bending.second_moments(tab, geo, fine), lam, mu, own)
+    ref_geo, ref_moments, ref_frames = bending.twin(
+        cell, lengths / lengths.max(axis=1, keepdims=True)
+    )
+    base = bending.relative_errors(tab, ref_geo, ref_moments, lam, mu, ref_frames)
     return error, error - base

@@ -1,28 +1,37 @@
-"""How well a surface element represents pure in-plane bending.
+"""How well an element represents pure bending: the field, the frames, the energies.
 
-The field: plane bending of a beam along the unit direction ``d`` (X along d, Y along
-n = d turned +90 degrees, origin at the element's centroid), curvature kappa = 1:
+The field: pure bending of a beam with its axis along the unit direction X, bent in the
+plane of X and the unit direction Y (Z = X x Y in space), origin at the element's
+centroid, curvature kappa = 1:
 
-    u_X = -X Y,    u_Y = (X^2 + nu' Y^2) / 2,
+    u_X = -X Y,    u_Y = (X^2 + nu (Y^2 - Z^2)) / 2,    u_Z = nu Y Z,
 
-strains eps_X = -Y, eps_Y = nu' Y, gamma_XY = 0, stress sigma_X = -E' Y and nothing else:
-the exact solution of pure bending (a moment at the ends of a plane-stress beam), with
-E' = E and nu' = nu in plane stress, E' = E / (1 - nu^2) and nu' = nu / (1 - nu) in plane
-strain. The element takes the field's values at its nodes; its strain energy
-1/2 u^T K u is compared with the exact 1/2 int E' Y^2 dA over the element.
+strains eps_X = -Y, eps_Y = eps_Z = nu Y, no shear, stress sigma_X = -E Y and nothing
+else: the exact solution of 3-D elasticity for a prismatic bar under end moments (its
+strains are linear, so the equilibrium and compatibility equations hold), the Poisson
+terms bending the cross-section anticlastically. Surface elements take its plane form (no
+Z): E' = E and nu' = nu in plane stress, E' = E / (1 - nu^2) and nu' = nu / (1 - nu) in
+plane strain. The element takes the field's values at its nodes; its strain energy
+1/2 u^T K u, integrated by the element's own Gauss rule, is compared with the exact
+1/2 E int Y^2 dV over the element, integrated by the fine rule.
 
-The axes: a quadrilateral's two principal axes (Robinson's e1 and e2, the lines joining
-opposite edge midpoints), a triangle's longest edge and the normal to it. The undistorted
-element of the same proportions: the rectangle 2|e1| x 2|e2| (a quadrilateral), the
-isosceles triangle on the longest edge with the same height (a triangle), quadratic
-elements with their midside nodes at the middle of straight edges.
+The frames: surface elements in :func:`axes` (each principal direction d with Y = d
+turned +90 degrees), solids in :mod:`.solid_axes` (every ordered pair of principal
+directions). The metric is the worst frame's |U_element - U_exact| / U_exact.
+
+The element's energy is summed from the strains of the nodal field at the Gauss points,
+from the shape gradients already worked out for its stiffness: the stiffness matrix
+itself is not needed, nor formed for the undistorted twin.
 """
 
 from __future__ import annotations
 
+from functools import cache
+
 import numpy as np
 
 from ...cells.registry import CellType
+from .element import Geometry
 from .rules import Tables
 
 #: The field, in words, for the reports.
@@ -31,11 +40,22 @@ FIELD = (
     "u_X = -kappa X Y, u_Y = kappa (X^2 + nu' Y^2)/2, the exact plane-stress field "
     "(plane strain: nu' = nu/(1 - nu)); error |U_element - U_exact| / U_exact, worst axis"
 )
+#: The same for solids.
+FIELD_SOLID = (
+    "pure bending along each principal axis X, bent towards each other principal axis Y "
+    "(Z = X x Y, origin at the centroid): u_X = -kappa X Y, u_Y = kappa (X^2 + nu (Y^2 - "
+    "Z^2))/2, u_Z = kappa nu Y Z, the exact 3-D field; error |U_element - U_exact| / "
+    "U_exact, worst of the six frames"
+)
+
+#: A frame: unit vectors (X, Y) or (X, Y, Z), each (d, n), element-last.
+BendingFrame = tuple[np.ndarray, ...]
 
 
 def axes(cell: CellType, x: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """(d1 (n, 2), d2 (n, 2), lengths (n, 2)) of elements ``x`` (n, k, 2): the bending
-    directions and the side lengths of the undistorted element (quads: 2|e1|, 2|e2|;
+    """(d1 (n, 2), d2 (n, 2), lengths (n, 2)) of surface elements ``x`` (n, k, 2): the
+    bending directions and the side lengths of the undistorted element (quads: 2|e1|,
+    2|e2|, Robinson's principal axes e1 and e2, the lines joining opposite edge midpoints;
     triangles: the longest edge and the height over it)."""
     c = x[:, : cell.n_corners]
     if cell.family == "quad":
@@ -57,9 +77,15 @@ def axes(cell: CellType, x: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndar
     return d1, d2, np.column_stack([base, height])
 
 
+def plane_frames(*directions: np.ndarray) -> list[BendingFrame]:
+    """The frames (X = d, Y = d turned +90 degrees), element-last, of unit directions
+    ``d`` (n, 2)."""
+    return [(d.T, np.stack([-d[:, 1], d[:, 0]])) for d in directions]
+
+
 def undistorted(cell: CellType, lengths: np.ndarray) -> np.ndarray:
-    """Nodes (n, k, 2) of the undistorted elements with side ``lengths`` (n, 2): the
-    reference element mapped affinely (quads: x = a xi / 2, y = b eta / 2; triangles:
+    """Nodes (n, k, 2) of the undistorted surface elements with side ``lengths`` (n, 2):
+    the reference element mapped affinely (quads: x = a xi / 2, y = b eta / 2; triangles:
     the isosceles triangle with base a along x and height b)."""
     ref = cell.reference_nodes
     a, b = lengths[:, 0, None], lengths[:, 1, None]
@@ -69,45 +95,116 @@ def undistorted(cell: CellType, lengths: np.ndarray) -> np.ndarray:
     return np.stack([a * (xi + eta / 2.0 - 0.5), b * eta], axis=-1)
 
 
+@cache
+def _base(cell: CellType) -> tuple[np.ndarray, Geometry, tuple[np.ndarray, np.ndarray]]:
+    """(nodes (k, d), Gauss geometry, (centroid, second moments)) of the cell type's
+    undistorted element with unit axis lengths (:func:`undistorted`,
+    :func:`meshaudit.metrics.stiffness.solid_axes.undistorted`)."""
+    from . import element, solid_axes
+    from .rules import tables
+
+    tab = tables(cell.name)
+    unit = np.ones((1, cell.dimension))
+    shape = undistorted if cell.dimension == 2 else solid_axes.undistorted
+    nodes = shape(cell, unit)
+    geo = element.geometry(tab, nodes)
+    return nodes[0], geo, second_moments(tab, geo, element.fine_det(tab, nodes))
+
+
+def twin(
+    cell: CellType, lengths: np.ndarray
+) -> tuple[Geometry, tuple[np.ndarray, np.ndarray], list[BendingFrame]]:
+    """(Gauss geometry, (centroid, second moments), frames) of the undistorted elements
+    with axis ``lengths`` (n, d): the unit one stretched by the lengths along the
+    coordinate axes, its principal axes (x_b = s_b x_unit_b: det J scales by prod s,
+    dN/dx_b by 1/s_b, int x_a x_b dV by s_a s_b prod s), so nothing is integrated again."""
+    nodes, geo, (centroid, moments) = _base(cell)
+    s = lengths.T  # (d, n)
+    volume = np.prod(s, axis=0)
+    out = Geometry(nodes[:, :, None] * s[None], geo.det * volume, geo.grad / s[None, :, None, :])
+    moments = moments * s[:, None] * s[None, :] * volume
+    d, n = s.shape
+    unit = [np.repeat(np.eye(d)[:, c, None], n, axis=1) for c in range(d)]
+    if d == 2:
+        frames = [(unit[0], unit[1]), (unit[1], -unit[0])]
+    else:
+        frames = [
+            (unit[a], unit[b], unit[3 - a - b] * (1.0 if (b - a) % 3 == 1 else -1.0))
+            for a in range(3)
+            for b in range(3)
+            if a != b
+        ]
+    return out, (centroid * s, moments), frames
+
+
+def second_moments(tab: Tables, geo: Geometry, fine: np.ndarray) -> tuple[np.ndarray, ...]:
+    """(centroid (d, n), second moments int r_a r_b dV about it (d, d, n)) of elements
+    with nodes ``geo.nodes`` and det J ``fine`` (n, q) at the fine points."""
+    wdet = np.ascontiguousarray((fine * tab.fine_weights).T)  # (q, n)
+    points = np.einsum("qk,kdn->qdn", tab.fine_functions, geo.nodes)  # no BLAS: jacobians
+    with np.errstate(divide="ignore", invalid="ignore"):
+        centroid = np.einsum("qn,qdn->dn", wdet, points) / wdet.sum(axis=0)
+    rel = points - centroid
+    weighted = wdet[:, None] * rel
+    d = rel.shape[1]
+    moments = np.empty((d, d, rel.shape[2]))
+    for a in range(d):
+        for b in range(a, d):
+            moments[a, b] = moments[b, a] = np.einsum("qn,qn->n", weighted[:, a], rel[:, b])
+    return centroid, moments
+
+
+def strain_energy(tab: Tables, geo: Geometry, u: np.ndarray, lam, mu) -> np.ndarray:
+    """1/2 u^T K u (n,) of nodal displacements ``u`` (k, d, n): the energy density
+    lambda/2 (tr eps)^2 + mu eps:eps of the strains eps = sym(sum_i u_i (x) grad N_i) at
+    the Gauss points, summed with the weights w_g det J_g (the same integral as K)."""
+    k, d, _ = u.shape
+    h = u[0][None, :, None, :] * geo.grad[:, None, :, 0, :]  # (g, d, d, n): du_a/dx_b
+    for i in range(1, k):
+        h += u[i][None, :, None, :] * geo.grad[:, None, :, i, :]
+    trace = h[:, 0, 0].copy()
+    square = h[:, 0, 0] ** 2
+    for a in range(1, d):
+        trace += h[:, a, a]
+        square += h[:, a, a] ** 2
+        for b in range(a):
+            square += 0.5 * (h[:, a, b] + h[:, b, a]) ** 2
+    density = 0.5 * lam * trace**2 + mu * square
+    return (density * geo.det * tab.weights[:, None]).sum(axis=0)
+
+
 def relative_errors(
     tab: Tables,
-    x: np.ndarray,
-    fine: np.ndarray,
-    k_matrix: np.ndarray,
+    geo: Geometry,
+    moments: tuple[np.ndarray, np.ndarray],
     lam: np.ndarray,
     mu: np.ndarray,
-    directions: tuple[np.ndarray, ...],
+    frames: list[BendingFrame],
 ) -> np.ndarray:
-    """max over ``directions`` of |U_element - U_exact| / U_exact (n,) (see the module
-    docstring) for elements ``x`` (n, k, 2) with det J ``fine`` (n, q) at the fine
-    points (:func:`meshaudit.metrics.stiffness.element.fine_det`), stiffness
-    ``k_matrix`` (per unit thickness) and Lame's constants ``lam``, ``mu`` (plane
-    stress: lambda*). U_exact takes the element's second moments of area about its
-    centroid, integrated by the fine rule."""
-    wdet = fine * tab.fine_weights
-    area = wdet.sum(axis=1)
-    px = x[..., 0] @ tab.fine_functions.T  # (n, q): the fine points
-    py = x[..., 1] @ tab.fine_functions.T
-    with np.errstate(divide="ignore", invalid="ignore"):
-        cx = (wdet * px).sum(axis=1) / area
-        cy = (wdet * py).sum(axis=1) / area
-    px -= cx[:, None]
-    py -= cy[:, None]
-    ixx, iyy, ixy = ((wdet * a * b).sum(axis=1) for a, b in ((px, px), (py, py), (px, py)))
-    modulus = 4.0 * mu * (lam + mu) / (lam + 2.0 * mu)  # E' = 1 / C_11
-    ratio = lam / (lam + 2.0 * mu)  # nu'
-    rx, ry = x[..., 0] - cx[:, None], x[..., 1] - cy[:, None]
-    worst = np.zeros(len(x))
-    for d in directions:
-        nx, ny = -d[:, 1, None], d[:, 0, None]  # d turned +90 degrees
-        big_x = rx * d[:, 0, None] + ry * d[:, 1, None]
-        big_y = rx * nx + ry * ny
-        u_x = -big_x * big_y
-        u_y = 0.5 * (big_x**2 + ratio[:, None] * big_y**2)
-        u = np.stack([u_x * d[:, 0, None] + u_y * nx, u_x * d[:, 1, None] + u_y * ny], axis=-1)
-        u = u.reshape(len(x), -1)
-        energy = 0.5 * np.einsum("ni,nij,nj->n", u, k_matrix, u, optimize=False)
-        second = nx[:, 0] ** 2 * ixx + 2.0 * nx[:, 0] * ny[:, 0] * ixy + ny[:, 0] ** 2 * iyy
+    """max over ``frames`` of |U_element - U_exact| / U_exact (n,) (see the module
+    docstring) for elements of Gauss geometry ``geo``, centroid and second moments
+    ``moments`` (:func:`second_moments`) and law ``lam``, ``mu`` (n,) (surface elements:
+    per unit thickness, lambda* in plane stress)."""
+    centroid, moments_ab = moments
+    rel = geo.nodes - centroid  # (k, d, n)
+    if rel.shape[1] == 2:
+        modulus = 4.0 * mu * (lam + mu) / (lam + 2.0 * mu)  # E' = 1 / C_11
+        ratio = lam / (lam + 2.0 * mu)  # nu'
+    else:
+        modulus = mu * (3.0 * lam + 2.0 * mu) / (lam + mu)  # E
+        ratio = lam / (2.0 * (lam + mu))  # nu
+    worst = np.zeros(rel.shape[2])
+    for frame in frames:
+        big_x, big_y = (np.einsum("kdn,dn->kn", rel, v) for v in frame[:2])
+        u_x, u_y = -big_x * big_y, 0.5 * (big_x**2 + ratio * big_y**2)
+        u = u_x[:, None] * frame[0] + u_y[:, None] * frame[1]
+        if len(frame) == 3:
+            big_z = np.einsum("kdn,dn->kn", rel, frame[2])
+            u -= (0.5 * ratio * big_z**2)[:, None] * frame[1]
+            u += (ratio * big_y * big_z)[:, None] * frame[2]
+        energy = strain_energy(tab, geo, u, lam, mu)
+        y = frame[1]
+        second = np.einsum("an,abn,bn->n", y, moments_ab, y)
         exact = 0.5 * modulus * second
         with np.errstate(divide="ignore", invalid="ignore"):
             worst = np.fmax(worst, np.abs(energy - exact) / exact)
