@@ -28,6 +28,7 @@ from ..errors import InputError
 from ..judge.profiles import Profile, load_profile
 from ..mesh.frames import frame_notes
 from ..mesh.parts import PartSet, is_partitioned, parts_of_pattern, parts_of_pvtu
+from ..mesh.slices import XdmfSlice, is_xdmf, read_layout, xdmf_slices
 from .executor import Executor, executor_for
 from .frame import whole_frame
 from .interfaces import match_parts
@@ -39,11 +40,16 @@ from .work import PartTask, audit_part, plane_check, survey_part
 KEEP = 100_000
 
 
-def part_set(source: str | os.PathLike[str] | PartSet) -> PartSet:
-    """The parts of a ``.pvtu`` file, of a pattern, or a :class:`PartSet` as given."""
+def part_set(source: str | os.PathLike[str] | PartSet, slices: int | None = None) -> PartSet:
+    """The parts of a ``.pvtu`` file, of a pattern, ``slices`` slices of an XDMF file
+    (:mod:`meshaudit.mesh.slices`), or a :class:`PartSet` as given."""
     if isinstance(source, PartSet):
         return source
     text = str(source)
+    if slices is not None:
+        if not is_xdmf(text):
+            raise InputError(f"{text}: only an XDMF file (.xdmf) can be read in slices")
+        return xdmf_slices(text, slices)
     if is_partitioned(text):
         return parts_of_pvtu(text)
     return parts_of_pattern(text)
@@ -59,6 +65,7 @@ def audit_parts(
     element_writer: Any = None,
     keep: int = KEEP,
     workers: int | None = None,
+    slices: int | None = None,
 ) -> PartitionedReport:
     """Audit a partitioned mesh as one mesh (see :mod:`meshaudit.mesh.parts`).
 
@@ -70,10 +77,12 @@ def audit_parts(
     ``element_writer``: writes one per-element report per part and their index (a
     :class:`meshaudit.outputs.part_elements.PartWriter`; on a cluster its directory must
     be one every worker can write to); None: no element reports.
+    ``slices``: ``source`` is an XDMF file with HDF5 heavy data, audited as this many
+    slices of contiguous elements, each worker reading only its slice's rows.
     """
     if fail_on not in ("fail", "warn"):
         raise InputError(f"fail_on must be 'fail' or 'warn', not {fail_on!r}")
-    parts = part_set(source)
+    parts = part_set(source, slices)
     prof = load_profile(profile)
     region_profiles = {name: load_profile(p) for name, p in (regions or {}).items()}
     if element_writer is not None:
@@ -128,18 +137,27 @@ def _run(
         notes = list(dict.fromkeys(note for r in results for note in r.notes))
         notes = [note for note in notes if note not in frame_notes(frame)]
         notes = [*frame_notes(frame), *notes, *cross.notes]
-        notes.append(
-            f"partitioned mesh: {n} part(s), matched along their boundaries by "
-            + ("global node id" if global_ids else "node coordinates")
-        )
+        if isinstance(paths[0], XdmfSlice):
+            how = f"{n} slice(s) of contiguous elements, matched along their boundaries by node row"
+        else:
+            how = f"{n} part(s), matched along their boundaries by " + (
+                "global node id" if global_ids else "node coordinates"
+            )
+        notes.append(f"partitioned mesh: {how}")
         frame_summary = {
             "frame": frame.kind,
             "normal": None if frame.normal is None else [float(c) for c in frame.normal],
             "orientation": frame.orientation,
         }
+        if isinstance(paths[0], XdmfSlice):
+            notes.append(
+                "read in slices: orphan nodes (node rows no element uses) are not looked for"
+            )
         report = assemble(
             parts.source, results, cross, profile, fail_on, regions, frame_summary, notes
         )
+        if isinstance(paths[0], XdmfSlice):  # every node row of the file, as read whole
+            report.summary.n_points = read_layout(parts.source).n_points
         if writer is not None:
             writer.finish(paths, results, element_offsets)
         return report

@@ -34,6 +34,7 @@ from ..mesh.elements import ElementMesh
 from ..mesh.frames import Frame, area_vectors
 from ..mesh.parts import cell_count, global_node_ids
 from ..mesh.reading import build_elements, read_meshio_said
+from ..mesh.slices import XdmfSlice, read_slice
 from ..mesh_checks.findings import Finding
 from ..mesh_checks.nodes import shortest_edge_at
 from ..paths import display_name
@@ -41,9 +42,17 @@ from ..results.report import Report
 from .sketch import Sketch
 
 
-def read_part(path: str, file_format: str | None, cell_offset: int = 0, point_offset: int = 0):
+def read_part(
+    path: str | XdmfSlice, file_format: str | None, cell_offset: int = 0, point_offset: int = 0
+):
     """(meshio mesh, element arrays, global node ids or None) of one part, its elements
-    numbered as the whole mesh numbers them (see :mod:`meshaudit.mesh.parts`)."""
+    numbered as the whole mesh numbers them (see :mod:`meshaudit.mesh.parts`). A slice
+    of an XDMF file (:mod:`meshaudit.mesh.slices`) is read as its rows of the file: its
+    nodes' rows are their numbers and the global node ids it is matched by."""
+    if isinstance(path, XdmfSlice):
+        raw, rows, _ = read_slice(path)
+        numbering = replace(labels.VTK, cell_base=cell_offset, node_labels=rows)
+        return raw, build_elements(raw, display_name(str(path)), numbering), rows
     raw, said = read_meshio_said(path, file_format)
     numbering = labels.for_file(path, file_format, raw, said)
     gids = global_node_ids(raw)
@@ -73,7 +82,7 @@ class Survey:
     magnitude: float  # largest |coordinate|
 
 
-def survey_part(path: str, file_format: str | None) -> Survey:
+def survey_part(path: str | XdmfSlice, file_format: str | None) -> Survey:
     """Read a part and summarise it (see :class:`Survey`)."""
     return_large_blocks()
     raw, mesh, gids = read_part(path, file_format)
@@ -97,7 +106,7 @@ def survey_part(path: str, file_format: str | None) -> Survey:
 
 
 def plane_check(
-    path: str, file_format: str | None, centre: np.ndarray, normal: np.ndarray
+    path: str | XdmfSlice, file_format: str | None, centre: np.ndarray, normal: np.ndarray
 ) -> tuple[float, float, float]:
     """(largest distance of a used surface node from the plane through ``centre`` with
     unit ``normal``; least and greatest position of those nodes across the plane's trace
@@ -187,7 +196,7 @@ class PartTask:
 
 
 def audit_part(
-    path: str, index: int, cell_offset: int, point_offset: int, element_offset: int, task: PartTask
+    path: str | XdmfSlice, index: int, cell_offset: int, point_offset: int, element_offset: int, task: PartTask
 ) -> PartResult:
     """Audit one part in the whole mesh's frame and summarise it (module docstring)."""
     from ..engine.run import audit_elements
