@@ -21,7 +21,6 @@ from partitioned_meshes import write_partitioned
 import meshaudit
 from meshaudit.distributed import audit_parts
 from meshaudit.distributed.sketch import KEPT_BITS, Sketch
-from meshaudit.metrics import NEIGHBOUR_METRICS
 from meshaudit.results.report import PERCENTILES
 
 distributed = pytest.importorskip("distributed")
@@ -123,9 +122,7 @@ def test_statistics_exact_counts_and_ends_percentiles_within_the_sketch_bound(tm
         for key in ("count", "infinite", "min", "max", "past_warn", "past_fail"):
             assert entry[key] == ref[key], (name, key)
         values = one.metrics[name][np.isfinite(one.metrics[name])]
-        if values.size == 0 or name in NEIGHBOUR_METRICS:
-            # the size ratio of an element on a cut is measured within its part (a stated
-            # gap, see the README's partitioned meshes): its distribution differs there
+        if values.size == 0:
             continue
         expected = np.percentile(values, [q for _, q in PERCENTILES])  # numpy's linear
         got = np.array([entry[k] for k, _ in PERCENTILES])
@@ -477,3 +474,63 @@ def test_benchmark_runs_and_agrees_with_one_process(tmp_path):
     assert done.returncode == 0, done.stderr[-2000:]
     assert "same verdict, counts and findings: True" in done.stdout
     assert "| partitioned | 2,000 | 2 | 2 |" in done.stdout
+
+
+def _graded_strip(folder, global_ids: bool):
+    """Two parts of 2 x 3 quads, 0.25 wide in part 0 (x in 0..0.5) and 1 wide in part 1
+    (x in 0.5..2.5), 1 high: by construction the size ratio (sqrt of the area ratio) is
+    sqrt(1 / 0.25) = 2 for the quads on either side of the cut x = 0.5 and 1 for the
+    others; and the same strip in one file (numpy and meshio; ids = merged point index)."""
+    import meshio
+
+    xs = np.array([0.0, 0.25, 0.5, 1.5, 2.5])
+    x, y = np.meshgrid(xs, np.arange(4.0))
+    pts = np.stack([x.ravel(), y.ravel(), np.zeros(x.size)], axis=1)
+    i, j = np.meshgrid(np.arange(4), np.arange(3))
+    n0 = (j * 5 + i).ravel()
+    quads = np.stack([n0, n0 + 1, n0 + 6, n0 + 5], axis=1)
+    owner = i.ravel() // 2
+    files = []
+    for p in range(2):
+        cells = quads[owner == p]
+        used = np.unique(cells)
+        data = {"GlobalNodeId": used} if global_ids else {}
+        path = folder / f"strip_{p}.vtu"
+        local = np.searchsorted(used, cells)
+        meshio.write(path, meshio.Mesh(pts[used], [("quad", local)], point_data=data))
+        files.append(str(path))
+    merged = folder / "strip_merged.vtu"
+    meshio.write(
+        merged, meshio.Mesh(pts, [("quad", np.concatenate([quads[owner == p] for p in range(2)]))])
+    )
+    return files, merged
+
+
+@pytest.mark.parametrize("global_ids", [True, False])
+def test_size_ratio_across_a_cut(tmp_path, client, global_ids):
+    """Every element's size_ratio (read back from the per-part element reports) is the
+    closed-form value of the graded strip and that of the merged file's audit."""
+    import csv
+
+    from meshaudit.mesh.parts import PartSet
+    from meshaudit.outputs.part_elements import PartWriter
+
+    files, merged = _graded_strip(tmp_path, global_ids)
+    out = tmp_path / "elements"
+    out.mkdir()
+    many = audit_parts(
+        PartSet("strip", tuple(files)), cluster=client, element_writer=PartWriter(str(out), "strip")
+    )
+    values = {}
+    for k in range(2):
+        with open(out / f"strip.part{k:05d}.csv", newline="") as fh:
+            for row in csv.DictReader(fh):
+                values[int(row["index"])] = float(row["size_ratio"])
+    # merged order: part 0's six quads (columns 0, 1 of rows 0..2), then part 1's
+    column = np.array([0, 1, 0, 1, 0, 1, 2, 3, 2, 3, 2, 3])
+    expected = np.where((column == 1) | (column == 2), 2.0, 1.0)
+    got = np.array([values[e] for e in range(12)])
+    assert np.array_equal(got, expected)
+    one = meshaudit.audit(str(merged))
+    assert np.array_equal(got, one.metrics["size_ratio"])
+    assert many.statistics()["size_ratio"] == one.statistics()["size_ratio"]

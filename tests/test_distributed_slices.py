@@ -97,9 +97,7 @@ def test_a_slice_reads_only_the_node_rows_its_elements_use(tmp_path, reads, monk
         )
         assert np.array_equal(np.sort(geometry), needed)  # each needed row once, no other
         assert needed.size < n_points / 2
-        assert [(a, b) for name, a, b in reads if name == layout.topology.dataset] == [
-            (start, end)
-        ]
+        assert [(a, b) for name, a, b in reads if name == layout.topology.dataset] == [(start, end)]
         assert first == start and np.array_equal(rows, needed)
         # the slice's elements are the file's rows, on the file's coordinates
         with h5py.File(layout.geometry.file, "r") as f:
@@ -143,7 +141,9 @@ def test_files_that_cannot_be_sliced_are_refused_in_one_line(tmp_path, run_cli, 
         mesh = meshio.Mesh(pts, [("quad", quad), ("triangle", np.array([[1, 4, 2]]))])
         meshio.write(path, mesh, file_format="xdmf")
     elif trouble == "inline":
-        meshio.write(path, meshio.Mesh(pts, [("quad", quad)]), file_format="xdmf", data_format="XML")
+        meshio.write(
+            path, meshio.Mesh(pts, [("quad", quad)]), file_format="xdmf", data_format="XML"
+        )
     elif trouble == "not xdmf":
         path = tmp_path / "m.vtu"
         meshio.write(path, meshio.Mesh(pts, [("quad", quad)]))

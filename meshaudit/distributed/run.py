@@ -29,11 +29,12 @@ from ..judge.profiles import Profile, load_profile
 from ..mesh.frames import frame_notes
 from ..mesh.parts import PartSet, is_partitioned, parts_of_pattern, parts_of_pvtu
 from ..mesh.slices import XdmfSlice, is_xdmf, read_layout, xdmf_slices
+from .cut_sizes import outside_ratios
 from .executor import Executor, executor_for
 from .frame import whole_frame
 from .interfaces import match_parts
 from .report import PartitionedReport, assemble
-from .work import PartTask, audit_part, plane_check, survey_part
+from .work import PartTask, audit_part, part_cut_sizes, plane_check, survey_part
 
 #: Not-ok elements a part sends back at most (the worst first); all of them are in the
 #: per-part element reports.
@@ -122,6 +123,12 @@ def _run(
         keep=keep,
         writer=writer,
     )
+    # the size ratio across cuts: the sizes on each part's free sides, matched here
+    sizes = pool.map(
+        part_cut_sizes, paths, cell_offsets, point_offsets, [global_ids] * n, [task] * n
+    )
+    outside = outside_ratios(sizes)
+    del sizes
     results = []
     try:
         results = pool.map(
@@ -132,6 +139,7 @@ def _run(
             point_offsets,
             element_offsets,
             [task] * n,
+            outside,
         )
         cross = match_parts([r.boundary for r in results], global_ids, profile.findings, frame)
         notes = list(dict.fromkeys(note for r in results for note in r.notes))

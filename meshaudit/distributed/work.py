@@ -39,6 +39,7 @@ from ..mesh_checks.findings import Finding
 from ..mesh_checks.nodes import shortest_edge_at
 from ..paths import display_name
 from ..results.report import Report
+from .cut_sizes import CutSizes, cut_sizes
 from .sketch import Sketch
 
 
@@ -195,10 +196,36 @@ class PartTask:
     writer: Callable[[Report, int, int], str] | None = None
 
 
+def part_cut_sizes(
+    path: str | XdmfSlice,
+    cell_offset: int,
+    point_offset: int,
+    by_ids: bool,
+    task: PartTask,
+) -> CutSizes:
+    """The sizes of the part's elements on its free sides, for the size ratio across
+    cuts (:mod:`meshaudit.distributed.cut_sizes`); ``by_ids``: every part has global
+    node ids (else sides are matched by coordinates)."""
+    return_large_blocks()
+    _, mesh, gids = read_part(path, task.file_format, cell_offset, point_offset)
+    frame = task.frame
+    if mesh.surface_part()[0].n_elements == 0 and frame.kind != "solid":
+        frame = Frame("solid")
+    return cut_sizes(mesh, gids if by_ids else None, frame, task.profile)
+
+
 def audit_part(
-    path: str | XdmfSlice, index: int, cell_offset: int, point_offset: int, element_offset: int, task: PartTask
+    path: str | XdmfSlice,
+    index: int,
+    cell_offset: int,
+    point_offset: int,
+    element_offset: int,
+    task: PartTask,
+    outside: tuple[np.ndarray, np.ndarray] | None = None,
 ) -> PartResult:
-    """Audit one part in the whole mesh's frame and summarise it (module docstring)."""
+    """Audit one part in the whole mesh's frame and summarise it (module docstring);
+    ``outside``: its cut elements' size ratios against other parts' elements
+    (:func:`meshaudit.distributed.cut_sizes.outside_ratios`)."""
     from ..engine.run import audit_elements
 
     return_large_blocks()
@@ -208,7 +235,15 @@ def audit_part(
     surface, positions = mesh.surface_part()
     if surface.n_elements == 0 and frame.kind != "solid":
         frame = Frame("solid")
-    report = audit_elements(mesh, task.profile, task.fail_on, task.regions, workers=1, frame=frame)
+    report = audit_elements(
+        mesh,
+        task.profile,
+        task.fail_on,
+        task.regions,
+        workers=1,
+        frame=frame,
+        outside_ratio=outside,
+    )
     counts = report.verdict_counts()
     flagged = report.flag_bits[report.flag_bits != 0]
     patterns, pcounts = np.unique(flagged, return_counts=True)

@@ -199,13 +199,17 @@ def read_slice(piece: XdmfSlice) -> tuple[Any, np.ndarray, int]:
     with _opened(piece.path, layout) as files:
         cells = _dataset(piece.path, files, layout.topology)
         if cells.shape != (layout.n_cells, layout.nodes_per_cell):
-            raise InputError(f"{piece.path}: the topology dataset's shape {cells.shape} is not "
-                             f"the ({layout.n_cells}, {layout.nodes_per_cell}) the file states")
+            raise InputError(
+                f"{piece.path}: the topology dataset's shape {cells.shape} is not "
+                f"the ({layout.n_cells}, {layout.nodes_per_cell}) the file states"
+            )
         conn = hyperslab(cells, first, end).astype(np.int64)
         points = _dataset(piece.path, files, layout.geometry)
         if conn.size and (conn.min() < 0 or conn.max() >= points.shape[0]):
-            raise InputError(f"{piece.path}: an element of the topology names a node row "
-                             f"outside the geometry's {points.shape[0]} rows")
+            raise InputError(
+                f"{piece.path}: an element of the topology names a node row "
+                f"outside the geometry's {points.shape[0]} rows"
+            )
         rows = np.unique(conn)
         coords = read_rows(points, rows)
         cell_data = {
