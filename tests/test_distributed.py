@@ -561,3 +561,102 @@ def test_columnar_element_reports_read_back(tmp_path, run_cli):
     assert rows["size_ratio"] == np.where((column == 1) | (column == 2), 2.0, 1.0).tolist()
     one = meshaudit.audit(str(merged))
     assert rows["verdict"] == one.verdict_names.astype(str).tolist()
+
+
+def _hexes(n: int, h: float, x0: float):
+    """Points and hexahedra of an n x n x n block of cubes of side h from (x0, 0, 0);
+    node (i, j, k) at index (i (n+1) + j)(n+1) + k; and each cube's i."""
+    x, y, z = np.meshgrid(*(np.arange(n + 1.0),) * 3, indexing="ij")
+    pts = np.stack([x0 + h * x.ravel(), h * y.ravel(), h * z.ravel()], 1)
+
+    def idx(i, j, k):
+        return (i * (n + 1) + j) * (n + 1) + k
+
+    i, j, k = (a.ravel() for a in np.meshgrid(*(np.arange(n),) * 3, indexing="ij"))
+    corners = [
+        (0, 0, 0),
+        (1, 0, 0),
+        (1, 1, 0),
+        (0, 1, 0),
+        (0, 0, 1),
+        (1, 0, 1),
+        (1, 1, 1),
+        (0, 1, 1),
+    ]
+    hexes = np.stack([idx(i + a, j + b, k + c) for a, b, c in corners], 1)
+    return pts, hexes, i
+
+
+def _solid_parts(folder, stem, pts, cells, gid):
+    """Each part's hexahedra (rows of ``cells``) written with GlobalNodeId = ``gid`` of
+    the points it uses, and the merged file (points by gid, cells in part order)."""
+    import meshio
+
+    files = []
+    for p, c in enumerate(cells):
+        used = np.unique(c)
+        path = folder / f"{stem}_{p}.vtu"
+        mesh = meshio.Mesh(
+            pts[used],
+            [("hexahedron", np.searchsorted(used, c))],
+            point_data={"GlobalNodeId": gid[used]},
+        )
+        meshio.write(path, mesh)
+        files.append(str(path))
+    points = np.zeros((int(gid.max()) + 1, 3))
+    points[gid] = pts
+    merged = folder / f"{stem}_merged.vtu"
+    meshio.write(
+        merged, meshio.Mesh(points, [("hexahedron", np.concatenate([gid[c] for c in cells]))])
+    )
+    return files, merged
+
+
+def test_crack_between_solid_parts(tmp_path, client):
+    """A 4 x 4 x 4 block of cubes cut in two across x, the second part using nodes of its
+    own at the 9 inner nodes of the cut (distinct ids at the places of the first part's):
+    by construction each of the 16 cut faces, on either side, touches one of them, so
+    32 free faces lie on other free faces at distinct nodes (crack_faces) and the 9
+    places hold unmerged nodes, as in the merged file; the cut faces away from the crack
+    are never free."""
+    from meshaudit.mesh.parts import PartSet
+
+    pts, hexes, i = _hexes(4, 1.0, 0.0)
+    cut = np.flatnonzero((np.abs(pts[:, 0] - 2) < 1e-9) & (pts[:, 1] % 4 > 0) & (pts[:, 2] % 4 > 0))
+    remap = np.arange(len(pts))
+    remap[cut] = len(pts) + np.arange(cut.size)
+    cells = [hexes[i < 2], remap[hexes[i >= 2]]]
+    pts = np.concatenate([pts, pts[cut]])
+    files, merged = _solid_parts(tmp_path, "cracked", pts, cells, np.arange(len(pts)))
+    one = meshaudit.audit(str(merged))
+    many = audit_parts(PartSet("cracked", tuple(files)), cluster=client)
+    assert _findings(many) == _findings(one)
+    counts = {f.kind: f.count for f in many.findings}
+    assert counts["crack_faces"] == 32 and counts["coincident_nodes"] == 9
+    assert many.passed is one.passed
+    assert [r["kind"] for r in many.boundary_surfaces.records()] == [
+        r["kind"] for r in one.boundary_surfaces.records()
+    ]
+
+
+def test_non_conforming_solid_parts(tmp_path, client):
+    """A 2 x 2 x 2 block of cubes of side 2 (x in 0..4) beside a 4 x 4 x 4 block of cubes
+    of side 1 (x in 4..8): on the cut x = 4 the fine part has 25 nodes, the coarse part
+    9 of them, so by construction 16 fine nodes hang on the coarse faces, as in the
+    merged file (nodes numbered by place)."""
+    from meshaudit.mesh.parts import PartSet
+
+    pa, ca, _ = _hexes(2, 2.0, 0.0)
+    pb, cb, _ = _hexes(4, 1.0, 4.0)
+    pts = np.concatenate([pa, pb])
+    key = np.round(pts * 2).astype(np.int64) @ np.array([1, 100, 10_000])
+    _, first, ident = np.unique(key, return_index=True, return_inverse=True)
+    gid = np.argsort(np.argsort(first))[ident]
+    files, merged = _solid_parts(tmp_path, "graded", pts, [ca, cb + len(pa)], gid)
+    one = meshaudit.audit(str(merged))
+    many = audit_parts(PartSet("graded", tuple(files)), cluster=client)
+    assert _findings(many) == _findings(one)
+    counts = {f.kind: f.count for f in many.findings}
+    assert counts["hanging_nodes"] == 16
+    assert "non_conforming_faces" in counts
+    assert many.passed is one.passed

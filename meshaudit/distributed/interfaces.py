@@ -57,6 +57,8 @@ from ..mesh_checks.edges import FreeEdges, chained, crack_flags, with_winding
 from ..mesh_checks.findings import MESSAGE_IDS, Finding
 from ..mesh_checks.hanging import HangingNodes, hanging_nodes
 from ..mesh_checks.nodes import NodeClusters, coincident_clusters
+from ..mesh_checks.surfaces import BoundarySurfaces
+from .solid_cut import face_nodes, match_faces
 from .work import Boundary
 
 
@@ -69,6 +71,8 @@ class CrossPart:
     free: FreeEdges | None
     shared_nodes: int
     notes: list[str]
+    #: the boundary surfaces of the solids of the whole mesh (None without solids)
+    surfaces: BoundarySurfaces | None = None
 
 
 def _some(values: np.ndarray) -> str:
@@ -174,6 +178,8 @@ def match_parts(
     fa, fb = a[free_mask], b[free_mask]
     used = np.zeros(n_nodes, dtype=bool)
     used[fa] = used[fb] = True
+    corners = face_nodes(parts, first, node)  # the solids' free faces of every part
+    used[corners[corners >= 0]] = True
     places = _places(node_xyz, node_tol, np.flatnonzero(used), settings)
     crack = crack_flags(places.rep[fa], places.rep[fb], max(n_nodes, 1))
     interface = on_interface[free_mask]
@@ -205,6 +211,12 @@ def match_parts(
             )
         )
 
+    # 6. (solids) the parts' free faces matched: cut faces interior, the face checks
+    face_findings, surfaces = match_faces(
+        parts, corners, places.rep, node_xyz, node_number, settings
+    )
+    findings += face_findings
+
     # 5. unmerged nodes of different parts at one place
     if global_ids and settings.enabled("coincident_nodes") and places.members.size:
         members = places.members
@@ -231,7 +243,7 @@ def match_parts(
                     node_xyz=node_xyz[held],
                 )
             )
-    return CrossPart(findings, free, shared, notes)
+    return CrossPart(findings, free, shared, notes, surfaces)
 
 
 def _joined_by_place(xyz: np.ndarray, tol: np.ndarray, part_of: np.ndarray) -> np.ndarray:
@@ -338,7 +350,7 @@ def _places(
     xyz: np.ndarray, tol: np.ndarray, candidates: np.ndarray, settings: FindingSettings
 ) -> NodeClusters:
     """Distinct nodes of the whole mesh at one place (free-edge ends only)."""
-    on = [k for k in ("crack_edges", "coincident_nodes") if settings.enabled(k)]
+    on = [k for k in ("crack_edges", "crack_faces", "coincident_nodes") if settings.enabled(k)]
     if candidates.size < 2 or not on:
         return NodeClusters.none(xyz.shape[0])
     finite = np.where(np.isfinite(tol), tol, 0.0)

@@ -156,6 +156,11 @@ class Boundary:
     #: node index for a corner on none), columns 4-7 their global node ids (when the
     #: part has them)
     rim_corners: np.ndarray
+    #: the part's solids' free faces: (f, 4) rows of the nodes above in outward order,
+    #: -1 padded; the solid's position in the whole mesh and its number
+    faces: np.ndarray
+    face_element: np.ndarray
+    face_ids: np.ndarray
 
 
 @dataclass
@@ -315,11 +320,17 @@ def _boundary(
 ) -> Boundary | None:
     free = report.free_edges
     skin = skin_nodes(mesh)
+    # duplicates within the part are left out, as the part's own checks leave them out
+    copies = np.zeros(0, dtype=np.int64)
+    for f in report.findings:
+        if f.kind == "duplicate_elements":
+            copies = f.element_index
+    faces, face_element = free_faces(mesh, copies)
     if free is None and skin.size == 0:
         return None
     free_nodes = free.nodes if free is not None else np.zeros((0, 2), dtype=np.int64)
     # nodes of free edges and of the solids' free faces, renumbered 0..b-1
-    ends = np.unique(np.concatenate([free_nodes.ravel(), skin]))
+    ends = np.unique(np.concatenate([free_nodes.ravel(), skin, faces[faces >= 0]]))
     local = np.full(mesh.n_points, -1, dtype=np.int64)
     local[ends] = np.arange(ends.size)
     on_edge = local >= 0
@@ -332,11 +343,6 @@ def _boundary(
         task.profile.findings.coincident_tolerance * shortest_edge_at(mesh.points, every_edge)[ends]
     )
     tolerance[~np.isfinite(tolerance)] = 0.0
-    # duplicates within the part are left out, as the part's own checks leave them out
-    copies = np.zeros(0, dtype=np.int64)
-    for f in report.findings:
-        if f.kind == "duplicate_elements":
-            copies = f.element_index
     uses, use_element = [], []
     rim_index, rim_ids, rim_corners = [], [], []
     for block, corners in corners_of:
@@ -381,7 +387,25 @@ def _boundary(
         rim_index=np.concatenate(rim_index) if rim_index else none,
         rim_ids=np.concatenate(rim_ids) if rim_ids else none,
         rim_corners=np.concatenate(rim_corners) if rim_corners else none.reshape(0, 8),
+        faces=np.where(faces >= 0, local[np.maximum(faces, 0)], -1),
+        face_element=face_element + offset,
+        face_ids=report.ids[face_element],
     )
+
+
+def free_faces(mesh: ElementMesh, copies: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(corners (f, 4) in outward order, -1 padded; (f,) the solid's position) of the
+    faces one solid of ``mesh`` uses (its skin, the cut included), from the face table
+    of its solids without the ``copies`` (positions of duplicates)."""
+    from ..mesh.faces import face_table
+
+    if not mesh.has_solids:
+        return np.zeros((0, 4), dtype=np.int64), np.zeros(0, dtype=np.int64)
+    solid, positions = mesh.solid_part()
+    keep = ~np.isin(positions, copies)
+    table = face_table(solid, keep)
+    free = table.boundary()
+    return table.corners[free].astype(np.int64), positions[table.element[free]]
 
 
 def skin_nodes(mesh: ElementMesh) -> np.ndarray:
