@@ -52,25 +52,31 @@ class CutSizes:
 
 def free_sides(mesh: ElementMesh) -> tuple[np.ndarray, np.ndarray]:
     """(corner nodes (r, 4), -1 padded, of each side one element of ``mesh`` uses alone;
-    (r,) that element's position): edges of surface elements, faces of solids, each as
-    the set of its corner nodes (the side groups of the size ratio)."""
+    (r,) that element's position): the sides the size ratio compares neighbours across,
+    from the same tables (:func:`meshaudit.mesh.topology.edge_table` of the surface
+    elements, :func:`meshaudit.mesh.faces.face_table` of the solids)."""
+    from ..mesh.faces import face_table
+    from ..mesh.topology import edge_table
+
     rows, users = [], []
-    for block in mesh.blocks:
-        cell = block.cell
-        corners = block.connectivity[:, : cell.n_corners]
-        sides = cell.edges.tolist() if cell.dimension == 2 else [list(f) for f in cell.faces]
-        for side in sides:
-            nodes = np.sort(corners[:, side], axis=1)
-            pad = np.full((nodes.shape[0], 4), -1, dtype=np.int64)
-            pad[:, : nodes.shape[1]] = nodes
-            rows.append(pad)
-            users.append(block.index)
+    surface, positions = mesh.surface_part()
+    if surface.n_elements:
+        table = edge_table(surface)
+        alone = np.flatnonzero(table.uses[table.edge] == 1)
+        pad = np.full((alone.size, 4), -1, dtype=np.int64)
+        pad[:, :2] = table.nodes[table.edge[alone]]
+        element = table.element[alone].astype(np.int64)
+        rows.append(pad)
+        users.append(element if positions is None else positions[element])
+    if mesh.has_solids:
+        solid, at = mesh.solid_part()
+        faces = face_table(solid)
+        alone = faces.boundary()
+        rows.append(faces.key[faces.face[alone]].astype(np.int64))
+        users.append(at[faces.element[alone]])
     if not rows:
         return np.zeros((0, 4), dtype=np.int64), np.zeros(0, dtype=np.int64)
-    every, user = np.concatenate(rows), np.concatenate(users)
-    _, inverse, counts = np.unique(every, axis=0, return_inverse=True, return_counts=True)
-    alone = counts[inverse.ravel()] == 1
-    return every[alone], user[alone]
+    return np.concatenate(rows), np.concatenate(users)
 
 
 def side_keys(nodes: np.ndarray, points: np.ndarray, gids: np.ndarray | None) -> np.ndarray:

@@ -1,8 +1,10 @@
-"""Matching parts along their boundaries, on the driver, from the parts' free edges.
+"""Matching parts along their boundaries, on the driver, from the parts' free edges and
+free faces.
 
 Each part sends its free edges (edges one of its surface elements uses) with their end
-nodes (:class:`~meshaudit.distributed.work.Boundary`); everything here works on those
-arrays alone, sorted and grouped as a whole, never element by element.
+nodes, and its solids' free faces (:class:`~meshaudit.distributed.work.Boundary`);
+everything here works on those arrays alone, sorted and grouped as a whole, never
+element by element.
 
 1. **Nodes across parts.** Where every part carries global node ids, two ends with the
    same id are one node. Otherwise ends of *different* parts closer than the
@@ -33,12 +35,17 @@ arrays alone, sorted and grouped as a whole, never element by element.
 5. **Unmerged nodes across parts** (global ids): a place holding ends of two or more
    parts with different ids is a ``coincident_nodes`` place.
 
+6. **Solids** (:mod:`.solid_cut`): the parts' free faces on these node numbers make the
+   whole mesh's face table; cut faces are interior, and the single-file face checks run
+   over the faces left free (cracks, non-conforming faces and their hanging nodes,
+   non-manifold faces, voids).
+
 Not matched across parts (each part's own checks still run): overlaps between elements
 of different parts, orientation patches that continue across a cut (shells and planes
 containing z: each part's smaller group is flagged within the part; edges run the same
 way by the elements on both sides of a cut make an ``opposite_normals`` finding naming
-those elements, and a note), and for solids anything but the nodes of their parts' free
-faces.
+those elements, and a note), solids inside out relative to a neighbour in another
+part, and solids repeated in two parts (halo copies of solids).
 """
 
 from __future__ import annotations

@@ -1,16 +1,22 @@
 """``audit_parts``: a partitioned mesh audited part by part where the parts are read.
 
-Three rounds of tasks, each part's task reading the part itself (only paths and the
-driver's small decisions travel to the workers; only summaries travel back):
+Rounds of tasks, each part's task reading the part itself (only paths and the driver's
+small decisions travel to the workers; only summaries travel back):
 
 1. :func:`~.work.survey_part` per part: sizes (for the numbering offsets) and node moments;
    the driver decides the measuring frame of the whole mesh (:mod:`.frame`; one more
    round, :func:`~.work.plane_check`, unless every node shares one z);
-2. :func:`~.work.audit_part` per part: the part audited by the existing engine in that
-   frame, summarised (verdict and flag counts, statistics sketches, the worst elements,
-   the part's findings, its free edges), its element report written where asked;
-3. on the driver: the parts matched along their boundaries (:mod:`.interfaces`) and one
-   report assembled (:mod:`.report`).
+2. :func:`~.work.part_cut_sizes` per part: the sizes of the elements on its free sides;
+   the driver matches them across parts (:mod:`.cut_sizes`) into each cut element's
+   size ratio against its neighbours in other parts;
+3. :func:`~.work.audit_part` per part: the part audited by the existing engine in that
+   frame, with those ratios, summarised (verdict and flag counts, statistics sketches,
+   the worst elements, the part's findings, its free edges and free faces), its element
+   report written where asked;
+4. on the driver: the parts matched along their boundaries (:mod:`.interfaces`,
+   :mod:`.solid_cut`) and one report assembled (:mod:`.report`).
+
+A part is a file, or a slice of an XDMF file's elements (:mod:`meshaudit.mesh.slices`).
 
 A worker holds one part at a time (its mesh, and its per-element result arrays while
 it summarises them), so its memory is bounded by the largest part it is given.

@@ -11,11 +11,14 @@ A part is read where it is measured; only the summaries below travel back:
 
 - :func:`survey_part`: sizes and the moments of the nodes, for the measuring frame;
 - :func:`plane_check`: how far the nodes lie from a plane the driver proposes;
+- :func:`part_cut_sizes`: the sizes of the elements on the part's free sides, for the
+  size ratio across cuts (:mod:`meshaudit.distributed.cut_sizes`);
 - :func:`audit_part`: the part audited in the whole mesh's frame by the existing engine
   (:func:`meshaudit.engine.run.audit_elements`, which measures chunks with the pure
   chunk kernel), summarised as verdict and flag counts, a :class:`~.sketch.Sketch` per
   metric, the not-ok elements (worst first, at most ``keep``), the part's own
-  mesh-level findings and its :class:`Boundary` (free edges and the elements at them),
+  mesh-level findings and its :class:`Boundary` (free edges and the elements at them,
+  its solids' free faces),
   which the driver matches across parts (:mod:`meshaudit.distributed.interfaces`).
 """
 
