@@ -98,7 +98,7 @@ def side_keys(nodes: np.ndarray, points: np.ndarray, gids: np.ndarray | None) ->
 
 
 def cut_sizes(
-    mesh: ElementMesh, gids: np.ndarray | None, frame: Frame, profile: object
+    mesh: ElementMesh, gids: np.ndarray | None, frame: Frame, profile: object = None
 ) -> CutSizes:
     """The part's free sides and the sizes of the elements on them (module docstring),
     those elements measured as the part's audit measures them (the engine, on them
@@ -110,15 +110,23 @@ def cut_sizes(
     if rows.size == 0:
         empty = np.zeros(0, dtype=np.int64)
         return CutSizes(np.zeros((0, 4)), empty, np.zeros(0), np.zeros(0, dtype=bool))
-    blocks = []
+    blocks, conns = [], []
     for block in mesh.blocks:
         mine = np.isin(block.index, rows)
         if mine.any():
             at = np.searchsorted(rows, block.index[mine])
-            blocks.append(
-                ElementBlock(block.cell_type, block.connectivity[mine], block.ids[mine], at)
-            )
-    rim = ElementMesh(points=mesh.points, blocks=blocks, source=mesh.source)
+            blocks.append((block.cell_type, block.ids[mine], at))
+            conns.append(block.connectivity[mine])
+    used = np.unique(np.concatenate([c.ravel() for c in conns]))  # only their nodes
+    rim = ElementMesh(
+        points=mesh.points[used],
+        blocks=[
+            ElementBlock(t, np.searchsorted(used, c), ids, at)
+            for (t, ids, at), c in zip(blocks, conns)
+        ],
+        source=mesh.source,
+    )
+    blocks = rim.blocks
     if not any(b.cell.dimension == 2 for b in blocks) and frame.kind != "solid":
         frame = Frame("solid")
     report = audit_elements(rim, profile, workers=1, frame=frame)  # type: ignore[arg-type]

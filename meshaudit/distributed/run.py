@@ -129,10 +129,17 @@ def _run(
         keep=keep,
         writer=writer,
     )
-    # the size ratio across cuts: the sizes on each part's free sides, matched here
-    sizes = pool.map(
-        part_cut_sizes, paths, cell_offsets, point_offsets, [global_ids] * n, [task] * n
-    )
+    # the size ratio across cuts: the sizes on each part's free sides, matched here (the
+    # surveys measured them already when the whole mesh is flat in x-y or has no surface
+    # elements, and the parts all have global ids or none has)
+    sizes = [s.cut for s in surveys]
+    full = [s for s in surveys if s.count]
+    flat = not full or min(s.low[2] for s in full) == max(s.high[2] for s in full)
+    same_keys = global_ids or not any(s.global_ids for s in surveys)
+    if not (flat and same_keys and all(c is not None for c in sizes)):
+        sizes = pool.map(
+            part_cut_sizes, paths, cell_offsets, point_offsets, [global_ids] * n, [task] * n
+        )
     outside = outside_ratios(sizes)
     del sizes
     results = []

@@ -34,7 +34,7 @@ from ..engine.memory import return_large_blocks
 from ..judge.profiles import Profile
 from ..mesh import labels
 from ..mesh.elements import ElementMesh
-from ..mesh.frames import Frame, area_vectors
+from ..mesh.frames import SOLID_FRAME, XY_FRAME, Frame, area_vectors
 from ..mesh.parts import cell_count, global_node_ids
 from ..mesh.reading import build_elements, read_meshio_said
 from ..mesh.slices import XdmfSlice, read_slice
@@ -84,6 +84,10 @@ class Survey:
     low: np.ndarray  # (3,) per-axis minimum
     high: np.ndarray
     magnitude: float  # largest |coordinate|
+    #: the sizes on the part's free sides (:func:`part_cut_sizes`), measured in the x-y
+    #: frame when the part's surface nodes share one z (or it has no surface elements):
+    #: the frame of the whole mesh when every part's do, saving a round; else None
+    cut: CutSizes | None = None
 
 
 def survey_part(path: str | XdmfSlice, file_format: str | None) -> Survey:
@@ -94,6 +98,11 @@ def survey_part(path: str | XdmfSlice, file_format: str | None) -> Survey:
     pts = surface.points[surface.used_nodes()] if surface.n_elements else np.zeros((0, 3))
     centre = pts.mean(axis=0) if len(pts) else np.zeros(3)
     d = pts - centre
+    cut = None
+    if surface.n_elements == 0:
+        cut = cut_sizes(mesh, gids, SOLID_FRAME, None)
+    elif pts[:, 2].min() == pts[:, 2].max():
+        cut = cut_sizes(mesh, gids, replace(XY_FRAME, beside_solids=mesh.has_solids), None)
     return Survey(
         cell_count(raw),
         mesh.n_points,
@@ -106,6 +115,7 @@ def survey_part(path: str | XdmfSlice, file_format: str | None) -> Survey:
         pts.min(axis=0) if len(pts) else np.full(3, np.inf),
         pts.max(axis=0) if len(pts) else np.full(3, -np.inf),
         float(np.abs(pts).max()) if len(pts) else 0.0,
+        cut,
     )
 
 
