@@ -674,3 +674,42 @@ def test_non_conforming_solid_parts(tmp_path, client):
     assert counts["hanging_nodes"] == 16
     assert "non_conforming_faces" in counts
     assert many.passed is one.passed
+
+
+def test_parts_overlapping_each_other(tmp_path, client):
+    """Two parts of 4 x 3 unit squares, the second moved to start at x = 3.5, inside the
+    first (nodes of its own): by construction each of its first column's 3 squares
+    covers half of the first part's last-column square in its row, 3 pairs of elements
+    of different parts overlapping, as in the merged file."""
+    import meshio
+
+    from meshaudit.mesh.parts import PartSet
+
+    def squares(x0):
+        x, y = np.meshgrid(x0 + np.arange(5.0), np.arange(4.0))
+        pts = np.stack([x.ravel(), y.ravel(), np.zeros(x.size)], axis=1)
+        i, j = np.meshgrid(np.arange(4), np.arange(3))
+        n0 = (j * 5 + i).ravel()
+        return pts, np.stack([n0, n0 + 1, n0 + 6, n0 + 5], axis=1)
+
+    (pa, qa), (pb, qb) = squares(0.0), squares(3.5)
+    files = []
+    for k, (p, q) in enumerate(((pa, qa), (pb, qb))):
+        path = tmp_path / f"lap_{k}.vtu"
+        ids = np.arange(len(p)) + k * len(pa)
+        meshio.write(path, meshio.Mesh(p, [("quad", q)], point_data={"GlobalNodeId": ids}))
+        files.append(str(path))
+    merged = tmp_path / "lap_merged.vtu"
+    meshio.write(
+        merged,
+        meshio.Mesh(np.concatenate([pa, pb]), [("quad", np.concatenate([qa, qb + len(pa)]))]),
+    )
+    one = meshaudit.audit(str(merged))
+    many = audit_parts(PartSet("lap", tuple(files)), cluster=client)
+    found = {f.kind: f for f in many.findings}
+    assert found["overlapping_elements"].count == 3
+    # row j: square (3, j) of part 0 (element 4 j + 3) over square (0, j) of part 1 (12 + 4 j)
+    expected = sorted((4 * j + 3, 12 + 4 * j) for j in range(3))
+    assert sorted(map(tuple, found["overlapping_elements"].pairs.tolist())) == expected
+    assert _findings(many) == _findings(one)
+    assert many.passed is one.passed

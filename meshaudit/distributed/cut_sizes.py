@@ -98,14 +98,19 @@ def side_keys(nodes: np.ndarray, points: np.ndarray, gids: np.ndarray | None) ->
 
 
 def cut_sizes(
-    mesh: ElementMesh, gids: np.ndarray | None, frame: Frame, profile: object = None
+    mesh: ElementMesh,
+    gids: np.ndarray | None,
+    frame: Frame,
+    profile: object = None,
+    sides: tuple[np.ndarray, np.ndarray] | None = None,
 ) -> CutSizes:
     """The part's free sides and the sizes of the elements on them (module docstring),
     those elements measured as the part's audit measures them (the engine, on them
-    alone: every metric is a function of the element's own nodes)."""
+    alone: every metric is a function of the element's own nodes); ``sides``: what
+    :func:`free_sides` gives, when worked out already."""
     from ..engine.run import audit_elements
 
-    nodes, user = free_sides(mesh)
+    nodes, user = free_sides(mesh) if sides is None else sides
     rows = np.unique(user)
     if rows.size == 0:
         empty = np.zeros(0, dtype=np.int64)

@@ -51,7 +51,7 @@ part, and solids repeated in two parts (halo copies of solids).
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
@@ -80,6 +80,8 @@ class CrossPart:
     notes: list[str]
     #: the boundary surfaces of the solids of the whole mesh (None without solids)
     surfaces: BoundarySurfaces | None = None
+    #: whole-mesh positions of elements repeating an element of another part
+    copies: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.int64))
 
 
 def _some(values: np.ndarray) -> str:
@@ -250,7 +252,7 @@ def match_parts(
                     node_xyz=node_xyz[held],
                 )
             )
-    return CrossPart(findings, free, shared, notes, surfaces)
+    return CrossPart(findings, free, shared, notes, surfaces, copies)
 
 
 def _joined_by_place(xyz: np.ndarray, tol: np.ndarray, part_of: np.ndarray) -> np.ndarray:

@@ -39,6 +39,7 @@ from .cut_sizes import outside_ratios
 from .executor import Executor, executor_for
 from .frame import whole_frame
 from .interfaces import match_parts
+from .overlaps import Probes, overlap_finding, probes_for
 from .report import PartitionedReport, assemble
 from .work import PartTask, audit_part, part_cut_sizes, plane_check, survey_part
 
@@ -142,6 +143,13 @@ def _run(
         )
     outside = outside_ratios(sizes)
     del sizes
+    # overlaps across parts (planar meshes): each part gets the free-edge elements of
+    # the other parts near it
+    probes: list[Probes | None] = [None] * n
+    if frame.kind == "planar" and profile.findings.enabled("overlapping_elements") and n > 1:
+        rims = [(s.rim_rows, s.rim_xyz) for s in surveys]
+        low, high = [s.low for s in surveys], [s.high for s in surveys]
+        probes = list(probes_for(rims, element_offsets, low, high))
     results = []
     try:
         results = pool.map(
@@ -153,8 +161,12 @@ def _run(
             element_offsets,
             [task] * n,
             outside,
+            probes,
         )
         cross = match_parts([r.boundary for r in results], global_ids, profile.findings, frame)
+        found = _overlaps(results, cross.copies, profile)
+        if found is not None:
+            cross.findings.append(found)
         notes = list(dict.fromkeys(note for r in results for note in r.notes))
         notes = [note for note in notes if note not in frame_notes(frame)]
         notes = [*frame_notes(frame), *notes, *cross.notes]
@@ -186,6 +198,19 @@ def _run(
         if writer is not None:
             writer.discard(n)
         raise
+
+
+def _overlaps(results: Sequence[Any], copies: np.ndarray, profile: Profile) -> Any:
+    """The ``overlapping_elements`` finding across parts, or None (:mod:`.overlaps`)."""
+    pairs = [r.overlaps for r in results if r.overlaps.size]
+    if not pairs:
+        return None
+    rims = [r.boundary for r in results if r.boundary is not None]
+    known = (
+        np.concatenate([r.overlaps[:, 0] for r in results] + [b.rim_index for b in rims]),
+        np.concatenate([r.overlap_ids for r in results] + [b.rim_ids for b in rims]),
+    )
+    return overlap_finding(np.concatenate(pairs), known, copies, profile.findings)
 
 
 def _starts(sizes: Sequence[int]) -> list[int]:

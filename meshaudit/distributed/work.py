@@ -25,7 +25,7 @@ A part is read where it is measured; only the summaries below travel back:
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
@@ -42,7 +42,8 @@ from ..mesh_checks.findings import Finding
 from ..mesh_checks.nodes import shortest_edge_at
 from ..paths import display_name
 from ..results.report import Report
-from .cut_sizes import CutSizes, cut_sizes
+from .cut_sizes import CutSizes, cut_sizes, free_sides
+from .overlaps import Probes, against_probes, rim_polygons
 from .sketch import Sketch
 
 
@@ -88,6 +89,10 @@ class Survey:
     #: frame when the part's surface nodes share one z (or it has no surface elements):
     #: the frame of the whole mesh when every part's do, saving a round; else None
     cut: CutSizes | None = None
+    #: the part's surface elements with a free edge: positions in the part, corners
+    #: (r, 4, 3) NaN padded (probes for overlaps across parts, :mod:`.overlaps`)
+    rim_rows: np.ndarray | None = None
+    rim_xyz: np.ndarray | None = None
 
 
 def survey_part(path: str | XdmfSlice, file_format: str | None) -> Survey:
@@ -99,10 +104,13 @@ def survey_part(path: str | XdmfSlice, file_format: str | None) -> Survey:
     centre = pts.mean(axis=0) if len(pts) else np.zeros(3)
     d = pts - centre
     cut = None
+    sides = free_sides(mesh)
     if surface.n_elements == 0:
-        cut = cut_sizes(mesh, gids, SOLID_FRAME, None)
+        cut = cut_sizes(mesh, gids, SOLID_FRAME, None, sides)
     elif pts[:, 2].min() == pts[:, 2].max():
-        cut = cut_sizes(mesh, gids, replace(XY_FRAME, beside_solids=mesh.has_solids), None)
+        xy = replace(XY_FRAME, beside_solids=mesh.has_solids)
+        cut = cut_sizes(mesh, gids, xy, None, sides)
+    rim_rows, rim_xyz = rim_polygons(mesh, sides[1])
     return Survey(
         cell_count(raw),
         mesh.n_points,
@@ -116,6 +124,8 @@ def survey_part(path: str | XdmfSlice, file_format: str | None) -> Survey:
         pts.max(axis=0) if len(pts) else np.full(3, -np.inf),
         float(np.abs(pts).max()) if len(pts) else 0.0,
         cut,
+        rim_rows,
+        rim_xyz,
     )
 
 
@@ -196,6 +206,10 @@ class PartResult:
     boundary: Boundary | None
     numbering: tuple[str, str]
     element_file: str | None = None
+    #: (k, 2) whole-mesh positions (own element, other part's element) overlapping, and
+    #: (k,) the own elements' numbers (see :mod:`.overlaps`)
+    overlaps: np.ndarray = field(default_factory=lambda: np.zeros((0, 2), dtype=np.int64))
+    overlap_ids: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.int64))
 
 
 @dataclass(frozen=True)
@@ -240,10 +254,12 @@ def audit_part(
     element_offset: int,
     task: PartTask,
     outside: tuple[np.ndarray, np.ndarray] | None = None,
+    probes: Probes | None = None,
 ) -> PartResult:
     """Audit one part in the whole mesh's frame and summarise it (module docstring);
     ``outside``: its cut elements' size ratios against other parts' elements
-    (:func:`meshaudit.distributed.cut_sizes.outside_ratios`)."""
+    (:func:`meshaudit.distributed.cut_sizes.outside_ratios`); ``probes``: other parts'
+    free-edge elements to look for overlaps with (:mod:`meshaudit.distributed.overlaps`)."""
     from ..engine.run import audit_elements
 
     return_large_blocks()
@@ -292,6 +308,12 @@ def audit_part(
         boundary=_boundary(report, mesh, surface, positions, frame, task, element_offset, gids),
         numbering=(mesh.numbering.elements, mesh.numbering.nodes),
     )
+    if probes is not None and frame.kind == "planar":
+        pairs = against_probes(
+            surface, positions, element_offset, probes, frame, task.profile.findings
+        )
+        result.overlaps = pairs
+        result.overlap_ids = report.ids[pairs[:, 0] - element_offset]
     if task.writer is not None:
         result.element_file = task.writer(report, element_offset, index)
     return result
