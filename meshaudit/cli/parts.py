@@ -1,4 +1,5 @@
-"""``meshaudit check`` of a partitioned mesh: a ``.pvtu``, or ``--parts PATTERN``.
+"""``meshaudit check`` of a partitioned mesh: a ``.pvtu``, ``--parts PATTERN``, or one
+XDMF file read in slices (``--slices N``, see :mod:`meshaudit.mesh.slices`).
 
 The parts are audited as one mesh (:func:`meshaudit.distributed.audit_parts`): one
 verdict, one report, the exit statuses of one mesh. Options: ``--cluster ADDRESS`` (or
