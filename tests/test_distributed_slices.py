@@ -14,7 +14,7 @@ import json
 import h5py
 import numpy as np
 import pytest
-from partitioned_meshes import write_xdmf_plate
+from partitioned_meshes import plate, write_xdmf_plate
 from test_distributed import _findings, _loops, _not_ok, _same_numbers
 
 import meshaudit
@@ -153,3 +153,24 @@ def test_files_that_cannot_be_sliced_are_refused_in_one_line(tmp_path, run_cli, 
     res = run_cli("check", path, "--slices", "2")
     assert res.returncode == 2
     assert len(res.stderr.strip().splitlines()) == 1 and "Traceback" not in res.stderr
+
+
+def test_cell_attributes_come_sliced_with_the_elements(tmp_path):
+    """A cell-centred attribute (a material number per element, written by meshio) is
+    read for the slice's rows only, the rows h5py reads from the whole dataset."""
+    import meshio
+
+    pts, quads = plate(6, 4)
+    material = np.arange(quads.shape[0]) % 3 + 1
+    path = tmp_path / "m.xdmf"
+    meshio.write(path, meshio.Mesh(pts, [("quad", quads)], cell_data={"mat": [material]}))
+    layout = read_layout(path)
+    assert [name for name, _ in layout.cell_attributes] == ["mat"]
+    heavy = layout.cell_attributes[0][1]
+    with h5py.File(heavy.file, "r") as f:
+        whole = f[heavy.dataset][()]
+    for k in range(3):
+        mesh, _, first = read_slice(XdmfSlice(str(path), k, 3))
+        start, end = slice_range(quads.shape[0], k, 3)
+        assert first == start
+        assert np.array_equal(mesh.cell_data["mat"][0], whole[start:end])
