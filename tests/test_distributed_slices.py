@@ -174,3 +174,19 @@ def test_cell_attributes_come_sliced_with_the_elements(tmp_path):
         start, end = slice_range(quads.shape[0], k, 3)
         assert first == start
         assert np.array_equal(mesh.cell_data["mat"][0], whole[start:end])
+
+
+def test_node_rows_read_in_bounded_runs(tmp_path, reads, monkeypatch):
+    """Rows read in runs: nearby rows together, no read crossing a block of SPAN rows
+    (here 8), the values those of h5py's own selection of the same rows."""
+    monkeypatch.setattr(slices, "SPAN", 8)
+    data = np.arange(300.0).reshape(100, 3)
+    with h5py.File(tmp_path / "d.h5", "w") as f:
+        f["x"] = data
+    rows = np.array([0, 3, 7, 8, 20, 21, 99])
+    with h5py.File(tmp_path / "d.h5", "r") as f:
+        got = slices.read_rows(f["x"], rows)
+        expected = f["x"][rows.tolist()]  # h5py's point selection: the outside reference
+    assert np.array_equal(got, expected)
+    assert [(a, b) for _, a, b in reads] == [(0, 8), (8, 9), (20, 22), (99, 100)]
+    assert all(a // 8 == (b - 1) // 8 for _, a, b in reads)

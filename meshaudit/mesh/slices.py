@@ -37,7 +37,10 @@ from ..paths import reason
 
 #: Node rows closer than this are read in one hyperslab (fewer, larger reads; at most
 #: this many unused rows per gap).
-GAP = 1024
+GAP = 64
+#: No hyperslab crosses a multiple of this many rows: one read never holds more than
+#: this many rows, however the rows a slice needs are spread.
+SPAN = 1 << 16
 
 
 @dataclass(frozen=True)
@@ -175,10 +178,11 @@ def hyperslab(dataset: Any, first: int, end: int) -> np.ndarray:
 
 def read_rows(dataset: Any, rows: np.ndarray) -> np.ndarray:
     """The ``rows`` (ascending, distinct) of a dataset, read as runs of nearby rows
-    (:data:`GAP`), in the order given."""
+    (:data:`GAP`) within blocks of :data:`SPAN` rows, in the order given."""
     if rows.size == 0:
         return np.zeros((0, *dataset.shape[1:]), dtype=dataset.dtype)
-    breaks = np.flatnonzero(np.diff(rows) > GAP + 1) + 1
+    apart = (np.diff(rows) > GAP + 1) | (np.diff(rows // SPAN) != 0)
+    breaks = np.flatnonzero(apart) + 1
     starts = np.concatenate([[0], breaks])
     ends = np.concatenate([breaks, [rows.size]])
     pieces = []
