@@ -713,3 +713,23 @@ def test_parts_overlapping_each_other(tmp_path, client):
     assert sorted(map(tuple, found["overlapping_elements"].pairs.tolist())) == expected
     assert _findings(many) == _findings(one)
     assert many.passed is one.passed
+
+
+def test_halo_layer_of_solids_is_reported_as_duplicates(tmp_path, client):
+    """A 4 x 4 x 4 block of cubes cut in two across x, the second part also holding a
+    copy of the first part's layer beside the cut (16 cubes, a halo written into both
+    parts, same global ids): by construction 16 duplicate solids, each the copy of a
+    cube of that layer; the merged file's audit names the same pairs and both fail
+    (the boundary surfaces around the halo differ: see the README)."""
+    from meshaudit.mesh.parts import PartSet
+
+    pts, hexes, i = _hexes(4, 1.0, 0.0)
+    cells = [hexes[i < 2], np.concatenate([hexes[i >= 2], hexes[i == 1]])]
+    files, merged = _solid_parts(tmp_path, "halo", pts, cells, np.arange(len(pts)))
+    one = meshaudit.audit(str(merged))
+    many = audit_parts(PartSet("halo", tuple(files)), cluster=client)
+    assert _findings(many) == _findings(one)
+    pairs = {f.kind: f for f in many.findings}["duplicate_elements"].pairs.tolist()
+    # layer 1 is elements 16..31 of part 0; their copies are the last 16 of part 1
+    assert sorted(map(tuple, pairs)) == [(16 + k, 64 + k) for k in range(16)]
+    assert many.passed is one.passed is False

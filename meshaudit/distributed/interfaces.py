@@ -22,7 +22,8 @@ element by element.
    node id where the parts have them (so a copy of a neighbouring part's element, a
    halo cell written into both parts, is found); without ids only corners on free
    edges can match, so a copy is found only when all corners of both elements lie on
-   their parts' free edges.
+   their parts' free edges. Solids with a corner on their part's skin are compared the
+   same way, by global ids only.
 4. **Free edges, cracks, loops.** The free edges left are the mesh's free edges. Their
    ends are grouped into places (:func:`meshaudit.mesh_checks.nodes.coincident_clusters`,
    the sweep the single-file check uses, with each end's tolerance from its part); a
@@ -45,7 +46,8 @@ of different parts, orientation patches that continue across a cut (shells and p
 containing z: each part's smaller group is flagged within the part; edges run the same
 way by the elements on both sides of a cut make an ``opposite_normals`` finding naming
 those elements, and a note), solids inside out relative to a neighbour in another
-part, and solids repeated in two parts (halo copies of solids).
+part, and the faces beside solids repeated in two parts (halo copies of solids are
+reported as duplicates, compared by global ids, but their faces are matched as given).
 """
 
 from __future__ import annotations
@@ -130,6 +132,8 @@ def match_parts(
     findings: list[Finding] = []
     # 3. elements repeated across parts
     copies = _repeated(parts, first, node, global_ids, settings, findings)
+    if global_ids:
+        copies = np.concatenate([copies, _repeated_solids(parts, settings, findings)])
     keep = ~np.isin(element, copies)
 
     # 2. interface edges
@@ -406,10 +410,51 @@ def _repeated(
         index.append(b.rim_index)
         ids.append(b.rim_ids)
         part.append(np.full(b.rim_index.size, k))
-    corners = np.concatenate(rows)
+    return _copies(
+        np.concatenate(rows),
+        np.concatenate(index),
+        np.concatenate(ids),
+        np.concatenate(part),
+        settings,
+        findings,
+        "element",
+    )
+
+
+def _repeated_solids(
+    parts: Sequence[Boundary], settings: FindingSettings, findings: list[Finding]
+) -> np.ndarray:
+    """Solids at the parts' skins repeating a solid of another part (same corner ids in
+    any order: a halo copy written into both parts; parts with global ids only); adds
+    the finding; returns the copies' positions."""
+    rows = [b.solid_corners for b in parts]
+    if sum(r.shape[0] for r in rows) < 2:
+        return np.zeros(0, dtype=np.int64)
+    return _copies(
+        np.concatenate(rows),
+        np.concatenate([b.solid_index for b in parts]),
+        np.concatenate([b.solid_ids for b in parts]),
+        np.concatenate([np.full(b.solid_index.size, k) for k, b in enumerate(parts)]),
+        settings,
+        findings,
+        "solid",
+    )
+
+
+def _copies(
+    corners: np.ndarray,
+    index: np.ndarray,
+    ids: np.ndarray,
+    part: np.ndarray,
+    settings: FindingSettings,
+    findings: list[Finding],
+    what: str,
+) -> np.ndarray:
+    """Rows of equal ``corners`` ((r, c) keys) of elements at ``index`` (numbers
+    ``ids``, in ``part``): the later ones copies of the first, reported when no earlier
+    element of its group is in its own part (those the part's own check found)."""
     if corners.shape[0] < 2:
         return np.zeros(0, dtype=np.int64)
-    index, ids, part = np.concatenate(index), np.concatenate(ids), np.concatenate(part)
     order = np.lexsort((index, *corners.T[::-1]))
     corners, index, ids, part = corners[order], index[order], ids[order], part[order]
     same = np.concatenate([[False], (corners[1:] == corners[:-1]).all(axis=1)])
@@ -436,7 +481,7 @@ def _repeated(
                 int(copies.size),
                 element_ids=np.sort(ids[copies]),
                 node_ids=np.zeros(0, dtype=np.int64),
-                message=f"element {text}",
+                message=f"{what} {text}",
                 element_index=np.sort(index[copies]),
                 pairs=pairs,
             )

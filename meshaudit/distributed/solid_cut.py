@@ -14,7 +14,9 @@ ids are cracked there), free faces lying on others without matching them are
 ``non_conforming_faces`` with their ``hanging_nodes``, and the surfaces they form (skins,
 ``internal_voids``, cracks) are those of the whole mesh. The parts' own findings of
 these kinds are replaced by these (:func:`meshaudit.distributed.report.merged_findings`).
-Solids repeated in two parts (halo copies) are not matched: see the README.
+Solids repeated in two parts (halo copies) are reported as duplicates
+(:mod:`.interfaces`), but their faces stay in the table as given: the faces beside a halo
+layer are not matched again (see the README).
 """
 
 from __future__ import annotations

@@ -184,6 +184,11 @@ class Boundary:
     faces: np.ndarray
     face_element: np.ndarray
     face_ids: np.ndarray
+    #: solids with a corner on those nodes (parts with global ids): (s, 8) their corner
+    #: ids ascending, -1 padded; their positions in the whole mesh and numbers
+    solid_corners: np.ndarray
+    solid_index: np.ndarray
+    solid_ids: np.ndarray
 
 
 @dataclass
@@ -425,7 +430,30 @@ def _boundary(
         faces=np.where(faces >= 0, local[np.maximum(faces, 0)], -1),
         face_element=face_element + offset,
         face_ids=report.ids[face_element],
+        **_solid_rim(mesh, on_edge, gids, report.ids, offset),
     )
+
+
+def _solid_rim(
+    mesh: ElementMesh, on_edge: np.ndarray, gids: np.ndarray | None, ids: np.ndarray, offset: int
+) -> dict[str, np.ndarray]:
+    """The ``solid_*`` fields of :class:`Boundary`: solids with a corner on ``on_edge``."""
+    rows, index = [np.zeros((0, 8), dtype=np.int64)], [np.zeros(0, dtype=np.int64)]
+    for block in mesh.blocks if gids is not None else []:
+        if block.cell.dimension != 3:
+            continue
+        corners = block.connectivity[:, : block.cell.n_corners]
+        touch = on_edge[corners].any(axis=1)
+        pad = np.full((int(touch.sum()), 8), -1, dtype=np.int64)
+        pad[:, : corners.shape[1]] = np.sort(gids[corners[touch]], axis=1)
+        rows.append(pad)
+        index.append(block.index[touch])
+    at = np.concatenate(index)
+    return {
+        "solid_corners": np.concatenate(rows),
+        "solid_index": at + offset,
+        "solid_ids": ids[at],
+    }
 
 
 def free_faces(mesh: ElementMesh, copies: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
