@@ -719,8 +719,8 @@ def test_halo_layer_of_solids_is_reported_as_duplicates(tmp_path, client):
     """A 4 x 4 x 4 block of cubes cut in two across x, the second part also holding a
     copy of the first part's layer beside the cut (16 cubes, a halo written into both
     parts, same global ids): by construction 16 duplicate solids, each the copy of a
-    cube of that layer; the merged file's audit names the same pairs and both fail
-    (the boundary surfaces around the halo differ: see the README)."""
+    cube of that layer; the merged file's audit names the same pairs and both fail,
+    and both see one skin of 6 x 16 faces."""
     from meshaudit.mesh.parts import PartSet
 
     pts, hexes, i = _hexes(4, 1.0, 0.0)
@@ -733,3 +733,7 @@ def test_halo_layer_of_solids_is_reported_as_duplicates(tmp_path, client):
     # layer 1 is elements 16..31 of part 0; their copies are the last 16 of part 1
     assert sorted(map(tuple, pairs)) == [(16 + k, 64 + k) for k in range(16)]
     assert many.passed is one.passed is False
+    # without the copies, the faces beside them are matched again: one skin, the block's
+    skins = [(r["kind"], r["faces"]) for r in many.boundary_surfaces.records()]
+    assert skins == [(r["kind"], r["faces"]) for r in one.boundary_surfaces.records()]
+    assert skins == [("skin", 6 * 16)]

@@ -23,7 +23,7 @@ element by element.
    halo cell written into both parts, is found); without ids only corners on free
    edges can match, so a copy is found only when all corners of both elements lie on
    their parts' free edges. Solids with a corner on their part's skin are compared the
-   same way, by global ids only.
+   same way, by global ids only, and left out of the face matching (:mod:`.solid_cut`).
 4. **Free edges, cracks, loops.** The free edges left are the mesh's free edges. Their
    ends are grouped into places (:func:`meshaudit.mesh_checks.nodes.coincident_clusters`,
    the sweep the single-file check uses, with each end's tolerance from its part); a
@@ -46,8 +46,7 @@ of different parts, orientation patches that continue across a cut (shells and p
 containing z: each part's smaller group is flagged within the part; edges run the same
 way by the elements on both sides of a cut make an ``opposite_normals`` finding naming
 those elements, and a note), solids inside out relative to a neighbour in another
-part, and the faces beside solids repeated in two parts (halo copies of solids are
-reported as duplicates, compared by global ids, but their faces are matched as given).
+part, and solids repeated in two parts without global ids.
 """
 
 from __future__ import annotations
@@ -114,8 +113,9 @@ def match_parts(
     edge_part = part_of[ends[:, 0]] if ends.size else np.zeros(0, dtype=np.int64)
 
     # 1. one number per node of the whole mesh
+    keys = None  # the global id of each node number
     if global_ids:
-        _, node = np.unique(np.concatenate([b.key for b in parts]), return_inverse=True)
+        keys, node = np.unique(np.concatenate([b.key for b in parts]), return_inverse=True)
         node = node.ravel()
     else:
         node = _joined_by_place(xyz, tol, part_of)
@@ -226,7 +226,7 @@ def match_parts(
 
     # 6. (solids) the parts' free faces matched: cut faces interior, the face checks
     face_findings, surfaces = match_faces(
-        parts, corners, places.rep, node_xyz, node_number, settings
+        parts, corners, places.rep, node_xyz, node_number, settings, copies, keys
     )
     findings += face_findings
 

@@ -34,6 +34,7 @@ from ..engine.memory import return_large_blocks
 from ..judge.profiles import Profile
 from ..mesh import labels
 from ..mesh.elements import ElementMesh
+from ..mesh.faces import FaceTable
 from ..mesh.frames import SOLID_FRAME, XY_FRAME, Frame, area_vectors
 from ..mesh.parts import cell_count, global_node_ids
 from ..mesh.reading import build_elements, read_meshio_said
@@ -189,6 +190,12 @@ class Boundary:
     solid_corners: np.ndarray
     solid_index: np.ndarray
     solid_ids: np.ndarray
+    #: every face of those solids (with global ids): corner ids ascending (-1 padded),
+    #: the solid's position and that of the part's other solid on it (-1: none)
+    link_keys: np.ndarray
+    link_owner: np.ndarray
+    link_other: np.ndarray
+    link_other_ids: np.ndarray
 
 
 @dataclass
@@ -365,7 +372,8 @@ def _boundary(
     for f in report.findings:
         if f.kind == "duplicate_elements":
             copies = f.element_index
-    faces, face_element = free_faces(mesh, copies)
+    table = solid_table(mesh, copies)
+    faces, face_element = free_faces(table)
     if free is None and skin.size == 0:
         return None
     free_nodes = free.nodes if free is not None else np.zeros((0, 2), dtype=np.int64)
@@ -430,14 +438,20 @@ def _boundary(
         faces=np.where(faces >= 0, local[np.maximum(faces, 0)], -1),
         face_element=face_element + offset,
         face_ids=report.ids[face_element],
-        **_solid_rim(mesh, on_edge, gids, report.ids, offset),
+        **_solid_rim(mesh, on_edge, gids, report.ids, offset, table),
     )
 
 
 def _solid_rim(
-    mesh: ElementMesh, on_edge: np.ndarray, gids: np.ndarray | None, ids: np.ndarray, offset: int
+    mesh: ElementMesh,
+    on_edge: np.ndarray,
+    gids: np.ndarray | None,
+    ids: np.ndarray,
+    offset: int,
+    table: tuple[FaceTable, np.ndarray] | None,
 ) -> dict[str, np.ndarray]:
-    """The ``solid_*`` fields of :class:`Boundary`: solids with a corner on ``on_edge``."""
+    """The ``solid_*`` and ``link_*`` fields of :class:`Boundary`: solids with a corner
+    on ``on_edge`` and their faces (:func:`face_links`)."""
     rows, index = [np.zeros((0, 8), dtype=np.int64)], [np.zeros(0, dtype=np.int64)]
     for block in mesh.blocks if gids is not None else []:
         if block.cell.dimension != 3:
@@ -449,26 +463,60 @@ def _solid_rim(
         rows.append(pad)
         index.append(block.index[touch])
     at = np.concatenate(index)
+    keys, owner, other = face_links(table, np.sort(at), gids)
     return {
         "solid_corners": np.concatenate(rows),
         "solid_index": at + offset,
         "solid_ids": ids[at],
+        "link_keys": keys,
+        "link_owner": owner + offset,
+        "link_other": np.where(other >= 0, other + offset, -1),
+        "link_other_ids": np.where(other >= 0, ids[np.maximum(other, 0)], -1),
     }
 
 
-def free_faces(mesh: ElementMesh, copies: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """(corners (f, 4) in outward order, -1 padded; (f,) the solid's position) of the
-    faces one solid of ``mesh`` uses (its skin, the cut included), from the face table
-    of its solids without the ``copies`` (positions of duplicates)."""
+def solid_table(mesh: ElementMesh, copies: np.ndarray) -> tuple[FaceTable, np.ndarray] | None:
+    """The face table of the solids of ``mesh`` without the ``copies`` (positions of
+    duplicates) and the solids' positions; None without solids."""
     from ..mesh.faces import face_table
 
     if not mesh.has_solids:
-        return np.zeros((0, 4), dtype=np.int64), np.zeros(0, dtype=np.int64)
+        return None
     solid, positions = mesh.solid_part()
-    keep = ~np.isin(positions, copies)
-    table = face_table(solid, keep)
-    free = table.boundary()
-    return table.corners[free].astype(np.int64), positions[table.element[free]]
+    return face_table(solid, ~np.isin(positions, copies)), positions
+
+
+def free_faces(table: tuple[FaceTable, np.ndarray] | None) -> tuple[np.ndarray, np.ndarray]:
+    """(corners (f, 4) in outward order, -1 padded; (f,) the solid's position) of the
+    faces one solid uses (the part's skin, the cut included), from :func:`solid_table`."""
+    if table is None:
+        return np.zeros((0, 4), dtype=np.int64), np.zeros(0, dtype=np.int64)
+    faces, positions = table
+    free = faces.boundary()
+    return faces.corners[free].astype(np.int64), positions[faces.element[free]]
+
+
+def face_links(
+    table: tuple[FaceTable, np.ndarray] | None, solids: np.ndarray, gids: np.ndarray | None
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Every face of the ``solids`` (positions, ascending) as (corner ids ascending
+    (f, 4), -1 padded at the end; the solid's position; the position of the part's other
+    solid on it, -1 when none or several): what the driver needs to match the faces
+    beside a solid found to be a copy of another part's."""
+    none = np.zeros(0, dtype=np.int64)
+    if table is None or gids is None or solids.size == 0:
+        return none.reshape(0, 4), none, none
+    faces, positions = table
+    owner = positions[faces.element]
+    mine = np.flatnonzero(np.isin(owner, solids))
+    corners = faces.corners[mine].astype(np.int64)
+    keys = np.sort(np.where(corners >= 0, gids[np.maximum(corners, 0)], np.iinfo(np.int64).max))
+    keys[keys == np.iinfo(np.int64).max] = -1
+    face = faces.face[mine]
+    two = faces.uses[face] == 2
+    other_use = np.where(faces.first[face] == mine, faces.last[face], faces.first[face])
+    other = np.where(two, owner[other_use], -1)
+    return keys, owner[mine], other
 
 
 def skin_nodes(mesh: ElementMesh) -> np.ndarray:
