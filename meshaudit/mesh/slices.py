@@ -17,9 +17,8 @@ one-line reason; such a file is audited whole without ``--slices``.
 Numbering is that of the single-file audit of the same file (VTK cell index and point
 index from 0, see :mod:`meshaudit.mesh.labels`): a slice's elements are numbered from
 its first row, its nodes by their row in the geometry, and the rows are the global node
-ids the parts are matched by. Cell-centred attributes are sliced with the elements (the
-region arrays of :mod:`meshaudit.mesh.regions` among them); node-centred ones are not
-read.
+ids the parts are matched by. Cell-centred attributes are read for the slice's
+elements only; node-centred ones are not read.
 """
 
 from __future__ import annotations
