@@ -15,8 +15,13 @@ process:
 
 and checks that both JSON reports have the same verdict, counts and findings.
 
+``--xdmf``: the same mesh as ONE XDMF file with HDF5 heavy data (cells in piece order),
+audited as ``meshaudit check plate.xdmf --slices PARTS`` against
+``meshaudit check plate.xdmf`` (meshio reading it whole).
+
     python -m benchmarks.bench_distributed --elements 4e6 --parts 16
     python -m benchmarks.bench_distributed --elements 4e7 --parts 160 --no-single
+    python -m benchmarks.bench_distributed --elements 1e6 --parts 8 --xdmf
 """
 
 from __future__ import annotations
@@ -37,14 +42,19 @@ from .meshgen import distorted_plate
 from .run import run_child
 
 
-def write_parts(n_elements: int, parts: int, out: Path, single: bool) -> Path:
-    """Write the pieces, the .pvtu and (``single``) the merged VTU; returns the .pvtu."""
+def write_parts(n_elements: int, parts: int, out: Path, single: bool, xdmf: bool = False) -> Path:
+    """Write the pieces, the .pvtu and (``single``) the merged VTU; returns the .pvtu.
+    ``xdmf``: only the merged mesh, as one XDMF file with HDF5 heavy data; returns it."""
     mesh = distorted_plate(n_elements)
     nx, _ = mesh.info["grid"]
     cells = mesh.cells[0].data
     points = mesh.points
     owner = (np.arange(cells.shape[0]) % nx) * parts // nx
     order = np.argsort(owner, kind="stable")
+    if xdmf:
+        path = out / "plate.xdmf"
+        meshio.write(path, meshio.Mesh(points, [("quad", cells[order])]), file_format="xdmf")
+        return path
     names = []
     for k in range(parts):
         mine = cells[owner == k]
@@ -84,13 +94,14 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--memory-limit", default="1.5GB")
     parser.add_argument("--no-single", action="store_true", help="skip the one-process audit")
     parser.add_argument("--out", type=Path, help="keep the files here (default: a temporary)")
+    parser.add_argument("--xdmf", action="store_true", help="one XDMF file read in slices")
     parser.add_argument("--write-only", action="store_true", help=argparse.SUPPRESS)
     args = parser.parse_args(argv)
     out = args.out or Path(tempfile.mkdtemp(prefix="meshaudit-dist-"))
     out.mkdir(parents=True, exist_ok=True)
     n = int(args.elements)
     if args.write_only:
-        write_parts(n, args.parts, out, not args.no_single)
+        write_parts(n, args.parts, out, not args.no_single, args.xdmf)
         return 0
     from distributed import Client, LocalCluster
 
@@ -109,13 +120,20 @@ def main(argv: list[str] | None = None) -> int:
         "--out",
         str(out),
     ]
-    run_child(argv_write + (["--no-single"] if args.no_single else []), Path.cwd())
-    pvtu = out / "plate.pvtu"
+    run_child(
+        argv_write
+        + (["--no-single"] if args.no_single else [])
+        + (["--xdmf"] if args.xdmf else []),
+        Path.cwd(),
+    )
+    pvtu = out / ("plate.xdmf" if args.xdmf else "plate.pvtu")
+    slices = ["--slices", str(args.parts)] if args.xdmf else []
     written = time.perf_counter() - start
-    size_mb = sum(p.stat().st_size for p in out.glob("plate_0*.vtu")) / 1e6
+    pieces = out.glob("plate.h5") if args.xdmf else out.glob("plate_0*.vtu")
+    size_mb = sum(p.stat().st_size for p in pieces) / 1e6
     print(
-        f"{n:,} quads in {args.parts} parts ({size_mb:.0f} MB of pieces), "
-        f"written in {written:.1f} s",
+        f"{n:,} quads in {args.parts} {'slices' if args.xdmf else 'parts'} "
+        f"({size_mb:.0f} MB of {'HDF5' if args.xdmf else 'pieces'}), written in {written:.1f} s",
         flush=True,
     )
     rows = []
@@ -138,6 +156,7 @@ def main(argv: list[str] | None = None) -> int:
                 "meshaudit",
                 "check",
                 str(pvtu),
+                *slices,
                 "--cluster",
                 cluster.scheduler_address,
                 "--json",
@@ -158,7 +177,7 @@ def main(argv: list[str] | None = None) -> int:
                 "-m",
                 "meshaudit",
                 "check",
-                str(out / "plate_merged.vtu"),
+                str(pvtu if args.xdmf else out / "plate_merged.vtu"),
                 "--json",
                 str(single_report),
                 "--quiet",

@@ -91,3 +91,28 @@ def write_partitioned(
 def gid_of(used: np.ndarray) -> np.ndarray:
     """Global node id of each merged point: its index in the merged file."""
     return used.astype(np.int64)
+
+
+def write_xdmf_plate(folder: Path, nx: int = 24, ny: int = 10, defects: bool = True) -> Path:
+    """The bracket plate of :func:`plate` as ONE XDMF file with HDF5 heavy data (meshio's
+    XDMF writer), quads in row order, so that contiguous slices of elements are bands of
+    rows cut part-way along a row. ``defects`` plants, by construction: a reversed element
+    (row 5, column 1), a distorted one (row 5, column nx - 2), a crack along y = 6 where
+    the elements of row 6, columns 17..20, use copies of the nodes at x = 18..20 (three
+    distinct nodes at the place of others, four crack edges on each side), and a copy
+    of element (row 3, column 10) appended as the last cell."""
+    pts, quads = plate(nx, ny)
+    if defects:
+        quads[5 * nx + 1] = quads[5 * nx + 1][[0, 3, 2, 1]]
+        pts[quads[5 * nx + nx - 2, 2], :2] += [0.45, 0.55]
+        on_line = 6 * (nx + 1) + np.arange(18, 21)
+        copies = np.arange(len(pts), len(pts) + on_line.size)
+        remap = np.arange(len(pts))
+        remap[on_line] = copies
+        row6 = 6 * nx + np.arange(17, 21)
+        quads[row6] = remap[quads[row6]]
+        pts = np.concatenate([pts, pts[on_line]])
+        quads = np.concatenate([quads, quads[[3 * nx + 10]]])
+    path = folder / "plate.xdmf"
+    meshio.write(path, meshio.Mesh(pts, [("quad", quads)]), file_format="xdmf")
+    return path

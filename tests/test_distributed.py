@@ -21,7 +21,6 @@ from partitioned_meshes import write_partitioned
 import meshaudit
 from meshaudit.distributed import audit_parts
 from meshaudit.distributed.sketch import KEPT_BITS, Sketch
-from meshaudit.metrics import NEIGHBOUR_METRICS
 from meshaudit.results.report import PERCENTILES
 
 distributed = pytest.importorskip("distributed")
@@ -123,9 +122,7 @@ def test_statistics_exact_counts_and_ends_percentiles_within_the_sketch_bound(tm
         for key in ("count", "infinite", "min", "max", "past_warn", "past_fail"):
             assert entry[key] == ref[key], (name, key)
         values = one.metrics[name][np.isfinite(one.metrics[name])]
-        if values.size == 0 or name in NEIGHBOUR_METRICS:
-            # the size ratio of an element on a cut is measured within its part (a stated
-            # gap, see the README's partitioned meshes): its distribution differs there
+        if values.size == 0:
             continue
         expected = np.percentile(values, [q for _, q in PERCENTILES])  # numpy's linear
         got = np.array([entry[k] for k, _ in PERCENTILES])
@@ -444,7 +441,12 @@ def test_normals_disagreeing_across_a_cut_are_reported(tmp_path, client):
         assert seam == [3, 7, 11, 15, 16, 20, 24, 28]  # column 3 of part 0, column 0 of part 1
     files, merged = _half_cylinder(tmp_path, flip_second=False)
     many = audit_parts(PartSet("shell", tuple(files)), cluster=client)
-    assert many.findings == [] and _findings(meshaudit.audit(str(merged))) == {}
+    one = meshaudit.audit(str(merged))
+    assert many.findings == [] and _findings(one) == {}
+    # a shell: the sizes across the cut come from a round of their own, with the same
+    # result (the extremes are exact, the percentiles within the sketch's bound)
+    for key in ("count", "min", "max", "past_warn", "past_fail"):
+        assert many.statistics()["size_ratio"][key] == one.statistics()["size_ratio"][key]
 
 
 def test_benchmark_runs_and_agrees_with_one_process(tmp_path):
@@ -477,3 +479,261 @@ def test_benchmark_runs_and_agrees_with_one_process(tmp_path):
     assert done.returncode == 0, done.stderr[-2000:]
     assert "same verdict, counts and findings: True" in done.stdout
     assert "| partitioned | 2,000 | 2 | 2 |" in done.stdout
+
+
+def _graded_strip(folder, global_ids: bool, tilted: bool = False):
+    """Two parts of 2 x 3 quads, 0.25 wide in part 0 (x in 0..0.5) and 1 wide in part 1
+    (x in 0.5..2.5), 1 high: by construction the size ratio (sqrt of the area ratio) is
+    sqrt(1 / 0.25) = 2 for the quads on either side of the cut x = 0.5 and 1 for the
+    others; and the same strip in one file (numpy and meshio; ids = merged point index)."""
+    import meshio
+
+    xs = np.array([0.0, 0.25, 0.5, 1.5, 2.5])
+    x, y = np.meshgrid(xs, np.arange(4.0))
+    pts = np.stack([x.ravel(), y.ravel(), np.zeros(x.size)], axis=1)
+    if tilted:  # turned 30 degrees about the x axis: a plane that is not x-y
+        c, s = np.cos(np.pi / 6), np.sin(np.pi / 6)
+        pts = pts @ np.array([[1.0, 0, 0], [0, c, s], [0, -s, c]])
+    i, j = np.meshgrid(np.arange(4), np.arange(3))
+    n0 = (j * 5 + i).ravel()
+    quads = np.stack([n0, n0 + 1, n0 + 6, n0 + 5], axis=1)
+    owner = i.ravel() // 2
+    files = []
+    for p in range(2):
+        cells = quads[owner == p]
+        used = np.unique(cells)
+        data = {"GlobalNodeId": used} if global_ids else {}
+        path = folder / f"strip_{p}.vtu"
+        local = np.searchsorted(used, cells)
+        meshio.write(path, meshio.Mesh(pts[used], [("quad", local)], point_data=data))
+        files.append(str(path))
+    merged = folder / "strip_merged.vtu"
+    meshio.write(
+        merged, meshio.Mesh(pts, [("quad", np.concatenate([quads[owner == p] for p in range(2)]))])
+    )
+    return files, merged
+
+
+@pytest.mark.parametrize(("global_ids", "tilted"), [(True, False), (False, False), (True, True)])
+def test_size_ratio_across_a_cut(tmp_path, client, global_ids, tilted):
+    """Every element's size_ratio (read back from the per-part element reports) is the
+    closed-form value of the graded strip and that of the merged file's audit (on a
+    tilted plane, where the sizes take a round of their own, to rounding)."""
+    import csv
+
+    from meshaudit.mesh.parts import PartSet
+    from meshaudit.outputs.part_elements import PartWriter
+
+    files, merged = _graded_strip(tmp_path, global_ids, tilted)
+    out = tmp_path / "elements"
+    out.mkdir()
+    many = audit_parts(
+        PartSet("strip", tuple(files)), cluster=client, element_writer=PartWriter(str(out), "strip")
+    )
+    values = {}
+    for k in range(2):
+        with open(out / f"strip.part{k:05d}.csv", newline="") as fh:
+            for row in csv.DictReader(fh):
+                values[int(row["index"])] = float(row["size_ratio"])
+    # merged order: part 0's six quads (columns 0, 1 of rows 0..2), then part 1's
+    column = np.array([0, 1, 0, 1, 0, 1, 2, 3, 2, 3, 2, 3])
+    expected = np.where((column == 1) | (column == 2), 2.0, 1.0)
+    got = np.array([values[e] for e in range(12)])
+    one = meshaudit.audit(str(merged))
+    if tilted:
+        assert many.summary.frame == one.summary.frame == "planar"
+        assert np.allclose(got, expected, rtol=1e-12, atol=0)
+        assert np.allclose(got, one.metrics["size_ratio"], rtol=1e-12, atol=0)
+        return
+    assert np.array_equal(got, expected)
+    assert np.array_equal(got, one.metrics["size_ratio"])
+    assert many.statistics()["size_ratio"] == one.statistics()["size_ratio"]
+
+
+def test_columnar_element_reports_read_back(tmp_path, run_cli):
+    """--elements DIR --columnar writes one Parquet file per part; read back with pyarrow
+    they hold every element once, by position, with the graded strip's closed-form area
+    (0.25 and 1) and size ratio (2 beside the cut, else 1), and the merged file's
+    verdicts."""
+    pq = pytest.importorskip("pyarrow.parquet")
+    _, merged = _graded_strip(tmp_path, global_ids=True)
+    out = tmp_path / "elements"
+    out.mkdir()
+    pattern = str(tmp_path / "strip_?.vtu")
+    res = run_cli("check", "--parts", pattern, "--elements", out, "--columnar", "--quiet")
+    assert res.returncode in (0, 1), res.stderr
+    assert sorted(p.name for p in out.iterdir()) == [
+        "strip_.part00000.parquet",
+        "strip_.part00001.parquet",
+        "strip_.parts.csv",
+    ]
+    tables = [pq.read_table(out / f"strip_.part{k:05d}.parquet").to_pydict() for k in range(2)]
+    rows = {name: [v for t in tables for v in t[name]] for name in tables[0]}
+    assert rows["index"] == list(range(12))
+    column = np.array([0, 1, 0, 1, 0, 1, 2, 3, 2, 3, 2, 3])
+    assert np.allclose(rows["area"], np.where(column < 2, 0.25, 1.0), rtol=1e-12)
+    assert rows["size_ratio"] == np.where((column == 1) | (column == 2), 2.0, 1.0).tolist()
+    one = meshaudit.audit(str(merged))
+    assert rows["verdict"] == one.verdict_names.astype(str).tolist()
+
+
+def _hexes(n: int, h: float, x0: float):
+    """Points and hexahedra of an n x n x n block of cubes of side h from (x0, 0, 0);
+    node (i, j, k) at index (i (n+1) + j)(n+1) + k; and each cube's i."""
+    x, y, z = np.meshgrid(*(np.arange(n + 1.0),) * 3, indexing="ij")
+    pts = np.stack([x0 + h * x.ravel(), h * y.ravel(), h * z.ravel()], 1)
+
+    def idx(i, j, k):
+        return (i * (n + 1) + j) * (n + 1) + k
+
+    i, j, k = (a.ravel() for a in np.meshgrid(*(np.arange(n),) * 3, indexing="ij"))
+    corners = [
+        (0, 0, 0),
+        (1, 0, 0),
+        (1, 1, 0),
+        (0, 1, 0),
+        (0, 0, 1),
+        (1, 0, 1),
+        (1, 1, 1),
+        (0, 1, 1),
+    ]
+    hexes = np.stack([idx(i + a, j + b, k + c) for a, b, c in corners], 1)
+    return pts, hexes, i
+
+
+def _solid_parts(folder, stem, pts, cells, gid):
+    """Each part's hexahedra (rows of ``cells``) written with GlobalNodeId = ``gid`` of
+    the points it uses, and the merged file (points by gid, cells in part order)."""
+    import meshio
+
+    files = []
+    for p, c in enumerate(cells):
+        used = np.unique(c)
+        path = folder / f"{stem}_{p}.vtu"
+        mesh = meshio.Mesh(
+            pts[used],
+            [("hexahedron", np.searchsorted(used, c))],
+            point_data={"GlobalNodeId": gid[used]},
+        )
+        meshio.write(path, mesh)
+        files.append(str(path))
+    points = np.zeros((int(gid.max()) + 1, 3))
+    points[gid] = pts
+    merged = folder / f"{stem}_merged.vtu"
+    meshio.write(
+        merged, meshio.Mesh(points, [("hexahedron", np.concatenate([gid[c] for c in cells]))])
+    )
+    return files, merged
+
+
+def test_crack_between_solid_parts(tmp_path, client):
+    """A 4 x 4 x 4 block of cubes cut in two across x, the second part using nodes of its
+    own at the 9 inner nodes of the cut (distinct ids at the places of the first part's):
+    by construction each of the 16 cut faces, on either side, touches one of them, so
+    32 free faces lie on other free faces at distinct nodes (crack_faces) and the 9
+    places hold unmerged nodes, as in the merged file; the cut faces away from the crack
+    are never free."""
+    from meshaudit.mesh.parts import PartSet
+
+    pts, hexes, i = _hexes(4, 1.0, 0.0)
+    cut = np.flatnonzero((np.abs(pts[:, 0] - 2) < 1e-9) & (pts[:, 1] % 4 > 0) & (pts[:, 2] % 4 > 0))
+    remap = np.arange(len(pts))
+    remap[cut] = len(pts) + np.arange(cut.size)
+    cells = [hexes[i < 2], remap[hexes[i >= 2]]]
+    pts = np.concatenate([pts, pts[cut]])
+    files, merged = _solid_parts(tmp_path, "cracked", pts, cells, np.arange(len(pts)))
+    one = meshaudit.audit(str(merged))
+    many = audit_parts(PartSet("cracked", tuple(files)), cluster=client)
+    assert _findings(many) == _findings(one)
+    counts = {f.kind: f.count for f in many.findings}
+    assert counts["crack_faces"] == 32 and counts["coincident_nodes"] == 9
+    assert many.passed is one.passed
+    assert [r["kind"] for r in many.boundary_surfaces.records()] == [
+        r["kind"] for r in one.boundary_surfaces.records()
+    ]
+
+
+def test_non_conforming_solid_parts(tmp_path, client):
+    """A 2 x 2 x 2 block of cubes of side 2 (x in 0..4) beside a 4 x 4 x 4 block of cubes
+    of side 1 (x in 4..8): on the cut x = 4 the fine part has 25 nodes, the coarse part
+    9 of them, so by construction 16 fine nodes hang on the coarse faces, as in the
+    merged file (nodes numbered by place)."""
+    from meshaudit.mesh.parts import PartSet
+
+    pa, ca, _ = _hexes(2, 2.0, 0.0)
+    pb, cb, _ = _hexes(4, 1.0, 4.0)
+    pts = np.concatenate([pa, pb])
+    key = np.round(pts * 2).astype(np.int64) @ np.array([1, 100, 10_000])
+    _, first, ident = np.unique(key, return_index=True, return_inverse=True)
+    gid = np.argsort(np.argsort(first))[ident]
+    files, merged = _solid_parts(tmp_path, "graded", pts, [ca, cb + len(pa)], gid)
+    one = meshaudit.audit(str(merged))
+    many = audit_parts(PartSet("graded", tuple(files)), cluster=client)
+    assert _findings(many) == _findings(one)
+    counts = {f.kind: f.count for f in many.findings}
+    assert counts["hanging_nodes"] == 16
+    assert "non_conforming_faces" in counts
+    assert many.passed is one.passed
+
+
+def test_parts_overlapping_each_other(tmp_path, client):
+    """Two parts of 4 x 3 unit squares, the second moved to start at x = 3.5, inside the
+    first (nodes of its own): by construction each of its first column's 3 squares
+    covers half of the first part's last-column square in its row, 3 pairs of elements
+    of different parts overlapping, as in the merged file."""
+    import meshio
+
+    from meshaudit.mesh.parts import PartSet
+
+    def squares(x0):
+        x, y = np.meshgrid(x0 + np.arange(5.0), np.arange(4.0))
+        pts = np.stack([x.ravel(), y.ravel(), np.zeros(x.size)], axis=1)
+        i, j = np.meshgrid(np.arange(4), np.arange(3))
+        n0 = (j * 5 + i).ravel()
+        return pts, np.stack([n0, n0 + 1, n0 + 6, n0 + 5], axis=1)
+
+    (pa, qa), (pb, qb) = squares(0.0), squares(3.5)
+    files = []
+    for k, (p, q) in enumerate(((pa, qa), (pb, qb))):
+        path = tmp_path / f"lap_{k}.vtu"
+        ids = np.arange(len(p)) + k * len(pa)
+        meshio.write(path, meshio.Mesh(p, [("quad", q)], point_data={"GlobalNodeId": ids}))
+        files.append(str(path))
+    merged = tmp_path / "lap_merged.vtu"
+    meshio.write(
+        merged,
+        meshio.Mesh(np.concatenate([pa, pb]), [("quad", np.concatenate([qa, qb + len(pa)]))]),
+    )
+    one = meshaudit.audit(str(merged))
+    many = audit_parts(PartSet("lap", tuple(files)), cluster=client)
+    found = {f.kind: f for f in many.findings}
+    assert found["overlapping_elements"].count == 3
+    # row j: square (3, j) of part 0 (element 4 j + 3) over square (0, j) of part 1 (12 + 4 j)
+    expected = sorted((4 * j + 3, 12 + 4 * j) for j in range(3))
+    assert sorted(map(tuple, found["overlapping_elements"].pairs.tolist())) == expected
+    assert _findings(many) == _findings(one)
+    assert many.passed is one.passed
+
+
+def test_halo_layer_of_solids_is_reported_as_duplicates(tmp_path, client):
+    """A 4 x 4 x 4 block of cubes cut in two across x, the second part also holding a
+    copy of the first part's layer beside the cut (16 cubes, a halo written into both
+    parts, same global ids): by construction 16 duplicate solids, each the copy of a
+    cube of that layer; the merged file's audit names the same pairs and both fail,
+    and both see one skin of 6 x 16 faces."""
+    from meshaudit.mesh.parts import PartSet
+
+    pts, hexes, i = _hexes(4, 1.0, 0.0)
+    cells = [hexes[i < 2], np.concatenate([hexes[i >= 2], hexes[i == 1]])]
+    files, merged = _solid_parts(tmp_path, "halo", pts, cells, np.arange(len(pts)))
+    one = meshaudit.audit(str(merged))
+    many = audit_parts(PartSet("halo", tuple(files)), cluster=client)
+    assert _findings(many) == _findings(one)
+    pairs = {f.kind: f for f in many.findings}["duplicate_elements"].pairs.tolist()
+    # layer 1 is elements 16..31 of part 0; their copies are the last 16 of part 1
+    assert sorted(map(tuple, pairs)) == [(16 + k, 64 + k) for k in range(16)]
+    assert many.passed is one.passed is False
+    # without the copies, the faces beside them are matched again: one skin, the block's
+    skins = [(r["kind"], r["faces"]) for r in many.boundary_surfaces.records()]
+    assert skins == [(r["kind"], r["faces"]) for r in one.boundary_surfaces.records()]
+    assert skins == [("skin", 6 * 16)]

@@ -1,4 +1,5 @@
-"""``meshaudit check`` of a partitioned mesh: a ``.pvtu``, or ``--parts PATTERN``.
+"""``meshaudit check`` of a partitioned mesh: a ``.pvtu``, ``--parts PATTERN``, or one
+XDMF file read in slices (``--slices N``, see :mod:`meshaudit.mesh.slices`).
 
 The parts are audited as one mesh (:func:`meshaudit.distributed.audit_parts`): one
 verdict, one report, the exit statuses of one mesh. Options: ``--cluster ADDRESS`` (or
@@ -30,6 +31,13 @@ def add_options(check: argparse.ArgumentParser) -> None:
         "audited as one mesh (a .pvtu needs no --parts)",
     )
     check.add_argument(
+        "--slices",
+        type=int,
+        metavar="N",
+        help="audit one XDMF file (HDF5 heavy data) as a partitioned mesh of N slices of "
+        "contiguous elements, each worker reading only its slice",
+    )
+    check.add_argument(
         "--cluster",
         metavar="ADDRESS",
         help="Dask scheduler to audit a partitioned mesh on (default: a local cluster)",
@@ -50,7 +58,7 @@ def wanted(args: argparse.Namespace, inputs: list[tuple[str, str | None]]) -> bo
     """Whether this check is of one partitioned mesh."""
     from ..mesh.parts import is_partitioned
 
-    if getattr(args, "parts", False):
+    if getattr(args, "parts", False) or getattr(args, "slices", None) is not None:
         return True
     return len(inputs) == 1 and is_partitioned(inputs[0][0])
 
@@ -58,6 +66,7 @@ def wanted(args: argparse.Namespace, inputs: list[tuple[str, str | None]]) -> bo
 def run(args: argparse.Namespace) -> int:
     """Audit the partitioned mesh, write its reports, print the verdict; exit status."""
     from ..mesh.parts import PartSet, is_partitioned, parts_of_pattern, parts_of_pvtu
+    from ..mesh.slices import is_xdmf, read_layout, xdmf_slices
     from ..outputs import atomic, terminal
     from ..outputs.destinations import check_destinations, protected_inputs
     from ..outputs.process import terminal_output
@@ -66,7 +75,14 @@ def run(args: argparse.Namespace) -> int:
     from .check import _report_renderer
     from .options import console
 
-    if args.parts:
+    if args.slices is not None:
+        if args.parts or len(args.mesh) != 1:
+            raise MeshAuditError("--slices takes one XDMF file (and no --parts)")
+        if not is_xdmf(args.mesh[0]):
+            raise MeshAuditError(f"{args.mesh[0]}: --slices reads an XDMF file (.xdmf)")
+        parts = xdmf_slices(args.mesh[0], args.slices)
+        heavy = read_layout(args.mesh[0]).heavy_files
+    elif args.parts:
         sets = [parts_of_pattern(p) for p in args.mesh]
         files = tuple(dict.fromkeys(f for s in sets for f in s.parts))
         parts = PartSet(" ".join(args.mesh), files)
@@ -74,6 +90,8 @@ def run(args: argparse.Namespace) -> int:
         parts = parts_of_pvtu(args.mesh[0])
     else:
         raise MeshAuditError(f"{args.mesh[0]}: not a partitioned mesh (.pvtu); use --parts")
+    if args.slices is None:
+        heavy = ()
     if getattr(args, "material", None) is not None:
         raise MeshAuditError("--material: a partitioned mesh is audited without a material")
     for kind in WHOLE_MESH_ONLY:
@@ -96,7 +114,7 @@ def run(args: argparse.Namespace) -> int:
     cluster = args.cluster or resolved_cluster(resolved)
     reports = [(getattr(resolved, k), k) for k in ("json", "junit") if getattr(resolved, k)]
     protected = protected_inputs(
-        [Path(p) for p in (parts.source, *parts.parts) if Path(p).is_file()],
+        [Path(p) for p in (parts.source, *parts.parts, *heavy) if _is_file(p)],
         getattr(resolved, "config_path", None),
         resolved.profile,
     )
@@ -133,3 +151,8 @@ def resolved_cluster(args: argparse.Namespace) -> str | None:
     if path is None:
         return None
     return settings_for(None, path).cluster
+
+
+def _is_file(path: object) -> bool:
+    """Whether ``path`` is a file name naming a file (an XDMF slice is not a file)."""
+    return isinstance(path, str) and Path(path).is_file()

@@ -1,8 +1,10 @@
-"""Matching parts along their boundaries, on the driver, from the parts' free edges.
+"""Matching parts along their boundaries, on the driver, from the parts' free edges and
+free faces.
 
 Each part sends its free edges (edges one of its surface elements uses) with their end
-nodes (:class:`~meshaudit.distributed.work.Boundary`); everything here works on those
-arrays alone, sorted and grouped as a whole, never element by element.
+nodes, and its solids' free faces (:class:`~meshaudit.distributed.work.Boundary`);
+everything here works on those arrays alone, sorted and grouped as a whole, never
+element by element.
 
 1. **Nodes across parts.** Where every part carries global node ids, two ends with the
    same id are one node. Otherwise ends of *different* parts closer than the
@@ -20,7 +22,8 @@ arrays alone, sorted and grouped as a whole, never element by element.
    node id where the parts have them (so a copy of a neighbouring part's element, a
    halo cell written into both parts, is found); without ids only corners on free
    edges can match, so a copy is found only when all corners of both elements lie on
-   their parts' free edges.
+   their parts' free edges. Solids with a corner on their part's skin are compared the
+   same way, by global ids only, and left out of the face matching (:mod:`.solid_cut`).
 4. **Free edges, cracks, loops.** The free edges left are the mesh's free edges. Their
    ends are grouped into places (:func:`meshaudit.mesh_checks.nodes.coincident_clusters`,
    the sweep the single-file check uses, with each end's tolerance from its part); a
@@ -33,18 +36,23 @@ arrays alone, sorted and grouped as a whole, never element by element.
 5. **Unmerged nodes across parts** (global ids): a place holding ends of two or more
    parts with different ids is a ``coincident_nodes`` place.
 
+6. **Solids** (:mod:`.solid_cut`): the parts' free faces on these node numbers make the
+   whole mesh's face table; cut faces are interior, and the single-file face checks run
+   over the faces left free (cracks, non-conforming faces and their hanging nodes,
+   non-manifold faces, voids).
+
 Not matched across parts (each part's own checks still run): overlaps between elements
 of different parts, orientation patches that continue across a cut (shells and planes
 containing z: each part's smaller group is flagged within the part; edges run the same
 way by the elements on both sides of a cut make an ``opposite_normals`` finding naming
-those elements, and a note), and for solids anything but the nodes of their parts' free
-faces.
+those elements, and a note), solids inside out relative to a neighbour in another
+part, and solids repeated in two parts without global ids.
 """
 
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
@@ -57,6 +65,8 @@ from ..mesh_checks.edges import FreeEdges, chained, crack_flags, with_winding
 from ..mesh_checks.findings import MESSAGE_IDS, Finding
 from ..mesh_checks.hanging import HangingNodes, hanging_nodes
 from ..mesh_checks.nodes import NodeClusters, coincident_clusters
+from ..mesh_checks.surfaces import BoundarySurfaces
+from .solid_cut import face_nodes, match_faces
 from .work import Boundary
 
 
@@ -69,6 +79,10 @@ class CrossPart:
     free: FreeEdges | None
     shared_nodes: int
     notes: list[str]
+    #: the boundary surfaces of the solids of the whole mesh (None without solids)
+    surfaces: BoundarySurfaces | None = None
+    #: whole-mesh positions of elements repeating an element of another part
+    copies: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.int64))
 
 
 def _some(values: np.ndarray) -> str:
@@ -99,8 +113,9 @@ def match_parts(
     edge_part = part_of[ends[:, 0]] if ends.size else np.zeros(0, dtype=np.int64)
 
     # 1. one number per node of the whole mesh
+    keys = None  # the global id of each node number
     if global_ids:
-        _, node = np.unique(np.concatenate([b.key for b in parts]), return_inverse=True)
+        keys, node = np.unique(np.concatenate([b.key for b in parts]), return_inverse=True)
         node = node.ravel()
     else:
         node = _joined_by_place(xyz, tol, part_of)
@@ -117,6 +132,8 @@ def match_parts(
     findings: list[Finding] = []
     # 3. elements repeated across parts
     copies = _repeated(parts, first, node, global_ids, settings, findings)
+    if global_ids:
+        copies = np.concatenate([copies, _repeated_solids(parts, settings, findings)])
     keep = ~np.isin(element, copies)
 
     # 2. interface edges
@@ -174,6 +191,8 @@ def match_parts(
     fa, fb = a[free_mask], b[free_mask]
     used = np.zeros(n_nodes, dtype=bool)
     used[fa] = used[fb] = True
+    corners = face_nodes(parts, first, node)  # the solids' free faces of every part
+    used[corners[corners >= 0]] = True
     places = _places(node_xyz, node_tol, np.flatnonzero(used), settings)
     crack = crack_flags(places.rep[fa], places.rep[fb], max(n_nodes, 1))
     interface = on_interface[free_mask]
@@ -205,6 +224,12 @@ def match_parts(
             )
         )
 
+    # 6. (solids) the parts' free faces matched: cut faces interior, the face checks
+    face_findings, surfaces = match_faces(
+        parts, corners, places.rep, node_xyz, node_number, settings, copies, keys
+    )
+    findings += face_findings
+
     # 5. unmerged nodes of different parts at one place
     if global_ids and settings.enabled("coincident_nodes") and places.members.size:
         members = places.members
@@ -231,7 +256,7 @@ def match_parts(
                     node_xyz=node_xyz[held],
                 )
             )
-    return CrossPart(findings, free, shared, notes)
+    return CrossPart(findings, free, shared, notes, surfaces, copies)
 
 
 def _joined_by_place(xyz: np.ndarray, tol: np.ndarray, part_of: np.ndarray) -> np.ndarray:
@@ -338,7 +363,7 @@ def _places(
     xyz: np.ndarray, tol: np.ndarray, candidates: np.ndarray, settings: FindingSettings
 ) -> NodeClusters:
     """Distinct nodes of the whole mesh at one place (free-edge ends only)."""
-    on = [k for k in ("crack_edges", "coincident_nodes") if settings.enabled(k)]
+    on = [k for k in ("crack_edges", "crack_faces", "coincident_nodes") if settings.enabled(k)]
     if candidates.size < 2 or not on:
         return NodeClusters.none(xyz.shape[0])
     finite = np.where(np.isfinite(tol), tol, 0.0)
@@ -385,10 +410,51 @@ def _repeated(
         index.append(b.rim_index)
         ids.append(b.rim_ids)
         part.append(np.full(b.rim_index.size, k))
-    corners = np.concatenate(rows)
+    return _copies(
+        np.concatenate(rows),
+        np.concatenate(index),
+        np.concatenate(ids),
+        np.concatenate(part),
+        settings,
+        findings,
+        "element",
+    )
+
+
+def _repeated_solids(
+    parts: Sequence[Boundary], settings: FindingSettings, findings: list[Finding]
+) -> np.ndarray:
+    """Solids at the parts' skins repeating a solid of another part (same corner ids in
+    any order: a halo copy written into both parts; parts with global ids only); adds
+    the finding; returns the copies' positions."""
+    rows = [b.solid_corners for b in parts]
+    if sum(r.shape[0] for r in rows) < 2:
+        return np.zeros(0, dtype=np.int64)
+    return _copies(
+        np.concatenate(rows),
+        np.concatenate([b.solid_index for b in parts]),
+        np.concatenate([b.solid_ids for b in parts]),
+        np.concatenate([np.full(b.solid_index.size, k) for k, b in enumerate(parts)]),
+        settings,
+        findings,
+        "solid",
+    )
+
+
+def _copies(
+    corners: np.ndarray,
+    index: np.ndarray,
+    ids: np.ndarray,
+    part: np.ndarray,
+    settings: FindingSettings,
+    findings: list[Finding],
+    what: str,
+) -> np.ndarray:
+    """Rows of equal ``corners`` ((r, c) keys) of elements at ``index`` (numbers
+    ``ids``, in ``part``): the later ones copies of the first, reported when no earlier
+    element of its group is in its own part (those the part's own check found)."""
     if corners.shape[0] < 2:
         return np.zeros(0, dtype=np.int64)
-    index, ids, part = np.concatenate(index), np.concatenate(ids), np.concatenate(part)
     order = np.lexsort((index, *corners.T[::-1]))
     corners, index, ids, part = corners[order], index[order], ids[order], part[order]
     same = np.concatenate([[False], (corners[1:] == corners[:-1]).all(axis=1)])
@@ -415,7 +481,7 @@ def _repeated(
                 int(copies.size),
                 element_ids=np.sort(ids[copies]),
                 node_ids=np.zeros(0, dtype=np.int64),
-                message=f"element {text}",
+                message=f"{what} {text}",
                 element_index=np.sort(index[copies]),
                 pairs=pairs,
             )

@@ -22,6 +22,7 @@ from ..metrics import METRIC_NAMES
 from ..results.report import FLAG_NAMES, MeshSummary, Report
 from .interfaces import CrossPart
 from .sketch import Sketch
+from .solid_cut import REDONE
 from .work import PartResult
 
 
@@ -154,8 +155,10 @@ def assemble(
             [f for r in results for f in r.findings],
             cross.findings,
             frame_summary["frame"] == "planar",
+            cross.surfaces is not None,
         ),
         free_edges=cross.free,
+        boundary_surfaces=cross.surfaces,
         precomputed_statistics=stats,
         global_index=column(lambda r: r["index"], np.int64),
         totals=dict(zip(("ok", "warn", "fail"), map(int, verdicts))),
@@ -186,7 +189,7 @@ CHECK_ORDER = (
 
 
 def merged_findings(
-    from_parts: list[Finding], across: list[Finding], planar: bool = True
+    from_parts: list[Finding], across: list[Finding], planar: bool = True, solids: bool = False
 ) -> list[Finding]:
     """One finding per kind: the parts' own and those across parts, in the order in
     which the checks of one file report them. The parts' crack edges are left out, and
@@ -194,6 +197,8 @@ def merged_findings(
     of the whole mesh (on a shell the parts' hanging nodes stay, for the corner nodes
     away from free edges, and a node found both ways counts once)."""
     redone = ("crack_edges", "hanging_nodes") if planar else ("crack_edges",)
+    if solids:  # worked out again over the free faces of the whole mesh
+        redone = (*redone, *REDONE)
     by_kind: dict[str, list[Finding]] = {}
     for f in from_parts:
         if f.kind not in redone:

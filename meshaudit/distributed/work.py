@@ -11,18 +11,21 @@ A part is read where it is measured; only the summaries below travel back:
 
 - :func:`survey_part`: sizes and the moments of the nodes, for the measuring frame;
 - :func:`plane_check`: how far the nodes lie from a plane the driver proposes;
+- :func:`part_cut_sizes`: the sizes of the elements on the part's free sides, for the
+  size ratio across cuts (:mod:`meshaudit.distributed.cut_sizes`);
 - :func:`audit_part`: the part audited in the whole mesh's frame by the existing engine
   (:func:`meshaudit.engine.run.audit_elements`, which measures chunks with the pure
   chunk kernel), summarised as verdict and flag counts, a :class:`~.sketch.Sketch` per
   metric, the not-ok elements (worst first, at most ``keep``), the part's own
-  mesh-level findings and its :class:`Boundary` (free edges and the elements at them),
+  mesh-level findings and its :class:`Boundary` (free edges and the elements at them,
+  its solids' free faces),
   which the driver matches across parts (:mod:`meshaudit.distributed.interfaces`).
 """
 
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
@@ -31,19 +34,31 @@ from ..engine.memory import return_large_blocks
 from ..judge.profiles import Profile
 from ..mesh import labels
 from ..mesh.elements import ElementMesh
-from ..mesh.frames import Frame, area_vectors
+from ..mesh.faces import FaceTable
+from ..mesh.frames import SOLID_FRAME, XY_FRAME, Frame, area_vectors
 from ..mesh.parts import cell_count, global_node_ids
 from ..mesh.reading import build_elements, read_meshio_said
+from ..mesh.slices import XdmfSlice, read_slice
 from ..mesh_checks.findings import Finding
 from ..mesh_checks.nodes import shortest_edge_at
 from ..paths import display_name
 from ..results.report import Report
+from .cut_sizes import CutSizes, cut_sizes, free_sides
+from .overlaps import Probes, against_probes, rim_polygons
 from .sketch import Sketch
 
 
-def read_part(path: str, file_format: str | None, cell_offset: int = 0, point_offset: int = 0):
+def read_part(
+    path: str | XdmfSlice, file_format: str | None, cell_offset: int = 0, point_offset: int = 0
+):
     """(meshio mesh, element arrays, global node ids or None) of one part, its elements
-    numbered as the whole mesh numbers them (see :mod:`meshaudit.mesh.parts`)."""
+    numbered as the whole mesh numbers them (see :mod:`meshaudit.mesh.parts`). A slice
+    of an XDMF file (:mod:`meshaudit.mesh.slices`) is read as its rows of the file: its
+    nodes' rows are their numbers and the global node ids it is matched by."""
+    if isinstance(path, XdmfSlice):
+        raw, rows, _ = read_slice(path)
+        numbering = replace(labels.VTK, cell_base=cell_offset, node_labels=rows)
+        return raw, build_elements(raw, display_name(str(path)), numbering), rows
     raw, said = read_meshio_said(path, file_format)
     numbering = labels.for_file(path, file_format, raw, said)
     gids = global_node_ids(raw)
@@ -71,9 +86,17 @@ class Survey:
     low: np.ndarray  # (3,) per-axis minimum
     high: np.ndarray
     magnitude: float  # largest |coordinate|
+    #: the sizes on the part's free sides (:func:`part_cut_sizes`), measured in the x-y
+    #: frame when the part's surface nodes share one z (or it has no surface elements):
+    #: the frame of the whole mesh when every part's do, saving a round; else None
+    cut: CutSizes | None = None
+    #: the part's surface elements with a free edge: positions in the part, corners
+    #: (r, 4, 3) NaN padded (probes for overlaps across parts, :mod:`.overlaps`)
+    rim_rows: np.ndarray | None = None
+    rim_xyz: np.ndarray | None = None
 
 
-def survey_part(path: str, file_format: str | None) -> Survey:
+def survey_part(path: str | XdmfSlice, file_format: str | None) -> Survey:
     """Read a part and summarise it (see :class:`Survey`)."""
     return_large_blocks()
     raw, mesh, gids = read_part(path, file_format)
@@ -81,6 +104,14 @@ def survey_part(path: str, file_format: str | None) -> Survey:
     pts = surface.points[surface.used_nodes()] if surface.n_elements else np.zeros((0, 3))
     centre = pts.mean(axis=0) if len(pts) else np.zeros(3)
     d = pts - centre
+    cut = None
+    sides = free_sides(mesh)
+    if surface.n_elements == 0:
+        cut = cut_sizes(mesh, gids, SOLID_FRAME, None, sides)
+    elif pts[:, 2].min() == pts[:, 2].max():
+        xy = replace(XY_FRAME, beside_solids=mesh.has_solids)
+        cut = cut_sizes(mesh, gids, xy, None, sides)
+    rim_rows, rim_xyz = rim_polygons(mesh, sides[1])
     return Survey(
         cell_count(raw),
         mesh.n_points,
@@ -93,11 +124,14 @@ def survey_part(path: str, file_format: str | None) -> Survey:
         pts.min(axis=0) if len(pts) else np.full(3, np.inf),
         pts.max(axis=0) if len(pts) else np.full(3, -np.inf),
         float(np.abs(pts).max()) if len(pts) else 0.0,
+        cut,
+        rim_rows,
+        rim_xyz,
     )
 
 
 def plane_check(
-    path: str, file_format: str | None, centre: np.ndarray, normal: np.ndarray
+    path: str | XdmfSlice, file_format: str | None, centre: np.ndarray, normal: np.ndarray
 ) -> tuple[float, float, float]:
     """(largest distance of a used surface node from the plane through ``centre`` with
     unit ``normal``; least and greatest position of those nodes across the plane's trace
@@ -146,6 +180,22 @@ class Boundary:
     #: node index for a corner on none), columns 4-7 their global node ids (when the
     #: part has them)
     rim_corners: np.ndarray
+    #: the part's solids' free faces: (f, 4) rows of the nodes above in outward order,
+    #: -1 padded; the solid's position in the whole mesh and its number
+    faces: np.ndarray
+    face_element: np.ndarray
+    face_ids: np.ndarray
+    #: solids with a corner on those nodes (parts with global ids): (s, 8) their corner
+    #: ids ascending, -1 padded; their positions in the whole mesh and numbers
+    solid_corners: np.ndarray
+    solid_index: np.ndarray
+    solid_ids: np.ndarray
+    #: every face of those solids (with global ids): corner ids ascending (-1 padded),
+    #: the solid's position and that of the part's other solid on it (-1: none)
+    link_keys: np.ndarray
+    link_owner: np.ndarray
+    link_other: np.ndarray
+    link_other_ids: np.ndarray
 
 
 @dataclass
@@ -168,6 +218,10 @@ class PartResult:
     boundary: Boundary | None
     numbering: tuple[str, str]
     element_file: str | None = None
+    #: (k, 2) whole-mesh positions (own element, other part's element) overlapping, and
+    #: (k,) the own elements' numbers (see :mod:`.overlaps`)
+    overlaps: np.ndarray = field(default_factory=lambda: np.zeros((0, 2), dtype=np.int64))
+    overlap_ids: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.int64))
 
 
 @dataclass(frozen=True)
@@ -186,10 +240,38 @@ class PartTask:
     writer: Callable[[Report, int, int], str] | None = None
 
 
+def part_cut_sizes(
+    path: str | XdmfSlice,
+    cell_offset: int,
+    point_offset: int,
+    by_ids: bool,
+    task: PartTask,
+) -> CutSizes:
+    """The sizes of the part's elements on its free sides, for the size ratio across
+    cuts (:mod:`meshaudit.distributed.cut_sizes`); ``by_ids``: every part has global
+    node ids (else sides are matched by coordinates)."""
+    return_large_blocks()
+    _, mesh, gids = read_part(path, task.file_format, cell_offset, point_offset)
+    frame = task.frame
+    if mesh.surface_part()[0].n_elements == 0 and frame.kind != "solid":
+        frame = Frame("solid")
+    return cut_sizes(mesh, gids if by_ids else None, frame, task.profile)
+
+
 def audit_part(
-    path: str, index: int, cell_offset: int, point_offset: int, element_offset: int, task: PartTask
+    path: str | XdmfSlice,
+    index: int,
+    cell_offset: int,
+    point_offset: int,
+    element_offset: int,
+    task: PartTask,
+    outside: tuple[np.ndarray, np.ndarray] | None = None,
+    probes: Probes | None = None,
 ) -> PartResult:
-    """Audit one part in the whole mesh's frame and summarise it (module docstring)."""
+    """Audit one part in the whole mesh's frame and summarise it (module docstring);
+    ``outside``: its cut elements' size ratios against other parts' elements
+    (:func:`meshaudit.distributed.cut_sizes.outside_ratios`); ``probes``: other parts'
+    free-edge elements to look for overlaps with (:mod:`meshaudit.distributed.overlaps`)."""
     from ..engine.run import audit_elements
 
     return_large_blocks()
@@ -199,7 +281,15 @@ def audit_part(
     surface, positions = mesh.surface_part()
     if surface.n_elements == 0 and frame.kind != "solid":
         frame = Frame("solid")
-    report = audit_elements(mesh, task.profile, task.fail_on, task.regions, workers=1, frame=frame)
+    report = audit_elements(
+        mesh,
+        task.profile,
+        task.fail_on,
+        task.regions,
+        workers=1,
+        frame=frame,
+        outside_ratio=outside,
+    )
     counts = report.verdict_counts()
     flagged = report.flag_bits[report.flag_bits != 0]
     patterns, pcounts = np.unique(flagged, return_counts=True)
@@ -230,6 +320,12 @@ def audit_part(
         boundary=_boundary(report, mesh, surface, positions, frame, task, element_offset, gids),
         numbering=(mesh.numbering.elements, mesh.numbering.nodes),
     )
+    if probes is not None and frame.kind == "planar":
+        pairs = against_probes(
+            surface, positions, element_offset, probes, frame, task.profile.findings
+        )
+        result.overlaps = pairs
+        result.overlap_ids = report.ids[pairs[:, 0] - element_offset]
     if task.writer is not None:
         result.element_file = task.writer(report, element_offset, index)
     return result
@@ -271,11 +367,18 @@ def _boundary(
 ) -> Boundary | None:
     free = report.free_edges
     skin = skin_nodes(mesh)
+    # duplicates within the part are left out, as the part's own checks leave them out
+    copies = np.zeros(0, dtype=np.int64)
+    for f in report.findings:
+        if f.kind == "duplicate_elements":
+            copies = f.element_index
+    table = solid_table(mesh, copies)
+    faces, face_element = free_faces(table)
     if free is None and skin.size == 0:
         return None
     free_nodes = free.nodes if free is not None else np.zeros((0, 2), dtype=np.int64)
     # nodes of free edges and of the solids' free faces, renumbered 0..b-1
-    ends = np.unique(np.concatenate([free_nodes.ravel(), skin]))
+    ends = np.unique(np.concatenate([free_nodes.ravel(), skin, faces[faces >= 0]]))
     local = np.full(mesh.n_points, -1, dtype=np.int64)
     local[ends] = np.arange(ends.size)
     on_edge = local >= 0
@@ -288,11 +391,6 @@ def _boundary(
         task.profile.findings.coincident_tolerance * shortest_edge_at(mesh.points, every_edge)[ends]
     )
     tolerance[~np.isfinite(tolerance)] = 0.0
-    # duplicates within the part are left out, as the part's own checks leave them out
-    copies = np.zeros(0, dtype=np.int64)
-    for f in report.findings:
-        if f.kind == "duplicate_elements":
-            copies = f.element_index
     uses, use_element = [], []
     rim_index, rim_ids, rim_corners = [], [], []
     for block, corners in corners_of:
@@ -337,7 +435,88 @@ def _boundary(
         rim_index=np.concatenate(rim_index) if rim_index else none,
         rim_ids=np.concatenate(rim_ids) if rim_ids else none,
         rim_corners=np.concatenate(rim_corners) if rim_corners else none.reshape(0, 8),
+        faces=np.where(faces >= 0, local[np.maximum(faces, 0)], -1),
+        face_element=face_element + offset,
+        face_ids=report.ids[face_element],
+        **_solid_rim(mesh, on_edge, gids, report.ids, offset, table),
     )
+
+
+def _solid_rim(
+    mesh: ElementMesh,
+    on_edge: np.ndarray,
+    gids: np.ndarray | None,
+    ids: np.ndarray,
+    offset: int,
+    table: tuple[FaceTable, np.ndarray] | None,
+) -> dict[str, np.ndarray]:
+    """The ``solid_*`` and ``link_*`` fields of :class:`Boundary`: solids with a corner
+    on ``on_edge`` and their faces (:func:`face_links`)."""
+    rows, index = [np.zeros((0, 8), dtype=np.int64)], [np.zeros(0, dtype=np.int64)]
+    for block in mesh.blocks if gids is not None else []:
+        if block.cell.dimension != 3:
+            continue
+        corners = block.connectivity[:, : block.cell.n_corners]
+        touch = on_edge[corners].any(axis=1)
+        pad = np.full((int(touch.sum()), 8), -1, dtype=np.int64)
+        pad[:, : corners.shape[1]] = np.sort(gids[corners[touch]], axis=1)
+        rows.append(pad)
+        index.append(block.index[touch])
+    at = np.concatenate(index)
+    keys, owner, other = face_links(table, np.sort(at), gids)
+    return {
+        "solid_corners": np.concatenate(rows),
+        "solid_index": at + offset,
+        "solid_ids": ids[at],
+        "link_keys": keys,
+        "link_owner": owner + offset,
+        "link_other": np.where(other >= 0, other + offset, -1),
+        "link_other_ids": np.where(other >= 0, ids[np.maximum(other, 0)], -1),
+    }
+
+
+def solid_table(mesh: ElementMesh, copies: np.ndarray) -> tuple[FaceTable, np.ndarray] | None:
+    """The face table of the solids of ``mesh`` without the ``copies`` (positions of
+    duplicates) and the solids' positions; None without solids."""
+    from ..mesh.faces import face_table
+
+    if not mesh.has_solids:
+        return None
+    solid, positions = mesh.solid_part()
+    return face_table(solid, ~np.isin(positions, copies)), positions
+
+
+def free_faces(table: tuple[FaceTable, np.ndarray] | None) -> tuple[np.ndarray, np.ndarray]:
+    """(corners (f, 4) in outward order, -1 padded; (f,) the solid's position) of the
+    faces one solid uses (the part's skin, the cut included), from :func:`solid_table`."""
+    if table is None:
+        return np.zeros((0, 4), dtype=np.int64), np.zeros(0, dtype=np.int64)
+    faces, positions = table
+    free = faces.boundary()
+    return faces.corners[free].astype(np.int64), positions[faces.element[free]]
+
+
+def face_links(
+    table: tuple[FaceTable, np.ndarray] | None, solids: np.ndarray, gids: np.ndarray | None
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Every face of the ``solids`` (positions, ascending) as (corner ids ascending
+    (f, 4), -1 padded at the end; the solid's position; the position of the part's other
+    solid on it, -1 when none or several): what the driver needs to match the faces
+    beside a solid found to be a copy of another part's."""
+    none = np.zeros(0, dtype=np.int64)
+    if table is None or gids is None or solids.size == 0:
+        return none.reshape(0, 4), none, none
+    faces, positions = table
+    owner = positions[faces.element]
+    mine = np.flatnonzero(np.isin(owner, solids))
+    corners = faces.corners[mine].astype(np.int64)
+    keys = np.sort(np.where(corners >= 0, gids[np.maximum(corners, 0)], np.iinfo(np.int64).max))
+    keys[keys == np.iinfo(np.int64).max] = -1
+    face = faces.face[mine]
+    two = faces.uses[face] == 2
+    other_use = np.where(faces.first[face] == mine, faces.last[face], faces.first[face])
+    other = np.where(two, owner[other_use], -1)
+    return keys, owner[mine], other
 
 
 def skin_nodes(mesh: ElementMesh) -> np.ndarray:

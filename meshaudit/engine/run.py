@@ -74,6 +74,7 @@ def audit_elements(
     workers: int | None = None,
     material: MaterialSpec = None,
     frame: Frame | None = None,
+    outside_ratio: tuple[np.ndarray, np.ndarray] | None = None,
 ) -> Report:
     """Audit element arrays already built (see :func:`meshaudit.mesh.reading.load`).
 
@@ -85,6 +86,10 @@ def audit_elements(
     ``frame``: the measuring frame to use instead of the one the mesh's own nodes give
     (a part of a partitioned mesh is measured in the frame of the whole mesh, see
     :mod:`meshaudit.distributed`).
+    ``outside_ratio``: (element positions, size ratios) against neighbours that are not
+    in ``mesh`` (a part's neighbours across its cut, worked out by
+    :mod:`meshaudit.distributed`): each of those elements' ``size_ratio`` is the larger of
+    its own and this one, judged with the rest.
 
     Elements are measured in chunks of :data:`CHUNK_SIZE` by
     :func:`~meshaudit.engine.measure.measure_chunk`, a pure function of its arguments (no
@@ -104,6 +109,7 @@ def audit_elements(
     if fail_on not in ("fail", "warn"):
         raise InputError(f"fail_on must be 'fail' or 'warn', not {fail_on!r}")
     run = _Run.prepare(mesh, profile, regions, material, frame)
+    run.outside_ratio = outside_ratio
     n = run.mesh.n_elements
     if progress is not None:
         progress("measure", 0, n)
@@ -148,6 +154,7 @@ class _Run:
     checks: bool  # some mesh-level finding kind is enabled
     shapes: PlanarShapes | None  # planar corner polygons for the overlap check
     materials: MaterialMap | None = None  # None: no material, no stiffness metrics
+    outside_ratio: tuple[np.ndarray, np.ndarray] | None = None  # see audit_elements
 
     @classmethod
     def prepare(
@@ -289,6 +296,7 @@ class _Run:
             self.family_codes,
             self.codes,
             (self.profile, *self.region_profiles),
+            self.outside_ratio,
         )
         if pool.parallel and not relative:
             summing = pool.later(metric_statistics, sink.metrics, sink.ordered_levels())

@@ -31,15 +31,21 @@ def apply_size_ratio(
     family_codes: np.ndarray,
     codes: np.ndarray,
     profiles: Sequence[Profile],
+    outside: tuple[np.ndarray, np.ndarray] | None = None,
 ) -> None:
     """Fill ``sink.metrics["size_ratio"]`` and judge it (in place) under ``profiles[codes[i]]``
-    for the family ``families[family_codes[i]]`` of each element."""
+    for the family ``families[family_codes[i]]`` of each element. ``outside``: (positions,
+    ratios) against neighbours not in this mesh (across a part's cut): those elements take
+    the larger of the two (the size ratio is a largest over neighbours)."""
     solid = np.isin(family_codes, [k for k, f in enumerate(families) if f in SOLID_FAMILIES])
     size = np.where(solid, sink.metrics["volume"], sink.metrics["area"])
     invalid_bits = np.uint32(sum(1 << FLAG_BIT[name] for name in INVALID_FLAGS))
     valid = (sink.bits & invalid_bits) == 0
     h = characteristic_length(size, np.where(solid, 3, 2))
     ratio = size_ratio(h, list(sides), counted=valid)
+    if outside is not None and outside[0].size:
+        rows, other = outside
+        ratio[rows] = np.where(np.isnan(ratio[rows]), ratio[rows], np.fmax(ratio[rows], other))
     sink.metrics[METRIC] = ratio
     for k, profile in enumerate(profiles):
         for f, family in enumerate(families):

@@ -68,9 +68,18 @@ def face_table(mesh: ElementMesh, keep: np.ndarray | None = None) -> FaceTable:
     64-bit number per use, m = faces per solid x solids; node and element numbers are
     held as int32 where they fit (half the memory)."""
     corners, element, local = _face_uses(mesh, keep)
+    return table_of_uses(corners, element, local, mesh.n_points)
+
+
+def table_of_uses(
+    corners: np.ndarray, element: np.ndarray, local: np.ndarray, n_points: int
+) -> FaceTable:
+    """The :class:`FaceTable` of face uses given as (``corners`` (m, 4) in outward order,
+    -1 padded; ``element`` (m,); ``local`` (m,)), nodes numbered below ``n_points`` (the
+    faces of several parts matched by node, see :mod:`meshaudit.distributed`)."""
     corners, element, local = _collapsed(corners, element, local)
     columns = _sorted_columns(corners)
-    high, low, bound = _halves(columns, mesh.n_points)
+    high, low, bound = _halves(columns, n_points)
     if bound < 1 << 62:
         del columns  # the keys of the faces are sorted again from their first uses
     m = corners.shape[0]

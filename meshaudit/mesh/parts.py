@@ -41,8 +41,9 @@ GLOBAL_ID_NAMES = ("GlobalNodeId", "GlobalNodeIds", "global_node_id", "GlobalPoi
 class PartSet:
     """The part files of one partitioned mesh, in part order, and the name it is shown by."""
 
-    source: str  # the .pvtu path, or the pattern
-    parts: tuple[str, ...]
+    source: str  # the .pvtu path, the pattern, or the sliced XDMF file
+    #: part file paths, or :class:`meshaudit.mesh.slices.XdmfSlice` slices of one file
+    parts: tuple[Any, ...]
 
     @property
     def stem(self) -> str:

@@ -99,7 +99,7 @@ class PartWriter:
             raise OutputError(f"{final}: cannot write: {reason(exc)}") from None
         return final
 
-    def finish(self, parts: Sequence[str], results: Sequence[Any], firsts: Sequence[int]) -> None:
+    def finish(self, parts: Sequence[Any], results: Sequence[Any], firsts: Sequence[int]) -> None:
         """Write the index and put every part's report in place (``results``: what each
         part's task returned, with ``index``, ``elements``, ``verdicts``, ``element_file``)."""
         from . import atomic
@@ -146,14 +146,14 @@ def _write_parquet(path: str, report: Report) -> None:
     pq.write_table(pa.table(columns), path)
 
 
-def index_text(parts: Sequence[str], results: Sequence[Any], firsts: Sequence[int]) -> str:
+def index_text(parts: Sequence[Any], results: Sequence[Any], firsts: Sequence[int]) -> str:
     """The index CSV of the part element reports."""
     lines = [",".join(INDEX_COLUMNS)]
     for path, result, first in zip(parts, results, firsts):
         ok, warn, fail = (int(v) for v in result.verdicts)
         name = os.path.basename(result.element_file or "")
         lines.append(
-            f"{result.index},{_csv(path)},{_csv(name)},{first},{result.elements},{ok},{warn},{fail}"
+            f"{result.index},{_csv(str(path))},{_csv(name)},{first},{result.elements},{ok},{warn},{fail}"
         )
     return "\n".join(lines) + "\n"
 
