@@ -308,6 +308,8 @@ def test_every_output_carries_the_metrics(run_cli, tmp_path):
         "explain", path, "2", "--no-config", "--material", "E=210000,nu=0.3,rho=7.85e-9"
     )
     assert "pure bending" in explained.stdout and "lumped mass" in explained.stdout
+    text = " ".join(explained.stdout.replace("│", " ").split())
+    assert "energy of the strain error" in text and "at its Gauss points" in text
 
 
 def test_materials_from_the_configuration(run_cli, tmp_path):

@@ -277,6 +277,7 @@ def test_explain_says_how_a_solid_bends(run_cli, tmp_path):
     assert res.returncode in (0, 1), res.stderr
     text = " ".join(res.stdout.split())
     assert "u_Z = kappa nu Y Z" in text and "six frames" in text
+    assert "eps_Z = nu kappa Y" in " ".join(res.stdout.replace("│", " ").split())
     assert "box" in text and "not defined" not in text
 
 
