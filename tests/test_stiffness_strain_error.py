@@ -295,3 +295,18 @@ def test_taper_raises_the_linear_quads_error():
     distortion = [v["bending_error_distortion"] for v in values]
     assert distortion[0] == pytest.approx(0.0, abs=1e-12)
     assert all(b > a for a, b in itertools.pairwise(distortion))
+
+
+def test_straight_sided_six_node_triangle_bends_exactly():
+    # common practice: the six-node triangle's span holds every quadratic field under an
+    # affine map (straight sides, midside nodes at the middle), so its strains are the
+    # exact linear ones at every Gauss point; a curved side breaks that
+    corners = np.array([[0.0, 0.0], [3.0, 0.4], [0.8, 1.1]])
+    ref = CELL_TYPES["triangle6"].reference_nodes
+    nodes = CELL_TYPES["triangle"].shape_functions(ref) @ corners
+    got, _ = _ours("triangle6", nodes)
+    assert got["bending_error"] < 1e-12
+    bent = nodes.copy()
+    bent[3] += [0.0, -0.2]  # the midside node of the longest edge off its chord
+    got, failed = _ours("triangle6", bent)
+    assert not failed and got["bending_error"] > 1e-4

@@ -23,8 +23,9 @@ the energy of the strain error, relative to the exact energy U_exact = 1/2 E' in
 over the element (the fine rule). It is never negative, so no error can cancel another:
 an element whose nodal field puts the bending energy into spurious shear reads the
 energy of that shear, whatever its total energy. Where the exact stress (sigma_X alone)
-does no work on the strain error, e equals the old |U_element - U_exact| / U_exact (the
-cross term vanishes): the rectangle and the box. A one-point element (linear triangle,
+does no work on the strain error (the element's eps_X is exact: the rectangle, the
+parallelogram, the box), e equals the energy difference |U_element - U_exact| / U_exact
+(the cross term vanishes). A one-point element (linear triangle,
 linear tetrahedron) has its Gauss point at the centroid, where the exact strain is 0 (its
 mean over the element): e is then its own strain energy over the exact one.
 
