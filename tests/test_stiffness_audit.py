@@ -308,6 +308,8 @@ def test_every_output_carries_the_metrics(run_cli, tmp_path):
         "explain", path, "2", "--no-config", "--material", "E=210000,nu=0.3,rho=7.85e-9"
     )
     assert "pure bending" in explained.stdout and "lumped mass" in explained.stdout
+    text = " ".join(explained.stdout.replace("│", " ").split())
+    assert "energy of the strain error" in text and "at its Gauss points" in text
 
 
 def test_materials_from_the_configuration(run_cli, tmp_path):
@@ -338,14 +340,15 @@ def test_the_readme_table_is_the_scripts():
 def test_the_readme_closed_forms():
     # README: the bilinear rectangle of aspect a reads nu^2/(1 - nu^2) + a^2/(2 (1 + nu))
     # (sympy, test_stiffness_reference.py): 0.48 for the square at nu = 0.3; the
-    # equilateral triangle 1.01, the right isosceles one 3.4
+    # equilateral triangle 2.01, the right isosceles one 4.42 (sympy's constant-strain
+    # value, test_stiffness_strain_error.py)
     assert _bending("quad", [[0, 0], [2, 0], [2, 2], [0, 2]])["bending_error"] == pytest.approx(
         0.09 / 0.91 + 1 / 2.6
     )
     lam, mu = 0.3 / 0.91, 1 / 2.6
     for corners, expected in (
-        ([[0, 0], [1, 0], [0.5, math.sqrt(3) / 2]], 1.01),
-        ([[0, 0], [1, 0], [0, 1]], 3.4),
+        ([[0, 0], [1, 0], [0.5, math.sqrt(3) / 2]], 2.01),
+        ([[0, 0], [1, 0], [0, 1]], 4.42),
     ):
         out, _ = stiffness.measure_nodes(
             CELL_TYPES["triangle"], np.array([corners], dtype=float), np.array([False]),

@@ -1,11 +1,13 @@
 """The bending error of solids checked against outside references.
 
 * sympy: the trilinear box and the linear tetrahedron on alternate corners of a box, the
-  exact 3-D pure-bending field interpolated at their nodes, their strain energy and the
-  exact one integrated symbolically (the box from its eight shape functions, the
-  tetrahedron from the linear interpolant its four nodes define: a constant strain), in
-  every frame of two box axes; the closed forms come out of sympy here, as functions of
-  the half-lengths and nu.
+  exact 3-D pure-bending field interpolated at their nodes, the energy of the strain
+  error (interpolant's strain minus the exact one) and the exact energy integrated
+  symbolically (the box from its eight shape functions, exactly, and checked equal to
+  the old energy difference; the tetrahedron from the linear interpolant its four nodes
+  define, a constant strain, against the exact strain's mean over the element, the
+  value at its one Gauss point, the centroid), in every frame of two box axes; the closed
+  forms come out of sympy here, as functions of the half-lengths and nu.
 * Facts of the trade (common practice): quadratic elements (tetra10, hexahedron20,
   hexahedron27) hold every quadratic displacement field when straight-sided (an affine
   map), so they represent the linear strains of pure bending exactly; the error of the
@@ -79,8 +81,10 @@ def _gradient(u: list[sp.Expr]) -> sp.Matrix:
 
 @cache
 def _box_errors() -> dict[tuple[int, int], sp.Expr]:
-    """(U_element - U_exact) / U_exact of the trilinear box [-A, A] x [-B, B] x [-C, C]
-    for each frame (a, b), symbolic in A, B, C and nu."""
+    """The strain-error energy over the exact energy of the trilinear box [-A, A] x
+    [-B, B] x [-C, C] for each frame (a, b), symbolic in A, B, C and nu; checked equal to
+    (U_element - U_exact) / U_exact (the exact stress, sigma_X alone, does no work on the
+    strain error: eps_X of the interpolant is exact)."""
     signs = list(itertools.product((-1, 1), repeat=3))
     corners = [tuple(s * h for s, h in zip(sign, _A)) for sign in signs]
     shape = [sp.prod([(1 + s * x / h) / 2 for s, x, h in zip(sign, _X, _A)]) for sign in signs]
@@ -93,8 +97,12 @@ def _box_errors() -> dict[tuple[int, int], sp.Expr]:
             for f in exact_u
         ]
         element = sp.integrate(_energy_density(_gradient(nodal)), *limits)
-        exact = sp.integrate(_X[b] ** 2 / 2, *limits)
-        out[a, b] = sp.simplify(element / exact - 1)
+        exact = sp.integrate(_energy_density(_gradient(exact_u)), *limits)
+        assert sp.simplify(exact - sp.integrate(_X[b] ** 2 / 2, *limits)) == 0  # E Y^2 / 2
+        error_gradient = _gradient(nodal) - _gradient(exact_u)
+        error = sp.integrate(sp.expand(_energy_density(error_gradient)), *limits)
+        out[a, b] = sp.simplify(error / exact)
+        assert sp.simplify(out[a, b] - (element / exact - 1)) == 0
     return out
 
 
@@ -102,11 +110,14 @@ def _box_errors() -> dict[tuple[int, int], sp.Expr]:
 def _tetra_errors() -> dict[tuple[int, int], sp.Expr]:
     """The same for the linear tetrahedron on the corners (A, B, C), (-A, B, -C),
     (A, -B, -C), (-A, -B, C) of the box: the linear interpolant of each component solved
-    from its four nodal values (a constant gradient, hence a constant strain)."""
+    from its four nodal values (a constant gradient, hence a constant strain eps_h),
+    against the exact strain's mean over the element (integrated): the one-point rule's
+    Gauss point is the centroid, where the linear exact strain takes its mean, so the
+    error energy is V/2 (eps_h - mean eps)^T D (eps_h - mean eps)."""
     signs = [(1, 1, 1), (-1, 1, -1), (1, -1, -1), (-1, -1, 1)]
     corners = [[s * h for s, h in zip(sign, _A)] for sign in signs]
     matrix = sp.Matrix([[1, *corner] for corner in corners])
-    # volume and int y_b^2 over the tetrahedron, from the affine map of the unit one
+    # volume and integrals over the tetrahedron, from the affine map of the unit one
     p = [sp.Matrix(c) for c in corners]
     jac = sp.Matrix.hstack(p[1] - p[0], p[2] - p[0], p[3] - p[0])
     s, t, r = sp.symbols("s t r", nonnegative=True)
@@ -124,15 +135,16 @@ def _tetra_errors() -> dict[tuple[int, int], sp.Expr]:
             values = sp.Matrix([f.subs(dict(zip(_X, c))) for c in corners])
             coeffs = matrix.solve(values)  # f ~ c0 + c1 x + c2 y + c3 z on the element
             grad_rows.append(list(coeffs[1:]))
-        element = volume * _energy_density(sp.Matrix(grad_rows))
+        mean = _gradient(_field(a, b)).applyfunc(lambda g: over_tetra(g) / volume)
+        error = volume * _energy_density(sp.Matrix(grad_rows) - mean)
         exact = over_tetra(_X[b] ** 2 / 2)
-        out[a, b] = sp.simplify(element / exact - 1)
+        out[a, b] = sp.simplify(error / exact)
     return out
 
 
 def _worst(errors: dict[tuple[int, int], sp.Expr], half: tuple[float, ...], nu: float) -> float:
     values = {**dict(zip(_A, half)), _NU: nu}
-    return max(abs(float(e.subs(values))) for e in errors.values())
+    return max(float(e.subs(values)) for e in errors.values())
 
 
 BOXES = [
@@ -265,6 +277,7 @@ def test_explain_says_how_a_solid_bends(run_cli, tmp_path):
     assert res.returncode in (0, 1), res.stderr
     text = " ".join(res.stdout.split())
     assert "u_Z = kappa nu Y Z" in text and "six frames" in text
+    assert "eps_Z = nu kappa Y" in " ".join(res.stdout.replace("│", " ").split())
     assert "box" in text and "not defined" not in text
 
 
@@ -287,3 +300,24 @@ def test_a_profile_limit_judges_a_solid_by_its_bending_error():
     assert report.verdict.tolist() == [0, 2]  # ok, fail
     # the built-in profile sets no such limit: both pass on their shapes
     assert meshaudit.audit(mesh, material=steel).verdict.tolist() == [0, 0]
+
+
+def test_regular_tetra_reads_worse_than_the_cube():
+    # the reason for measuring the strain error: a constant-strain tetrahedron cannot
+    # bend, its nodal field puts about the bending energy into spurious shear, and the
+    # energy difference |U_element - U_exact| / U_exact read it as nearly exact; its
+    # strain error cannot cancel. sympy: the regular tetrahedron (A = B = C) reads
+    # 5 (1 - nu)^2 / (2 (1 + nu)) in every frame, the cube (1 - 2 nu + 3 nu^2 - 4 nu^3) /
+    # (2 (1 + nu) (1 - 2 nu)); at nu = 0.3 0.94 against the cube's 0.54
+    cube = {_A[0]: 1, _A[1]: 1, _A[2]: 1}
+    regular = {e.subs(cube) for e in _tetra_errors().values()}
+    assert len({sp.simplify(e - next(iter(regular))) for e in regular}) == 1
+    closed = 5 * (1 - _NU) ** 2 / (2 * (1 + _NU))
+    assert sp.simplify(next(iter(regular)) - closed) == 0
+    cube_closed = (1 - 2 * _NU + 3 * _NU**2 - 4 * _NU**3) / (2 * (1 + _NU) * (1 - 2 * _NU))
+    assert sp.simplify(_box_errors()[0, 1].subs(cube) - cube_closed) == 0
+    tet = _ours("tetra", solid_axes.undistorted(CELL_TYPES["tetra"], np.ones((1, 3)))[0])
+    box = _ours("hexahedron", CELL_TYPES["hexahedron"].reference_nodes)
+    assert tet["bending_error"] == pytest.approx(float(closed.subs(_NU, 0.3)), rel=1e-10)
+    assert box["bending_error"] == pytest.approx(_worst(_box_errors(), (1, 1, 1), 0.3))
+    assert tet["bending_error"] > box["bending_error"] + 0.3

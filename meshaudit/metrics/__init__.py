@@ -113,8 +113,9 @@ METRICS: tuple[MetricInfo, ...] = (
         "bending_error",
         "high",
         "1",
-        "with a material: relative strain-energy error under exact pure bending, worst "
-        "principal axis (solids: worst pair of principal axes)",
+        "with a material: energy of the strain error (element's strain minus the exact one "
+        "at its Gauss points) under exact pure bending, over the exact energy, worst "
+        "principal axis (solids: worst pair of principal axes); never negative",
     ),
     MetricInfo(
         "bending_error_distortion",

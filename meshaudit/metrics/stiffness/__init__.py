@@ -9,9 +9,11 @@ without one nothing here runs and the metrics are not defined (NaN).
   M (row sums; quadratic cells: the scaled diagonal), the critical step of the central
   difference method for that element alone. 0 for an element that is not valid (any
   validity flag, or det J <= 0 at a Gauss point): no explicit run can take it.
-* ``bending_error`` (1): relative error of the element's strain energy under the exact
-  pure-bending field about its worst principal axis (:mod:`.bending`; solids: the worst
-  pair of principal axes, :mod:`.solid_axes`); ``bending_error_distortion`` (1): that
+* ``bending_error`` (1, >= 0): the energy of the strain error of the element under the
+  exact pure-bending field (its nodal interpolant's strain minus the exact strain at its
+  Gauss points) over the exact energy, about its worst principal axis (:mod:`.bending`;
+  solids: the worst pair of principal axes, :mod:`.solid_axes`); never negative, so
+  errors cannot cancel; ``bending_error_distortion`` (1): that
   error minus the same element type's error when undistorted (rectangle, isosceles
   triangle, box, tetrahedron on alternate box corners, right prism, right pyramid of the
   same principal lengths), the part the distortion adds. Infinite for an element that is

@@ -76,12 +76,14 @@ def fine_rule(cell: CellType) -> tuple[np.ndarray, np.ndarray]:
 @dataclass(frozen=True)
 class Tables:
     """One cell type's reference tables. Stiffness: shape derivatives ``derivatives``
-    (g, dimension, k) at its own Gauss points, weights ``weights`` (g,). Mass and exact
-    integrals: shape functions ``fine_functions`` (q, k), derivatives
+    (g, dimension, k) at its own Gauss points, weights ``weights`` (g,), and the shape
+    functions ``functions`` (g, k) there (where the Gauss points lie in the element). Mass
+    and exact integrals: shape functions ``fine_functions`` (q, k), derivatives
     ``fine_derivatives`` (q, dimension, k), weights ``fine_weights`` (q,)."""
 
     derivatives: np.ndarray
     weights: np.ndarray
+    functions: np.ndarray
     fine_functions: np.ndarray
     fine_derivatives: np.ndarray
     fine_weights: np.ndarray
@@ -96,6 +98,7 @@ def tables(name: str) -> Tables:
     return Tables(
         derivatives=cell.shape_derivatives(cell.gauss_points),
         weights=np.asarray(cell.gauss_weights, dtype=np.float64),
+        functions=cell.shape_functions(cell.gauss_points),
         fine_functions=cell.shape_functions(points),
         fine_derivatives=cell.shape_derivatives(points),
         fine_weights=weights,
