@@ -69,13 +69,13 @@ def edge_table(mesh: ElementMesh) -> EdgeTable:
     if not real.all():
         start, end, elem, loc = start[real], end[real], elem[real], loc[real]
     del real
-    n = np.int64(max(mesh.n_points, 1))
-    key = np.minimum(start, end).astype(np.int64)
-    key *= n
-    key += np.maximum(start, end)
-    uniq, edge, uses = unique_keys(key, int(n) * int(n))
+    key, span_bits = edge_keys(start, end)
+    bound = (max(mesh.n_points, 1) << span_bits) if key.size else 1
+    uniq, edge, uses = unique_keys(key, bound)
     del key
-    low, high = np.divmod(uniq, n)
+    low = uniq >> np.int64(span_bits)
+    high = uniq & np.int64((1 << span_bits) - 1)
+    high += low
     return EdgeTable(
         start=start,
         end=end,
@@ -85,6 +85,25 @@ def edge_table(mesh: ElementMesh) -> EdgeTable:
         nodes=np.stack([low, high], axis=1),
         uses=uses,
     )
+
+
+def edge_keys(start: np.ndarray, end: np.ndarray) -> tuple[np.ndarray, int]:
+    """(key, span_bits): one int64 key per edge use, ``low << span_bits | (high - low)``
+    with low, high the smaller and larger node, and span_bits the bits the largest
+    high - low needs.
+
+    Keys order edges exactly as (low, high) does, but need only as many bits as the
+    node numbering's widest edge span: a mesh numbered with locality (a mesher's usual
+    output: neighbours get nearby numbers) gives keys short enough to be sorted together
+    with their positions in one 64-bit word (:func:`sort_keys`'s one-sort path), where
+    low x n_nodes + high would need two sorts from about 10^7 edge uses on."""
+    low = np.minimum(start, end).astype(np.int64)
+    key = np.maximum(start, end).astype(np.int64)
+    key -= low
+    span_bits = max(int(key.max()).bit_length(), 1) if key.size else 1
+    low <<= np.int64(span_bits)
+    key |= low
+    return key, span_bits
 
 
 def _edge_uses(mesh: ElementMesh) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
