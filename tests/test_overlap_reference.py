@@ -85,7 +85,7 @@ def planar_samples() -> list[str]:
 @pytest.mark.parametrize("pushed", [False, True])
 def test_overlapping_pairs_of_the_samples_match_shapely_all_pairs(name, pushed):
     mesh = meshio.read(SAMPLES / name)
-    quads = [b for b in mesh.cells if b.type == "quad"][0].data
+    quads = next(b for b in mesh.cells if b.type == "quad").data
     if pushed:  # move one interior node far over its neighbours: overlaps by construction
         used = np.bincount(quads.ravel(), minlength=len(mesh.points))
         node = int(np.flatnonzero(used == 4)[len(np.flatnonzero(used == 4)) // 2])
