@@ -447,17 +447,29 @@ def _coincident(
     no_solid = solids is None or solids.nodes.size == 0
     if (table.n_edges == 0 and no_solid) or not enabled:
         return nodes.NodeClusters.none(mesh.n_points)
+    pts = mesh.points
+    relative = settings.coincident_tolerance
+    longest = _longest_squared(pts, table.nodes) if table.n_edges else 0.0
+    if not no_solid:
+        longest = max(longest, solids.longest_squared())
+    bound = relative * float(np.sqrt(longest))
+    ends = np.zeros(mesh.n_points, dtype=bool)
+    ends[table.start[free_use]] = True
+    ends[table.end[free_use]] = True
     if "coincident_nodes" in enabled or (shell and "hanging_nodes" in enabled):
-        candidates = np.flatnonzero(mesh.used_nodes())
+        # the nodes of free sides (ends and midside nodes), and any other node that may
+        # lie within the tolerance of one of them: unmerged nodes that cut the part
+        # always lie on free sides (see nodes_on_free_sides)
+        on_free = nodes_on_free_sides(mesh, table, free_use, ends)
+        others = np.flatnonzero(mesh.used_nodes() & ~on_free)
+        near = nodes.near_anchors(pts, others, np.flatnonzero(on_free), bound)
+        candidates = np.flatnonzero(on_free)
+        if near.size:
+            candidates = unique_values(np.concatenate([candidates, near]))
     else:
-        ends = np.zeros(mesh.n_points, dtype=bool)
-        ends[table.start[free_use]] = True
-        ends[table.end[free_use]] = True
         candidates = np.flatnonzero(ends)
     if not no_solid:
         candidates = unique_values(np.concatenate([candidates, solids.nodes]))
-    pts = mesh.points
-    relative = settings.coincident_tolerance
 
     def local(idx: np.ndarray) -> np.ndarray:
         live = table.nodes[table.uses > 0]
@@ -471,12 +483,34 @@ def _coincident(
         tolerance[~np.isfinite(tolerance)] = 0.0
         return tolerance
 
-    longest = _longest_squared(pts, table.nodes) if table.n_edges else 0.0
-    if not no_solid:
-        longest = max(longest, solids.longest_squared())
-    bound = relative * float(np.sqrt(longest))
     clusters = nodes.coincident_clusters(pts, candidates, bound, local, enabled)
     return nodes.without_degenerate(clusters, mesh if solids is None else solids.mesh)
+
+
+def nodes_on_free_sides(
+    mesh: ElementMesh, table: EdgeTable, free_use: np.ndarray, ends: np.ndarray
+) -> np.ndarray:
+    """(n_points,) bool: the ends of the free edges (``ends``) and the midside nodes of
+    quadratic elements on them, plus the nodes of elements that have no edge in the
+    table (every side collapsed).
+
+    Two distinct nodes at one place that cut the part apart always lie on free sides:
+    the elements around the place are split between the two nodes, and where a group
+    of them ends its side is used by it alone. What lies elsewhere (two closed fans
+    at one place) is handled by :func:`meshaudit.mesh_checks.nodes.near_anchors`
+    only when some node of a free side is near."""
+    on = ends.copy()
+    for block in mesh.blocks:
+        cell = block.cell
+        sides = cell.midside_edges
+        if sides is None or not len(block):
+            continue
+        rows = np.searchsorted(block.index, table.element[free_use])
+        rows = np.minimum(rows, len(block) - 1)
+        inside = block.index[rows] == table.element[free_use]
+        local = table.local[free_use][inside].astype(np.int64)
+        on[block.connectivity[rows[inside], sides[local, 2]]] = True
+    return on
 
 
 def _longest_squared(points: np.ndarray, edge_nodes: np.ndarray) -> float:

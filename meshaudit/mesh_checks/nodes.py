@@ -43,6 +43,26 @@ def shortest_edge_at(points: np.ndarray, edge_nodes: np.ndarray) -> np.ndarray:
     return shortest
 
 
+def near_anchors(
+    points: np.ndarray, nodes: np.ndarray, anchors: np.ndarray, bound: float
+) -> np.ndarray:
+    """The ``nodes`` (indices into ``points``) that may lie within ``bound`` of one of the
+    ``anchors``: those whose position along the sweep's direction is within ``bound`` of
+    an anchor's (a necessary condition, the direction being a unit vector). One sort of
+    the anchors' positions and one binary search per node among them: no sort of
+    ``nodes``. Returns a subset of ``nodes``, in their order."""
+    if nodes.size == 0 or anchors.size == 0:
+        return nodes[:0]
+    fixed = np.sort(points[anchors] @ _PROBE)
+    key = points[nodes] @ _PROBE
+    at = np.searchsorted(fixed, key)
+    above = fixed[np.minimum(at, fixed.size - 1)]
+    below = fixed[np.maximum(at - 1, 0)]
+    near = np.abs(above - key) <= bound
+    near |= np.abs(key - below) <= bound
+    return nodes[near]
+
+
 @dataclass(frozen=True)
 class NodeClusters:
     """Distinct nodes at one place, grouped.
