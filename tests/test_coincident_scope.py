@@ -71,7 +71,7 @@ def test_a_stiffener_on_skin_nodes_of_its_own_is_found():
     skin = np.column_stack([pts, 0.05 * pts[:, 0] ** 2])
     bottom = [node(i, 2) for i in range(1, 5)]
     base = skin[bottom]
-    top = base + [0.0, 0.0, 1.0]
+    top = base + np.array([0.0, 0.0, 1.0])
     points = np.vstack([skin, base, top])
     b0, t0 = len(skin), len(skin) + len(bottom)
     fin = np.array([[b0 + k, b0 + k + 1, t0 + k + 1, t0 + k] for k in range(3)])
