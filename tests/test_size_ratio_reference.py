@@ -82,3 +82,48 @@ def test_size_ratio_matches_brute_force(case):
         neighbours.BLOCK = old
     want = brute_force(tris, h, counted)
     np.testing.assert_array_equal(got, want)
+
+
+def test_judged_in_tiny_blocks_a_graded_strip_reads_the_closed_form(monkeypatch):
+    # Closed form (common practice): a strip of unit-high quads whose widths double
+    # from one to the next has h = sqrt(width), so each element reads sqrt(2) against
+    # a neighbour; the two ends have one neighbour, the others two. Judged and
+    # compared in blocks of 2 elements / 3 uses, so every block boundary is crossed.
+    import meshio
+
+    from meshaudit import audit
+    from meshaudit.engine import size_pass
+
+    monkeypatch.setattr(size_pass, "BLOCK", 2)
+    monkeypatch.setattr(neighbours, "BLOCK", 3)
+    widths = 2.0 ** np.arange(9)
+    x = np.concatenate([[0.0], np.cumsum(widths)])
+    pts = np.array([[xi, y, 0.0] for y in (0.0, 1.0) for xi in x])
+    n = widths.size
+    quads = np.array([[i, i + 1, n + 2 + i, n + 1 + i] for i in range(n)])
+    report = audit(meshio.Mesh(pts, [("quad", quads)]))
+    np.testing.assert_allclose(report.metrics["size_ratio"], np.sqrt(2.0), rtol=1e-12)
+
+
+def test_judged_in_tiny_blocks_every_element_of_a_steep_strip_fails(monkeypatch):
+    # The same strip, each width (1.5 f)^2 times the last (f the profile's fail limit):
+    # every element reads 1.5 f against a neighbour, past the fail limit, so every
+    # element's size_ratio breach level is 2 (fail), block after block.
+    import meshio
+
+    from meshaudit import audit
+    from meshaudit.engine import size_pass
+    from meshaudit.judge.profiles import load_profile
+
+    monkeypatch.setattr(size_pass, "BLOCK", 2)
+    monkeypatch.setattr(neighbours, "BLOCK", 3)
+    fail = load_profile(None).limit("quad", "size_ratio").fail
+    widths = (1.5 * fail) ** (2.0 * np.arange(7))
+    x = np.concatenate([[0.0], np.cumsum(widths)])
+    pts = np.array([[xi, y, 0.0] for y in (0.0, 1.0) for xi in x])
+    n = widths.size
+    quads = np.array([[i, i + 1, n + 2 + i, n + 1 + i] for i in range(n)])
+    report = audit(meshio.Mesh(pts, [("quad", quads)]))
+    np.testing.assert_allclose(report.metrics["size_ratio"], 1.5 * fail, rtol=1e-9)
+    assert report.levels["size_ratio"].tolist() == [2] * n
+    assert report.verdict_counts()["fail"] == n
