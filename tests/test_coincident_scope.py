@@ -110,3 +110,15 @@ def test_an_interior_node_dragged_onto_another_is_deliberately_left_to_other_che
     assert "coincident_nodes" not in found
     assert "overlapping_elements" in found  # the fold it makes is reported
     assert report.verdict_counts()["fail"] > 0
+
+
+def test_the_same_places_are_found_nodes_taken_in_tiny_blocks(monkeypatch):
+    # the search goes through the nodes (and the edges for the tolerance) in blocks:
+    # with blocks of 3 every boundary is crossed and the findings are those above
+    from meshaudit.mesh_checks import nodes
+
+    monkeypatch.setattr(nodes, "BLOCK", 3)
+    test_a_crack_is_found_place_by_place()
+    test_one_node_split_inside_a_whole_grid_is_found()
+    test_a_crack_between_quadratic_elements_counts_its_midside_nodes()
+    test_a_stiffener_on_skin_nodes_of_its_own_is_found()

@@ -461,9 +461,11 @@ def _coincident(
         # lie within the tolerance of one of them: unmerged nodes that cut the part
         # always lie on free sides (see nodes_on_free_sides)
         on_free = nodes_on_free_sides(mesh, table, free_use, ends)
-        others = np.flatnonzero(mesh.used_nodes() & ~on_free)
-        near = nodes.near_anchors(pts, others, np.flatnonzero(on_free), bound)
+        others = mesh.used_nodes()
+        others &= ~on_free
         candidates = np.flatnonzero(on_free)
+        near = nodes.near_anchors(pts, others, candidates, bound)
+        del others
         if near.size:
             candidates = unique_values(np.concatenate([candidates, near]))
     else:
@@ -514,16 +516,20 @@ def nodes_on_free_sides(
 
 
 def _longest_squared(points: np.ndarray, edge_nodes: np.ndarray) -> float:
-    """Largest squared length of the edges ``edge_nodes`` (m, 2), one coordinate at a
-    time so no (m, 3) temporary is made."""
-    total = np.zeros(edge_nodes.shape[0])
-    for axis in range(points.shape[1]):
-        column = points[:, axis]
-        step = column[edge_nodes[:, 1]]
-        step -= column[edge_nodes[:, 0]]
-        step *= step
-        total += step
-    return float(total.max())
+    """Largest squared length of the edges ``edge_nodes`` (m, 2), in blocks of
+    :data:`nodes.BLOCK` edges, one coordinate at a time (bounded temporaries)."""
+    longest = 0.0
+    for start in range(0, edge_nodes.shape[0], nodes.BLOCK):
+        part = edge_nodes[start : start + nodes.BLOCK]
+        total = np.zeros(part.shape[0])
+        for axis in range(points.shape[1]):
+            column = points[:, axis]
+            step = column[part[:, 1]]
+            step -= column[part[:, 0]]
+            step *= step
+            total += step
+        longest = max(longest, float(total.max()))
+    return longest
 
 
 def _planar_checks(

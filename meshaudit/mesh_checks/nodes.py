@@ -43,24 +43,36 @@ def shortest_edge_at(points: np.ndarray, edge_nodes: np.ndarray) -> np.ndarray:
     return shortest
 
 
+#: Nodes looked at per block by :func:`near_anchors` (temporaries of a few MB).
+BLOCK = 1 << 18
+
+
 def near_anchors(
     points: np.ndarray, nodes: np.ndarray, anchors: np.ndarray, bound: float
 ) -> np.ndarray:
-    """The ``nodes`` (indices into ``points``) that may lie within ``bound`` of one of the
-    ``anchors``: those whose position along the sweep's direction is within ``bound`` of
-    an anchor's (a necessary condition, the direction being a unit vector). One sort of
-    the anchors' positions and one binary search per node among them: no sort of
-    ``nodes``. Returns a subset of ``nodes``, in their order."""
-    if nodes.size == 0 or anchors.size == 0:
-        return nodes[:0]
+    """The nodes of the mask ``nodes`` (n_points,) that may lie within ``bound`` of one of
+    the ``anchors`` (indices into ``points``): those whose position along the sweep's
+    direction is within ``bound`` of an anchor's (a necessary condition, the direction
+    being a unit vector). One sort of the anchors' positions and one binary search per
+    node among them, block by block of :data:`BLOCK` nodes: no sort of every node, and
+    bounded temporaries. Returns node indices, ascending."""
+    if anchors.size == 0:
+        return np.zeros(0, dtype=np.int64)
     fixed = np.sort(points[anchors] @ _PROBE)
-    key = points[nodes] @ _PROBE
-    at = np.searchsorted(fixed, key)
-    above = fixed[np.minimum(at, fixed.size - 1)]
-    below = fixed[np.maximum(at - 1, 0)]
-    near = np.abs(above - key) <= bound
-    near |= np.abs(key - below) <= bound
-    return nodes[near]
+    out = [np.zeros(0, dtype=np.int64)]
+    for start in range(0, nodes.size, BLOCK):
+        idx = np.flatnonzero(nodes[start : start + BLOCK])
+        if idx.size == 0:
+            continue
+        idx += start
+        key = points[idx] @ _PROBE
+        at = np.searchsorted(fixed, key)
+        above = fixed[np.minimum(at, fixed.size - 1)]
+        below = fixed[np.maximum(at - 1, 0)]
+        near = np.abs(above - key) <= bound
+        near |= np.abs(key - below) <= bound
+        out.append(idx[near])
+    return np.concatenate(out)
 
 
 @dataclass(frozen=True)
