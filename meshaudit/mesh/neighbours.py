@@ -148,7 +148,9 @@ def _worst_over_side(ratio: np.ndarray, h: np.ndarray, seen: np.ndarray, side: S
         for lo in range(0, k, BLOCK):
             two = np.flatnonzero(uses[lo : lo + BLOCK] == 2)
             two += lo
-            a, b = seen[element[p[two]]], seen[element[q[two]]]
+            first = element[p[two].astype(np.intp)].astype(np.intp)
+            last = element[q[two].astype(np.intp)].astype(np.intp)
+            a, b = seen[first], seen[last]
             side_ratio[two] = np.fmax(a / b, b / a)
     many = uses > 2
     high = low = None
@@ -162,7 +164,10 @@ def _worst_over_side(ratio: np.ndarray, h: np.ndarray, seen: np.ndarray, side: S
     some_invalid = bool(invalid.any())
     ordered = element.size < 2 or bool((element[1:] >= element[:-1]).all())
     for lo in range(0, group.size, BLOCK):
-        g, e = group[lo : lo + BLOCK], element[lo : lo + BLOCK]
+        # indices as numpy's own index type once per block (int32 would be cast
+        # again by every gather)
+        g = group[lo : lo + BLOCK].astype(np.intp)
+        e = element[lo : lo + BLOCK].astype(np.intp)
         with np.errstate(divide="ignore", invalid="ignore"):
             worst = side_ratio[g]
             if some_invalid:  # an element left out still reads its neighbour against itself
