@@ -23,6 +23,7 @@ from hypothesis import strategies as st
 
 from meshaudit import audit
 from meshaudit.mesh_checks import overlap
+from tests.finding_meshes import boxes_meeting
 
 SAMPLES = Path(__file__).resolve().parents[1] / "samples"
 
@@ -45,14 +46,7 @@ def test_grid_pairs_of_any_query_subset_match_all_pairs_brute_force(case):
     boxes, around = case
     grid = overlap.BoxGrid.build(boxes)
     got = {tuple(p) for p in grid.pairs_near(around).tolist()}
-    wx = np.minimum(boxes[:, None, 2], boxes[None, :, 2]) - np.maximum(
-        boxes[:, None, 0], boxes[None, :, 0]
-    )
-    wy = np.minimum(boxes[:, None, 3], boxes[None, :, 3]) - np.maximum(
-        boxes[:, None, 1], boxes[None, :, 1]
-    )
-    meet = (wx > 1e-9 * grid.h) & (wy > 1e-9 * grid.h)
-    np.fill_diagonal(meet, False)
+    meet = boxes_meeting(boxes, 1e-9 * grid.h)
     asked = np.zeros(len(boxes), dtype=bool)
     asked[around] = True
     meet &= asked[:, None]

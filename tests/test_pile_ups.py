@@ -20,7 +20,15 @@ import pytest
 from meshaudit import audit
 from meshaudit.errors import InputError
 from meshaudit.mesh_checks import budget, nodes, overlap
-from tests.finding_meshes import NX, NY, grid_points, grid_quads, polygons, with_crack
+from tests.finding_meshes import (
+    NX,
+    NY,
+    boxes_meeting,
+    grid_points,
+    grid_quads,
+    polygons,
+    with_crack,
+)
 
 
 def found(report) -> dict:
@@ -366,13 +374,6 @@ def test_the_box_grid_finds_every_pair_of_overlapping_boxes(seed):
     boxes = np.hstack([low, low + side])
     grid = overlap.BoxGrid.build(boxes)
     got = {tuple(p) for p in grid.pairs_near(np.arange(600)).tolist()}
-    wx = np.minimum(boxes[:, None, 2], boxes[None, :, 2]) - np.maximum(
-        boxes[:, None, 0], boxes[None, :, 0]
-    )
-    wy = np.minimum(boxes[:, None, 3], boxes[None, :, 3]) - np.maximum(
-        boxes[:, None, 1], boxes[None, :, 1]
-    )
-    meet = (wx > 1e-9 * grid.h) & (wy > 1e-9 * grid.h)
-    np.fill_diagonal(meet, False)
+    meet = boxes_meeting(boxes, 1e-9 * grid.h)
     expected = set(zip(*np.nonzero(meet)))
     assert expected and got == {(int(a), int(b)) for a, b in expected}
