@@ -30,7 +30,8 @@ class EdgeTable:
     within the element (edge i runs from corner i to corner i+1; a side whose two corners
     are one node, as in a collapsed crack-tip quad, is left out), ``edge`` (m,) the
     undirected edge number in 0..n_edges-1 (int32 when the count allows), ``nodes``
-    (n_edges, 2) its two nodes (smaller first) and ``uses`` (n_edges,) how many element
+    (n_edges, 2) its two nodes (smaller first; int32 when the node count allows) and
+    ``uses`` (n_edges,) how many element
     edges map to it: 1 is a free (boundary) edge, 2 an interior edge, 3 or more a non-manifold edge.
     ``first`` and ``last`` (n_edges,): the positions of each edge's first and last use
     (the two uses of an interior edge), when known (None in a table that has dropped
