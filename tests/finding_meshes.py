@@ -58,3 +58,17 @@ def polygons(points: np.ndarray, cells: np.ndarray) -> list:
     import shapely
 
     return [shapely.make_valid(shapely.Polygon(points[c, :2])) for c in cells]
+
+
+def boxes_meeting(boxes: np.ndarray, tiny: float) -> np.ndarray:
+    """(n, n) bool, brute force over all pairs (numpy): boxes (n, 4) xmin, ymin, xmax,
+    ymax i and j (i != j) share a strip wider than ``tiny`` on both axes."""
+    wx = np.minimum(boxes[:, None, 2], boxes[None, :, 2]) - np.maximum(
+        boxes[:, None, 0], boxes[None, :, 0]
+    )
+    wy = np.minimum(boxes[:, None, 3], boxes[None, :, 3]) - np.maximum(
+        boxes[:, None, 1], boxes[None, :, 1]
+    )
+    meet = (wx > tiny) & (wy > tiny)
+    np.fill_diagonal(meet, False)
+    return meet

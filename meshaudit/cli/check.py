@@ -109,17 +109,23 @@ def run(args: argparse.Namespace) -> int:
 
 
 def _check_single(args: argparse.Namespace) -> int:
-    from ..outputs import terminal
     from ..outputs.process import terminal_output
     from ..results.status import exit_status
-    from .options import console
     from .progress import stage_bar, wanted
 
     with stage_bar(wanted(args.quiet)) as progress:
         args.progress = progress
         report = audit_and_write(args)
     with terminal_output():
-        terminal.render(report, console(), top=args.top, quiet=args.quiet)
+        if args.quiet:  # the verdict line alone: no terminal library is loaded
+            from ..outputs.verdict_text import print_verdict
+
+            print_verdict(report)
+        else:
+            from ..outputs import terminal
+            from .options import console
+
+            terminal.render(report, console(), top=args.top, quiet=False)
     return exit_status(report.passed)
 
 

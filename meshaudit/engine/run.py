@@ -289,6 +289,17 @@ class _Run:
             if self.profile.findings.enabled("overlapping_elements"):
                 grid = pool.later(BoxGrid.build, self.shapes.boxes)
         table, part, sides = pending.result()
+        reversed_ = (sink.bits >> np.uint32(FLAG_BIT["reversed"])) & np.uint32(1) == 1
+        if self.positions is not None:
+            reversed_ = reversed_[self.positions]
+        orientation = judge_orientation(mesh, frame, reversed_, table)
+        # the rest of the mesh-level checks read no per-element column the size ratio
+        # and the orientation marks write: on a pool they run beside them
+        checking = None
+        if part is not None:
+            inverted = (sink.bits >> np.uint32(FLAG_BIT["inverted"])) & np.uint32(1) == 1
+            grid_result = None if grid is None else grid.result
+            checking = pool.later(self._mesh_findings, part, grid_result, orientation, inverted)
         apply_size_ratio(
             sink,
             sides,
@@ -300,10 +311,6 @@ class _Run:
         )
         if pool.parallel and not relative:
             summing = pool.later(metric_statistics, sink.metrics, sink.ordered_levels())
-        reversed_ = (sink.bits >> np.uint32(FLAG_BIT["reversed"])) & np.uint32(1) == 1
-        if self.positions is not None:
-            reversed_ = reversed_[self.positions]
-        orientation = judge_orientation(mesh, frame, reversed_, table)
         notes = [*mesh.numbering.notes, *frame_notes(frame), *nearly_flat_shell_note(mesh, frame)]
         notes += mark_orientation(
             widened(orientation, self.positions, len(sink.verdict)),
@@ -313,17 +320,25 @@ class _Run:
         )
         if pool.parallel and relative:
             summing = pool.later(metric_statistics, sink.metrics, sink.ordered_levels())
-        mesh_findings = None
-        if part is not None:
-            grid_result = None if grid is None else grid.result
-            mesh_findings = finish(part, mesh, frame, self.shapes, grid_result, orientation)
-            mesh_findings = at_report_positions(mesh_findings, self.positions)
-            if part.solid is not None:
-                inverted = (sink.bits >> np.uint32(FLAG_BIT["inverted"])) & np.uint32(1) == 1
-                solid_found, surfaces = finish_solid(part.solid, inverted[part.solid.positions])
-                mesh_findings = merged(mesh_findings, solid_found, surfaces)
+        mesh_findings = None if checking is None else checking.result()
         stats = None if summing is None else summing.result()
         return notes, mesh_findings, stats
+
+    def _mesh_findings(
+        self,
+        part: TopologyPart,
+        grid: Callable[[], BoxGrid] | None,
+        orientation: Orientation,
+        inverted: np.ndarray,
+    ) -> MeshFindings:
+        """The mesh-level checks that need each element's winding and shape (and the
+        solids' inverted flags, ``inverted`` (n,)), at report positions."""
+        found = finish(part, self.surface, self.frame, self.shapes, grid, orientation)
+        found = at_report_positions(found, self.positions)
+        if part.solid is not None:
+            solid_found, surfaces = finish_solid(part.solid, inverted[part.solid.positions])
+            found = merged(found, solid_found, surfaces)
+        return found
 
     def report(
         self,

@@ -23,6 +23,9 @@ from .sink import ChunkSink
 
 METRIC = "size_ratio"
 
+#: Elements judged at a time (their temporaries a few MB, whatever the mesh size).
+BLOCK = 1 << 18
+
 
 def apply_size_ratio(
     sink: ChunkSink,
@@ -52,13 +55,16 @@ def apply_size_ratio(
             limit = profile.limit(family, METRIC)
             if limit is None:
                 continue
-            rows = np.flatnonzero((codes == k) & (family_codes == f))
-            if rows.size == 0:
-                continue
-            values = ratio[rows]
-            level = breach_level(values, limit, "high")
-            t = distance(family, METRIC, values, limit, "high", level)
-            _raise(sink, rows, level, t, valid[rows])
+            for start in range(0, sink.n, BLOCK):  # bounded temporaries at any mesh size
+                part = slice(start, start + BLOCK)
+                rows = np.flatnonzero((codes[part] == k) & (family_codes[part] == f))
+                if rows.size == 0:
+                    continue
+                rows += start
+                values = ratio[rows]
+                level = breach_level(values, limit, "high")
+                t = distance(family, METRIC, values, limit, "high", level)
+                _raise(sink, rows, level, t, valid[rows])
 
 
 def _raise(

@@ -30,10 +30,14 @@ EXACT_USES = 1 << 26
 @dataclass(frozen=True)
 class SideGroups:
     """Every (side, element) use: ``group`` (m,) side number, ``element`` (m,) report
-    position of the element using it."""
+    position of the element using it (int32 or int64). ``first`` and ``last`` (sides,):
+    each side's first and last use, when the table they come from knows them (None:
+    worked out from sums of the use positions, see :func:`_worst_per_use`)."""
 
     group: np.ndarray
     element: np.ndarray
+    first: np.ndarray | None = None
+    last: np.ndarray | None = None
 
     @classmethod
     def empty(cls) -> SideGroups:
@@ -43,10 +47,10 @@ class SideGroups:
 def edge_groups(table: EdgeTable, positions: np.ndarray | None) -> SideGroups:
     """Side groups of the surface elements from their edge table; ``positions`` maps the
     table's element numbers to report positions (None: they are report positions)."""
-    element = table.element.astype(np.int64)
+    element = table.element  # int32 where the table holds it so: no wider copy
     if positions is not None:
         element = positions[element]
-    return SideGroups(table.edge.astype(np.int64), element)
+    return SideGroups(table.edge, element, table.first, table.last)
 
 
 def face_groups(mesh: ElementMesh) -> SideGroups:
@@ -58,7 +62,7 @@ def face_groups(mesh: ElementMesh) -> SideGroups:
     table = face_table(mesh)
     if table.face.size == 0:
         return SideGroups.empty()
-    return SideGroups(table.face.astype(np.int64), table.element.astype(np.int64))
+    return SideGroups(table.face, table.element, table.first, table.last)
 
 
 def characteristic_length(size: np.ndarray, dimension: np.ndarray) -> np.ndarray:
@@ -78,11 +82,12 @@ def size_ratio(
 
     ``counted`` (n,) bool: elements whose size counts as a neighbour's (an invalid element,
     folded or collapsed, fails on its own and does not make its neighbours fail); None:
-    all. How, with no per-element loop and no sort: a side with two uses (nearly all) finds
-    its two elements from ``bincount`` sums of the use positions (see
-    :func:`_worst_per_use`); a side with three or more uses (non-manifold) takes the largest
-    and smallest h on it; each element then takes the worst over its uses, which lie
-    together (element by element) in the side groups.
+    all. How, with no per-element loop and no sort: a side with two uses (nearly all)
+    knows its two elements (the side table's first and last use, or ``bincount`` sums of
+    the use positions, see :func:`_pairs`) and gets one ratio; a side with three or more
+    uses (non-manifold) takes the largest and smallest h on it; each element then takes
+    the worst over its uses. The uses are gone through in blocks of :data:`BLOCK` (a loop
+    over blocks, not elements), so the temporaries stay small whatever the mesh size.
     """
     n = h.size
     ratio = np.ones(n)
@@ -92,75 +97,103 @@ def size_ratio(
     for side in sides:
         if side.group.size == 0:
             continue
-        worst = _worst_per_use(h, seen, side)
-        _worst_per_element(ratio, side.element, worst)
+        _worst_over_side(ratio, h, seen, side)
     ratio[np.isnan(h)] = np.nan
     return ratio
 
 
-def _worst_per_use(h: np.ndarray, seen: np.ndarray, side: SideGroups) -> np.ndarray:
-    """For every use of a side: the largest ratio between its element's h and the h of
-    another element on that side (NaN: none counted).
+#: Uses (and sides) handled per block by :func:`size_ratio`: 2^18, so each temporary is
+#: a few hundred KiB to 2 MiB (reused from the heap, in the CPU cache).
+BLOCK = 1 << 18
 
-    A side with two uses at positions p < q: the sums s = p + q and t = p^2 + q^2 (two
-    ``bincount``, exact in float64 below 2^26 uses) give q - p = sqrt(2t - s^2), so both
-    positions, with no sort and one gather per side rather than several per use."""
-    group, element = side.group, side.element
-    m = group.size
-    k = int(group.max()) + 1
-    uses = np.bincount(group, minlength=k)
-    if m >= EXACT_USES:  # beyond exact float64 sums: every side by its extremes
-        return _by_extremes(h, seen, side, np.arange(m), k)
+
+def _pairs(side: SideGroups, uses: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(p, q) (sides,): the first and last use of each side (meaningful where it has two).
+
+    From the side table when it has them; otherwise, for a side with two uses at
+    positions p < q, the sums s = p + q and t = p^2 + q^2 (two ``bincount``, exact in
+    float64 below 2^26 uses) give q - p = sqrt(2t - s^2); beyond 2^26 uses by
+    ``ufunc.at`` extremes of the positions."""
+    k = uses.size
+    if side.first is not None and side.last is not None and side.first.size == k:
+        return side.first, side.last
+    m = side.group.size
+    if m >= EXACT_USES:
+        position = np.arange(m, dtype=np.int64)
+        p = np.full(k, m, dtype=np.int64)
+        q = np.full(k, -1, dtype=np.int64)
+        np.minimum.at(p, side.group, position)
+        np.maximum.at(q, side.group, position)
+        return p, q
     position = np.arange(m, dtype=np.float64)
-    s = np.bincount(group, weights=position, minlength=k)
-    t = np.bincount(group, weights=position * position, minlength=k)
-    two = np.flatnonzero(uses == 2)
-    s, t = s[two], t[two]
-    d = np.sqrt(2.0 * t - s * s)
+    s = np.bincount(side.group, weights=position, minlength=k)
+    t = np.bincount(side.group, weights=position * position, minlength=k)
+    del position
+    d = np.sqrt(np.maximum(2.0 * t - s * s, 0.0))
     p = ((s - d) * 0.5).astype(np.int64)
     q = ((s + d) * 0.5).astype(np.int64)
-    a, b = seen[element[p]], seen[element[q]]
+    return p, q
+
+
+def _worst_over_side(ratio: np.ndarray, h: np.ndarray, seen: np.ndarray, side: SideGroups) -> None:
+    """ratio[e] = max(ratio[e], the worst ratio over e's uses of the sides ``side``), in
+    place: an element's h against the h of every other counted element on its side
+    (NaN: none counted, ignored)."""
+    group, element = side.group, side.element
+    k = int(group.max()) + 1
+    uses = np.bincount(group, minlength=k)
+    p, q = _pairs(side, uses)
     side_ratio = np.full(k, np.nan)
     with np.errstate(divide="ignore", invalid="ignore"):
-        side_ratio[two] = np.fmax(a / b, b / a)
-        worst = side_ratio[group]
-        # an element left out (invalid) still reads its neighbour's size against its own
-        out = np.zeros(0, dtype=np.int64)
-        if np.isnan(seen).any():
-            out = np.flatnonzero(np.isnan(seen[element]) & (uses[group] == 2))
-        if out.size:
-            pair_sum = np.zeros(k, dtype=np.int64)
-            pair_sum[two] = p + q
-            other = seen[element[pair_sum[group[out]] - out]]
-            mine = h[element[out]]
-            worst[out] = np.fmax(other / mine, mine / other)
-    if (uses > 2).any():  # non-manifold sides: the extremes of every h on them
-        many = np.flatnonzero(uses[group] > 2)
-        worst[many] = _by_extremes(h, seen, side, many, k)
-    worst[worst < 1.0] = 1.0  # -inf/h or h/inf: no other element counted
-    return worst
+        for lo in range(0, k, BLOCK):
+            two = np.flatnonzero(uses[lo : lo + BLOCK] == 2)
+            two += lo
+            first = element[p[two].astype(np.intp)].astype(np.intp)
+            last = element[q[two].astype(np.intp)].astype(np.intp)
+            a, b = seen[first], seen[last]
+            side_ratio[two] = np.fmax(a / b, b / a)
+    many = uses > 2
+    high = low = None
+    if many.any():  # non-manifold sides: the extremes of every counted h on them
+        on = np.flatnonzero(many[group])
+        high, low = np.full(k, -np.inf), np.full(k, np.inf)
+        np.fmax.at(high, group[on], seen[element[on]])
+        np.fmin.at(low, group[on], seen[element[on]])
+        del on
+    invalid = np.isnan(seen)
+    some_invalid = bool(invalid.any())
+    ordered = element.size < 2 or bool((element[1:] >= element[:-1]).all())
+    for lo in range(0, group.size, BLOCK):
+        # indices as numpy's own index type once per block (int32 would be cast
+        # again by every gather)
+        g = group[lo : lo + BLOCK].astype(np.intp)
+        e = element[lo : lo + BLOCK].astype(np.intp)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            worst = side_ratio[g]
+            if some_invalid:  # an element left out still reads its neighbour against itself
+                out = np.flatnonzero(invalid[e])
+                out = out[uses[g[out]] == 2]
+                if out.size:
+                    mine = h[e[out]]
+                    gg = g[out]
+                    other_use = p[gg].astype(np.int64) + q[gg] - (out + lo)
+                    other = seen[element[other_use]]
+                    worst[out] = np.fmax(other / mine, mine / other)
+            if high is not None:
+                nm = np.flatnonzero(many[g])
+                if nm.size:
+                    mine = h[e[nm]]
+                    worst[nm] = np.fmax(high[g[nm]] / mine, mine / low[g[nm]])
+        worst[worst < 1.0] = 1.0  # -inf/h or h/inf: no other element counted
+        _worst_per_element(ratio, e, worst, ordered)
 
 
-def _by_extremes(
-    h: np.ndarray, seen: np.ndarray, side: SideGroups, uses: np.ndarray, k: int
-) -> np.ndarray:
-    """The worst ratio of each of the ``uses`` against the largest and smallest counted h
-    on its side (``ufunc.at`` over those uses only)."""
-    g, e = side.group[uses], side.element[uses]
-    high = np.full(k, -np.inf)
-    low = np.full(k, np.inf)
-    np.fmax.at(high, g, seen[e])
-    np.fmin.at(low, g, seen[e])
-    mine = h[e]
-    with np.errstate(divide="ignore", invalid="ignore"):
-        worst = np.fmax(high[g] / mine, mine / low[g])
-    worst[worst < 1.0] = 1.0
-    return worst
-
-
-def _worst_per_element(ratio: np.ndarray, element: np.ndarray, worst: np.ndarray) -> None:
-    """ratio[e] = max(ratio[e], worst over e's uses), in place; NaN uses are ignored."""
-    if element.size > 1 and bool((element[1:] >= element[:-1]).all()):
+def _worst_per_element(
+    ratio: np.ndarray, element: np.ndarray, worst: np.ndarray, ordered: bool
+) -> None:
+    """ratio[e] = max(ratio[e], worst over e's uses), in place; NaN uses are ignored.
+    ``ordered``: ``element`` ascends (uses element by element), so one ``reduceat``."""
+    if ordered and element.size > 1:
         starts = np.flatnonzero(np.concatenate([[True], element[1:] != element[:-1]]))
         best = np.fmax.reduceat(worst, starts)
         rows = element[starts]

@@ -30,8 +30,12 @@ class EdgeTable:
     within the element (edge i runs from corner i to corner i+1; a side whose two corners
     are one node, as in a collapsed crack-tip quad, is left out), ``edge`` (m,) the
     undirected edge number in 0..n_edges-1 (int32 when the count allows), ``nodes``
-    (n_edges, 2) its two nodes (smaller first) and ``uses`` (n_edges,) how many element
+    (n_edges, 2) its two nodes (smaller first; int32 when the node count allows) and
+    ``uses`` (n_edges,) how many element
     edges map to it: 1 is a free (boundary) edge, 2 an interior edge, 3 or more a non-manifold edge.
+    ``first`` and ``last`` (n_edges,): the positions of each edge's first and last use
+    (the two uses of an interior edge), when known (None in a table that has dropped
+    uses, see :func:`meshaudit.mesh_checks.edges.kept_table`).
     """
 
     start: np.ndarray
@@ -41,6 +45,8 @@ class EdgeTable:
     edge: np.ndarray
     nodes: np.ndarray
     uses: np.ndarray
+    first: np.ndarray | None = None
+    last: np.ndarray | None = None
 
     @property
     def n_edges(self) -> int:
@@ -69,22 +75,46 @@ def edge_table(mesh: ElementMesh) -> EdgeTable:
     if not real.all():
         start, end, elem, loc = start[real], end[real], elem[real], loc[real]
     del real
-    n = np.int64(max(mesh.n_points, 1))
-    key = np.minimum(start, end).astype(np.int64)
-    key *= n
-    key += np.maximum(start, end)
-    uniq, edge, uses = unique_keys(key, int(n) * int(n))
+    key, span_bits = edge_keys(start, end)
+    bound = (max(mesh.n_points, 1) << span_bits) if key.size else 1
+    uniq, edge, uses, first, last = unique_keys(key, bound, ends=True)
     del key
-    low, high = np.divmod(uniq, n)
+    nodes = np.empty((uniq.size, 2), dtype=index_dtype(mesh.n_points))
+    np.right_shift(uniq, np.int64(span_bits), out=nodes[:, 0], casting="unsafe")
+    uniq &= np.int64((1 << span_bits) - 1)
+    nodes[:, 1] = uniq
+    del uniq
+    nodes[:, 1] += nodes[:, 0]
     return EdgeTable(
         start=start,
         end=end,
         element=elem,
         local=loc,
         edge=edge,
-        nodes=np.stack([low, high], axis=1),
+        nodes=nodes,
         uses=uses,
+        first=first,
+        last=last,
     )
+
+
+def edge_keys(start: np.ndarray, end: np.ndarray) -> tuple[np.ndarray, int]:
+    """(key, span_bits): one int64 key per edge use, ``low << span_bits | (high - low)``
+    with low, high the smaller and larger node, and span_bits the bits the largest
+    high - low needs.
+
+    Keys order edges exactly as (low, high) does, but need only as many bits as the
+    node numbering's widest edge span: a mesh numbered with locality (a mesher's usual
+    output: neighbours get nearby numbers) gives keys short enough to be sorted together
+    with their positions in one 64-bit word (:func:`sort_keys`'s one-sort path), where
+    low x n_nodes + high would need two sorts from about 10^7 edge uses on."""
+    low = np.minimum(start, end).astype(np.int64)
+    key = np.maximum(start, end).astype(np.int64)
+    key -= low
+    span_bits = max(int(key.max()).bit_length(), 1) if key.size else 1
+    low <<= np.int64(span_bits)
+    key |= low
+    return key, span_bits
 
 
 def _edge_uses(mesh: ElementMesh) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
@@ -172,14 +202,17 @@ def _packed_order(work: np.ndarray, position: np.ndarray, bits: int) -> None:
     work &= np.int64((1 << bits) - 1)
 
 
-def unique_keys(key: np.ndarray, bound: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def unique_keys(key: np.ndarray, bound: int, ends: bool = False) -> tuple[np.ndarray, ...]:
     """``np.unique(key, return_inverse=True, return_counts=True)`` for int64 keys in
-    [0, bound), using :func:`sort_keys`; the inverse is int32 when :func:`index_dtype`
-    allows."""
+    [0, bound), using :func:`sort_keys`; the inverse and the counts are int32 when
+    :func:`index_dtype` allows. With ``ends`` also the position of each distinct key's
+    first and last occurrence (int32 likewise)."""
     k = key.size
+    width = index_dtype(k)  # int32 when the keys are few enough: half the memory
     if k == 0:
         empty = np.zeros(0, dtype=np.int64)
-        return empty, empty, empty
+        narrow = np.zeros(0, dtype=width)
+        return (empty, narrow, narrow, narrow, narrow) if ends else (empty, narrow, narrow)
     order, sorted_key = sort_keys(key, bound)
     new = np.empty(k, dtype=bool)
     new[0] = True
@@ -187,13 +220,22 @@ def unique_keys(key: np.ndarray, bound: int) -> tuple[np.ndarray, np.ndarray, np
     starts = np.flatnonzero(new)
     uniq = sorted_key[starts]
     del sorted_key
-    width = index_dtype(k)  # int32 when the keys are few enough: half the memory
     rank = np.cumsum(new, dtype=width)
     del new
     rank -= 1
     inverse = np.empty(k, dtype=width)
     inverse[order] = rank
-    return uniq, inverse, np.diff(np.append(starts, k))
+    del rank
+    counts = np.empty(starts.size, dtype=width)
+    np.subtract(starts[1:], starts[:-1], out=counts[:-1], casting="unsafe")
+    counts[-1] = k - starts[-1]
+    if not ends:
+        return uniq, inverse, counts
+    first = order[starts].astype(width)
+    starts += counts
+    starts -= 1
+    last = order[starts].astype(width)
+    return uniq, inverse, counts, first, last
 
 
 def interior_pairs(table: EdgeTable) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

@@ -26,6 +26,8 @@ def kept_table(table: EdgeTable, keep: np.ndarray) -> EdgeTable:
         local=table.local[sel],
         edge=edge,
         uses=np.bincount(edge, minlength=table.n_edges),
+        first=None,
+        last=None,
     )
 
 

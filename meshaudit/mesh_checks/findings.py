@@ -447,17 +447,31 @@ def _coincident(
     no_solid = solids is None or solids.nodes.size == 0
     if (table.n_edges == 0 and no_solid) or not enabled:
         return nodes.NodeClusters.none(mesh.n_points)
+    pts = mesh.points
+    relative = settings.coincident_tolerance
+    longest = _longest_squared(pts, table.nodes) if table.n_edges else 0.0
+    if not no_solid:
+        longest = max(longest, solids.longest_squared())
+    bound = relative * float(np.sqrt(longest))
+    ends = np.zeros(mesh.n_points, dtype=bool)
+    ends[table.start[free_use]] = True
+    ends[table.end[free_use]] = True
     if "coincident_nodes" in enabled or (shell and "hanging_nodes" in enabled):
-        candidates = np.flatnonzero(mesh.used_nodes())
+        # the nodes of free sides (ends and midside nodes), and any other node that may
+        # lie within the tolerance of one of them: unmerged nodes that cut the part
+        # always lie on free sides (see nodes_on_free_sides)
+        on_free = nodes_on_free_sides(mesh, table, free_use, ends)
+        others = mesh.used_nodes()
+        others &= ~on_free
+        candidates = np.flatnonzero(on_free)
+        near = nodes.near_anchors(pts, others, candidates, bound)
+        del others
+        if near.size:
+            candidates = unique_values(np.concatenate([candidates, near]))
     else:
-        ends = np.zeros(mesh.n_points, dtype=bool)
-        ends[table.start[free_use]] = True
-        ends[table.end[free_use]] = True
         candidates = np.flatnonzero(ends)
     if not no_solid:
         candidates = unique_values(np.concatenate([candidates, solids.nodes]))
-    pts = mesh.points
-    relative = settings.coincident_tolerance
 
     def local(idx: np.ndarray) -> np.ndarray:
         live = table.nodes[table.uses > 0]
@@ -471,25 +485,51 @@ def _coincident(
         tolerance[~np.isfinite(tolerance)] = 0.0
         return tolerance
 
-    longest = _longest_squared(pts, table.nodes) if table.n_edges else 0.0
-    if not no_solid:
-        longest = max(longest, solids.longest_squared())
-    bound = relative * float(np.sqrt(longest))
     clusters = nodes.coincident_clusters(pts, candidates, bound, local, enabled)
     return nodes.without_degenerate(clusters, mesh if solids is None else solids.mesh)
 
 
+def nodes_on_free_sides(
+    mesh: ElementMesh, table: EdgeTable, free_use: np.ndarray, ends: np.ndarray
+) -> np.ndarray:
+    """(n_points,) bool: the ends of the free edges (``ends``) and the midside nodes of
+    quadratic elements on them, plus the nodes of elements that have no edge in the
+    table (every side collapsed).
+
+    Two distinct nodes at one place that cut the part apart always lie on free sides:
+    the elements around the place are split between the two nodes, and where a group
+    of them ends its side is used by it alone. What lies elsewhere (two closed fans
+    at one place) is handled by :func:`meshaudit.mesh_checks.nodes.near_anchors`
+    only when some node of a free side is near."""
+    on = ends.copy()
+    for block in mesh.blocks:
+        cell = block.cell
+        sides = cell.midside_edges
+        if sides is None or not len(block):
+            continue
+        rows = np.searchsorted(block.index, table.element[free_use])
+        rows = np.minimum(rows, len(block) - 1)
+        inside = block.index[rows] == table.element[free_use]
+        local = table.local[free_use][inside].astype(np.int64)
+        on[block.connectivity[rows[inside], sides[local, 2]]] = True
+    return on
+
+
 def _longest_squared(points: np.ndarray, edge_nodes: np.ndarray) -> float:
-    """Largest squared length of the edges ``edge_nodes`` (m, 2), one coordinate at a
-    time so no (m, 3) temporary is made."""
-    total = np.zeros(edge_nodes.shape[0])
-    for axis in range(points.shape[1]):
-        column = points[:, axis]
-        step = column[edge_nodes[:, 1]]
-        step -= column[edge_nodes[:, 0]]
-        step *= step
-        total += step
-    return float(total.max())
+    """Largest squared length of the edges ``edge_nodes`` (m, 2), in blocks of
+    :data:`nodes.BLOCK` edges, one coordinate at a time (bounded temporaries)."""
+    longest = 0.0
+    for start in range(0, edge_nodes.shape[0], nodes.BLOCK):
+        part = edge_nodes[start : start + nodes.BLOCK]
+        total = np.zeros(part.shape[0])
+        for axis in range(points.shape[1]):
+            column = points[:, axis]
+            step = column[part[:, 1]]
+            step -= column[part[:, 0]]
+            step *= step
+            total += step
+        longest = max(longest, float(total.max()))
+    return longest
 
 
 def _planar_checks(

@@ -121,7 +121,10 @@ class BoxGrid:
     the grid follows the typical element, not the largest.
 
     Built from every element (:meth:`build`), so it can be built on another thread
-    while the other checks run; queried for the few elements that need it.
+    while the other checks run; queried for the few elements that need it. The entries
+    are binned by their integer cell keys and never sorted as a whole: a query marks the
+    cells it reads (a table of flags over the cell keys) and sorts only the entries in
+    those cells (elements near free edges and suspects: a small part of a sane mesh).
     """
 
     boxes: np.ndarray  # (n, 4) xmin, ymin, xmax, ymax
@@ -129,8 +132,9 @@ class BoxGrid:
     slack: float  # added to the h/2 a query widens a box by (rounding)
     origin: np.ndarray  # (2,) corner of cell (0, 0)
     width: int  # cells per grid column (key = column * width + row)
-    entry: np.ndarray  # (m,) element of each entry, in ascending cell key
-    sorted_key: np.ndarray  # (m,) their cell keys
+    entry: np.ndarray  # (m,) element of each entry, in no particular order
+    key: np.ndarray  # (m,) its cell key, in [0, bound)
+    bound: int = 1  # cell keys are below this
 
     @classmethod
     def build(cls, boxes: np.ndarray) -> BoxGrid:
@@ -168,17 +172,37 @@ class BoxGrid:
         del cell
         bound = (int(np.floor(span[0] / h)) + 6) * width
         if large.size == 0:
-            order, sorted_key = sort_keys(key, bound)
-            return cls(boxes, h, slack, origin, width, order, sorted_key)
+            entry = np.arange(key.size, dtype=np.int64)
+            return cls(boxes, h, slack, origin, width, entry, key, bound)
         small = np.flatnonzero(extent <= h)
         lo = np.floor((boxes[large, :2] - origin) / h).astype(np.int64)
         span_cells = np.floor((boxes[large, 2:] - origin) / h).astype(np.int64) - lo + 1
         row, k = budget.expand(np.zeros(large.size, dtype=np.int64), span_cells.prod(axis=1))
         across, up = np.divmod(k, span_cells[row, 1])
         covers = (lo[row, 0] + across) * width + lo[row, 1] + up
-        order, sorted_key = sort_keys(np.concatenate([key[small], covers]), bound)
-        entry = np.concatenate([small, large[row]])[order]
-        return cls(boxes, h, slack, origin, width, entry, sorted_key)
+        entry = np.concatenate([small, large[row]])
+        return cls(
+            boxes, h, slack, origin, width, entry, np.concatenate([key[small], covers]), bound
+        )
+
+    def in_cells(self, cells: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """(entry, key) of the entries in the cells ``cells`` (distinct keys,
+        ascending), in ascending cell key: a flag per cell key when the keys' range is
+        within a few times the entries (else a binary search of each key among
+        ``cells``), then a sort of those entries only."""
+        key = self.key
+        cells = cells[(cells >= 0) & (cells < self.bound)]  # no entry lies outside
+        if cells.size == 0 or key.size == 0:
+            return np.zeros(0, dtype=np.int64), np.zeros(0, dtype=np.int64)
+        if self.bound <= 8 * key.size + (1 << 20):
+            wanted = np.zeros(self.bound, dtype=bool)
+            wanted[cells] = True
+            inside = np.flatnonzero(wanted[key])
+        else:
+            at = np.minimum(np.searchsorted(cells, key), cells.size - 1)
+            inside = np.flatnonzero(cells[at] == key)
+        order, sorted_key = sort_keys(key[inside], self.bound)
+        return self.entry[inside[order]], sorted_key
 
     def pairs_near(
         self, around: np.ndarray, place: Callable[[np.ndarray], np.ndarray] | None = None
@@ -199,8 +223,9 @@ class BoxGrid:
         owner, k = budget.expand(np.zeros(around.size, dtype=np.int64), span.prod(axis=1))
         across, up = np.divmod(k, span[owner, 1])
         qkey = (lo[owner, 0] + across) * width + lo[owner, 1] + up
-        start = np.searchsorted(self.sorted_key, qkey, side="left")
-        count = np.searchsorted(self.sorted_key, qkey, side="right") - start
+        entry, sorted_key = self.in_cells(unique_values(qkey))
+        start = np.searchsorted(sorted_key, qkey, side="left")
+        count = np.searchsorted(sorted_key, qkey, side="right") - start
         total = int(count.sum())
         if total > budget.allowance(boxes.shape[0]):
             per = np.bincount(owner, weights=count, minlength=around.size)
@@ -217,7 +242,7 @@ class BoxGrid:
         tiny = 1e-9 * h
         out = [np.zeros((0, 2), dtype=np.int64)]
         for row, at in budget.batches(start, count):
-            e, f = around[owner[row]], self.entry[at]
+            e, f = around[owner[row]], entry[at]
             width_x = np.minimum(boxes[e, 2], boxes[f, 2]) - np.maximum(boxes[e, 0], boxes[f, 0])
             width_y = np.minimum(boxes[e, 3], boxes[f, 3]) - np.maximum(boxes[e, 1], boxes[f, 1])
             keep = (e != f) & (width_x > tiny) & (width_y > tiny)

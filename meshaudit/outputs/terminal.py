@@ -14,7 +14,8 @@ from rich.text import Text
 from ..metrics import METRIC_INFO, METRIC_NAMES, unit_of
 from ..results.report import PERCENTILES, Report
 from .display import fmt, label, legend, narrow, with_unit, zero_tolerances
-from .terminal_findings import findings_table, loops_line, surfaces_line, verdict_suffix
+from .terminal_findings import findings_table, loops_line, surfaces_line
+from .verdict_text import verdict_words
 
 if TYPE_CHECKING:
     from rich.table import Table
@@ -26,19 +27,10 @@ def _fmt(x: float | None) -> str:
 
 
 def verdict_line(report: Report) -> Text:
-    counts = report.verdict_counts()
-    n = report.summary.n_elements
-    word = "PASS" if report.passed else "FAIL"
-    gate = "warn" if report.fail_on == "warn" else "fail"
+    word, rest = verdict_words(report)
     text = Text()
     text.append(word, style="bold reverse" if not report.passed else "bold")
-    skipped = report.summary.skipped_text()
-    not_audited = f"; not audited: {skipped}" if skipped else ""
-    text.append(
-        f"  {report.summary.source}: {counts['fail']} of {n} elements fail, "
-        f"{counts['warn']} warn, {counts['ok']} ok{verdict_suffix(report)}{not_audited}; "
-        f"profile {report.profile.name}, gate on {gate}"
-    )
+    text.append(rest)
     return text
 
 
