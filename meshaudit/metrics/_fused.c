@@ -1,0 +1,460 @@
+/* One fused pass per element over the four-node quadrilateral: every metric and validity
+ * flag of meshaudit.metrics.quad.measure in a single loop, written into preallocated
+ * arrays.
+ *
+ * The arithmetic is that of the numpy kernel, operation by operation and in the same
+ * order (sums left to right, 3-D dot products as x, z, y as numpy's einsum takes them,
+ * "+ 0.0" where the numpy kernel adds it to turn -0.0 into 0.0), so that on a compiler
+ * without contraction of a * b + c into one fused multiply-add (built with
+ * -ffp-contract=off, never -ffast-math) every product, sum, quotient and square root
+ * rounds as numpy's does. Only the arc tangent comes from the C library here and from
+ * numpy's own vectorised routine there: the two may differ in the last place, so skew,
+ * the angles and the warp of an element in space agree with the numpy kernel to a few
+ * units in the last place of 360 degrees, not to the bit.
+ *
+ * Inputs and outputs go through the buffer protocol (C-contiguous float64, one byte per
+ * flag), so no numpy headers are needed to build this module.
+ */
+#define PY_SSIZE_T_CLEAN
+#include <Python.h>
+#include <math.h>
+#include <string.h>
+
+/* Order of the rows of the output arrays; meshaudit.metrics.fused names them. */
+enum {
+    M_AREA, M_DET_MIN, M_DET_MAX, M_DET_CORNER_MIN, M_JACOBIAN_RATIO, M_SCALED_JACOBIAN,
+    M_ASPECT, M_SKEW, M_TAPER, M_WARP, M_MIN_ANGLE, M_MAX_ANGLE, M_CONDITION, N_METRICS
+};
+enum { F_INVERTED, F_REVERSED, F_NONCONVEX, F_SELF_INTERSECTING, F_DEGENERATE, N_FLAGS };
+
+/* numpy's maximum, minimum and fmin of two doubles: NaN propagates (fmin: ignored). */
+static inline double np_max(double a, double b) { return (a >= b || isnan(a)) ? a : b; }
+static inline double np_min(double a, double b) { return (a <= b || isnan(a)) ? a : b; }
+static inline double np_fmin(double a, double b) { return (a <= b || isnan(b)) ? a : b; }
+
+static inline double np_sign(double a)
+{
+    if (a > 0.0) return 1.0;
+    if (a < 0.0) return -1.0;
+    if (a == 0.0) return 0.0;
+    return a; /* NaN */
+}
+
+typedef struct { double x, y, z; } vec3;
+
+static inline double cross2(double ax, double ay, double bx, double by)
+{
+    return ax * by - ay * bx;
+}
+
+static inline vec3 sub3(vec3 a, vec3 b)
+{
+    vec3 r = {a.x - b.x, a.y - b.y, a.z - b.z};
+    return r;
+}
+
+static inline vec3 cross3(vec3 a, vec3 b)
+{
+    vec3 r = {a.y * b.z - a.z * b.y, a.z * b.x - a.x * b.z, a.x * b.y - a.y * b.x};
+    return r;
+}
+
+/* a . b as numpy's einsum sums three terms: (x + z) + y, then + 0.0. */
+static inline double dot3(vec3 a, vec3 b)
+{
+    double t = a.x * b.x;
+    t += a.z * b.z;
+    t += a.y * b.y;
+    return t + 0.0;
+}
+
+/* |a|^2 of a 3-D point, in the same order, without the + 0.0. */
+static inline double square3(vec3 a)
+{
+    double t = a.x * a.x;
+    t += a.z * a.z;
+    t += a.y * a.y;
+    return t;
+}
+
+/* The larger of the two splits' angles that count, or of both where neither does. */
+static inline double larger_counted(double a0, int k0, double a1, int k1)
+{
+    double out = np_max(k0 ? a0 : -1.0, k1 ? a1 : -1.0);
+    if (out < 0.0) out = np_max(a0, a1);
+    return out;
+}
+
+/* Robinson's 4 e1, 4 e2, 4 e3 of one coordinate of the four nodes. */
+static inline void axes4(const double v[4], double *e1, double *e2, double *e3)
+{
+    double a = v[0], b = v[1], c = v[2], d = v[3];
+    double ba = b - a;
+    *e1 = (ba + c) - d;
+    *e2 = (c - (a + b)) + d;
+    *e3 = (c - ba) - d;
+}
+
+typedef struct {
+    double g;        /* 1 / sqrt(3), the Gauss point coordinate */
+    double degrees;  /* 180 / pi */
+    double tol;      /* relative tolerance of a collapsed element */
+} constants;
+
+/* Metrics of one element: ``pl`` its 4 x 2 nodes in the measuring plane, ``sp`` its
+ * 4 x 3 nodes in space, ``flat`` whether the chunk lies in a plane z = c. */
+static void quad_one(const double *pl, const double *sp, int flat, const constants *k,
+                     double *m, unsigned char *f)
+{
+    const double sixteenth = 1.0 / 16.0;
+    double px[4], py[4];
+    for (int i = 0; i < 4; i++) {
+        px[i] = pl[2 * i];
+        py[i] = pl[2 * i + 1];
+    }
+
+    /* -- det J, in the plane -- */
+    double e1x, e2x, e3x, e1y, e2y, e3y;
+    axes4(px, &e1x, &e2x, &e3x);
+    axes4(py, &e1y, &e2y, &e3y);
+    double c0 = cross2(e1x, e1y, e2x, e2y);
+    double c1 = cross2(e1x, e1y, e3x, e3y);
+    double c2 = cross2(e3x, e3y, e2x, e2y);
+    double a1 = fabs(c1), a2 = fabs(c2);
+    double g1 = a1 * k->g, g2 = a2 * k->g;
+    double gauss_lo = ((c0 - g1) - g2) * sixteenth + 0.0;
+    double gauss_hi = ((c0 + g1) + g2) * sixteenth + 0.0;
+    double corner_lo = ((c0 - a1) - a2) * sixteenth + 0.0;
+    double centre = c0 * sixteenth;
+
+    /* -- Robinson's shape parameters -- */
+    double q1 = e1x * e1x;
+    q1 += e1y * e1y;
+    double q2 = e2x * e2x;
+    q2 += e2y * e2y;
+    double abs_c0 = fabs(c0);
+    double aspect = sqrt(np_max(q1, q2) / np_min(q1, q2));
+    double d12 = e1x * e2x;
+    d12 += e1y * e2y;
+    d12 += 0.0;
+    double angle = atan2(abs_c0, d12) * k->degrees;
+    double skew = fabs(90.0 - angle);
+    double taper = np_max(a1, a2) / abs_c0;
+    if (c0 == 0.0) {
+        taper = INFINITY;
+        if (isnan(aspect)) aspect = INFINITY;
+    }
+
+    /* -- corners: edge to the next node a, to the previous b -- */
+    double nx[4], ny[4], sq[4], cr[4], dt[4], len[4];
+    for (int i = 0; i < 4; i++) {
+        int nxt = (i + 1) & 3, prv = (i + 3) & 3;
+        nx[i] = px[nxt] - px[i];
+        ny[i] = py[nxt] - py[i];
+        double bx = px[prv] - px[i], by = py[prv] - py[i];
+        double s = nx[i] * nx[i];
+        s += ny[i] * ny[i];
+        sq[i] = s;
+        cr[i] = cross2(nx[i], ny[i], bx, by);
+        dt[i] = nx[i] * bx + ny[i] * by;
+        len[i] = sqrt(s);
+    }
+    int convex = cr[0] > 0.0 && cr[1] > 0.0 && cr[2] > 0.0 && cr[3] > 0.0;
+    double orientation = 1.0 - 2.0 * (double)(c0 < 0.0);
+
+    double lo_angle, hi_angle;
+    {
+        double cot = dt[0] / cr[0];
+        double cot_lo = cot, cot_hi = cot;
+        for (int i = 1; i < 4; i++) {
+            cot = dt[i] / cr[i];
+            cot_lo = np_min(cot_lo, cot);
+            cot_hi = np_max(cot_hi, cot);
+        }
+        lo_angle = atan2(1.0, cot_hi) * k->degrees;
+        hi_angle = atan2(1.0, cot_lo) * k->degrees;
+        if (!(convex && orientation > 0.0)) {
+            for (int i = 0; i < 4; i++) {
+                double ang = atan2(orientation * cr[i], dt[i] + 0.0) * k->degrees;
+                ang = ang < 0.0 ? ang + 360.0 : ang + 0.0;
+                if (i == 0) {
+                    lo_angle = hi_angle = ang;
+                } else {
+                    lo_angle = np_min(lo_angle, ang);
+                    hi_angle = np_max(hi_angle, ang);
+                }
+            }
+        }
+    }
+
+    double scaled = 0.0, condition = 0.0, longest = 0.0;
+    for (int i = 0; i < 4; i++) {
+        int prv = (i + 3) & 3;
+        double v = cr[i] / (len[i] * len[prv]);
+        double w = (sq[i] + sq[prv]) / cr[i];
+        scaled = i ? np_min(scaled, v) : v;
+        condition = i ? np_max(condition, w) : w;
+        longest = i ? np_max(longest, len[i]) : len[i];
+    }
+    if (isnan(scaled)) { /* 0/0 at a corner with a zero edge counts as 0 */
+        scaled = 0.0;
+        for (int i = 0; i < 4; i++)
+            scaled = np_fmin(scaled, cr[i] / (len[i] * len[(i + 3) & 3]));
+    }
+    scaled += 0.0;
+    condition *= 0.5;
+    if (!convex) condition = INFINITY;
+
+    /* bow-tie: opposite edges cross properly */
+    int crossing;
+    {
+        double d13x = px[2] - px[0], d13y = py[2] - py[0];
+        double d24x = px[3] - px[1], d24y = py[3] - py[1];
+        int first = (cross2(nx[0], ny[0], d13x, d13y) * cr[0] < 0.0) &&
+                    (cross2(nx[2], ny[2], d13x, d13y) * cr[2] > 0.0);
+        int second = (cross2(nx[1], ny[1], d24x, d24y) * cr[1] < 0.0) &&
+                     (cross2(nx[3], ny[3], d24x, d24y) * cr[3] > 0.0);
+        crossing = first || second;
+    }
+
+    /* -- area, warp and collapse, from the nodes in space -- */
+    vec3 x[4];
+    for (int i = 0; i < 4; i++) {
+        x[i].x = sp[3 * i];
+        x[i].y = sp[3 * i + 1];
+        x[i].z = flat ? 0.0 : sp[3 * i + 2];
+    }
+    double area, swept, warp, shortest2, longest2;
+    if (flat) {
+        double sx[4], sy[4];
+        for (int i = 0; i < 4; i++) {
+            sx[i] = x[(i + 1) & 3].x - x[i].x;
+            sy[i] = x[(i + 1) & 3].y - x[i].y;
+        }
+        double vx[4] = {x[0].x, x[1].x, x[2].x, x[3].x};
+        double vy[4] = {x[0].y, x[1].y, x[2].y, x[3].y};
+        double f1x, f2x, f3x, f1y, f2y, f3y;
+        axes4(vx, &f1x, &f2x, &f3x);
+        axes4(vy, &f1y, &f2y, &f3y);
+        double ux = f3x * k->g, uy = f3y * k->g;
+        double xi0x = f1x - ux, xi0y = f1y - uy, xi1x = f1x + ux, xi1y = f1y + uy;
+        double et0x = f2x - ux, et0y = f2y - uy, et1x = f2x + ux, et1y = f2y + uy;
+        double n0 = cross2(xi0x, xi0y, et0x, et0y);
+        double n1 = cross2(xi0x, xi0y, et1x, et1y);
+        double n2 = cross2(xi1x, xi1y, et1x, et1y);
+        double n3 = cross2(xi1x, xi1y, et0x, et0y);
+        area = fabs(((n0 + n1) + n2) + n3) * sixteenth;
+        swept = fabs(n0);
+        swept += fabs(n1);
+        swept += fabs(n2);
+        swept += fabs(n3);
+        swept *= sixteenth;
+
+        double d13x = x[2].x - x[0].x, d13y = x[2].y - x[0].y;
+        double d24x = x[3].x - x[1].x, d24y = x[3].y - x[1].y;
+        double fa = cross2(sx[0], sy[0], d13x, d13y);
+        double fb = cross2(sx[3], sy[3], d13x, d13y);
+        warp = 0.0;
+        if (!(fa * fb > 0.0)) {
+            double normal = cross2(d13x, d13y, d24x, d24y);
+            double sa = cross2(sx[1], sy[1], d24x, d24y);
+            double sb = cross2(sx[0], sy[0], d24x, d24y);
+            warp = larger_counted(fa * fb < 0.0 ? 180.0 : 0.0,
+                                  (fa * normal >= 0.0) && (fb * normal >= 0.0),
+                                  sa * sb < 0.0 ? 180.0 : 0.0,
+                                  (sa * normal >= 0.0) && (sb * normal >= 0.0));
+        }
+        double s0 = 0.0, s1 = 0.0;
+        for (int i = 0; i < 4; i++) {
+            double s = sx[i] * sx[i];
+            s += sy[i] * sy[i];
+            s0 = i ? np_min(s0, s) : s;
+            s1 = i ? np_max(s1, s) : s;
+        }
+        double q = d13x * d13x;
+        q += d13y * d13y;
+        s0 = np_min(s0, q);
+        q = d24x * d24x;
+        q += d24y * d24y;
+        s0 = np_min(s0, q);
+        shortest2 = s0;
+        longest2 = s1;
+    } else {
+        vec3 side[4];
+        for (int i = 0; i < 4; i++) side[i] = sub3(x[(i + 1) & 3], x[i]);
+        double vx[4] = {x[0].x, x[1].x, x[2].x, x[3].x};
+        double vy[4] = {x[0].y, x[1].y, x[2].y, x[3].y};
+        double vz[4] = {x[0].z, x[1].z, x[2].z, x[3].z};
+        vec3 f1, f2, f3;
+        axes4(vx, &f1.x, &f2.x, &f3.x);
+        axes4(vy, &f1.y, &f2.y, &f3.y);
+        axes4(vz, &f1.z, &f2.z, &f3.z);
+        vec3 u = {f3.x * k->g, f3.y * k->g, f3.z * k->g};
+        vec3 xi0 = sub3(f1, u), et0 = sub3(f2, u);
+        vec3 xi1 = {f1.x + u.x, f1.y + u.y, f1.z + u.z};
+        vec3 et1 = {f2.x + u.x, f2.y + u.y, f2.z + u.z};
+        vec3 nrm[4] = {cross3(xi0, et0), cross3(xi0, et1), cross3(xi1, et1), cross3(xi1, et0)};
+        vec3 tot = {((nrm[0].x + nrm[1].x) + nrm[2].x) + nrm[3].x,
+                    ((nrm[0].y + nrm[1].y) + nrm[2].y) + nrm[3].y,
+                    ((nrm[0].z + nrm[1].z) + nrm[2].z) + nrm[3].z};
+        double size[4];
+        for (int i = 0; i < 4; i++) size[i] = sqrt(dot3(nrm[i], nrm[i]));
+        area = np_sign(dot3(nrm[0], tot)) * size[0];
+        for (int i = 1; i < 4; i++) area += np_sign(dot3(nrm[i], tot)) * size[i];
+        swept = size[0] + size[1];
+        swept += size[2];
+        swept += size[3];
+        area *= sixteenth;
+        swept *= sixteenth;
+
+        vec3 d13 = sub3(x[2], x[0]), d24 = sub3(x[3], x[1]);
+        vec3 normal = cross3(d13, d24);
+        double ang[2];
+        int cnt[2];
+        for (int s = 0; s < 2; s++) {
+            vec3 na = s ? cross3(side[1], d24) : cross3(side[0], d13);
+            vec3 nb = s ? cross3(side[0], d24) : cross3(side[3], d13);
+            vec3 c = cross3(na, nb);
+            ang[s] = atan2(sqrt(dot3(c, c)), dot3(na, nb)) * k->degrees;
+            cnt[s] = (dot3(na, normal) >= 0.0) && (dot3(nb, normal) >= 0.0);
+        }
+        warp = larger_counted(ang[0], cnt[0], ang[1], cnt[1]);
+        double s0 = 0.0, s1 = 0.0;
+        for (int i = 0; i < 4; i++) {
+            double s = square3(side[i]);
+            s0 = i ? np_min(s0, s) : s;
+            s1 = i ? np_max(s1, s) : s;
+        }
+        s0 = np_min(s0, square3(d13));
+        s0 = np_min(s0, square3(d24));
+        shortest2 = s0;
+        longest2 = s1;
+    }
+    double shortest_edge = sqrt(shortest2), longest_edge = sqrt(longest2);
+    int collapsed = !(longest_edge > 0.0) || (shortest_edge <= k->tol * longest_edge) ||
+                    !(fabs(swept) > k->tol * (longest_edge * longest_edge));
+
+    /* -- flags -- */
+    int bowtie = crossing && !collapsed;
+    double big = np_max(longest, 1e-300);
+    double threshold = -1e-12 * (big * big);
+    f[F_INVERTED] = (corner_lo < threshold) && !collapsed;
+    f[F_REVERSED] = (centre < threshold) && !collapsed && !bowtie;
+    f[F_NONCONVEX] = (hi_angle > 180.0) && !bowtie && !collapsed;
+    f[F_SELF_INTERSECTING] = bowtie;
+    f[F_DEGENERATE] = collapsed;
+
+    double ratio = gauss_hi / gauss_lo;
+    if (!(gauss_lo > 0.0)) ratio = INFINITY;
+    m[M_AREA] = area;
+    m[M_DET_MIN] = gauss_lo;
+    m[M_DET_MAX] = gauss_hi;
+    m[M_DET_CORNER_MIN] = corner_lo;
+    m[M_JACOBIAN_RATIO] = ratio;
+    m[M_SCALED_JACOBIAN] = scaled;
+    m[M_ASPECT] = aspect;
+    m[M_SKEW] = skew;
+    m[M_TAPER] = taper;
+    m[M_WARP] = warp;
+    m[M_MIN_ANGLE] = lo_angle;
+    m[M_MAX_ANGLE] = hi_angle;
+    m[M_CONDITION] = condition;
+}
+
+/* True when every node has the z of the first element's first node (NaN never is). */
+static int flat_in_z(const double *sp, Py_ssize_t n)
+{
+    if (n == 0) return 1;
+    double z0 = sp[2];
+    for (Py_ssize_t i = 0; i < 4 * n; i++)
+        if (!(sp[3 * i + 2] == z0)) return 0;
+    return 1;
+}
+
+/* Take a C-contiguous buffer of ``itemsize`` bytes per item and the given shape
+ * (-1: any). Returns 0 on success; on failure sets an exception. */
+static int get_buffer(PyObject *obj, Py_buffer *view, int writable, Py_ssize_t itemsize,
+                      char kind, int ndim, const Py_ssize_t *shape, const char *what)
+{
+    int flags = PyBUF_C_CONTIGUOUS | PyBUF_FORMAT | (writable ? PyBUF_WRITABLE : 0);
+    if (PyObject_GetBuffer(obj, view, flags) < 0) return -1;
+    const char *fmt = view->format ? view->format : "B";
+    if (fmt[0] == '<' || fmt[0] == '=' || fmt[0] == '@') fmt++;
+    int ok = view->itemsize == itemsize && view->ndim == ndim &&
+             (kind == 'd' ? strcmp(fmt, "d") == 0
+                          : (strcmp(fmt, "?") == 0 || strcmp(fmt, "B") == 0));
+    for (int i = 0; ok && i < ndim; i++)
+        if (shape[i] >= 0 && view->shape[i] != shape[i]) ok = 0;
+    if (!ok) {
+        PyBuffer_Release(view);
+        PyErr_Format(PyExc_ValueError, "%s: wrong type or shape", what);
+        return -1;
+    }
+    return 0;
+}
+
+PyDoc_STRVAR(quad_doc,
+"quad(space, plane, metrics, flags, gauss, degrees, tolerance)\n\n"
+"Measure n four-node quads in one pass: ``space`` (n, 4, 3) and ``plane`` (n, 4, 2)\n"
+"C-contiguous float64 nodes; writes ``metrics`` (13, n) float64 and ``flags`` (5, n)\n"
+"bool in the order meshaudit.metrics.fused names them.");
+
+static PyObject *quad(PyObject *self, PyObject *args)
+{
+    PyObject *o_space, *o_plane, *o_metrics, *o_flags;
+    constants k;
+    (void)self;
+    if (!PyArg_ParseTuple(args, "OOOOddd", &o_space, &o_plane, &o_metrics, &o_flags, &k.g,
+                          &k.degrees, &k.tol))
+        return NULL;
+    Py_buffer space, plane, metrics, flags;
+    Py_ssize_t shape_space[3] = {-1, 4, 3};
+    if (get_buffer(o_space, &space, 0, 8, 'd', 3, shape_space, "space") < 0) return NULL;
+    Py_ssize_t n = space.shape[0];
+    Py_ssize_t shape_plane[3] = {n, 4, 2}, shape_m[2] = {N_METRICS, n}, shape_f[2] = {N_FLAGS, n};
+    if (get_buffer(o_plane, &plane, 0, 8, 'd', 3, shape_plane, "plane") < 0) {
+        PyBuffer_Release(&space);
+        return NULL;
+    }
+    if (get_buffer(o_metrics, &metrics, 1, 8, 'd', 2, shape_m, "metrics") < 0) {
+        PyBuffer_Release(&space);
+        PyBuffer_Release(&plane);
+        return NULL;
+    }
+    if (get_buffer(o_flags, &flags, 1, 1, 'b', 2, shape_f, "flags") < 0) {
+        PyBuffer_Release(&space);
+        PyBuffer_Release(&plane);
+        PyBuffer_Release(&metrics);
+        return NULL;
+    }
+    const double *sp = space.buf, *pl = plane.buf;
+    double *mo = metrics.buf;
+    unsigned char *fo = flags.buf;
+    Py_BEGIN_ALLOW_THREADS
+    int flat = flat_in_z(sp, n);
+    double m[N_METRICS];
+    unsigned char f[N_FLAGS];
+    for (Py_ssize_t i = 0; i < n; i++) {
+        quad_one(pl + 8 * i, sp + 12 * i, flat, &k, m, f);
+        for (int j = 0; j < N_METRICS; j++) mo[j * n + i] = m[j];
+        for (int j = 0; j < N_FLAGS; j++) fo[j * n + i] = f[j];
+    }
+    Py_END_ALLOW_THREADS
+    PyBuffer_Release(&space);
+    PyBuffer_Release(&plane);
+    PyBuffer_Release(&metrics);
+    PyBuffer_Release(&flags);
+    Py_RETURN_NONE;
+}
+
+static PyMethodDef methods[] = {
+    {"quad", quad, METH_VARARGS, quad_doc},
+    {NULL, NULL, 0, NULL},
+};
+
+static struct PyModuleDef module = {
+    PyModuleDef_HEAD_INIT, "_fused",
+    "Compiled single-pass element kernels (see meshaudit.metrics.fused).", -1, methods,
+};
+
+PyMODINIT_FUNC PyInit__fused(void) { return PyModule_Create(&module); }
