@@ -1,16 +1,18 @@
 /* One fused pass per element over the four-node quadrilateral: every metric and validity
- * flag of meshaudit.metrics.quad.measure in a single loop, written into preallocated
- * arrays.
+ * flag of meshaudit.metrics.quad.measure, written into preallocated arrays.
  *
  * The arithmetic is that of the numpy kernel, operation by operation and in the same
  * order (sums left to right, 3-D dot products as x, z, y as numpy's einsum takes them,
- * "+ 0.0" where the numpy kernel adds it to turn -0.0 into 0.0), so that on a compiler
- * without contraction of a * b + c into one fused multiply-add (built with
- * -ffp-contract=off, never -ffast-math) every product, sum, quotient and square root
- * rounds as numpy's does. Only the arc tangent comes from the C library here and from
- * numpy's own vectorised routine there: the two may differ in the last place, so skew,
- * the angles and the warp of an element in space agree with the numpy kernel to a few
- * units in the last place of 360 degrees, not to the bit.
+ * "+ 0.0" where the numpy kernel adds it to turn -0.0 into 0.0), so that built without
+ * contraction of a * b + c into one fused multiply-add (-ffp-contract=off, never
+ * -ffast-math) every product, sum, quotient and square root rounds as numpy's does.
+ *
+ * Arc tangents are not taken here: numpy's own vectorised arc tangent may differ from the
+ * C library's in the last place, and it is several times faster. quad() writes the
+ * arguments of every arc tangent an element needs into a scratch array, the caller takes
+ * numpy.arctan2 of them, and quad_angles() finishes the metrics and the flag that depend
+ * on them (skew, min_angle, max_angle, the warp of an element in space, nonconvex). So
+ * every number equals the numpy kernel's to the bit.
  *
  * Inputs and outputs go through the buffer protocol (C-contiguous float64, one byte per
  * flag), so no numpy headers are needed to build this module.
@@ -27,9 +29,21 @@ enum {
 };
 enum { F_INVERTED, F_REVERSED, F_NONCONVEX, F_SELF_INTERSECTING, F_DEGENERATE, N_FLAGS };
 
-/* numpy's maximum, minimum and fmin of two doubles: NaN propagates (fmin: ignored). */
-static inline double np_max(double a, double b) { return (a >= b || isnan(a)) ? a : b; }
-static inline double np_min(double a, double b) { return (a <= b || isnan(a)) ? a : b; }
+/* Rows of the arc tangent scratch array: 0 skew, 1 and 2 the smallest and largest angle
+ * of a convex counter-clockwise element, 3-6 the four corners of any other, 7 and 8 the
+ * two diagonal splits' fold angles of an element in space. */
+enum { T_SKEW, T_LOW, T_HIGH, T_CORNER, T_WARP = 7, N_TANGENTS = 9 };
+
+/* Bits of an element's state byte, from quad() to quad_angles(). */
+enum { S_CORNERS = 1, S_WARP_COUNTS_1 = 2, S_WARP_COUNTS_2 = 4 };
+
+/* numpy's maximum and minimum of two doubles, (a >= b || isnan(a)) ? a : b and
+ * (a <= b || isnan(a)) ? a : b: NaN propagates, and of two equal numbers (0.0 and -0.0)
+ * the first is kept. Written as a NaN test, rarely taken, around "b > a ? b : a", which
+ * compilers turn into one branch-free instruction with the same result. */
+static inline double np_max(double a, double b) { return isnan(b) ? b : (b > a ? b : a); }
+static inline double np_min(double a, double b) { return isnan(b) ? b : (b < a ? b : a); }
+/* numpy's fmin: a NaN is ignored. */
 static inline double np_fmin(double a, double b) { return (a <= b || isnan(b)) ? a : b; }
 
 static inline double np_sign(double a)
@@ -103,9 +117,11 @@ typedef struct {
 
 /* Metrics of one element: ``pl`` its 4 x 2 nodes in the measuring plane, ``sp`` its
  * 4 x 3 nodes in space, ``flat`` whether the chunk lies in a plane z = c. */
-static void quad_one(const double *pl, const double *sp, int flat, const constants *k,
-                     double *m, unsigned char *f)
+static unsigned char quad_one(const double *pl, const double *sp, int flat, const constants *k,
+                              double *m, unsigned char *f, double *ys, double *xs,
+                              Py_ssize_t n)
 {
+    unsigned char state = 0;
     const double sixteenth = 1.0 / 16.0;
     double px[4], py[4];
     for (int i = 0; i < 4; i++) {
@@ -137,8 +153,8 @@ static void quad_one(const double *pl, const double *sp, int flat, const constan
     double d12 = e1x * e2x;
     d12 += e1y * e2y;
     d12 += 0.0;
-    double angle = atan2(abs_c0, d12) * k->degrees;
-    double skew = fabs(90.0 - angle);
+    ys[0] = abs_c0; /* skew: from the angle between the principal axes */
+    xs[0] = d12;
     double taper = np_max(a1, a2) / abs_c0;
     if (c0 == 0.0) {
         taper = INFINITY;
@@ -162,7 +178,6 @@ static void quad_one(const double *pl, const double *sp, int flat, const constan
     int convex = cr[0] > 0.0 && cr[1] > 0.0 && cr[2] > 0.0 && cr[3] > 0.0;
     double orientation = 1.0 - 2.0 * (double)(c0 < 0.0);
 
-    double lo_angle, hi_angle;
     {
         double cot = dt[0] / cr[0];
         double cot_lo = cot, cot_hi = cot;
@@ -171,18 +186,15 @@ static void quad_one(const double *pl, const double *sp, int flat, const constan
             cot_lo = np_min(cot_lo, cot);
             cot_hi = np_max(cot_hi, cot);
         }
-        lo_angle = atan2(1.0, cot_hi) * k->degrees;
-        hi_angle = atan2(1.0, cot_lo) * k->degrees;
+        ys[n] = 1.0; /* smallest angle of a convex, counter-clockwise element */
+        xs[n] = cot_hi;
+        ys[2 * n] = 1.0; /* largest */
+        xs[2 * n] = cot_lo;
         if (!(convex && orientation > 0.0)) {
+            state |= S_CORNERS;
             for (int i = 0; i < 4; i++) {
-                double ang = atan2(orientation * cr[i], dt[i] + 0.0) * k->degrees;
-                ang = ang < 0.0 ? ang + 360.0 : ang + 0.0;
-                if (i == 0) {
-                    lo_angle = hi_angle = ang;
-                } else {
-                    lo_angle = np_min(lo_angle, ang);
-                    hi_angle = np_max(hi_angle, ang);
-                }
+                ys[(3 + i) * n] = orientation * cr[i];
+                xs[(3 + i) * n] = dt[i] + 0.0;
             }
         }
     }
@@ -309,16 +321,16 @@ static void quad_one(const double *pl, const double *sp, int flat, const constan
 
         vec3 d13 = sub3(x[2], x[0]), d24 = sub3(x[3], x[1]);
         vec3 normal = cross3(d13, d24);
-        double ang[2];
-        int cnt[2];
         for (int s = 0; s < 2; s++) {
             vec3 na = s ? cross3(side[1], d24) : cross3(side[0], d13);
             vec3 nb = s ? cross3(side[0], d24) : cross3(side[3], d13);
             vec3 c = cross3(na, nb);
-            ang[s] = atan2(sqrt(dot3(c, c)), dot3(na, nb)) * k->degrees;
-            cnt[s] = (dot3(na, normal) >= 0.0) && (dot3(nb, normal) >= 0.0);
+            ys[(7 + s) * n] = sqrt(dot3(c, c));
+            xs[(7 + s) * n] = dot3(na, nb);
+            if ((dot3(na, normal) >= 0.0) && (dot3(nb, normal) >= 0.0))
+                state |= s ? S_WARP_COUNTS_2 : S_WARP_COUNTS_1;
         }
-        warp = larger_counted(ang[0], cnt[0], ang[1], cnt[1]);
+        warp = NAN; /* from the angles, in quad_angles */
         double s0 = 0.0, s1 = 0.0;
         for (int i = 0; i < 4; i++) {
             double s = square3(side[i]);
@@ -340,7 +352,7 @@ static void quad_one(const double *pl, const double *sp, int flat, const constan
     double threshold = -1e-12 * (big * big);
     f[F_INVERTED] = (corner_lo < threshold) && !collapsed;
     f[F_REVERSED] = (centre < threshold) && !collapsed && !bowtie;
-    f[F_NONCONVEX] = (hi_angle > 180.0) && !bowtie && !collapsed;
+    f[F_NONCONVEX] = 0; /* from the angles, in quad_angles */
     f[F_SELF_INTERSECTING] = bowtie;
     f[F_DEGENERATE] = collapsed;
 
@@ -353,12 +365,13 @@ static void quad_one(const double *pl, const double *sp, int flat, const constan
     m[M_JACOBIAN_RATIO] = ratio;
     m[M_SCALED_JACOBIAN] = scaled;
     m[M_ASPECT] = aspect;
-    m[M_SKEW] = skew;
+    m[M_SKEW] = NAN;
     m[M_TAPER] = taper;
     m[M_WARP] = warp;
-    m[M_MIN_ANGLE] = lo_angle;
-    m[M_MAX_ANGLE] = hi_angle;
+    m[M_MIN_ANGLE] = NAN;
+    m[M_MAX_ANGLE] = NAN;
     m[M_CONDITION] = condition;
+    return state;
 }
 
 /* True when every node has the z of the first element's first node (NaN never is). */
@@ -369,6 +382,33 @@ static int flat_in_z(const double *sp, Py_ssize_t n)
     for (Py_ssize_t i = 0; i < 4 * n; i++)
         if (!(sp[3 * i + 2] == z0)) return 0;
     return 1;
+}
+
+/* The finish of one element from its arc tangents ``t`` (stride n), in degrees. */
+static void quad_finish(const double *t, Py_ssize_t n, unsigned char state, int flat,
+                        double degrees, double *m, unsigned char *f)
+{
+    double lo, hi;
+    m[M_SKEW * n] = fabs(90.0 - t[T_SKEW * n] * degrees);
+    if (state & S_CORNERS) {
+        lo = hi = 0.0;
+        for (int i = 0; i < 4; i++) {
+            double ang = t[(T_CORNER + i) * n] * degrees;
+            ang = ang < 0.0 ? ang + 360.0 : ang + 0.0;
+            lo = i ? np_min(lo, ang) : ang;
+            hi = i ? np_max(hi, ang) : ang;
+        }
+    } else {
+        lo = t[T_LOW * n] * degrees;
+        hi = t[T_HIGH * n] * degrees;
+    }
+    m[M_MIN_ANGLE * n] = lo;
+    m[M_MAX_ANGLE * n] = hi;
+    f[F_NONCONVEX * n] = (hi > 180.0) && !f[F_SELF_INTERSECTING * n] && !f[F_DEGENERATE * n];
+    if (!flat)
+        m[M_WARP * n] = larger_counted(t[T_WARP * n] * degrees, (state & S_WARP_COUNTS_1) != 0,
+                                       t[(T_WARP + 1) * n] * degrees,
+                                       (state & S_WARP_COUNTS_2) != 0);
 }
 
 /* Take a C-contiguous buffer of ``itemsize`` bytes per item and the given shape
@@ -393,62 +433,116 @@ static int get_buffer(PyObject *obj, Py_buffer *view, int writable, Py_ssize_t i
     return 0;
 }
 
+#define MAX_BUFFERS 6
+
+typedef struct {
+    Py_buffer views[MAX_BUFFERS];
+    int count;
+} buffers;
+
+static void release(buffers *b)
+{
+    while (b->count > 0) PyBuffer_Release(&b->views[--b->count]);
+}
+
+static void *take(buffers *b, PyObject *obj, int writable, Py_ssize_t itemsize, char kind,
+                  int ndim, const Py_ssize_t *shape, const char *what)
+{
+    if (get_buffer(obj, &b->views[b->count], writable, itemsize, kind, ndim, shape, what) < 0)
+        return NULL;
+    return b->views[b->count++].buf;
+}
+
 PyDoc_STRVAR(quad_doc,
-"quad(space, plane, metrics, flags, gauss, degrees, tolerance)\n\n"
-"Measure n four-node quads in one pass: ``space`` (n, 4, 3) and ``plane`` (n, 4, 2)\n"
-"C-contiguous float64 nodes; writes ``metrics`` (13, n) float64 and ``flags`` (5, n)\n"
-"bool in the order meshaudit.metrics.fused names them.");
+"quad(space, plane, metrics, flags, tangents, state, gauss, degrees, tolerance)\n"
+"    -> (flat, corners)\n\n"
+"First part of the pass over n four-node quads: ``space`` (n, 4, 3) and ``plane``\n"
+"(n, 4, 2) C-contiguous float64 nodes; writes ``metrics`` (13, n) float64 and ``flags``\n"
+"(5, n) bool in the order meshaudit.metrics.fused names them, but for those that need\n"
+"an arc tangent, whose arguments go to ``tangents`` (2, 9, n) float64 (y, then x) and\n"
+"``state`` (n,) uint8. Returns whether the elements lie in a plane z = c (then rows 7\n"
+"and 8 of ``tangents`` are unused) and whether any needs its four corner angles (else\n"
+"rows 3 to 6 are unused). Then quad_angles() from numpy.arctan2 of the rows used.");
 
 static PyObject *quad(PyObject *self, PyObject *args)
 {
-    PyObject *o_space, *o_plane, *o_metrics, *o_flags;
+    PyObject *o[6];
     constants k;
+    buffers b = {.count = 0};
     (void)self;
-    if (!PyArg_ParseTuple(args, "OOOOddd", &o_space, &o_plane, &o_metrics, &o_flags, &k.g,
+    if (!PyArg_ParseTuple(args, "OOOOOOddd", &o[0], &o[1], &o[2], &o[3], &o[4], &o[5], &k.g,
                           &k.degrees, &k.tol))
         return NULL;
-    Py_buffer space, plane, metrics, flags;
     Py_ssize_t shape_space[3] = {-1, 4, 3};
-    if (get_buffer(o_space, &space, 0, 8, 'd', 3, shape_space, "space") < 0) return NULL;
-    Py_ssize_t n = space.shape[0];
-    Py_ssize_t shape_plane[3] = {n, 4, 2}, shape_m[2] = {N_METRICS, n}, shape_f[2] = {N_FLAGS, n};
-    if (get_buffer(o_plane, &plane, 0, 8, 'd', 3, shape_plane, "plane") < 0) {
-        PyBuffer_Release(&space);
+    const double *sp = take(&b, o[0], 0, 8, 'd', 3, shape_space, "space");
+    if (!sp) return NULL;
+    Py_ssize_t n = b.views[0].shape[0];
+    Py_ssize_t shape_plane[3] = {n, 4, 2}, shape_m[2] = {N_METRICS, n};
+    Py_ssize_t shape_f[2] = {N_FLAGS, n}, shape_t[3] = {2, N_TANGENTS, n}, shape_s[1] = {n};
+    const double *pl = take(&b, o[1], 0, 8, 'd', 3, shape_plane, "plane");
+    double *mo = pl ? take(&b, o[2], 1, 8, 'd', 2, shape_m, "metrics") : NULL;
+    unsigned char *fo = mo ? take(&b, o[3], 1, 1, 'b', 2, shape_f, "flags") : NULL;
+    double *to = fo ? take(&b, o[4], 1, 8, 'd', 3, shape_t, "tangents") : NULL;
+    unsigned char *so = to ? take(&b, o[5], 1, 1, 'b', 1, shape_s, "state") : NULL;
+    if (!so) {
+        release(&b);
         return NULL;
     }
-    if (get_buffer(o_metrics, &metrics, 1, 8, 'd', 2, shape_m, "metrics") < 0) {
-        PyBuffer_Release(&space);
-        PyBuffer_Release(&plane);
-        return NULL;
-    }
-    if (get_buffer(o_flags, &flags, 1, 1, 'b', 2, shape_f, "flags") < 0) {
-        PyBuffer_Release(&space);
-        PyBuffer_Release(&plane);
-        PyBuffer_Release(&metrics);
-        return NULL;
-    }
-    const double *sp = space.buf, *pl = plane.buf;
-    double *mo = metrics.buf;
-    unsigned char *fo = flags.buf;
+    int flat, corners = 0;
     Py_BEGIN_ALLOW_THREADS
-    int flat = flat_in_z(sp, n);
+    flat = flat_in_z(sp, n);
     double m[N_METRICS];
     unsigned char f[N_FLAGS];
+    double *ys = to, *xs = to + N_TANGENTS * n;
     for (Py_ssize_t i = 0; i < n; i++) {
-        quad_one(pl + 8 * i, sp + 12 * i, flat, &k, m, f);
+        unsigned char st = quad_one(pl + 8 * i, sp + 12 * i, flat, &k, m, f, ys + i, xs + i, n);
+        so[i] = st;
+        corners |= st & S_CORNERS;
         for (int j = 0; j < N_METRICS; j++) mo[j * n + i] = m[j];
         for (int j = 0; j < N_FLAGS; j++) fo[j * n + i] = f[j];
     }
     Py_END_ALLOW_THREADS
-    PyBuffer_Release(&space);
-    PyBuffer_Release(&plane);
-    PyBuffer_Release(&metrics);
-    PyBuffer_Release(&flags);
+    release(&b);
+    return Py_BuildValue("(OO)", flat ? Py_True : Py_False, corners ? Py_True : Py_False);
+}
+
+PyDoc_STRVAR(quad_angles_doc,
+"quad_angles(angles, state, metrics, flags, flat, degrees)\n\n"
+"Second part of the pass: ``angles`` (9, n) float64, numpy.arctan2 of the rows of\n"
+"``tangents`` quad() filled (radians); finishes skew, min_angle, max_angle, the warp\n"
+"(unless ``flat``) and the nonconvex flag in ``metrics`` and ``flags``.");
+
+static PyObject *quad_angles(PyObject *self, PyObject *args)
+{
+    PyObject *o[4];
+    int flat;
+    double degrees;
+    buffers b = {.count = 0};
+    (void)self;
+    if (!PyArg_ParseTuple(args, "OOOOpd", &o[0], &o[1], &o[2], &o[3], &flat, &degrees))
+        return NULL;
+    Py_ssize_t shape_a[2] = {N_TANGENTS, -1};
+    const double *an = take(&b, o[0], 0, 8, 'd', 2, shape_a, "angles");
+    if (!an) return NULL;
+    Py_ssize_t n = b.views[0].shape[1];
+    Py_ssize_t shape_s[1] = {n}, shape_m[2] = {N_METRICS, n}, shape_f[2] = {N_FLAGS, n};
+    const unsigned char *st = take(&b, o[1], 0, 1, 'b', 1, shape_s, "state");
+    double *mo = st ? take(&b, o[2], 1, 8, 'd', 2, shape_m, "metrics") : NULL;
+    unsigned char *fo = mo ? take(&b, o[3], 1, 1, 'b', 2, shape_f, "flags") : NULL;
+    if (!fo) {
+        release(&b);
+        return NULL;
+    }
+    Py_BEGIN_ALLOW_THREADS
+    for (Py_ssize_t i = 0; i < n; i++) quad_finish(an + i, n, st[i], flat, degrees, mo + i, fo + i);
+    Py_END_ALLOW_THREADS
+    release(&b);
     Py_RETURN_NONE;
 }
 
 static PyMethodDef methods[] = {
     {"quad", quad, METH_VARARGS, quad_doc},
+    {"quad_angles", quad_angles, METH_VARARGS, quad_angles_doc},
     {NULL, NULL, 0, NULL},
 };
 

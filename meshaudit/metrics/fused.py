@@ -4,10 +4,9 @@
 ``setup.py``) measures every element of a chunk in one loop, all metrics and flags at
 once, where the numpy kernel makes some hundreds of whole-array passes. Its arithmetic is
 the numpy kernel's, operation by operation in the same order, built without fused
-multiply-add, so the metrics equal the numpy kernel's to the bit, but for those that take
-an arc tangent (skew, min_angle, max_angle, and the warp of an element in space): the C
-library's and numpy's arc tangents may differ in the last place, so those agree to a few
-units in the last place of 360 degrees.
+multiply-add, and its arc tangents are numpy's (the C pass writes their arguments, numpy
+takes them, a second C pass finishes), so its metrics and flags equal the numpy kernel's
+to the bit.
 
 Families with a compiled pass: the four-node quad (``quad``, and the corners of ``quad8``
 and ``quad9``, which the same kernel measures). Every other family is measured by numpy.
@@ -19,6 +18,7 @@ comparison or if the compiled pass is ever in doubt; it is read at each audit.
 from __future__ import annotations
 
 import os
+import threading
 from collections.abc import Callable, Iterable
 
 import numpy as np
@@ -77,8 +77,39 @@ def measure_quad(
     n = len(coords3)
     metrics = np.empty((len(QUAD_METRICS), n))
     flags = np.empty((len(QUAD_FLAGS), n), dtype=bool)
-    _fused.quad(coords3, p, metrics, flags, _GAUSS, DEGREES, DEGENERATE_TOLERANCE)
+    tangents, state = _scratch(n)  # arguments y, x of each arc tangent; state bits
+    flat, corners = _fused.quad(
+        coords3, p, metrics, flags, tangents, state, _GAUSS, DEGREES, DEGENERATE_TOLERANCE
+    )
+    # numpy's arc tangent, as the numpy kernel takes it, of the rows in use: skew and the
+    # extreme angles; the corner angles of elements not convex and counter-clockwise; the
+    # fold angles of elements in space
+    ys, xs = tangents
+    for lo, hi, used in ((0, 3, True), (3, 7, corners), (7, 9, not flat)):
+        if used:
+            np.arctan2(ys[lo:hi], xs[lo:hi], out=ys[lo:hi])
+    _fused.quad_angles(ys, state, metrics, flags, flat, DEGREES)
     return dict(zip(QUAD_METRICS, metrics)), dict(zip(QUAD_FLAGS, flags))
+
+
+#: Rows of the compiled quad pass's arc tangent arguments (see ``_fused.c``).
+_TANGENT_ROWS = 9
+
+_local = threading.local()
+
+
+def _scratch(n: int) -> tuple[np.ndarray, np.ndarray]:
+    """Working arrays of the compiled quad pass for ``n`` elements: (2, 9, n) float64 and
+    (n,) uint8, kept per thread and reused from chunk to chunk (a new block of a few MB
+    per chunk would be faulted in anew each time); they grow to the largest chunk."""
+    have = getattr(_local, "arrays", None)
+    if have is None or have[1].size < n:
+        have = (np.empty((2, _TANGENT_ROWS, n)), np.empty(n, dtype=np.uint8))
+        _local.arrays = have
+    tangents, state = have
+    if tangents.shape[2] != n:
+        tangents = tangents.reshape(-1)[: 2 * _TANGENT_ROWS * n].reshape(2, _TANGENT_ROWS, n)
+    return tangents, state[:n]
 
 
 Kernel = Callable[..., tuple[dict[str, np.ndarray], dict[str, np.ndarray]]]
