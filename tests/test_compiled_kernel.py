@@ -241,7 +241,7 @@ def test_numpy_forced_by_the_variable(monkeypatch, run_cli, tmp_path):
     numbers are the closed-form ones: a 2 x 1 rectangle has det J = 1 x 0.5 (common
     practice) and aspect ratio 2."""
     monkeypatch.setenv(fused.KERNEL_VARIABLE, "numpy")
-    assert fused.kernel_for(quad.measure) is quad.measure
+    assert fused.kernel_for(CELL_TYPES["quad"]) is quad.measure
     points = np.array([[0.0, 0.0], [2.0, 0.0], [2.0, 1.0], [0.0, 1.0]])
     mesh = meshio.Mesh(points, [("quad", np.array([[0, 1, 2, 3]]))])
     report = meshaudit.audit(mesh)
@@ -257,7 +257,7 @@ def test_numpy_forced_by_the_variable(monkeypatch, run_cli, tmp_path):
 @needs_build
 def test_compiled_by_default(monkeypatch, run_cli, tmp_path):
     monkeypatch.delenv(fused.KERNEL_VARIABLE, raising=False)
-    assert fused.kernel_for(quad.measure) is fused.measure_quad
+    assert fused.kernel_for(CELL_TYPES["quad"]) is fused.measure_quad
     out = tmp_path / "r.json"
     res = run_cli("check", SAMPLES / "bracket_plate.msh", "--json", out, "--quiet")
     assert res.returncode == 0, res.stderr
@@ -269,7 +269,7 @@ def test_without_the_extension(monkeypatch):
     monkeypatch.delenv(fused.KERNEL_VARIABLE, raising=False)
     monkeypatch.setattr(fused, "_fused", None)
     assert not fused.built()
-    assert fused.kernel_for(quad.measure) is quad.measure
+    assert fused.kernel_for(CELL_TYPES["quad"]) is quad.measure
     points = np.array([[0.0, 0.0], [1.0, 0.0], [1.0, 1.0], [0.0, 1.0]])
     report = meshaudit.audit(meshio.Mesh(points, [("quad", np.array([[0, 1, 2, 3]]))]))
     assert report.summary.kernel == "numpy"

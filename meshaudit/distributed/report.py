@@ -133,7 +133,7 @@ def assemble(
         element_numbers=results[0].numbering[0] if results else "",
         node_numbers=results[0].numbering[1] if results else "",
         # the pass this process would take; the workers run the same installation
-        kernel=kernel_path(CELL_TYPES[t].kernel for t in element_counts),
+        kernel=kernel_path(CELL_TYPES[t] for t in element_counts),
         **frame_summary,
     )
     return PartitionedReport(

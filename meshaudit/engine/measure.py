@@ -87,12 +87,12 @@ def measure_elements(
 def _measure_elements(
     cell: CellType, coords3: np.ndarray, frame: Frame
 ) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
+    kernel = kernel_for(cell)  # the compiled pass where there is one
     if cell.dimension == 3:  # a solid: measured in space, no plane to lay it in
-        metrics, flags = cell.kernel(coords3)
+        metrics, flags = kernel(coords3)
         return _with_every_metric(metrics, len(coords3)), _with_every_flag(flags, len(coords3))
     n_corners = cell.n_corners
     corners = coords3[:, :n_corners]
-    kernel = kernel_for(cell.kernel)  # the compiled pass where there is one
     if cell.is_quadratic:
         local = to_local(coords3, frame, n_corners)
         metrics, flags = kernel(corners, local[:, :n_corners])

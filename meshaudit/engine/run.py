@@ -347,7 +347,7 @@ class _Run:
             orientation=frame.orientation,
             element_numbers=mesh.numbering.elements,
             node_numbers=mesh.numbering.nodes,
-            kernel=kernel_path(b.cell.kernel for b in mesh.blocks),
+            kernel=kernel_path(b.cell for b in mesh.blocks),
         )
         return Report(
             summary=summary,

@@ -20,6 +20,7 @@
 #define PY_SSIZE_T_CLEAN
 #include <Python.h>
 #include <math.h>
+#include <stdint.h>
 #include <string.h>
 
 /* Order of the rows of the output arrays; meshaudit.metrics.fused names them. */
@@ -384,6 +385,464 @@ static int flat_in_z(const double *sp, Py_ssize_t n)
     return 1;
 }
 
+/* Take a C-contiguous buffer of ``itemsize`` bytes per item and the given shape
+ * (-1: any). Returns 0 on success; on failure sets an exception. */
+static int get_buffer(PyObject *obj, Py_buffer *view, int writable, Py_ssize_t itemsize,
+                      char kind, int ndim, const Py_ssize_t *shape, const char *what)
+{
+    int flags = PyBUF_C_CONTIGUOUS | PyBUF_FORMAT | (writable ? PyBUF_WRITABLE : 0);
+    if (PyObject_GetBuffer(obj, view, flags) < 0) return -1;
+    const char *fmt = view->format ? view->format : "B";
+    if (fmt[0] == '<' || fmt[0] == '=' || fmt[0] == '@') fmt++;
+    int ok = view->itemsize == itemsize && view->ndim == ndim &&
+             (kind == 'd' ? strcmp(fmt, "d") == 0
+                          : (strcmp(fmt, "?") == 0 || strcmp(fmt, "B") == 0));
+    for (int i = 0; ok && i < ndim; i++)
+        if (shape[i] >= 0 && view->shape[i] != shape[i]) ok = 0;
+    if (!ok) {
+        PyBuffer_Release(view);
+        PyErr_Format(PyExc_ValueError, "%s: wrong type or shape", what);
+        return -1;
+    }
+    return 0;
+}
+
+#define MAX_BUFFERS 8
+
+typedef struct {
+    Py_buffer views[MAX_BUFFERS];
+    int count;
+} buffers;
+
+static void release(buffers *b)
+{
+    while (b->count > 0) PyBuffer_Release(&b->views[--b->count]);
+}
+
+static void *take(buffers *b, PyObject *obj, int writable, Py_ssize_t itemsize, char kind,
+                  int ndim, const Py_ssize_t *shape, const char *what)
+{
+    if (get_buffer(obj, &b->views[b->count], writable, itemsize, kind, ndim, shape, what) < 0)
+        return NULL;
+    return b->views[b->count++].buf;
+}
+
+/* ------------------------------------------------------------------------------------
+ * The trilinear hexahedron (meshaudit.metrics.solid.hexahedron, cell type "hexahedron").
+ *
+ * Not to the bit: the numpy kernel takes the principal axes and det J by matrix products
+ * and einsum, whose order of summation (and use of fused multiply-add) is numpy's and the
+ * BLAS's own, so these metrics agree to round-off (a few units in the last place of the
+ * element's own scale), not to the bit. Elements whose det J bound needs refining
+ * (smallest Bernstein coefficient below the floor, no value found below it) are marked
+ * and measured again by the numpy kernel, whole.
+ * ---------------------------------------------------------------------------------- */
+static const int HEX_EDGES[12][2] = {{0, 1}, {1, 2}, {2, 3}, {3, 0}, {4, 5}, {5, 6},
+                                     {6, 7}, {7, 4}, {0, 4}, {1, 5}, {2, 6}, {3, 7}};
+static const int HEX_FACES[6][4] = {{0, 4, 7, 3}, {1, 2, 6, 5}, {0, 1, 5, 4},
+                                    {3, 7, 6, 2}, {0, 3, 2, 1}, {4, 5, 6, 7}};
+static const int HEX_TRIPLES[8][3] = {{1, 3, 4}, {2, 0, 5}, {3, 1, 6}, {0, 2, 7},
+                                      {7, 5, 0}, {4, 6, 1}, {5, 7, 2}, {6, 4, 3}};
+static const int HEX_EDGE_FACES[12][2] = {{2, 4}, {1, 4}, {3, 4}, {0, 4}, {5, 2}, {5, 1},
+                                          {5, 3}, {5, 0}, {0, 2}, {2, 1}, {1, 3}, {3, 0}};
+static const double HEX_CORNERS[8][3] = {{-1, -1, -1}, {1, -1, -1}, {1, 1, -1}, {-1, 1, -1},
+                                         {-1, -1, 1}, {1, -1, 1}, {1, 1, 1}, {-1, 1, 1}};
+
+enum {
+    H_VOLUME, H_DET_MIN, H_DET_MAX, H_DET_CORNER_MIN, H_DET_LOWER, H_JACOBIAN_RATIO,
+    H_SCALED_JACOBIAN, H_CONDITION, H_ASPECT, H_SKEW, H_TAPER, H_WARP, H_EDGE_RATIO,
+    H_MIN_ANGLE, H_MAX_ANGLE, H_MIN_DIHEDRAL, H_MAX_DIHEDRAL, N_HEX_METRICS
+};
+enum { HF_INVERTED, HF_REVERSED, HF_DEGENERATE, HF_NONCONVEX, HF_SELF_INTERSECTING, N_HEX_FLAGS };
+/* Rows of the hexahedron's arc tangent scratch: 0-2 the axis pairs, 3-14 the faces'
+ * diagonal splits (3 + 2 face + split), 15-38 the face corners (15 + 4 face + corner),
+ * 39-50 the edges' dihedral angles. */
+enum { HT_SKEW = 0, HT_FOLD = 3, HT_CORNER = 15, HT_DIHEDRAL = 39, N_HEX_TANGENTS = 51 };
+
+static inline vec3 add3(vec3 a, vec3 b)
+{
+    vec3 r = {a.x + b.x, a.y + b.y, a.z + b.z};
+    return r;
+}
+
+static inline vec3 scale3(vec3 a, double t)
+{
+    vec3 r = {a.x * t, a.y * t, a.z * t};
+    return r;
+}
+
+/* Weights of the corners in e_k: the monomial m_k (1, xi, eta, zeta, xi eta, eta zeta,
+ * zeta xi, xi eta zeta) at each corner, over 8. */
+#define W(a) ((a) / 8.0)
+static const double HEX_AXIS_WEIGHTS[8][8] = {
+    {W(1), W(1), W(1), W(1), W(1), W(1), W(1), W(1)},
+    {W(-1), W(1), W(1), W(-1), W(-1), W(1), W(1), W(-1)},
+    {W(-1), W(-1), W(1), W(1), W(-1), W(-1), W(1), W(1)},
+    {W(-1), W(-1), W(-1), W(-1), W(1), W(1), W(1), W(1)},
+    {W(1), W(-1), W(1), W(-1), W(1), W(-1), W(1), W(-1)},
+    {W(1), W(1), W(-1), W(-1), W(-1), W(-1), W(1), W(1)},
+    {W(1), W(-1), W(-1), W(1), W(-1), W(1), W(1), W(-1)},
+    {W(-1), W(1), W(-1), W(1), W(1), W(-1), W(1), W(-1)},
+};
+#undef W
+
+static inline double dot3p(vec3 a, vec3 b) { return a.x * b.x + a.y * b.y + a.z * b.z; }
+
+static inline double len3(vec3 a) { return sqrt(dot3p(a, a)); }
+
+/* Returns 1 when the element needs the numpy kernel (its det J bound to be refined). */
+static int hex_one(const double *xyz, const double *at_gauss, double floor_tol, double tol,
+                   double flat_diagonals, double *m, unsigned char *f, double *ys, double *xs,
+                   Py_ssize_t n, uint64_t *corner_bits, unsigned *fold_bits)
+{
+    vec3 c[8];
+    for (int i = 0; i < 8; i++) {
+        c[i].x = xyz[3 * i];
+        c[i].y = xyz[3 * i + 1];
+        c[i].z = xyz[3 * i + 2];
+    }
+    /* -- edges, coincident corners (a square root is monotonic: taken of the extremes) -- */
+    double longest2 = 0.0, shortest2 = 0.0;
+    for (int e = 0; e < 12; e++) {
+        vec3 d = sub3(c[HEX_EDGES[e][1]], c[HEX_EDGES[e][0]]);
+        double l = dot3p(d, d);
+        longest2 = e ? np_max(longest2, l) : l;
+        shortest2 = e ? np_min(shortest2, l) : l;
+    }
+    double longest = sqrt(longest2), shortest = sqrt(shortest2);
+    double edge_ratio = shortest == 0.0 ? INFINITY : longest / shortest;
+    double gap2 = 0.0;
+    int first = 1;
+    for (int i = 0; i < 8; i++)
+        for (int j = i + 1; j < 8; j++) {
+            vec3 d = sub3(c[j], c[i]);
+            double l = dot3p(d, d);
+            gap2 = first ? l : np_min(gap2, l);
+            first = 0;
+        }
+    int coincident = !(sqrt(gap2) > tol * longest);
+
+    /* -- principal axes: x = e0 + e1 xi + e2 eta + e3 zeta + e4 xi eta + e5 eta zeta
+     *    + e6 zeta xi + e7 xi eta zeta, e_k = 1/8 sum_i m_k(corner i) x_i -- */
+    vec3 e[8];
+    for (int k = 1; k < 8; k++) {
+        vec3 sum = {0.0, 0.0, 0.0};
+        for (int i = 0; i < 8; i++) {
+            double w = HEX_AXIS_WEIGHTS[k][i];
+            sum.x += w * c[i].x;
+            sum.y += w * c[i].y;
+            sum.z += w * c[i].z;
+        }
+        e[k] = sum;
+    }
+    double s1 = len3(e[1]), s2 = len3(e[2]), s3 = len3(e[3]);
+    double aspect = np_max(np_max(s1, s2), s3) / np_min(np_min(s1, s2), s3);
+    if (isnan(aspect)) aspect = INFINITY;
+    for (int p = 0; p < 3; p++) {
+        vec3 a = e[1 + p], b = e[1 + (p + 1) % 3];
+        ys[(HT_SKEW + p) * n] = len3(cross3(a, b));
+        xs[(HT_SKEW + p) * n] = dot3p(a, b);
+    }
+    vec3 dual[3] = {cross3(e[2], e[3]), cross3(e[3], e[1]), cross3(e[1], e[2])};
+    double axes_volume = dot3p(e[1], dual[0]);
+    static const int parts[6][2] = {{4, 0}, {4, 1}, {5, 1}, {5, 2}, {6, 2}, {6, 0}};
+    double big = 0.0;
+    for (int q = 0; q < 6; q++) {
+        double v = fabs(dot3p(dual[parts[q][1]], e[parts[q][0]]));
+        big = q ? np_max(big, v) : v;
+    }
+    double taper = axes_volume == 0.0 ? INFINITY : big / fabs(axes_volume);
+
+    /* -- corners: determinants, scaled Jacobian, condition number -- */
+    double corner_det[8], scaled = 0.0, condition = 0.0, det_sum = 0.0;
+    for (int i = 0; i < 8; i++) {
+        vec3 a = sub3(c[HEX_TRIPLES[i][0]], c[i]);
+        vec3 b = sub3(c[HEX_TRIPLES[i][1]], c[i]);
+        vec3 d = sub3(c[HEX_TRIPLES[i][2]], c[i]);
+        vec3 bd = cross3(b, d), da = cross3(d, a), ab = cross3(a, b);
+        double det = dot3p(a, bd);
+        double la = dot3p(a, a), lb = dot3p(b, b), ld = dot3p(d, d);
+        double scale = sqrt(la * lb * ld);
+        double sj = scale > 0.0 ? det / scale : 0.0;
+        double frob = sqrt((la + lb + ld) * (dot3p(bd, bd) + dot3p(da, da) + dot3p(ab, ab)));
+        double cond = det > 0.0 ? frob / (3.0 * det) : INFINITY;
+        scaled = i ? np_min(scaled, sj) : sj;
+        condition = i ? np_max(condition, cond) : cond;
+        corner_det[i] = det;
+        det_sum += det;
+    }
+    double orientation = det_sum < 0.0 ? -1.0 : 1.0;
+
+    /* -- faces: warp, corner angles, crossing pattern -- */
+    vec3 normal[6];
+    int crossing = 0, reentrant = 0;
+    unsigned folds = 0;
+    uint64_t bits = 0;
+    for (int fc = 0; fc < 6; fc++) {
+        vec3 p[4];
+        for (int k = 0; k < 4; k++) p[k] = c[HEX_FACES[fc][k]];
+        vec3 d13 = sub3(p[2], p[0]), d24 = sub3(p[3], p[1]);
+        vec3 nrm = cross3(d13, d24);
+        normal[fc] = nrm;
+        vec3 u[2] = {cross3(sub3(p[1], p[0]), d13), cross3(sub3(p[2], p[1]), d24)};
+        vec3 v[2] = {cross3(d13, sub3(p[3], p[0])), cross3(d24, sub3(p[0], p[1]))};
+        for (int s = 0; s < 2; s++) {
+            ys[(HT_FOLD + 2 * fc + s) * n] = len3(cross3(u[s], v[s]));
+            xs[(HT_FOLD + 2 * fc + s) * n] = dot3p(u[s], v[s]);
+            if (dot3p(u[s], nrm) >= 0.0 && dot3p(v[s], nrm) >= 0.0) folds |= 1u << (2 * fc + s);
+        }
+        vec3 cn[4], nx[4], pv[4];
+        double size[4];
+        int pick = 0;
+        for (int k = 0; k < 4; k++) {
+            nx[k] = sub3(p[(k + 1) & 3], p[k]);
+            pv[k] = sub3(p[(k + 3) & 3], p[k]);
+            cn[k] = cross3(nx[k], pv[k]);
+            size[k] = len3(cn[k]);
+            if (!(size[pick] >= size[k]) && !isnan(size[pick])) pick = k; /* first largest */
+        }
+        int flat = !(len3(nrm) > flat_diagonals * len3(d13) * len3(d24));
+        vec3 ref = flat ? cn[pick] : nrm;
+        int count = 0;
+        for (int k = 0; k < 4; k++) {
+            int against = dot3p(cn[k], ref) < 0.0;
+            count += against;
+            int slot = 4 * fc + k;
+            ys[(HT_CORNER + slot) * n] = size[k];
+            xs[(HT_CORNER + slot) * n] = dot3p(nx[k], pv[k]);
+            if (against) bits |= (uint64_t)1 << slot;
+            if (size[k] == 0.0) bits |= (uint64_t)1 << (24 + slot);
+        }
+        crossing |= count == 2;
+        reentrant |= count == 1 || count == 3;
+    }
+    for (int ed = 0; ed < 12; ed++) {
+        vec3 n1 = normal[HEX_EDGE_FACES[ed][0]], n2 = normal[HEX_EDGE_FACES[ed][1]];
+        vec3 along = sub3(c[HEX_EDGES[ed][1]], c[HEX_EDGES[ed][0]]);
+        vec3 turn = cross3(n1, n2);
+        double sign = dot3p(turn, along) >= 0.0 ? orientation : -orientation;
+        ys[(HT_DIHEDRAL + ed) * n] = sign * len3(turn);
+        xs[(HT_DIHEDRAL + ed) * n] = dot3p(n1, n2);
+    }
+    *corner_bits = bits;
+    *fold_bits = folds;
+
+    /* -- det J: at the 27 points (-1, 0, 1)^3, Bernstein coefficients, Gauss points -- */
+    /* x_xi = e1 + e4 eta + e6 zeta + e7 eta zeta, and so on, at the points (-1, 0, 1)^3 */
+    double val[27];
+    for (int kz = 0; kz < 3; kz++)
+        for (int jy = 0; jy < 3; jy++)
+            for (int ix = 0; ix < 3; ix++) {
+                double xi = ix - 1.0, eta = jy - 1.0, zeta = kz - 1.0;
+                vec3 dx = add3(add3(e[1], scale3(e[4], eta)), add3(scale3(e[6], zeta), scale3(e[7], eta * zeta)));
+                vec3 dy = add3(add3(e[2], scale3(e[4], xi)), add3(scale3(e[5], zeta), scale3(e[7], xi * zeta)));
+                vec3 dz = add3(add3(e[3], scale3(e[5], eta)), add3(scale3(e[6], xi), scale3(e[7], xi * eta)));
+                val[ix + 3 * jy + 9 * kz] = dot3p(dx, cross3(dy, dz));
+            }
+    /* values -> Bernstein coefficients along each axis: c0 = v0, c1 = 2 v1 - (v0 + v2) / 2,
+     * c2 = v2 (the inverse of the degree-2 basis at u = 0, 1/2, 1) */
+    for (int axis = 0, stride = 1; axis < 3; axis++, stride *= 3)
+        for (int idx = 0; idx < 27; idx++) {
+            if ((idx / stride) % 3 != 1) continue;
+            double v0 = val[idx - stride], v1 = val[idx], v2 = val[idx + stride];
+            val[idx] = (-0.5 * v0 + 2.0 * v1) + -0.5 * v2;
+        }
+    double lower = val[0], largest = fabs(val[0]);
+    for (int i = 1; i < 27; i++) {
+        lower = np_min(lower, val[i]);
+        largest = np_max(largest, fabs(val[i]));
+    }
+    static const int corner_index[8] = {0, 2, 8, 6, 18, 20, 26, 24};
+    /* det J at the Gauss points: the 1-D Bernstein basis there, along xi, eta, zeta */
+    double along_x[2][9], along_y[2][2][3], gauss[8], g_lo = 0.0, g_hi = 0.0, volume = 0.0;
+    for (int a = 0; a < 2; a++)
+        for (int r = 0; r < 9; r++)
+            along_x[a][r] = (at_gauss[3 * a] * val[3 * r] + at_gauss[3 * a + 1] * val[3 * r + 1]) +
+                            at_gauss[3 * a + 2] * val[3 * r + 2];
+    for (int a = 0; a < 2; a++)
+        for (int b2 = 0; b2 < 2; b2++)
+            for (int kz = 0; kz < 3; kz++)
+                along_y[a][b2][kz] = (at_gauss[3 * b2] * along_x[a][3 * kz] +
+                                      at_gauss[3 * b2 + 1] * along_x[a][3 * kz + 1]) +
+                                     at_gauss[3 * b2 + 2] * along_x[a][3 * kz + 2];
+    for (int g = 0; g < 8; g++) {
+        const double *w = at_gauss + 3 * (g >> 2);
+        const double *v = along_y[g & 1][(g >> 1) & 1];
+        double sum = (w[0] * v[0] + w[1] * v[1]) + w[2] * v[2];
+        gauss[g] = sum;
+        g_lo = g ? np_min(g_lo, sum) : sum;
+        g_hi = g ? np_max(g_hi, sum) : sum;
+        volume += sum;
+    }
+    double floor = -floor_tol * (longest * longest * longest);
+    double nodal_min = 0.0;
+    int all_below = 1, mixed_low = 0, mixed_high = 0;
+    for (int i = 0; i < 8; i++) {
+        double v = val[corner_index[i]];
+        nodal_min = i ? np_min(nodal_min, v) : v;
+        all_below &= v < floor;
+        double corner = corner_det[i] / 8.0;
+        mixed_low |= corner < floor;
+        mixed_high |= corner > -floor;
+    }
+    for (int g = 0; g < 8; g++) all_below &= gauss[g] < floor;
+    double found = np_min(g_lo, nodal_min);
+    int refine = (lower < floor) && (found >= floor);
+
+    int flat_volume = !(8.0 * largest > tol * (longest * longest * longest));
+    int degenerate = coincident || flat_volume;
+    int valid = !degenerate;
+    int cross_flag = crossing && valid;
+    f[HF_INVERTED * n] = (lower < floor) && valid;
+    f[HF_REVERSED * n] = all_below && valid;
+    f[HF_DEGENERATE * n] = degenerate;
+    f[HF_NONCONVEX * n] = ((mixed_low && mixed_high) || reentrant) && valid && !cross_flag;
+    f[HF_SELF_INTERSECTING * n] = cross_flag;
+
+    m[H_VOLUME * n] = volume + 0.0;
+    m[H_DET_MIN * n] = g_lo + 0.0;
+    m[H_DET_MAX * n] = g_hi + 0.0;
+    m[H_DET_CORNER_MIN * n] = nodal_min + 0.0;
+    m[H_DET_LOWER * n] = ((lower < 0.0 && lower >= floor) ? 0.0 : lower) + 0.0;
+    m[H_JACOBIAN_RATIO * n] = g_lo > 0.0 ? g_hi / g_lo : INFINITY;
+    m[H_SCALED_JACOBIAN * n] = scaled + 0.0;
+    m[H_CONDITION * n] = condition + 0.0;
+    m[H_ASPECT * n] = aspect + 0.0;
+    m[H_TAPER * n] = taper + 0.0;
+    m[H_EDGE_RATIO * n] = edge_ratio + 0.0;
+    return refine;
+}
+
+PyDoc_STRVAR(hexahedron_doc,
+"hexahedron(coords, metrics, flags, tangents, state, refine, at_gauss, floor_tolerance,\n"
+"           tolerance, flat_diagonals)\n\n"
+"First part of the pass over n trilinear hexahedra ``coords`` (n, 8, 3): writes\n"
+"``metrics`` (17, n) and ``flags`` (5, n) but for the angles, whose arc tangent\n"
+"arguments go to ``tangents`` (2, 51, n) and ``state`` (2, n) uint64; ``refine`` (n,)\n"
+"bool marks the elements whose det J bound the numpy kernel must refine.");
+
+static PyObject *hexahedron(PyObject *self, PyObject *args)
+{
+    PyObject *o[7];
+    double floor_tol, tol, flat_diagonals;
+    buffers b = {.count = 0};
+    (void)self;
+    if (!PyArg_ParseTuple(args, "OOOOOOOddd", &o[0], &o[1], &o[2], &o[3], &o[4], &o[5], &o[6],
+                          &floor_tol, &tol, &flat_diagonals))
+        return NULL;
+    Py_ssize_t shape_c[3] = {-1, 8, 3};
+    const double *xyz = take(&b, o[0], 0, 8, 'd', 3, shape_c, "coords");
+    if (!xyz) return NULL;
+    Py_ssize_t n = b.views[0].shape[0];
+    Py_ssize_t shape_m[2] = {N_HEX_METRICS, n}, shape_f[2] = {N_HEX_FLAGS, n};
+    Py_ssize_t shape_t[3] = {2, N_HEX_TANGENTS, n}, shape_s[2] = {2, n}, shape_r[1] = {n};
+    Py_ssize_t shape_g[2] = {2, 3};
+    double *mo = take(&b, o[1], 1, 8, 'd', 2, shape_m, "metrics");
+    unsigned char *fo = mo ? take(&b, o[2], 1, 1, 'b', 2, shape_f, "flags") : NULL;
+    double *to = fo ? take(&b, o[3], 1, 8, 'd', 3, shape_t, "tangents") : NULL;
+    uint64_t *so = NULL;
+    if (to && PyObject_GetBuffer(o[4], &b.views[b.count], PyBUF_C_CONTIGUOUS | PyBUF_WRITABLE) == 0) {
+        Py_buffer *v = &b.views[b.count++];
+        if (v->len == 2 * n * 8) so = v->buf;
+        else PyErr_SetString(PyExc_ValueError, "state: wrong size");
+    }
+    unsigned char *ro = so ? take(&b, o[5], 1, 1, 'b', 1, shape_r, "refine") : NULL;
+    const double *ag = ro ? take(&b, o[6], 0, 8, 'd', 2, shape_g, "at_gauss") : NULL;
+    if (!ag) {
+        release(&b);
+        return NULL;
+    }
+    Py_ssize_t refine = 0;
+    Py_BEGIN_ALLOW_THREADS
+    double *ys = to, *xs = to + N_HEX_TANGENTS * n;
+    for (Py_ssize_t i = 0; i < n; i++) {
+        unsigned folds;
+        uint64_t bits;
+        int r = hex_one(xyz + 24 * i, ag, floor_tol, tol, flat_diagonals, mo + i, fo + i,
+                        ys + i, xs + i, n, &bits, &folds);
+        so[i] = bits;
+        so[n + i] = folds;
+        ro[i] = (unsigned char)r;
+        refine += r;
+    }
+    Py_END_ALLOW_THREADS
+    release(&b);
+    (void)shape_s;
+    return PyLong_FromSsize_t(refine);
+}
+
+PyDoc_STRVAR(hexahedron_angles_doc,
+"hexahedron_angles(angles, state, metrics, degrees)\n\n"
+"Second part: ``angles`` (51, n), numpy.arctan2 of ``tangents``; finishes skew, warp,\n"
+"min_angle, max_angle, min_dihedral and max_dihedral.");
+
+static PyObject *hexahedron_angles(PyObject *self, PyObject *args)
+{
+    PyObject *o[3];
+    double degrees;
+    buffers b = {.count = 0};
+    (void)self;
+    if (!PyArg_ParseTuple(args, "OOOd", &o[0], &o[1], &o[2], &degrees)) return NULL;
+    Py_ssize_t shape_a[2] = {N_HEX_TANGENTS, -1};
+    const double *an = take(&b, o[0], 0, 8, 'd', 2, shape_a, "angles");
+    if (!an) return NULL;
+    Py_ssize_t n = b.views[0].shape[1];
+    Py_ssize_t shape_m[2] = {N_HEX_METRICS, n};
+    const uint64_t *st = NULL;
+    if (PyObject_GetBuffer(o[1], &b.views[b.count], PyBUF_C_CONTIGUOUS) == 0) {
+        Py_buffer *v = &b.views[b.count++];
+        if (v->len == 2 * n * 8) st = v->buf;
+        else PyErr_SetString(PyExc_ValueError, "state: wrong size");
+    }
+    double *mo = st ? take(&b, o[2], 1, 8, 'd', 2, shape_m, "metrics") : NULL;
+    if (!mo) {
+        release(&b);
+        return NULL;
+    }
+    Py_BEGIN_ALLOW_THREADS
+    for (Py_ssize_t i = 0; i < n; i++) {
+        const double *t = an + i;
+        uint64_t bits = st[i], folds = st[n + i];
+        double skew = 0.0;
+        for (int p = 0; p < 3; p++) {
+            double v = fabs(90.0 - t[(HT_SKEW + p) * n] * degrees);
+            skew = p ? np_max(skew, v) : v;
+        }
+        double warp = 0.0;
+        for (int fc = 0; fc < 6; fc++) {
+            double f0 = t[(HT_FOLD + 2 * fc) * n] * degrees;
+            double f1 = t[(HT_FOLD + 2 * fc + 1) * n] * degrees;
+            int c0 = (folds >> (2 * fc)) & 1, c1 = (folds >> (2 * fc + 1)) & 1;
+            double fw = (c0 || c1) ? np_max(c0 ? f0 : 0.0, c1 ? f1 : 0.0) : np_max(f0, f1);
+            warp = fc ? np_max(warp, fw) : fw;
+        }
+        double lo = 0.0, hi = 0.0;
+        for (int k = 0; k < 24; k++) {
+            double u = t[(HT_CORNER + k) * n] * degrees;
+            double a = ((bits >> k) & 1) ? 360.0 - u : u;
+            if ((bits >> (24 + k)) & 1) a = u;
+            lo = k ? np_min(lo, a) : a;
+            hi = k ? np_max(hi, a) : a;
+        }
+        double dlo = 0.0, dhi = 0.0;
+        for (int ed = 0; ed < 12; ed++) {
+            double d = 180.0 - t[(HT_DIHEDRAL + ed) * n] * degrees;
+            dlo = ed ? np_min(dlo, d) : d;
+            dhi = ed ? np_max(dhi, d) : d;
+        }
+        double *m = mo + i;
+        m[H_SKEW * n] = skew + 0.0;
+        m[H_WARP * n] = warp + 0.0;
+        m[H_MIN_ANGLE * n] = lo + 0.0;
+        m[H_MAX_ANGLE * n] = hi + 0.0;
+        m[H_MIN_DIHEDRAL * n] = dlo + 0.0;
+        m[H_MAX_DIHEDRAL * n] = dhi + 0.0;
+    }
+    Py_END_ALLOW_THREADS
+    release(&b);
+    Py_RETURN_NONE;
+}
+
 /* The finish of one element from its arc tangents ``t`` (stride n), in degrees. */
 static void quad_finish(const double *t, Py_ssize_t n, unsigned char state, int flat,
                         double degrees, double *m, unsigned char *f)
@@ -409,48 +868,6 @@ static void quad_finish(const double *t, Py_ssize_t n, unsigned char state, int 
         m[M_WARP * n] = larger_counted(t[T_WARP * n] * degrees, (state & S_WARP_COUNTS_1) != 0,
                                        t[(T_WARP + 1) * n] * degrees,
                                        (state & S_WARP_COUNTS_2) != 0);
-}
-
-/* Take a C-contiguous buffer of ``itemsize`` bytes per item and the given shape
- * (-1: any). Returns 0 on success; on failure sets an exception. */
-static int get_buffer(PyObject *obj, Py_buffer *view, int writable, Py_ssize_t itemsize,
-                      char kind, int ndim, const Py_ssize_t *shape, const char *what)
-{
-    int flags = PyBUF_C_CONTIGUOUS | PyBUF_FORMAT | (writable ? PyBUF_WRITABLE : 0);
-    if (PyObject_GetBuffer(obj, view, flags) < 0) return -1;
-    const char *fmt = view->format ? view->format : "B";
-    if (fmt[0] == '<' || fmt[0] == '=' || fmt[0] == '@') fmt++;
-    int ok = view->itemsize == itemsize && view->ndim == ndim &&
-             (kind == 'd' ? strcmp(fmt, "d") == 0
-                          : (strcmp(fmt, "?") == 0 || strcmp(fmt, "B") == 0));
-    for (int i = 0; ok && i < ndim; i++)
-        if (shape[i] >= 0 && view->shape[i] != shape[i]) ok = 0;
-    if (!ok) {
-        PyBuffer_Release(view);
-        PyErr_Format(PyExc_ValueError, "%s: wrong type or shape", what);
-        return -1;
-    }
-    return 0;
-}
-
-#define MAX_BUFFERS 6
-
-typedef struct {
-    Py_buffer views[MAX_BUFFERS];
-    int count;
-} buffers;
-
-static void release(buffers *b)
-{
-    while (b->count > 0) PyBuffer_Release(&b->views[--b->count]);
-}
-
-static void *take(buffers *b, PyObject *obj, int writable, Py_ssize_t itemsize, char kind,
-                  int ndim, const Py_ssize_t *shape, const char *what)
-{
-    if (get_buffer(obj, &b->views[b->count], writable, itemsize, kind, ndim, shape, what) < 0)
-        return NULL;
-    return b->views[b->count++].buf;
 }
 
 PyDoc_STRVAR(quad_doc,
@@ -543,6 +960,8 @@ static PyObject *quad_angles(PyObject *self, PyObject *args)
 static PyMethodDef methods[] = {
     {"quad", quad, METH_VARARGS, quad_doc},
     {"quad_angles", quad_angles, METH_VARARGS, quad_angles_doc},
+    {"hexahedron", hexahedron, METH_VARARGS, hexahedron_doc},
+    {"hexahedron_angles", hexahedron_angles, METH_VARARGS, hexahedron_angles_doc},
     {NULL, NULL, 0, NULL},
 };
 

@@ -9,7 +9,12 @@ takes them, a second C pass finishes), so its metrics and flags equal the numpy 
 to the bit.
 
 Families with a compiled pass: the four-node quad (``quad``, and the corners of ``quad8``
-and ``quad9``, which the same kernel measures). Every other family is measured by numpy.
+and ``quad9``, which the same kernel measures), and the trilinear hexahedron
+(``hexahedron``), whose numpy kernel sums by matrix products and einsum in an order of
+numpy's (and the BLAS's) own: its compiled metrics agree to round-off, not to the bit (a
+few units in the last place; see ``_fused.c``), and an element whose det J bound must
+be refined by subdivision is measured by the numpy kernel. Every other cell type is
+measured by numpy.
 
 :data:`KERNEL_VARIABLE` set to ``numpy`` in the environment forces the numpy kernels, for
 comparison or if the compiled pass is ever in doubt; it is read at each audit.
@@ -20,12 +25,16 @@ from __future__ import annotations
 import os
 import threading
 from collections.abc import Callable, Iterable
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from . import quad
 from .columns import DEGREES
 from .common import DEGENERATE_TOLERANCE
+
+if TYPE_CHECKING:
+    from ..cells.registry import CellType
 
 try:  # built by setup.py where a C compiler works; optional
     from . import _fused
@@ -112,21 +121,109 @@ def _scratch(n: int) -> tuple[np.ndarray, np.ndarray]:
     return tangents, state[:n]
 
 
+#: The metrics and flags of the compiled hexahedron pass, in the order of its output rows.
+HEX_METRICS = (
+    "volume",
+    "det_j_min",
+    "det_j_max",
+    "det_j_corner_min",
+    "det_j_lower_bound",
+    "jacobian_ratio",
+    "scaled_jacobian",
+    "condition",
+    "aspect_ratio",
+    "skew",
+    "taper",
+    "warp",
+    "edge_ratio",
+    "min_angle",
+    "max_angle",
+    "min_dihedral",
+    "max_dihedral",
+)
+HEX_FLAGS = ("inverted", "reversed", "degenerate", "nonconvex", "self_intersecting")
+
+#: Elements per call of the compiled hexahedron pass: bounds its arc tangent arguments
+#: (2 x 51 float64 per element, 3.3 MB) whatever the chunk.
+HEX_BLOCK = 4096
+
+
+def measure_hexahedron(coords: np.ndarray) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
+    """:func:`meshaudit.metrics.solid.hexahedron.measure` of ``hexahedron`` cells (n, 8, 3),
+    compiled: the same metrics and flags, to round-off (see ``_fused.c``); the elements
+    whose det J bound must be refined by subdivision are measured by the numpy kernel."""
+    from .solid import hex_jacobian, hex_shape, hexahedron
+
+    coords = np.ascontiguousarray(coords, dtype=np.float64)
+    n = len(coords)
+    metrics = np.empty((len(HEX_METRICS), n))
+    flags = np.empty((len(HEX_FLAGS), n), dtype=bool)
+    refine = np.empty(n, dtype=bool)
+    at_gauss = np.ascontiguousarray(hex_jacobian.MAPS["hexahedron"].at_gauss)
+    for start in range(0, n, HEX_BLOCK):
+        stop = min(n, start + HEX_BLOCK)
+        m, f = metrics[:, start:stop], flags[:, start:stop]
+        block_m, block_f = np.empty(m.shape), np.empty(f.shape, dtype=bool)
+        tangents = _scratch_hex(stop - start)
+        state = np.empty((2, stop - start), dtype=np.uint64)
+        _fused.hexahedron(
+            coords[start:stop],
+            block_m,
+            block_f,
+            tangents,
+            state,
+            refine[start:stop],
+            at_gauss,
+            hex_jacobian.FLOOR_TOLERANCE,
+            hex_shape.DEGENERATE_TOLERANCE,
+            hex_shape.FLAT_DIAGONALS,
+        )
+        ys, xs = tangents
+        np.arctan2(ys, xs, out=ys)
+        _fused.hexahedron_angles(ys, state, block_m, DEGREES)
+        m[...], f[...] = block_m, block_f
+    out_m = dict(zip(HEX_METRICS, metrics))
+    out_f = dict(zip(HEX_FLAGS, flags))
+    out = {name: out_m.get(name) for name in hexahedron.METRICS}
+    for name in ("area", "midside_offset_along", "midside_offset_across"):
+        out[name] = np.full(n, np.nan)
+    rows = np.flatnonzero(refine)
+    if rows.size:  # rare: det J's sign decided by subdivision, in numpy
+        again = hexahedron.measure(coords[rows], "hexahedron")
+        for target, part in ((out, again[0]), (out_f, again[1])):
+            for name, values in part.items():
+                target[name][rows] = values
+    return out, {name: out_f[name] for name in hexahedron.FLAGS}
+
+
+def _scratch_hex(n: int) -> np.ndarray:
+    """(2, 51, n) float64 working array of the hexahedron pass, kept per thread."""
+    have = getattr(_local, "hex", None)
+    if have is None or have.shape[2] < n:
+        have = np.empty((2, 51, n))
+        _local.hex = have
+    if have.shape[2] == n:
+        return have
+    return have.reshape(-1)[: 2 * 51 * n].reshape(2, 51, n)
+
+
 Kernel = Callable[..., tuple[dict[str, np.ndarray], dict[str, np.ndarray]]]
 
-#: numpy kernel -> its compiled twin.
-_COMPILED: dict[Kernel, Kernel] = {quad.measure: measure_quad}
 
-
-def kernel_for(kernel: Kernel) -> Kernel:
-    """The compiled twin of the numpy ``kernel`` when there is one, the extension is built
-    and :data:`KERNEL_VARIABLE` does not force numpy; else ``kernel`` itself."""
+def kernel_for(cell: CellType) -> Kernel:
+    """The kernel to measure ``cell`` with: its compiled pass when it has one, the
+    extension is built and :data:`KERNEL_VARIABLE` does not force numpy; else its numpy
+    kernel (``cell.kernel``)."""
     if _fused is None or forced_numpy():
-        return kernel
-    return _COMPILED.get(kernel, kernel)
+        return cell.kernel
+    if cell.kernel is quad.measure:  # quad, and the corners of quad8 and quad9
+        return measure_quad
+    if cell.name == "hexahedron":
+        return measure_hexahedron
+    return cell.kernel
 
 
-def kernel_path(kernels: Iterable[Kernel]) -> str:
-    """Which pass measures elements of the given family ``kernels``: ``"compiled"`` when
-    the compiled pass measures any of them, else ``"numpy"``."""
-    return "compiled" if any(kernel_for(k) is not k for k in kernels) else "numpy"
+def kernel_path(cells: Iterable[CellType]) -> str:
+    """Which pass measures elements of the given cell types: ``"compiled"`` when the
+    compiled pass measures any of them, else ``"numpy"``."""
+    return "compiled" if any(kernel_for(c) is not c.kernel for c in cells) else "numpy"
