@@ -641,12 +641,17 @@ static int hex_one(const double *xyz, const double *at_gauss, double floor_tol, 
             }
     /* values -> Bernstein coefficients along each axis: c0 = v0, c1 = 2 v1 - (v0 + v2) / 2,
      * c2 = v2 (the inverse of the degree-2 basis at u = 0, 1/2, 1) */
-    for (int axis = 0, stride = 1; axis < 3; axis++, stride *= 3)
-        for (int idx = 0; idx < 27; idx++) {
-            if ((idx / stride) % 3 != 1) continue;
-            double v0 = val[idx - stride], v1 = val[idx], v2 = val[idx + stride];
-            val[idx] = (-0.5 * v0 + 2.0 * v1) + -0.5 * v2;
-        }
+    static const int strides[3] = {1, 3, 9};
+    for (int axis = 0; axis < 3; axis++) {
+        int stride = strides[axis];
+        for (int a = 0; a < 3; a++)
+            for (int b = 0; b < 3; b++) {
+                /* the middle point of the line along this axis through (a, b) */
+                int idx = axis == 0 ? 1 + 3 * a + 9 * b : axis == 1 ? a + 3 + 9 * b : a + 3 * b + 9;
+                double v0 = val[idx - stride], v1 = val[idx], v2 = val[idx + stride];
+                val[idx] = (-0.5 * v0 + 2.0 * v1) + -0.5 * v2;
+            }
+    }
     double lower = val[0], largest = fabs(val[0]);
     for (int i = 1; i < 27; i++) {
         lower = np_min(lower, val[i]);
