@@ -1,9 +1,17 @@
 """The compiled element pass against the numpy kernels it stands in for, and the fallback.
 
-The compiled pass (``meshaudit.metrics._fused``, C) repeats the numpy kernel's arithmetic
-operation by operation, built without fused multiply-add, and takes its arc tangents from
-numpy as the numpy kernel does, so every metric must equal the numpy kernel's to the bit
-(a NaN equals any NaN), and every flag, breach level and verdict must be the same. The
+The compiled quad pass (``meshaudit.metrics._fused``, C) repeats the numpy kernel's
+arithmetic operation by operation, built without fused multiply-add, and takes its arc
+tangents from numpy as the numpy kernel does, so every metric must equal the numpy
+kernel's to the bit (a NaN equals any NaN), and every flag, breach level and verdict must
+be the same. The compiled hexahedron pass sums det J in another order than the numpy
+kernel's matrix products and einsum: its det J metrics (volume, det_j_min, det_j_max,
+det_j_corner_min, det_j_lower_bound) must agree within 1e-12 L^3 (L the longest edge: a
+few thousand units in the last place of the element's own scale, well inside the
+1e-10 L^3 floor the verdicts allow for round-off) and the Jacobian ratio to 1e-9
+relative where det_j_min > 1e-6 L^3; its shape metrics take the same operations in the
+same order and must agree to 1e-12 relative (they do to the bit here); flags and
+verdicts must be identical. The
 numpy kernels themselves are checked against outside references elsewhere (scikit-fem,
 sympy, shapely, closed-form shapes); here the compiled pass is also checked on closed-form
 shapes directly (common practice: a 2b x 2h rectangle has det J = b h; Knupp 2001: a
@@ -35,6 +43,7 @@ from meshaudit.engine.measure import measure_chunk
 from meshaudit.judge.profiles import load_profile
 from meshaudit.mesh.frames import Frame
 from meshaudit.metrics import fused, quad
+from meshaudit.metrics.solid import hexahedron
 
 BUILT = fused.built()
 needs_build = pytest.mark.skipif(
@@ -214,6 +223,84 @@ def test_verdicts_identical(frame, monkeypatch):
     assert (a[3] == 2).any() and (a[3] == 0).any()  # both verdicts occur
 
 
+# -- the hexahedron ------------------------------------------------------------------------
+CUBE = np.array(
+    [[0, 0, 0], [1, 0, 0], [1, 1, 0], [0, 1, 0], [0, 0, 1], [1, 0, 1], [1, 1, 1], [0, 1, 1]],
+    dtype=float,
+)
+DET_J = ("volume", "det_j_min", "det_j_max", "det_j_corner_min", "det_j_lower_bound")
+
+
+def _assert_hex_close(numpy_result, compiled_result, coords: np.ndarray) -> None:
+    (m0, f0), (m1, f1) = numpy_result, compiled_result
+    assert list(m0) == list(m1) and list(f0) == list(f1)
+    edges = (
+        coords[:, [1, 2, 3, 0, 5, 6, 7, 4, 4, 5, 6, 7]]
+        - coords[:, [0, 1, 2, 3, 4, 5, 6, 7, 0, 1, 2, 3]]
+    )
+    cube = np.sqrt((edges**2).sum(axis=2)).max(axis=1) ** 3
+    for name in m0:
+        a, b = m0[name], m1[name]
+        same = _same_bits(a, b) | (a == b)  # equal infinities
+        if name in DET_J:
+            close = np.abs(a - b) <= 1e-12 * cube
+        elif name == "jacobian_ratio":
+            sure = m0["det_j_min"] > 1e-6 * cube
+            close = ~sure | (np.abs(a - b) <= 1e-9 * np.abs(a))
+        else:
+            close = np.abs(a - b) <= 1e-12 * np.abs(a)
+        bad = np.flatnonzero(~(same | close))
+        assert bad.size == 0, (name, bad[:5], a[bad[:5]], b[bad[:5]])
+    for name in f0:
+        np.testing.assert_array_equal(f0[name], f1[name], err_msg=name)
+
+
+def _special_hexes(rng: np.random.Generator, n: int, scale: float) -> np.ndarray:
+    """n hexahedra (n, 8, 3): jittered cubes, random ones (inverted, twisted, crossing
+    faces), mirrored, corners merged, flattened to a plane, at ``scale``."""
+    h = CUBE + rng.uniform(-0.35, 0.35, (n, 8, 3))
+    kind = rng.integers(0, 6, n)
+    h[kind == 1] = rng.standard_normal((int((kind == 1).sum()), 8, 3))
+    h[kind == 2] = h[kind == 2][:, [4, 5, 6, 7, 0, 1, 2, 3]]  # mirrored: reversed
+    merged = kind == 3
+    h[merged, 6] = h[merged, 5]
+    h[kind == 4, :, 2] = 0.0  # flat
+    twist = kind == 5
+    h[twist, 4:] = h[twist][:, [6, 7, 4, 5]]  # top face turned by 180 degrees
+    return h * scale
+
+
+@needs_build
+@settings(max_examples=40, deadline=None)
+@given(seed=st.integers(0, 2**32 - 1), exponent=st.sampled_from([-60, -3, 0, 5, 60]))
+def test_hexahedra_agree(seed, exponent):
+    coords = _special_hexes(np.random.default_rng(seed), 400, 2.0**exponent)
+    with np.errstate(all="ignore"):
+        expected = hexahedron.measure(coords, "hexahedron")
+        got = fused.measure_hexahedron(coords)
+        _assert_hex_close(expected, got, coords)
+
+
+@needs_build
+def test_hexahedron_closed_forms():
+    """A 2 x 1 x 1 box: det J = 2/8 everywhere (common practice: abc/8 on [-1, 1]^3),
+    aspect and edge ratio 2; the cube sheared to a face angle of 60 degrees: scaled
+    Jacobian sin 60 (Knupp 2001), skew 30; a mirrored cube is reversed."""
+    c60 = math.cos(math.radians(60.0))
+    sheared = CUBE @ np.array([[1.0, c60, 0], [0, math.sin(math.radians(60.0)), 0], [0, 0, 1]]).T
+    coords = np.stack([CUBE * [2.0, 1.0, 1.0], sheared, CUBE[[4, 5, 6, 7, 0, 1, 2, 3]]])
+    m, f = fused.measure_hexahedron(coords)
+    # (the 1-D Gauss-point basis is rounded: det J there reads 0.25 to a few ulps)
+    assert m["det_j_min"][0] == pytest.approx(0.25, rel=1e-14)
+    assert m["det_j_max"][0] == pytest.approx(0.25, rel=1e-14)
+    assert m["volume"][0] == pytest.approx(2.0, rel=1e-14)
+    assert m["aspect_ratio"][0] == 2.0 and m["edge_ratio"][0] == 2.0
+    assert m["scaled_jacobian"][1] == pytest.approx(math.sin(math.radians(60.0)), rel=1e-14)
+    assert m["skew"][1] == pytest.approx(30.0, rel=1e-12)
+    assert f["reversed"].tolist() == [False, False, True]
+    assert f["inverted"].tolist() == [False, False, True]
+
+
 SAMPLE_FILES = sorted(p for p in SAMPLES.iterdir() if p.suffix in (".msh", ".vtu"))
 
 
@@ -224,11 +311,18 @@ def test_samples_identical(path, monkeypatch):
     a = meshaudit.audit(path)
     monkeypatch.delenv(fused.KERNEL_VARIABLE)
     b = meshaudit.audit(path)
-    has_quads = any(CELL_TYPES[t].kernel is quad.measure for t in b.summary.element_counts)
+    compiled = {"quad", "quad8", "quad9", "hexahedron"} & set(b.summary.element_counts)
     assert a.summary.kernel == "numpy"
-    assert b.summary.kernel == ("compiled" if has_quads else "numpy")
+    assert b.summary.kernel == ("compiled" if compiled else "numpy")
+    hexes = b.type_codes == (
+        b.cell_types.index("hexahedron") if "hexahedron" in b.cell_types else -1
+    )
     for name in a.metrics:
-        assert _same_bits(a.metrics[name], b.metrics[name]).all(), name
+        same = _same_bits(a.metrics[name], b.metrics[name])
+        if name in (*DET_J, "jacobian_ratio", "score"):  # hexahedra: to round-off
+            close = np.isclose(a.metrics[name], b.metrics[name], rtol=1e-12, atol=0.0)
+            same |= hexes & close
+        assert same.all(), name
     np.testing.assert_array_equal(a.flag_bits, b.flag_bits)
     np.testing.assert_array_equal(a.verdict, b.verdict)
     for name in a.levels:
