@@ -628,17 +628,23 @@ static int hex_one(const double *xyz, const double *at_gauss, double floor_tol, 
     *fold_bits = folds;
 
     /* -- det J: at the 27 points (-1, 0, 1)^3, Bernstein coefficients, Gauss points -- */
-    /* x_xi = e1 + e4 eta + e6 zeta + e7 eta zeta, and so on, at the points (-1, 0, 1)^3 */
+    /* x_xi = e1 + e4 eta + e6 zeta + e7 eta zeta, and so on, at the points (-1, 0, 1)^3;
+     * each derivative depends on two of the three coordinates: 9 of each */
+    vec3 d_xi[9], d_eta[9], d_zeta[9];
+    for (int a = 0; a < 3; a++)
+        for (int b = 0; b < 3; b++) {
+            double u = a - 1.0, v = b - 1.0;
+            /* d_xi at (eta, zeta) = (u, v); d_eta at (xi, zeta); d_zeta at (xi, eta) */
+            d_xi[a + 3 * b] = add3(add3(e[1], scale3(e[4], u)), add3(scale3(e[6], v), scale3(e[7], u * v)));
+            d_eta[a + 3 * b] = add3(add3(e[2], scale3(e[4], u)), add3(scale3(e[5], v), scale3(e[7], u * v)));
+            d_zeta[a + 3 * b] = add3(add3(e[3], scale3(e[6], u)), add3(scale3(e[5], v), scale3(e[7], u * v)));
+        }
     double val[27];
     for (int kz = 0; kz < 3; kz++)
         for (int jy = 0; jy < 3; jy++)
-            for (int ix = 0; ix < 3; ix++) {
-                double xi = ix - 1.0, eta = jy - 1.0, zeta = kz - 1.0;
-                vec3 dx = add3(add3(e[1], scale3(e[4], eta)), add3(scale3(e[6], zeta), scale3(e[7], eta * zeta)));
-                vec3 dy = add3(add3(e[2], scale3(e[4], xi)), add3(scale3(e[5], zeta), scale3(e[7], xi * zeta)));
-                vec3 dz = add3(add3(e[3], scale3(e[5], eta)), add3(scale3(e[6], xi), scale3(e[7], xi * eta)));
-                val[ix + 3 * jy + 9 * kz] = dot3p(dx, cross3(dy, dz));
-            }
+            for (int ix = 0; ix < 3; ix++)
+                val[ix + 3 * jy + 9 * kz] = dot3p(
+                    d_xi[jy + 3 * kz], cross3(d_eta[ix + 3 * kz], d_zeta[ix + 3 * jy]));
     /* values -> Bernstein coefficients along each axis: c0 = v0, c1 = 2 v1 - (v0 + v2) / 2,
      * c2 = v2 (the inverse of the degree-2 basis at u = 0, 1/2, 1) */
     static const int strides[3] = {1, 3, 9};
