@@ -2,19 +2,21 @@
 
 ``meshaudit.metrics._fused`` (C, built by ``pip install`` where a C compiler works; see
 ``setup.py``) measures every element of a chunk in one loop, all metrics and flags at
-once, where the numpy kernel makes some hundreds of whole-array passes. Its arithmetic is
-the numpy kernel's, operation by operation in the same order, built without fused
-multiply-add, and its arc tangents are numpy's (the C pass writes their arguments, numpy
-takes them, a second C pass finishes), so its metrics and flags equal the numpy kernel's
-to the bit.
+once, where the numpy kernel makes some hundreds of whole-array passes.
 
-Families with a compiled pass: the four-node quad (``quad``, and the corners of ``quad8``
-and ``quad9``, which the same kernel measures), and the trilinear hexahedron
-(``hexahedron``), whose numpy kernel sums by matrix products and einsum in an order of
-numpy's (and the BLAS's) own: its compiled metrics agree to round-off, not to the bit (a
-few units in the last place; see ``_fused.c``), and an element whose det J bound must
-be refined by subdivision is measured by the numpy kernel. Every other cell type is
-measured by numpy.
+- The four-node quad (``quad``, and the corners of ``quad8`` and ``quad9``, which the same
+  kernel measures): the arithmetic is the numpy kernel's, operation by operation in the
+  same order, built without fused multiply-add, and the arc tangents are numpy's (the C
+  pass writes their arguments, numpy takes them, a second C pass finishes), so every
+  metric and flag equals the numpy kernel's to the bit.
+- The trilinear hexahedron (``hexahedron``): the shape metrics take the numpy kernel's
+  operations in its order, but det J (volume, det_j_min, det_j_max, det_j_corner_min,
+  det_j_lower_bound, jacobian_ratio) is summed in another order than its matrix products
+  and einsum, so those agree to round-off (within 1e-12 L^3, L the longest edge; the
+  verdicts' floor is 1e-10 L^3); an element whose det J bound must be refined by
+  subdivision is measured by the numpy kernel, whole.
+
+Every other cell type is measured by numpy.
 
 :data:`KERNEL_VARIABLE` set to ``numpy`` in the environment forces the numpy kernels, for
 comparison or if the compiled pass is ever in doubt; it is read at each audit.
