@@ -95,10 +95,13 @@ def measure_quad(
     # numpy's arc tangent, as the numpy kernel takes it, of the rows in use: skew and the
     # extreme angles; the corner angles of elements not convex and counter-clockwise; the
     # fold angles of elements in space
+    # (rows 3-6 hold arguments only for the elements that need them, stale values
+    # elsewhere, whose arc tangents are never read: no warning about them)
     ys, xs = tangents
-    for lo, hi, used in ((0, 3, True), (3, 7, corners), (7, 9, not flat)):
-        if used:
-            np.arctan2(ys[lo:hi], xs[lo:hi], out=ys[lo:hi])
+    with np.errstate(invalid="ignore"):
+        for lo, hi, used in ((0, 3, True), (3, 7, corners), (7, 9, not flat)):
+            if used:
+                np.arctan2(ys[lo:hi], xs[lo:hi], out=ys[lo:hi])
     _fused.quad_angles(ys, state, metrics, flags, flat, DEGREES)
     return dict(zip(QUAD_METRICS, metrics)), dict(zip(QUAD_FLAGS, flags))
 
@@ -181,7 +184,8 @@ def measure_hexahedron(coords: np.ndarray) -> tuple[dict[str, np.ndarray], dict[
             hex_shape.FLAT_DIAGONALS,
         )
         ys, xs = tangents
-        np.arctan2(ys, xs, out=ys)
+        with np.errstate(invalid="ignore"):  # NaN of a collapsed element, as in numpy's
+            np.arctan2(ys, xs, out=ys)
         _fused.hexahedron_angles(ys, state, block_m, DEGREES)
         m[...], f[...] = block_m, block_f
     out_m = dict(zip(HEX_METRICS, metrics))
