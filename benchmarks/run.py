@@ -12,6 +12,10 @@ hexahedra filling the plate's block. For each file, in the same run:
 - bare read: ``python -c "meshio.read(FILE)"`` in a fresh interpreter, wall time;
 - audit: ``python -m meshaudit check FILE --json OUT --quiet`` from this checkout (no
   plot), wall time and peak resident memory (``ru_maxrss`` of that child, from wait4);
+- audit on the numpy kernels: the same audit with ``MESHAUDIT_KERNEL=numpy``, which
+  turns the compiled element pass off (see :mod:`meshaudit.metrics.fused`); the table
+  says which pass the plain audit took (``kernel``: compiled or numpy, from its JSON
+  report) and both ratios to the bare read;
 - element audit alone: the same with a profile that turns every mesh-level finding
   kind off (written next to the meshes as ``elements_only.toml``), which leaves the
   element metrics, verdicts and reports;
@@ -74,12 +78,18 @@ class Row:
     bare: Run
     audit: Run
     elements_only: Run
+    audit_numpy: Run  # the audit with the compiled pass turned off
+    kernel: str = "-"  # the pass the plain audit took: "compiled" or "numpy"
     stages: dict[str, float] = field(default_factory=dict)
     not_ok: int | None = None  # elements listed in the JSON report (warn or fail)
 
     @property
     def ratio(self) -> float:
         return self.audit.seconds / self.bare.seconds
+
+    @property
+    def numpy_ratio(self) -> float:
+        return self.audit_numpy.seconds / self.bare.seconds
 
     @property
     def elements_ratio(self) -> float:
@@ -97,8 +107,8 @@ def elements_only_profile(outdir: Path) -> Path:
     return path
 
 
-def child_env() -> dict[str, str]:
-    env = dict(os.environ)
+def child_env(**extra: str) -> dict[str, str]:
+    env = dict(os.environ, **extra)
     env["PYTHONPATH"] = str(REPO) + os.pathsep + env.get("PYTHONPATH", "")
     # cached bytecode, as an installed package has: without it every run recompiles the
     # checkout's modules (about 30 ms here), which no user of an installed copy pays
@@ -106,11 +116,14 @@ def child_env() -> dict[str, str]:
     return env
 
 
-def run_child(argv: list[str], cwd: Path, timeout: float = 3600.0) -> Run:
-    """Run ``argv``; wall time and the child's own peak RSS (Linux reports KiB)."""
+def run_child(
+    argv: list[str], cwd: Path, timeout: float = 3600.0, env: dict[str, str] | None = None
+) -> Run:
+    """Run ``argv`` (in ``env``, default :func:`child_env`); wall time and the child's own
+    peak RSS (Linux reports KiB)."""
     start = time.perf_counter()
     proc = subprocess.Popen(
-        argv, cwd=cwd, env=child_env(), stdout=subprocess.PIPE, stderr=subprocess.DEVNULL
+        argv, cwd=cwd, env=env or child_env(), stdout=subprocess.PIPE, stderr=subprocess.DEVNULL
     )
     out = proc.stdout.read() if proc.stdout else b""
     _, status, usage = os.wait4(proc.pid, 0)
@@ -149,17 +162,22 @@ def measure(path: Path, size: int, outdir: Path, repeat: int, plot: bool, cell: 
     bare_argv = [py, "-c", BARE_READ, str(path)]
     json_out = outdir / f"{path.name}.report.json"
     audit_argv = [py, "-m", "meshaudit", "check", str(path), "--json", str(json_out), "--quiet"]
+    numpy_argv = [*audit_argv[:6], str(outdir / f"{path.name}.numpy.json"), "--quiet"]
+    numpy_env = child_env(MESHAUDIT_KERNEL="numpy")
     elements_argv = [*audit_argv, "--profile", str(elements_only_profile(outdir))]
     # alternate the commands so that all see the same load on a shared machine
-    bare_runs, audit_runs, elements_runs = [], [], []
+    bare_runs, audit_runs, numpy_runs, elements_runs = [], [], [], []
     for _ in range(max(1, repeat)):
         bare_runs.append(run_child(bare_argv, outdir))
         audit_runs.append(run_child(audit_argv, outdir))
+        numpy_runs.append(run_child(numpy_argv, outdir, env=numpy_env))
         elements_runs.append(run_child(elements_argv, outdir))
     bare = min(bare_runs, key=lambda r: r.seconds)
     audit = min(audit_runs, key=lambda r: r.seconds)
+    audit_numpy = min(numpy_runs, key=lambda r: r.seconds)
     elements_only = min(elements_runs, key=lambda r: r.seconds)
-    for run in (audit, elements_only):
+    kernel = json.loads(json_out.read_text(encoding="utf-8"))["summary"].get("kernel", "-")
+    for run in (audit, audit_numpy, elements_only):
         if run.status not in (0, 1):
             raise RuntimeError(f"meshaudit check {path} exited {run.status}")
     stage_argv = [py, "-m", "benchmarks.stages", str(path), str(outdir)]
@@ -174,7 +192,9 @@ def measure(path: Path, size: int, outdir: Path, repeat: int, plot: bool, cell: 
         not_ok = result["verdicts"]["warn"] + result["verdicts"]["fail"]
     file_mb = path.stat().st_size / 1e6
     fmt = path.suffix.lstrip(".")
-    return Row(size, fmt, cell, file_mb, bare, audit, elements_only, stages, not_ok)
+    return Row(
+        size, fmt, cell, file_mb, bare, audit, elements_only, audit_numpy, kernel, stages, not_ok
+    )
 
 
 def help_time(repeat: int) -> float:
@@ -190,9 +210,12 @@ def markdown(rows: list[Row], help_seconds: float) -> str:
         "cells",
         "file MB",
         "bare read s",
+        "kernel",
         "audit s",
         "ratio",
         "peak MB",
+        "numpy kernels audit s",
+        "numpy ratio",
         "no mesh checks s",
         "ratio",
         "peak MB",
@@ -207,9 +230,12 @@ def markdown(rows: list[Row], help_seconds: float) -> str:
             r.cell,
             f"{r.file_mb:.1f}",
             f"{r.bare.seconds:.2f}",
+            r.kernel,
             f"{r.audit.seconds:.2f}",
             f"{r.ratio:.2f}",
             f"{r.audit.peak_mb:.0f}",
+            f"{r.audit_numpy.seconds:.2f}",
+            f"{r.numpy_ratio:.2f}",
             f"{r.elements_only.seconds:.2f}",
             f"{r.elements_ratio:.2f}",
             f"{r.elements_only.peak_mb:.0f}",
@@ -297,8 +323,9 @@ def main(argv: list[str] | None = None) -> int:
 def _progress(row: Row) -> None:
     print(
         f"{row.size:>10,} {row.cell} {row.fmt}: bare read {row.bare.seconds:.2f} s, "
-        f"audit {row.audit.seconds:.2f} s (x{row.ratio:.2f}), "
-        f"peak {row.audit.peak_mb:.0f} MB; without mesh checks "
+        f"audit ({row.kernel}) {row.audit.seconds:.2f} s (x{row.ratio:.2f}), "
+        f"peak {row.audit.peak_mb:.0f} MB; numpy kernels {row.audit_numpy.seconds:.2f} s "
+        f"(x{row.numpy_ratio:.2f}); without mesh checks "
         f"{row.elements_only.seconds:.2f} s (x{row.elements_ratio:.2f})",
         flush=True,
     )

@@ -16,9 +16,11 @@ from typing import Any
 
 import numpy as np
 
+from ..cells.registry import CELL_TYPES
 from ..judge.profiles import Profile
 from ..mesh_checks.findings import Finding
 from ..metrics import METRIC_NAMES
+from ..metrics.fused import kernel_path
 from ..results.report import FLAG_NAMES, MeshSummary, Report
 from .interfaces import CrossPart
 from .sketch import Sketch
@@ -131,6 +133,8 @@ def assemble(
         skipped=skipped,
         element_numbers=results[0].numbering[0] if results else "",
         node_numbers=results[0].numbering[1] if results else "",
+        # the pass this process would take; the workers run the same installation
+        kernel=kernel_path(CELL_TYPES[t] for t in element_counts),
         **frame_summary,
     )
     return PartitionedReport(

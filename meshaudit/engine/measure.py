@@ -18,6 +18,7 @@ from ..judge.verdicts import judge_by_region
 from ..mesh.frames import Frame, to_local
 from ..mesh.scale import element_exponents, scaled_lengths
 from ..metrics import METRIC_NAMES, VALIDITY_FLAGS, length_power, quadratic
+from ..metrics.fused import kernel_for
 from ..results.report import FLAG_BIT
 
 #: An element whose size (area of a surface element, |volume| of a solid) lies outside
@@ -86,17 +87,18 @@ def measure_elements(
 def _measure_elements(
     cell: CellType, coords3: np.ndarray, frame: Frame
 ) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
+    kernel = kernel_for(cell)  # the compiled pass where there is one
     if cell.dimension == 3:  # a solid: measured in space, no plane to lay it in
-        metrics, flags = cell.kernel(coords3)
+        metrics, flags = kernel(coords3)
         return _with_every_metric(metrics, len(coords3)), _with_every_flag(flags, len(coords3))
     n_corners = cell.n_corners
     corners = coords3[:, :n_corners]
     if cell.is_quadratic:
         local = to_local(coords3, frame, n_corners)
-        metrics, flags = cell.kernel(corners, local[:, :n_corners])
+        metrics, flags = kernel(corners, local[:, :n_corners])
         metrics, flags = quadratic.measure(cell.name, coords3, local, metrics, flags)
         return _with_every_metric(metrics, len(corners)), flags
-    metrics, flags = cell.kernel(corners, to_local(corners, frame))
+    metrics, flags = kernel(corners, to_local(corners, frame))
     # det J of a linear surface element is bilinear or constant: its minimum is at a corner
     metrics["det_j_lower_bound"] = metrics["det_j_corner_min"]
     return _with_every_metric(metrics, len(corners)), flags

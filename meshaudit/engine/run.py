@@ -46,6 +46,7 @@ from ..mesh_checks.orientation import judge as judge_orientation
 from ..mesh_checks.overlap import BoxGrid, PlanarShapes
 from ..mesh_checks.solid_findings import find_solid_topology, finish_solid, merged
 from ..mesh_checks.stiffness import material_notes, stiffness_findings
+from ..metrics.fused import kernel_path
 from ..results.report import FLAG_BIT, MeshSummary, Report, metric_statistics
 from .materials import MaterialMap, MaterialSpec
 from .measure import measure_chunk
@@ -369,6 +370,7 @@ class _Run:
             orientation=frame.orientation,
             element_numbers=mesh.numbering.elements,
             node_numbers=mesh.numbering.nodes,
+            kernel=kernel_path(b.cell for b in mesh.blocks),
         )
         return Report(
             summary=summary,

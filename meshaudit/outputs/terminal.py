@@ -49,6 +49,7 @@ def summary_table(report: Report) -> Table:
         t.add_row("element numbers", s.element_numbers)
         t.add_row("node numbers", s.node_numbers)
     t.add_row("geometry", s.geometry_text())
+    t.add_row("element pass", "compiled (C)" if s.kernel == "compiled" else "numpy")
     t.add_row("profile", f"{report.profile.name} ({report.profile.origin})")
     if report.region_names:
         t.add_row("region limits", _regions_text(report))

@@ -22,6 +22,7 @@ from ..judge.verdicts import INVALID_FLAGS, VERDICT_NAMES
 from ..mesh.frames import choose_frame, to_local
 from ..mesh.scale import element_exponents, scaled_lengths
 from ..metrics import METRIC_INFO, METRIC_NAMES, STIFFNESS_METRICS, quadratic, unit_of
+from ..metrics.fused import kernel_for
 from .inspection import AuditedMesh, corner_table, element_nodes, neighbours
 from .report import finite_or_none, json_float
 
@@ -243,7 +244,7 @@ def solid_det_j_bound(
     values = np.where(np.isnan(values), np.inf, values)  # the pyramid's apex
     k = int(np.argmin(values))
     upper, where = float(values[k]), points[k].astype(float)
-    metrics, _ = cell.kernel(coords[None])
+    metrics, _ = kernel_for(cell)(coords[None])  # the pass the audit took
     lower = float(metrics["det_j_lower_bound"][0])
     undecided = False
     if cell_type == "tetra10":

@@ -50,6 +50,9 @@ class MeshSummary:
     #: Which numbers the reports give elements and nodes (see meshaudit.mesh.labels).
     element_numbers: str = ""
     node_numbers: str = ""
+    #: Which pass measured the elements: "compiled" (the C pass of
+    #: :mod:`meshaudit.metrics.fused`, for the families that have one) or "numpy".
+    kernel: str = "numpy"
 
     @property
     def n_elements(self) -> int:
@@ -131,6 +134,7 @@ class MeshSummary:
             "plane_normal": self.normal,
             "orientation": self.orientation,
             "numbering": {"elements": self.element_numbers, "nodes": self.node_numbers},
+            "kernel": self.kernel,
         }
 
 
