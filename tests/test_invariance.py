@@ -127,7 +127,9 @@ def test_planar_metrics_are_invariant(t):
     quads, tris = _random_elements(rng, 300, 4), _random_elements(rng, 200, 3)
     points, cells = _mesh(quads, tris)
     ref = _metrics(points, cells)
-    assert np.isfinite(ref["score"]).all() and (ref["score"] > 0).all()  # all valid
+    # all valid (positive det J everywhere); some may fail the profile's shape limits
+    # (score 0): the generator keeps angles within (5, 175) degrees, past the fail limits
+    assert np.isfinite(ref["score"]).all() and (ref["det_j_lower_bound"] > 0).all()
 
     _assert_invariant(_metrics(points + np.array(t["shift"][:2]), cells), ref, what="shift")
 
