@@ -147,43 +147,48 @@ def _collapsed(
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Quadrilateral faces with one side collapsed onto one node become triangles (the
     repeated corner dropped, order kept); faces of fewer than three distinct corners, or
-    whose repeated corners are not neighbours, are left out."""
+    whose repeated corners are not neighbours, are left out. One pass over every use
+    finds the few that repeat a node; the rest of the work is on those alone."""
     c = [corners[:, i] for i in range(4)]
     # a triangle's fourth corner is -1, equal to no node: only quadrilaterals' sides and
     # a triangle's closing side (or a quadrilateral's diagonal) can repeat a node
     suspect = (c[0] == c[1]) | (c[1] == c[2]) | (c[2] == c[3]) | (c[3] == c[0]) | (c[2] == c[0])
-    if not suspect.any():  # the usual case: one cheap pass
+    rows = np.flatnonzero(suspect)
+    del suspect
+    if rows.size == 0:  # the usual case: one cheap pass
         return corners, element, local
-    quad = corners[:, 3] >= 0
-    same = np.stack(
-        [corners[:, i] == corners[:, (i + 1) % 4] for i in range(4)], axis=1
-    )  # corner i equals corner i + 1
-    same[:, 2] &= quad  # a triangle's closing side is corner 2 -> corner 0
+    sub = corners[rows]
+    quad = sub[:, 3] >= 0
+    same = np.stack([sub[:, i] == sub[:, (i + 1) % 4] for i in range(4)], axis=1)
+    same[:, 2] &= quad  # corner i equals corner i + 1; a triangle's closing side is 2 -> 0
     same[:, 3] &= quad
-    repeats = same.sum(axis=1) + (~quad & (corners[:, 2] == corners[:, 0]))
+    repeats = same.sum(axis=1) + (~quad & (sub[:, 2] == sub[:, 0]))
     if not repeats.any():
         return corners, element, local
-    keep = (repeats == 0) | (quad & (repeats == 1))
+    keep_sub = (repeats == 0) | (quad & (repeats == 1))
     fix = np.flatnonzero(quad & (repeats == 1))
     if fix.size:
         drop = np.argmax(same[fix], axis=1)  # the corner equal to the next one
-        rows = corners[fix]
         cols = np.arange(4)[None, :]
         order = np.where(cols < drop[:, None], cols, cols + 1)[:, :3]
-        tri = np.take_along_axis(rows, order % 4, axis=1)
+        tri = np.take_along_axis(sub[fix], order % 4, axis=1)
         distinct = (tri[:, 0] != tri[:, 1]) & (tri[:, 1] != tri[:, 2]) & (tri[:, 2] != tri[:, 0])
         corners = corners.copy()
-        corners[fix, :3] = tri
-        corners[fix, 3] = -1
-        keep[fix] = distinct
+        corners[rows[fix], :3] = tri
+        corners[rows[fix], 3] = -1
+        keep_sub[fix] = distinct
+    keep = np.ones(corners.shape[0], dtype=bool)
+    keep[rows] = keep_sub
     # a degenerate solid may be left with one face twice (a tetrahedron with two corners
     # on one node: its two remaining faces are one triangle, both ways round): the two
     # uses cancel, as the element encloses nothing there
-    touched = np.flatnonzero(np.isin(element, unique_values(element[repeats > 0])) & keep)
+    touched = np.flatnonzero(np.isin(element, unique_values(element[rows[repeats > 0]])) & keep)
     if touched.size:
-        rows = np.column_stack([element[touched], sorted_rows(corners[touched])])
-        _, inverse, counts = np.unique(rows, axis=0, return_inverse=True, return_counts=True)
+        key = np.column_stack([element[touched], sorted_rows(corners[touched])])
+        _, inverse, counts = np.unique(key, axis=0, return_inverse=True, return_counts=True)
         keep[touched[counts[inverse.ravel()] > 1]] = False
+    if keep.all():
+        return corners, element, local
     return corners[keep], element[keep], local[keep]
 
 
