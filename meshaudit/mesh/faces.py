@@ -78,29 +78,37 @@ def table_of_uses(
     -1 padded; ``element`` (m,); ``local`` (m,)), nodes numbered below ``n_points`` (the
     faces of several parts matched by node, see :mod:`meshaudit.distributed`)."""
     corners, element, local = _collapsed(corners, element, local)
-    columns = _sorted_columns(corners)
-    high, low, bound = _halves(columns, n_points)
-    if bound < 1 << 62:
-        del columns  # the keys of the faces are sorted again from their first uses
     m = corners.shape[0]
     if m == 0:
         empty = np.zeros(0, dtype=np.int64)
         key = np.zeros((0, 4), np.int64)
         return FaceTable(corners, element, local, empty, key, empty, empty, empty)
-    if bound >= 1 << 62:  # node numbers past 2^31: a plain lexicographic sort
-        order = np.lexsort(columns[::-1])
-    else:
-        first, _ = sort_keys(low, bound)
-        second, _ = sort_keys(high[first], bound)
-        order = first[second]
-        del first, second
+    columns = _sorted_columns(corners)
     new = np.empty(m, dtype=bool)
     new[0] = True
-    ordered = high[order]
-    np.not_equal(ordered[1:], ordered[:-1], out=new[1:])
-    ordered = np.take(low, order, out=ordered)
-    new[1:] |= ordered[1:] != ordered[:-1]
-    del ordered, high, low
+    packed = _packed_key(columns)
+    if packed is not None:  # one key per use: one sort (or two, see sort_keys)
+        del columns
+        order, ordered = sort_keys(*packed)
+        del packed
+        np.not_equal(ordered[1:], ordered[:-1], out=new[1:])
+        del ordered
+    else:
+        high, low, bound = _halves(columns, n_points)
+        if bound < 1 << 62:
+            del columns  # the keys of the faces are sorted again from their first uses
+        if bound >= 1 << 62:  # node numbers past 2^31: a plain lexicographic sort
+            order = np.lexsort(columns[::-1])
+        else:
+            first, _ = sort_keys(low, bound)
+            second, _ = sort_keys(high[first], bound)
+            order = first[second]
+            del first, second
+        ordered = high[order]
+        np.not_equal(ordered[1:], ordered[:-1], out=new[1:])
+        ordered = np.take(low, order, out=ordered)
+        new[1:] |= ordered[1:] != ordered[:-1]
+        del ordered, high, low
     starts = np.flatnonzero(new)
     rank = np.cumsum(new, dtype=index_dtype(m))
     del new
@@ -206,6 +214,31 @@ def _sorted_columns(corners: np.ndarray) -> list[np.ndarray]:
 def sorted_rows(corners: np.ndarray) -> np.ndarray:
     """(m, 4) each row of ``corners`` (m, 4) ascending, -1 padding first."""
     return np.stack(_sorted_columns(corners), axis=1)
+
+
+def _packed_key(columns: list[np.ndarray]) -> tuple[np.ndarray, int] | None:
+    """(key, bound): one int64 per sorted corner row (``columns`` as
+    :func:`_sorted_columns` gives them), ordered as the rows are (lexicographically, a
+    triangle's -1 first), or None when it would need more than 62 bits.
+
+    The key packs, most significant first: 0 for a triangle and 1 for a quadrilateral,
+    the smallest node, then the steps from each corner to the next (a triangle's first
+    step 0), each in as many bits as its largest value needs. A mesh numbered with
+    locality (neighbours get nearby numbers, as meshers number) has short steps, so the
+    key fits where the two (node, node) halves of :func:`_halves` need two sorts each."""
+    c0, c1, c2, c3 = columns
+    tri = c0 < 0
+    first = np.where(tri, c1, c0).astype(np.int64)
+    steps = [np.where(tri, 0, c1 - c0), c2 - c1, c3 - c2]
+    widths = [int(first.max()).bit_length()] + [int(d.max()).bit_length() for d in steps]
+    total = 1 + sum(widths)
+    if total > 62:
+        return None
+    key = (~tri).astype(np.int64)
+    for value, bits in zip([first, *steps], widths, strict=True):
+        key <<= np.int64(bits)
+        key |= value
+    return key, 1 << total
 
 
 def _halves(columns: list[np.ndarray], n_points: int) -> tuple[np.ndarray, np.ndarray, int]:
