@@ -290,6 +290,12 @@ def vector_areas(points: np.ndarray, corners: np.ndarray) -> tuple[np.ndarray, n
     return area, centre
 
 
+#: Solids whose edges :meth:`SolidEdges.longest_squared` measures at a time: the
+#: temporaries (a few (n, 3) float64) stay about a megabyte, reused from the heap rather
+#: than fresh memory per edge.
+EDGE_BLOCK = 1 << 15
+
+
 @dataclass(frozen=True)
 class SolidEdges:
     """The corner edges of the solids of ``mesh``, walked block by block and edge by edge
@@ -310,11 +316,15 @@ class SolidEdges:
     def longest_squared(self) -> float:
         """The largest squared length of a solid's corner edge (0 without solids)."""
         longest = 0.0
+        points = self.mesh.points
         for block in _solid_blocks(self.mesh):
-            for a, b in block.cell.edges:
-                step = self.mesh.points[block.connectivity[:, b]]
-                step -= self.mesh.points[block.connectivity[:, a]]
-                longest = max(longest, float(np.einsum("ij,ij->i", step, step).max()))
+            # in blocks of elements: the temporaries stay small and are reused
+            for lo in range(0, len(block), EDGE_BLOCK):
+                conn = block.connectivity[lo : lo + EDGE_BLOCK]
+                for a, b in block.cell.edges:
+                    step = points[conn[:, b]]
+                    step -= points[conn[:, a]]
+                    longest = max(longest, float(np.einsum("ij,ij->i", step, step).max()))
         return longest
 
     def shortest_at(self, involved: np.ndarray) -> np.ndarray:
