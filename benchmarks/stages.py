@@ -11,8 +11,10 @@ The engine runs here in one thread (``workers=1``) so that its stages add up; th
 kernels and the verdicts run interleaved, chunk by chunk, inside
 ``meshaudit.engine.run.audit_elements``; their shares are told apart by timing the functions
 that do the work (``measure_elements``, ``judge_by_region``, and for "mesh checks" the
-edge table and the two parts of the mesh-level findings; "size ratio" the pass after the
-chunks, :func:`meshaudit.engine.size_pass.apply_size_ratio`) through thin wrappers
+edge table and the two parts of the mesh-level findings, of surface elements and of
+solids (their face table included); "size ratio" the pass after the chunks,
+:func:`meshaudit.engine.size_pass.apply_size_ratio`, and the solids' face groups it
+reads) through thin wrappers
 installed for this run only. "engine other" is the rest of ``audit_elements``: choosing
 the frame, gathering node coordinates per chunk, the planar shapes the overlap check
 uses and copying chunk results into the per-element arrays.
@@ -52,6 +54,9 @@ def _instrument(totals: dict[str, float]) -> None:
             ("edge_table", "mesh checks"),
             ("find_topology", "mesh checks"),
             ("finish", "mesh checks"),
+            ("find_solid_topology", "mesh checks"),
+            ("finish_solid", "mesh checks"),
+            ("face_groups", "size ratio"),
             ("apply_size_ratio", "size ratio"),
         ):
             if hasattr(engine, attr):

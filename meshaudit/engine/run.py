@@ -259,19 +259,24 @@ class _Run:
         surface = self.surface  # the surface checks look at the surface elements only
         table = edge_table(surface)  # shared by orientation, findings and the size ratio
         sides = [edge_groups(table, self.positions)]
+        part = None
+        if self.checks:
+            ids = self.ids if self.positions is None else self.ids[self.positions]
+            settings = self.profile.findings
+            solids = SolidEdges.of(self.mesh) if self.mesh.has_solids else None
+            part = find_topology(surface, ids, self.frame, settings, table, solids)
+            if solids is not None and any(settings.enabled(k) for k in SOLID_FACE_KINDS):
+                rep = part.clusters.rep if part.clusters is not None else np.arange(0)
+                part.solid = find_solid_topology(
+                    self.mesh, self.ids, settings, rep, surface, self.positions
+                )
         if self.mesh.has_solids:
-            sides.append(face_groups(self.mesh))
-        if not self.checks:
-            return table, None, sides
-        ids = self.ids if self.positions is None else self.ids[self.positions]
-        settings = self.profile.findings
-        solids = SolidEdges.of(self.mesh) if self.mesh.has_solids else None
-        part = find_topology(surface, ids, self.frame, settings, table, solids)
-        if solids is not None and any(settings.enabled(k) for k in SOLID_FACE_KINDS):
-            rep = part.clusters.rep if part.clusters is not None else np.arange(0)
-            part.solid = find_solid_topology(
-                self.mesh, self.ids, settings, rep, surface, self.positions
-            )
+            # the checks' face table when it holds every solid: built once, not twice
+            solid = None if part is None else part.solid
+            if solid is not None and solid.whole:
+                sides.append(face_groups(self.mesh, solid.table, solid.positions))
+            else:
+                sides.append(face_groups(self.mesh))
         return table, part, sides
 
     def finish(

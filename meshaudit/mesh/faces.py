@@ -78,29 +78,37 @@ def table_of_uses(
     -1 padded; ``element`` (m,); ``local`` (m,)), nodes numbered below ``n_points`` (the
     faces of several parts matched by node, see :mod:`meshaudit.distributed`)."""
     corners, element, local = _collapsed(corners, element, local)
-    columns = _sorted_columns(corners)
-    high, low, bound = _halves(columns, n_points)
-    if bound < 1 << 62:
-        del columns  # the keys of the faces are sorted again from their first uses
     m = corners.shape[0]
     if m == 0:
         empty = np.zeros(0, dtype=np.int64)
         key = np.zeros((0, 4), np.int64)
         return FaceTable(corners, element, local, empty, key, empty, empty, empty)
-    if bound >= 1 << 62:  # node numbers past 2^31: a plain lexicographic sort
-        order = np.lexsort(columns[::-1])
-    else:
-        first, _ = sort_keys(low, bound)
-        second, _ = sort_keys(high[first], bound)
-        order = first[second]
-        del first, second
+    columns = _sorted_columns(corners)
     new = np.empty(m, dtype=bool)
     new[0] = True
-    ordered = high[order]
-    np.not_equal(ordered[1:], ordered[:-1], out=new[1:])
-    ordered = np.take(low, order, out=ordered)
-    new[1:] |= ordered[1:] != ordered[:-1]
-    del ordered, high, low
+    packed = _packed_key(columns)
+    if packed is not None:  # one key per use: one sort (or two, see sort_keys)
+        del columns
+        order, ordered = sort_keys(*packed)
+        del packed
+        np.not_equal(ordered[1:], ordered[:-1], out=new[1:])
+        del ordered
+    else:
+        high, low, bound = _halves(columns, n_points)
+        if bound < 1 << 62:
+            del columns  # the keys of the faces are sorted again from their first uses
+        if bound >= 1 << 62:  # node numbers past 2^31: a plain lexicographic sort
+            order = np.lexsort(columns[::-1])
+        else:
+            first, _ = sort_keys(low, bound)
+            second, _ = sort_keys(high[first], bound)
+            order = first[second]
+            del first, second
+        ordered = high[order]
+        np.not_equal(ordered[1:], ordered[:-1], out=new[1:])
+        ordered = np.take(low, order, out=ordered)
+        new[1:] |= ordered[1:] != ordered[:-1]
+        del ordered, high, low
     starts = np.flatnonzero(new)
     rank = np.cumsum(new, dtype=index_dtype(m))
     del new
@@ -147,43 +155,48 @@ def _collapsed(
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Quadrilateral faces with one side collapsed onto one node become triangles (the
     repeated corner dropped, order kept); faces of fewer than three distinct corners, or
-    whose repeated corners are not neighbours, are left out."""
+    whose repeated corners are not neighbours, are left out. One pass over every use
+    finds the few that repeat a node; the rest of the work is on those alone."""
     c = [corners[:, i] for i in range(4)]
     # a triangle's fourth corner is -1, equal to no node: only quadrilaterals' sides and
     # a triangle's closing side (or a quadrilateral's diagonal) can repeat a node
     suspect = (c[0] == c[1]) | (c[1] == c[2]) | (c[2] == c[3]) | (c[3] == c[0]) | (c[2] == c[0])
-    if not suspect.any():  # the usual case: one cheap pass
+    rows = np.flatnonzero(suspect)
+    del suspect
+    if rows.size == 0:  # the usual case: one cheap pass
         return corners, element, local
-    quad = corners[:, 3] >= 0
-    same = np.stack(
-        [corners[:, i] == corners[:, (i + 1) % 4] for i in range(4)], axis=1
-    )  # corner i equals corner i + 1
-    same[:, 2] &= quad  # a triangle's closing side is corner 2 -> corner 0
+    sub = corners[rows]
+    quad = sub[:, 3] >= 0
+    same = np.stack([sub[:, i] == sub[:, (i + 1) % 4] for i in range(4)], axis=1)
+    same[:, 2] &= quad  # corner i equals corner i + 1; a triangle's closing side is 2 -> 0
     same[:, 3] &= quad
-    repeats = same.sum(axis=1) + (~quad & (corners[:, 2] == corners[:, 0]))
+    repeats = same.sum(axis=1) + (~quad & (sub[:, 2] == sub[:, 0]))
     if not repeats.any():
         return corners, element, local
-    keep = (repeats == 0) | (quad & (repeats == 1))
+    keep_sub = (repeats == 0) | (quad & (repeats == 1))
     fix = np.flatnonzero(quad & (repeats == 1))
     if fix.size:
         drop = np.argmax(same[fix], axis=1)  # the corner equal to the next one
-        rows = corners[fix]
         cols = np.arange(4)[None, :]
         order = np.where(cols < drop[:, None], cols, cols + 1)[:, :3]
-        tri = np.take_along_axis(rows, order % 4, axis=1)
+        tri = np.take_along_axis(sub[fix], order % 4, axis=1)
         distinct = (tri[:, 0] != tri[:, 1]) & (tri[:, 1] != tri[:, 2]) & (tri[:, 2] != tri[:, 0])
         corners = corners.copy()
-        corners[fix, :3] = tri
-        corners[fix, 3] = -1
-        keep[fix] = distinct
+        corners[rows[fix], :3] = tri
+        corners[rows[fix], 3] = -1
+        keep_sub[fix] = distinct
+    keep = np.ones(corners.shape[0], dtype=bool)
+    keep[rows] = keep_sub
     # a degenerate solid may be left with one face twice (a tetrahedron with two corners
     # on one node: its two remaining faces are one triangle, both ways round): the two
     # uses cancel, as the element encloses nothing there
-    touched = np.flatnonzero(np.isin(element, unique_values(element[repeats > 0])) & keep)
+    touched = np.flatnonzero(np.isin(element, unique_values(element[rows[repeats > 0]])) & keep)
     if touched.size:
-        rows = np.column_stack([element[touched], sorted_rows(corners[touched])])
-        _, inverse, counts = np.unique(rows, axis=0, return_inverse=True, return_counts=True)
+        key = np.column_stack([element[touched], sorted_rows(corners[touched])])
+        _, inverse, counts = np.unique(key, axis=0, return_inverse=True, return_counts=True)
         keep[touched[counts[inverse.ravel()] > 1]] = False
+    if keep.all():
+        return corners, element, local
     return corners[keep], element[keep], local[keep]
 
 
@@ -201,6 +214,31 @@ def _sorted_columns(corners: np.ndarray) -> list[np.ndarray]:
 def sorted_rows(corners: np.ndarray) -> np.ndarray:
     """(m, 4) each row of ``corners`` (m, 4) ascending, -1 padding first."""
     return np.stack(_sorted_columns(corners), axis=1)
+
+
+def _packed_key(columns: list[np.ndarray]) -> tuple[np.ndarray, int] | None:
+    """(key, bound): one int64 per sorted corner row (``columns`` as
+    :func:`_sorted_columns` gives them), ordered as the rows are (lexicographically, a
+    triangle's -1 first), or None when it would need more than 62 bits.
+
+    The key packs, most significant first: 0 for a triangle and 1 for a quadrilateral,
+    the smallest node, then the steps from each corner to the next (a triangle's first
+    step 0), each in as many bits as its largest value needs. A mesh numbered with
+    locality (neighbours get nearby numbers, as meshers number) has short steps, so the
+    key fits where the two (node, node) halves of :func:`_halves` need two sorts each."""
+    c0, c1, c2, c3 = columns
+    tri = c0 < 0
+    first = np.where(tri, c1, c0).astype(np.int64)
+    steps = [np.where(tri, 0, c1 - c0), c2 - c1, c3 - c2]
+    widths = [int(first.max()).bit_length()] + [int(d.max()).bit_length() for d in steps]
+    total = 1 + sum(widths)
+    if total > 62:
+        return None
+    key = (~tri).astype(np.int64)
+    for value, bits in zip([first, *steps], widths, strict=True):
+        key <<= np.int64(bits)
+        key |= value
+    return key, 1 << total
 
 
 def _halves(columns: list[np.ndarray], n_points: int) -> tuple[np.ndarray, np.ndarray, int]:
@@ -252,6 +290,12 @@ def vector_areas(points: np.ndarray, corners: np.ndarray) -> tuple[np.ndarray, n
     return area, centre
 
 
+#: Solids whose edges :meth:`SolidEdges.longest_squared` measures at a time: the
+#: temporaries (a few (n, 3) float64) stay about a megabyte, reused from the heap rather
+#: than fresh memory per edge.
+EDGE_BLOCK = 1 << 15
+
+
 @dataclass(frozen=True)
 class SolidEdges:
     """The corner edges of the solids of ``mesh``, walked block by block and edge by edge
@@ -272,11 +316,15 @@ class SolidEdges:
     def longest_squared(self) -> float:
         """The largest squared length of a solid's corner edge (0 without solids)."""
         longest = 0.0
+        points = self.mesh.points
         for block in _solid_blocks(self.mesh):
-            for a, b in block.cell.edges:
-                step = self.mesh.points[block.connectivity[:, b]]
-                step -= self.mesh.points[block.connectivity[:, a]]
-                longest = max(longest, float(np.einsum("ij,ij->i", step, step).max()))
+            # in blocks of elements: the temporaries stay small and are reused
+            for lo in range(0, len(block), EDGE_BLOCK):
+                conn = block.connectivity[lo : lo + EDGE_BLOCK]
+                for a, b in block.cell.edges:
+                    step = points[conn[:, b]]
+                    step -= points[conn[:, a]]
+                    longest = max(longest, float(np.einsum("ij,ij->i", step, step).max()))
         return longest
 
     def shortest_at(self, involved: np.ndarray) -> np.ndarray:

@@ -20,7 +20,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from .elements import ElementMesh
-from .topology import EdgeTable
+from .faces import FaceTable, face_table
+from .topology import EdgeTable, index_dtype
 
 #: Sides with this many uses or more are worked out by their extremes: position sums of
 #: squares stay exact in float64 (2^53) only below 2^26 uses.
@@ -53,16 +54,24 @@ def edge_groups(table: EdgeTable, positions: np.ndarray | None) -> SideGroups:
     return SideGroups(table.edge, element, table.first, table.last)
 
 
-def face_groups(mesh: ElementMesh) -> SideGroups:
+def face_groups(
+    mesh: ElementMesh, table: FaceTable | None = None, positions: np.ndarray | None = None
+) -> SideGroups:
     """Side groups of the solids of ``mesh``: one group per distinct face (its corner
     nodes as a set), from the solids' face table (:func:`meshaudit.mesh.faces.face_table`:
-    sorted keys, no per-element loop; a triangle never matches a quadrilateral)."""
-    from .faces import face_table
+    sorted keys, no per-element loop; a triangle never matches a quadrilateral).
 
-    table = face_table(mesh)
+    ``table``: that table when it is built already, of every solid of ``mesh`` (e.g. by
+    the mesh-level checks, of the solid part: then ``positions`` (s,) maps its element
+    numbers to report positions), so that it is not built twice."""
+    if table is None:
+        table = face_table(mesh)
     if table.face.size == 0:
         return SideGroups.empty()
-    return SideGroups(table.face, table.element, table.first, table.last)
+    element = table.element
+    if positions is not None and not np.array_equal(positions, np.arange(positions.size)):
+        element = positions.astype(index_dtype(mesh.n_elements))[element]
+    return SideGroups(table.face, element, table.first, table.last)
 
 
 def characteristic_length(size: np.ndarray, dimension: np.ndarray) -> np.ndarray:

@@ -38,7 +38,8 @@ class SolidPart:
 
     ``positions`` (s,) the report positions of the solids; ``pairs`` (p, 2) solid
     positions (in the solid part) across each interior face and ``same`` (p,) whether the
-    two use it the same way round, ``faces`` (p,) that face."""
+    two use it the same way round, ``faces`` (p,) that face. ``whole``: ``table`` holds
+    the faces of every solid (no duplicate solid was left out of it)."""
 
     out: _Builder
     positions: np.ndarray
@@ -47,6 +48,7 @@ class SolidPart:
     pairs: np.ndarray
     same: np.ndarray
     faces: np.ndarray
+    whole: bool = True
 
 
 def find_solid_topology(
@@ -75,15 +77,17 @@ def find_solid_topology(
             None,
             pairs,
         )
-    keep = np.ones(solid.n_elements, dtype=bool)
-    keep[copies] = False
+    keep = None
+    if copies.size:
+        keep = np.ones(solid.n_elements, dtype=bool)
+        keep[copies] = False
     table = face_table(solid, keep)
     _non_manifold(out, table, positions)
     surfaces = _boundary(out, table, mesh.points, rep, positions, settings)
     if surface is not None and surface.n_elements and out.on("shells_on_solid_faces"):
         _shells_on_faces(out, table, surface, surface_positions, mesh.n_points)
     pairs, same, faces = _face_pairs(table)
-    return SolidPart(out, positions, table, surfaces, pairs, same, faces)
+    return SolidPart(out, positions, table, surfaces, pairs, same, faces, copies.size == 0)
 
 
 def finish_solid(part: SolidPart, inverted: np.ndarray) -> tuple[list[Finding], BoundarySurfaces]:
