@@ -12,6 +12,8 @@ a halo element (a copy of a part-0 element beside the cut written into part 1 to
 
 from __future__ import annotations
 
+from collections.abc import Iterator
+from contextlib import contextmanager
 from pathlib import Path
 
 import meshio
@@ -116,3 +118,18 @@ def write_xdmf_plate(folder: Path, nx: int = 24, ny: int = 10, defects: bool = T
     path = folder / "plate.xdmf"
     meshio.write(path, meshio.Mesh(pts, [("quad", quads)]), file_format="xdmf")
     return path
+
+
+@contextmanager
+def two_worker_client() -> Iterator:
+    """A Dask client of a LocalCluster of two single-thread workers in this process
+    (threads: starts in about a second, and reads they make can be recorded)."""
+    import distributed
+
+    with (
+        distributed.LocalCluster(
+            n_workers=2, threads_per_worker=1, processes=False, dashboard_address=":0"
+        ) as cluster,
+        distributed.Client(cluster) as c,
+    ):
+        yield c

@@ -16,7 +16,7 @@ import sys
 
 import numpy as np
 import pytest
-from partitioned_meshes import write_partitioned
+from partitioned_meshes import two_worker_client, write_partitioned
 
 import meshaudit
 from meshaudit.distributed import audit_parts
@@ -31,12 +31,7 @@ NX, NY, PARTS = 24, 10, 3
 @pytest.fixture(scope="module")
 def client():
     """Two workers in this process (threads): starts in about a second."""
-    with (
-        distributed.LocalCluster(
-            n_workers=2, threads_per_worker=1, processes=False, dashboard_address=":0"
-        ) as cluster,
-        distributed.Client(cluster) as c,
-    ):
+    with two_worker_client() as c:
         yield c
 
 

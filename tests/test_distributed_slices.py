@@ -14,7 +14,7 @@ import json
 import h5py
 import numpy as np
 import pytest
-from partitioned_meshes import plate, write_xdmf_plate
+from partitioned_meshes import plate, two_worker_client, write_xdmf_plate
 from test_distributed import _findings, _loops, _not_ok, _same_numbers
 
 import meshaudit
@@ -30,12 +30,7 @@ NX, NY = 24, 10
 @pytest.fixture(scope="module")
 def client():
     """Two workers in this process (threads), so the reads they make can be recorded."""
-    with (
-        distributed.LocalCluster(
-            n_workers=2, threads_per_worker=1, processes=False, dashboard_address=":0"
-        ) as cluster,
-        distributed.Client(cluster) as c,
-    ):
+    with two_worker_client() as c:
         yield c
 
 

@@ -72,15 +72,21 @@ def parts_of_pattern(pattern: str) -> PartSet:
     return PartSet(pattern, tuple(sorted(matches, key=_natural)))
 
 
-def parts_of_pvtu(path: str | os.PathLike[str]) -> PartSet:
-    """The pieces a ``.pvtu`` file lists, in its order; each must exist."""
-    text = str(path)
+def xml_root(text: str, kind: str) -> ET.Element:
+    """The root element of the XML file ``text``; InputError (naming ``kind``, such as
+    ``.pvtu``) when it cannot be read or parsed."""
     try:
-        root = ET.parse(text).getroot()
+        return ET.parse(text).getroot()
     except OSError as exc:
         raise InputError(f"{text}: cannot read: {reason(exc)}") from None
     except ET.ParseError as exc:
-        raise InputError(f"{text}: not a valid .pvtu file: {exc}") from None
+        raise InputError(f"{text}: not a valid {kind} file: {exc}") from None
+
+
+def parts_of_pvtu(path: str | os.PathLike[str]) -> PartSet:
+    """The pieces a ``.pvtu`` file lists, in its order; each must exist."""
+    text = str(path)
+    root = xml_root(text, ".pvtu")
     pieces = [p.get("Source") for p in root.iter("Piece")]
     if not pieces or any(not p for p in pieces):
         raise InputError(f"{text}: the .pvtu file lists no pieces (<Piece Source=...>)")

@@ -33,6 +33,7 @@ import numpy as np
 
 from ..errors import InputError
 from ..paths import reason
+from .parts import xml_root
 
 #: Node rows closer than this are read in one hyperslab (fewer, larger reads; at most
 #: this many unused rows per gap).
@@ -96,12 +97,7 @@ def read_layout(path: str | os.PathLike[str]) -> Layout:
     """Parse the XML of an XDMF file (module docstring); InputError when it is not the
     layout this module can slice."""
     text = str(path)
-    try:
-        root = ET.parse(text).getroot()
-    except OSError as exc:
-        raise InputError(f"{text}: cannot read: {reason(exc)}") from None
-    except ET.ParseError as exc:
-        raise InputError(f"{text}: not a valid XDMF file: {exc}") from None
+    root = xml_root(text, "XDMF")
     grids = [g for g in root.iter("Grid")]
     if len(grids) != 1 or grids[0].get("GridType", "Uniform") != "Uniform":
         raise _refused(text, "only an XDMF file of one uniform grid can be read in slices")

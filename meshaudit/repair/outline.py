@@ -228,7 +228,11 @@ def restore(
 def off_outline(points: np.ndarray, blocks: list[tuple[str, np.ndarray]]) -> np.ndarray:
     """(n_points,) float: how far each outline node lies from where its outline neighbours
     put it, divided by the mean length of its two outline edges; NaN for other nodes."""
-    nb = outline_neighbours(len(points), blocks)
+    return _off(points, outline_neighbours(len(points), blocks))
+
+
+def _off(points: np.ndarray, nb: np.ndarray) -> np.ndarray:
+    """:func:`off_outline` for the outline neighbours ``nb``."""
     out = np.full(len(points), np.nan)
     nodes = np.flatnonzero(nb[:, 0] >= 0)
     if nodes.size == 0:
@@ -245,7 +249,7 @@ def astray(points: np.ndarray, blocks: list[tuple[str, np.ndarray]]) -> np.ndarr
     :data:`OFF_OUTLINE` from where their neighbours put them, and :data:`STANDS_OUT` times
     as far off as both neighbours along the outline (a node dragged off the outline also
     puts its neighbours' reconstructions off; the node itself is the one furthest off)."""
-    off = np.nan_to_num(off_outline(points, blocks), nan=0.0)
     nb = outline_neighbours(len(points), blocks)
+    off = np.nan_to_num(_off(points, nb), nan=0.0)
     beside = np.where(nb >= 0, off[np.maximum(nb, 0)], np.inf)
     return (off > OFF_OUTLINE) & (off >= STANDS_OUT * beside.max(axis=1))

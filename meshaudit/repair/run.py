@@ -157,9 +157,8 @@ def repair(
     result.mesh = work.to_meshio()
     _record_move(result, initial, work.points, blocks_of(mesh), work.node_ids)
     result.worsened = _worsened(work, before, after, starts)
-    astray = outline.astray(work.points, blocks_of(mesh))
     result.remaining = _remaining(after, mesh, fixed_nodes, held, options.move)
-    _suggest_restoring(result.remaining, after, mesh, astray, work.node_ids)
+    _suggest_restoring(result.remaining, after, mesh, work.points, work.node_ids)
     return result
 
 
@@ -415,14 +414,15 @@ def _suggest_restoring(
     remaining: dict[int, str],
     after: Report,
     mesh: ElementMesh,
-    astray: np.ndarray,
+    points: np.ndarray,
     node_ids: np.ndarray,
 ) -> None:
     """Add to the reason of each still-failing element the outline nodes among its corners
-    that lie off the outline their neighbours continue (``astray``: see
+    that lie off the outline their neighbours continue (see
     :func:`meshaudit.repair.outline.astray`), with the option that puts them back."""
     if not remaining:
-        return
+        return  # nothing to explain: the outline is not searched
+    astray = outline.astray(points, blocks_of(mesh))
     for b in mesh.blocks:
         corners = b.connectivity[:, : b.cell.n_corners]
         for i in np.flatnonzero(astray[corners].any(axis=1)):
